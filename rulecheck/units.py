@@ -1,0 +1,511 @@
+"""Physical quantities: one unit registry, a strict quantity-string parser, display.
+
+Every physical value in a spec is a string such as ``7.5 kW`` or ``1455 r/min``.
+:func:`parse_quantity` reads one against the *kind* its field declares in the
+schema (``x-dimension``) and returns its magnitude in the kind's internal SI unit
+(a plain ``float``). The rest of the program computes on those floats; pint is
+used where data enters (here), for the dimensional check of rule expressions,
+and in tests.
+
+Why a strict pattern before pint sees the text: pint's parser evaluates
+arithmetic, so ``9**9**9 kW`` would hang the process. We accept a number, then a
+unit expression made of known unit names, ``*``, ``·``, ``/``, parentheses (two
+levels) and small integer exponents, and nothing else.
+
+Why shaft speed is special: pint treats the radian as dimensionless, so
+``1/min`` converts to rad/s without the factor 2π and ``Hz`` converts to rad/s
+one to one. In rotational-speed fields we accept only revolution- or
+radian-based units, and read ``1/min`` and ``min^-1`` as revolutions per minute,
+as nameplates mean them (IEC 60034-1 writes rated speed in min⁻¹).
+"""
+
+from __future__ import annotations
+
+import math
+import re
+from dataclasses import dataclass
+from functools import lru_cache
+from typing import Any
+
+__all__ = [
+    "KINDS",
+    "Kind",
+    "QuantityError",
+    "format_value",
+    "kind",
+    "parse_quantity",
+    "registry",
+]
+
+MAX_QUANTITY_LENGTH = 80
+
+
+class QuantityError(ValueError):
+    """A quantity string that cannot be read for its field; ``hint`` says what to write."""
+
+    def __init__(self, message: str, hint: str = "") -> None:
+        super().__init__(message)
+        self.message = message
+        self.hint = hint
+
+
+@dataclass(frozen=True)
+class Kind:
+    """A physical kind of quantity, as a schema field declares it."""
+
+    name: str
+    si_unit: str  # internal unit: every float in the model is in this unit
+    json_unit: str  # unit written to machine outputs (JSON, SARIF values)
+    example: str  # a correct value, shown in error messages
+    customary_unit: str | None = None  # display unit with ``--units customary``
+    description: str = ""
+
+
+KINDS: dict[str, Kind] = {
+    k.name: k
+    for k in [
+        Kind("power", "W", "W", "7.5 kW", "hp", "power (W, kW, hp)"),
+        Kind("torque", "N*m", "N*m", "49.2 N*m", "lbf*ft", "torque (N*m, kN*m, lbf*ft, lbf*in)"),
+        Kind("energy", "J", "J", "24.7 kJ", "ft*lbf", "energy (J, kJ, kWh)"),
+        Kind(
+            "rotational_speed",
+            "rad/s",
+            "r/min",
+            "1455 r/min",
+            "r/min",
+            "shaft speed (r/min, rpm, min^-1, 1/min, rev/s, rad/s); revolutions are meant",
+        ),
+        Kind("frequency", "Hz", "Hz", "50 Hz", "Hz", "electrical frequency (Hz)"),
+        Kind("voltage", "V", "V", "400 V", "V", "voltage (V, kV)"),
+        Kind("current", "A", "A", "14.8 A", "A", "current (A)"),
+        Kind("resistance", "ohm", "ohm", "0.4 ohm", "ohm", "resistance (ohm, mohm)"),
+        Kind("inductance", "H", "H", "12 mH", "H", "inductance (H, mH)"),
+        Kind("capacitance", "F", "F", "2 mF", "F", "capacitance (F, mF, uF)"),
+        Kind("inertia", "kg*m^2", "kg*m^2", "0.029 kg*m^2", "lb*ft^2", "moment of inertia (kg*m^2, lb*ft^2)"),
+        Kind("mass", "kg", "kg", "2500 kg", "lb", "mass (kg, t, lb)"),
+        Kind("length", "m", "m", "0.5 m", "in", "length (m, mm, in, ft)"),
+        Kind("area", "m^2", "m^2", "4 mm^2", "in^2", "cross-section area (mm^2)"),
+        Kind("velocity", "m/s", "m/s", "1.6 m/s", "ft/min", "linear speed (m/s, m/min, ft/min)"),
+        Kind("acceleration", "m/s^2", "m/s^2", "0.5 m/s^2", "ft/s^2", "linear acceleration (m/s^2)"),
+        Kind("force", "N", "N", "12 kN", "lbf", "force (N, kN, lbf)"),
+        Kind("time", "s", "s", "60 s", "s", "time (s, min, h)"),
+        Kind("temperature", "degC", "degC", "45 degC", "degF", "temperature (degC, degF, K)"),
+        Kind(
+            "temperature_difference",
+            "K",
+            "K",
+            "80 K",
+            "delta_degF",
+            "temperature difference (K, delta_degC, delta_degF)",
+        ),
+        Kind("angle", "rad", "rad", "8 deg", "deg", "angle (deg, rad)"),
+        Kind(
+            "back_emf_constant",
+            "V*s/rad",
+            "V*s/rad",
+            "98 V/krpm",
+            "V/krpm",
+            "back-EMF constant (V/krpm, V/rpm, V*s/rad)",
+        ),
+        Kind("torque_constant", "N*m/A", "N*m/A", "1.6 N*m/A", "lbf*in/A", "torque constant (N*m/A)"),
+        Kind("resistance_per_length", "ohm/m", "ohm/m", "0.08 mohm/m", "ohm/m", "impedance per length (mohm/m)"),
+        Kind("density", "kg/m^3", "kg/m^3", "920 kg/m^3", "lb/ft^3", "density (kg/m^3)"),
+        Kind("fraction", "1", "1", "89.6 %", None, "a fraction: a percentage ('12 %') or a plain number (0.12)"),
+    ]
+}
+
+
+def kind(name: str) -> Kind:
+    """Return the :class:`Kind` named ``name``; ``KeyError`` for an unknown kind."""
+    return KINDS[name]
+
+
+@lru_cache(maxsize=1)
+def registry() -> Any:
+    """Return the program's one pint ``UnitRegistry`` (built on first use)."""
+    import pint
+
+    ureg = pint.UnitRegistry(autoconvert_offset_to_baseunit=True)
+    ureg.define("krpm = 1000 * revolution / minute")
+    ureg.define("hp_mech = 550 * foot * force_pound / second")  # NIST SP 811 B.8
+    ureg.define("hp_metric = 75 * force_kilogram * meter / second")
+    ureg.define("hp_elec = 746 * watt")
+    return ureg
+
+
+# --- strict pattern ----------------------------------------------------------
+
+_NUMBER = re.compile(r"\s*([+-]?(?:\d+(?:\.\d*)?|\.\d+)(?:[eE][+-]?\d{1,3})?)\s*")
+_TOKEN = re.compile(
+    r"\s*(?:(?P<name>[A-Za-z_°µΩ][A-Za-z_°µΩ0-9]*)|(?P<op>\*\*|[*·/^()])|(?P<int>-?\d{1,4})|(?P<pct>%))"
+)
+
+# Words that a spec writer uses and pint spells differently.
+_ALIASES = {
+    "Ω": "ohm",
+    "mΩ": "milliohm",
+    "kΩ": "kiloohm",
+    "°C": "degC",
+    "°F": "degF",
+    "µF": "microfarad",
+    "uF": "microfarad",
+    "µs": "microsecond",
+    "us": "microsecond",
+    "°": "degree",
+    "mohm": "milliohm",
+    "kohm": "kiloohm",
+    "Ohm": "ohm",
+    "ohms": "ohm",
+    "Nm": "N*m",
+    "kNm": "kN*m",
+    "lbft": "lbf*ft",
+    "lbin": "lbf*in",
+    "t": "metric_ton",
+}
+
+_SPEED_NAMES = {"rpm", "krpm", "rps", "rev", "revolution", "r", "rad", "radian", "turn", "min", "s", "minute", "second"}
+
+
+def _tokenize(unit_text: str) -> list[tuple[str, str]]:
+    tokens: list[tuple[str, str]] = []
+    pos = 0
+    text = unit_text.rstrip()
+    while pos < len(text):
+        m = _TOKEN.match(text, pos)
+        if not m or m.end() == pos:
+            raise QuantityError(f"unexpected character {text[pos]!r} in unit {unit_text!r}")
+        for group in ("name", "op", "int", "pct"):
+            if m.group(group) is not None:
+                tokens.append((group, m.group(group)))
+                break
+        pos = m.end()
+    return tokens
+
+
+def _check_grammar(tokens: list[tuple[str, str]], unit_text: str) -> None:
+    """Accept products/quotients of names with small integer exponents, depth ≤ 2."""
+    depth = 0
+    prev = "start"  # what the previous token was: start, operand, op, pow
+    for i, (typ, val) in enumerate(tokens):
+        if typ == "name" or typ == "pct":
+            if prev == "pow":
+                raise QuantityError(f"exponent must be a small whole number in unit {unit_text!r}")
+            prev = "operand"
+        elif typ == "int":
+            if prev == "pow":
+                if abs(int(val)) > 4:
+                    raise QuantityError(f"exponent {val} is too large in unit {unit_text!r}")
+                prev = "exponent"
+                continue
+            # a bare number may only stand as the numerator of '1/min' or a scale like (1000 rpm)
+            nxt = tokens[i + 1] if i + 1 < len(tokens) else None
+            if val.lstrip("-") not in ("1", "10", "100", "1000") or val.startswith("-"):
+                raise QuantityError(f"unexpected number {val} in unit {unit_text!r}")
+            if nxt is None:
+                raise QuantityError(f"unit {unit_text!r} ends in a number")
+            prev = "operand"
+        elif val in ("**", "^"):
+            if prev not in ("operand", "close"):
+                raise QuantityError(f"misplaced exponent in unit {unit_text!r}")
+            prev = "pow"
+        elif val == "(":
+            depth += 1
+            if depth > 2:
+                raise QuantityError(f"too many nested parentheses in unit {unit_text!r}")
+            prev = "open"
+        elif val == ")":
+            depth -= 1
+            if depth < 0 or prev in ("op", "open", "pow"):
+                raise QuantityError(f"unbalanced parentheses in unit {unit_text!r}")
+            prev = "close"
+        else:  # * · /
+            if prev in ("op", "pow", "start", "open") and not (val == "/" and prev == "start"):
+                raise QuantityError(f"misplaced {val!r} in unit {unit_text!r}")
+            prev = "op"
+        if prev == "exponent":
+            prev = "operand"
+    if depth != 0:
+        raise QuantityError(f"unbalanced parentheses in unit {unit_text!r}")
+    if prev in ("op", "pow", "open"):
+        raise QuantityError(f"unit {unit_text!r} is incomplete")
+
+
+_SPEED_FORMS = {
+    # what a nameplate writes → what it means
+    "r/min": "rpm",
+    "rev/min": "rpm",
+    "rpm": "rpm",
+    "min^-1": "rpm",
+    "min**-1": "rpm",
+    "min-1": "rpm",
+    "1/min": "rpm",
+    "/min": "rpm",
+    "krpm": "krpm",
+    "rev/s": "rps",
+    "r/s": "rps",
+    "rps": "rps",
+    "1/s": None,  # ambiguous: rev/s or rad/s
+    "rad/s": "rad/s",
+    "deg/s": "deg/s",
+}
+
+
+def _normalise_speed_text(unit: str) -> str:
+    """Rewrite revolution-per-time spellings inside a unit to pint names."""
+    u = unit.replace(" ", "")
+    for form in sorted(_SPEED_FORMS, key=len, reverse=True):
+        target = _SPEED_FORMS[form]
+        if target and form in ("1/min", "/min", "min^-1", "min**-1", "min-1"):
+            continue
+        if target:
+            u = u.replace(form, f"({target})") if form != target else u
+    u = re.sub(r"(?<![A-Za-z0-9_])1/min\b", "(rpm)", u)
+    u = re.sub(r"\bmin(\^|\*\*)-1\b", "(rpm)", u)
+    u = re.sub(r"\bmin-1\b", "(rpm)", u)
+    return u
+
+
+@lru_cache(maxsize=4096)
+def _conversion(unit_text: str, kind_name: str) -> tuple[float, float]:
+    """Return (scale, offset) so that SI = value*scale + offset; raise QuantityError."""
+    k = KINDS[kind_name]
+    text = unit_text.strip()
+    if text == "%" or text == "percent":
+        if kind_name == "fraction":
+            return 0.01, 0.0
+        raise QuantityError(f"'%' is not a {k.description.split(' (')[0]}")
+    if kind_name == "fraction":
+        if text in ("", "1", "pu", "p.u."):
+            return 1.0, 0.0
+        raise QuantityError(f"unit {text!r} is not a fraction")
+    if text == "":
+        raise QuantityError("a unit is required")
+    text = _ALIASES.get(text, text)
+    if kind_name == "rotational_speed":
+        compact = text.replace(" ", "")
+        if compact in ("Hz", "1/s", "s^-1", "/s"):
+            raise QuantityError(
+                f"{text!r} is not a shaft speed: 'Hz' and '1/s' are ambiguous between revolutions and radians",
+                "write the speed in r/min or rev/s; supply frequency belongs in a frequency field",
+            )
+        if compact not in _SPEED_FORMS or _SPEED_FORMS[compact] is None:
+            raise QuantityError(f"{text!r} is not a shaft-speed unit")
+        pint_unit = _SPEED_FORMS[compact]
+    else:
+        tokens = _tokenize(text)
+        _check_grammar(tokens, text)
+        if kind_name == "back_emf_constant" and any(v == "Hz" for _, v in tokens):
+            raise QuantityError(
+                f"{text!r}: per-hertz constants mix electrical and mechanical speed",
+                "write the back-EMF constant in V/krpm (with its convention) or V*s/rad",
+            )
+        if kind_name == "torque" and any(v in ("J", "kJ", "joule", "Wh", "kWh", "cal") for _, v in tokens):
+            raise QuantityError(f"{text!r} is an energy unit, not a torque unit", "write torque in N*m or lbf*ft")
+        if kind_name == "energy" and any(v in ("lbf", "N") for _, v in tokens) and not any(
+            v in ("J", "kJ", "Wh", "kWh") for _, v in tokens
+        ):
+            # N*m is the same dimension as J; written in an energy field it is accepted as J
+            pass
+        parts = []
+        for typ, val in tokens:
+            if typ == "name":
+                val = _ALIASES.get(val, val)
+                if kind_name == "back_emf_constant" and val in ("rpm", "krpm", "r", "rev"):
+                    val = {"r": "revolution", "rev": "revolution"}.get(val, val)
+            parts.append(val)
+        pint_unit = " ".join(parts).replace("·", "*").replace("^", "**")
+        pint_unit = re.sub(r"\s*\*\*\s*", "**", pint_unit)
+        pint_unit = re.sub(r"\s*([*/()])\s*", r"\1", pint_unit)
+        if kind_name == "back_emf_constant":
+            pint_unit = _normalise_speed_text(pint_unit)
+    ureg = registry()
+    try:
+        units = ureg.parse_units(pint_unit) if not any(c in pint_unit for c in "0123456789") else None
+        q = ureg.Quantity(1.0, units) if units is not None else ureg.Quantity(pint_unit)
+    except Exception as exc:  # pint raises several error types for unknown names
+        raise QuantityError(f"unknown unit {text!r}", f"write a {k.description}") from exc
+    target = ureg.parse_units(k.si_unit.replace("^", "**"))
+    try:
+        if kind_name == "temperature":
+            zero = ureg.Quantity(0.0, q.units).to(target).magnitude
+            one = ureg.Quantity(1.0, q.units).to(target).magnitude
+            return one - zero, zero
+        if kind_name == "temperature_difference" and str(q.units) in ("degree_Celsius", "degree_Fahrenheit"):
+            raise QuantityError(
+                f"{text!r} is a temperature, not a temperature difference", "write the rise in K or delta_degC"
+            )
+        scale = q.to(target).magnitude
+    except QuantityError:
+        raise
+    except Exception as exc:
+        raise QuantityError(
+            f"{text!r} is not a {k.description.split(' (')[0]}",
+            f"write a {k.description}, for example '{k.example}'",
+        ) from exc
+    return float(scale), 0.0
+
+
+def parse_quantity(value: Any, kind_name: str) -> float:
+    """Return the magnitude of ``value`` in the internal SI unit of ``kind_name``.
+
+    ``value`` is a spec string such as ``"7.5 kW"``; for the ``fraction`` kind a
+    plain number is accepted too. Raises :class:`QuantityError` with a message
+    and a hint when the text is not a finite quantity of that kind.
+    """
+    k = KINDS[kind_name]
+    if isinstance(value, bool):
+        raise QuantityError(
+            f"{value!r} is a boolean; YAML read an unquoted word as true/false",
+            f"write a quoted quantity, for example '{k.example}'",
+        )
+    if isinstance(value, (int, float)):
+        if kind_name == "fraction":
+            if not math.isfinite(value):
+                raise QuantityError(f"{value!r} is not a finite number")
+            return float(value)
+        raise QuantityError(
+            f"the bare number {value!r} has no unit",
+            f"write it with its unit, for example '{k.example}'",
+        )
+    if not isinstance(value, str):
+        raise QuantityError(f"expected a quantity string, got {type(value).__name__}", f"for example '{k.example}'")
+    text = value.strip()
+    if len(text) > MAX_QUANTITY_LENGTH:
+        raise QuantityError(f"quantity text is longer than {MAX_QUANTITY_LENGTH} characters")
+    if re.match(r"^[+-]?\d+,\d+", text):
+        raise QuantityError(f"{value!r} uses a decimal comma", "write the decimal point: '0.75 kW'")
+    m = _NUMBER.match(text)
+    if not m:
+        raise QuantityError(f"{value!r} does not start with a number", f"for example '{k.example}'")
+    number_text = m.group(1)
+    unit_text = text[m.end() :]
+    if unit_text.startswith(("*", "^", "e", "E")) and unit_text[:1] in "*^" :
+        raise QuantityError(f"{value!r}: arithmetic is not allowed in a quantity", f"for example '{k.example}'")
+    magnitude = float(number_text)
+    if not math.isfinite(magnitude):
+        raise QuantityError(f"{value!r} is not a finite number", f"for example '{k.example}'")
+    if unit_text.strip() == "" and kind_name != "fraction":
+        raise QuantityError(f"{value!r} has no unit", f"write it with its unit, for example '{k.example}'")
+    scale, offset = _conversion(unit_text.strip(), kind_name)
+    result = magnitude * scale + offset
+    if not math.isfinite(result):
+        raise QuantityError(f"{value!r} is too large to be a physical value")
+    return result
+
+
+def ambiguity_notes(value: Any, kind_name: str) -> list[str]:
+    """Return advisory notes for a parsable but ambiguous quantity (rulebook R01)."""
+    if not isinstance(value, str):
+        return []
+    unit = value.strip()
+    m = _NUMBER.match(unit)
+    unit = unit[m.end() :].strip() if m else unit
+    notes = []
+    if kind_name == "power" and re.search(r"(?<![A-Za-z_])hp(?![A-Za-z_])", unit):
+        notes.append(
+            "bare 'hp' read as mechanical horsepower (745.7 W); write hp_mech, hp_metric (735.5 W) or hp_elec (746 W)"
+        )
+    return notes
+
+
+# --- display -----------------------------------------------------------------
+
+_DISPLAY_SI = {
+    "power": [("kW", 1e3, 1e3), ("W", 1.0, 0.0)],
+    "torque": [("kN·m", 1e3, 1e4), ("N·m", 1.0, 0.0)],
+    "energy": [("kJ", 1e3, 1e3), ("J", 1.0, 0.0)],
+    "voltage": [("kV", 1e3, 1e4), ("V", 1.0, 0.0)],
+    "capacitance": [("mF", 1e-3, 1e-4), ("µF", 1e-6, 0.0)],
+    "inductance": [("mH", 1e-3, 0.0)],
+    "area": [("mm²", 1e-6, 0.0)],
+    "resistance_per_length": [("mΩ/m", 1e-3, 0.0)],
+    "force": [("kN", 1e3, 1e4), ("N", 1.0, 0.0)],
+}
+
+_PRETTY = {
+    "W": "W",
+    "N*m": "N·m",
+    "J": "J",
+    "Hz": "Hz",
+    "V": "V",
+    "A": "A",
+    "ohm": "Ω",
+    "H": "H",
+    "F": "F",
+    "kg*m^2": "kg·m²",
+    "kg": "kg",
+    "m": "m",
+    "m^2": "m²",
+    "m/s": "m/s",
+    "m/s^2": "m/s²",
+    "N": "N",
+    "s": "s",
+    "degC": "°C",
+    "K": "K",
+    "rad": "rad",
+    "V*s/rad": "V·s/rad",
+    "N*m/A": "N·m/A",
+    "ohm/m": "Ω/m",
+    "kg/m^3": "kg/m³",
+    "1": "",
+}
+
+_CUSTOMARY = {
+    "power": ("hp", 1 / 745.69987158227022),
+    "torque": ("lbf·ft", 1 / 1.3558179483314004),
+    "energy": ("ft·lbf", 1 / 1.3558179483314004),
+    "inertia": ("lb·ft²", 1 / 0.0421401100938048),
+    "mass": ("lb", 1 / 0.45359237),
+    "length": ("in", 1 / 0.0254),
+    "area": ("in²", 1 / 0.00064516),
+    "velocity": ("ft/min", 60 / 0.3048),
+    "acceleration": ("ft/s²", 1 / 0.3048),
+    "force": ("lbf", 1 / 4.4482216152605),
+    "torque_constant": ("lbf·in/A", 1 / 0.1129848290276167),
+    "density": ("lb/ft³", 1 / 16.018463373960138),
+}
+
+
+def to_json_unit(value_si: float, kind_name: str) -> float:
+    """Return ``value_si`` expressed in the kind's machine-output unit (speed in r/min)."""
+    if kind_name == "rotational_speed":
+        return value_si * 60.0 / (2.0 * math.pi)
+    return value_si
+
+
+def _sig(value: float, digits: int = 4) -> str:
+    if value == 0 or not math.isfinite(value):
+        return f"{value:g}"
+    mag = math.floor(math.log10(abs(value)))
+    decimals = max(0, digits - 1 - mag)
+    text = f"{value:.{decimals}f}"
+    if "." in text:
+        text = text.rstrip("0").rstrip(".")
+    return text
+
+
+def format_value(value_si: float | None, kind_name: str | None, system: str = "si", digits: int = 4) -> str:
+    """Return a value for people: ``49.22 N·m``, ``1455 r/min``, ``12 %``; customary on request."""
+    if value_si is None:
+        return "—"
+    if kind_name is None:
+        return _sig(value_si, digits)
+    if kind_name == "fraction":
+        return f"{_sig(value_si * 100.0, digits)} %"
+    if kind_name == "rotational_speed":
+        return f"{_sig(value_si * 60.0 / (2.0 * math.pi), digits)} r/min"
+    if kind_name == "angle":
+        return f"{_sig(math.degrees(value_si), digits)}°"
+    if kind_name == "temperature":
+        if system == "customary":
+            return f"{_sig(value_si * 9 / 5 + 32, digits)} °F"
+        return f"{_sig(value_si, digits)} °C"
+    if system == "customary" and kind_name in _CUSTOMARY:
+        unit, factor = _CUSTOMARY[kind_name]
+        return f"{_sig(value_si * factor, digits)} {unit}"
+    for unit, factor, threshold in _DISPLAY_SI.get(kind_name, []):
+        if abs(value_si) >= threshold:
+            return f"{_sig(value_si / factor, digits)} {unit}"
+    k = KINDS.get(kind_name)
+    unit = _PRETTY.get(k.si_unit, k.si_unit) if k else ""
+    return f"{_sig(value_si, digits)} {unit}".rstrip()
