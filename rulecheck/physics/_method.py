@@ -18,8 +18,9 @@ handbook's own units.
 from __future__ import annotations
 
 import inspect
+from collections.abc import Callable
 from dataclasses import dataclass, field
-from typing import Any, Callable
+from typing import Any
 
 from rulecheck import units
 
