@@ -49,16 +49,24 @@ def _rule_name(rule_id: str) -> str:
     return name or "Rule"
 
 
+def _quote(path: str) -> str:
+    """Return a path percent-encoded for a URI; bytes of an undecodable file name keep their value."""
+    try:
+        return quote(path, safe="/", errors="surrogateescape")
+    except UnicodeEncodeError:
+        return quote(path, safe="/", errors="replace")
+
+
 def artifact_uri(path: str) -> tuple[str, str | None]:
     """Return (uri, uriBaseId) for a spec file path: relative to %SRCROOT%, or a file URI when absolute."""
     forward = path.replace("\\", "/")
     while forward.startswith("./"):
         forward = forward[2:]
     if re.match(r"^[A-Za-z]:/", forward):
-        return "file:///" + forward[:2] + quote(forward[2:], safe="/"), None
+        return "file:///" + forward[:2] + _quote(forward[2:]), None
     if forward.startswith("/"):
-        return "file://" + quote(forward, safe="/"), None
-    return quote(forward, safe="/"), SRCROOT
+        return "file://" + _quote(forward), None
+    return _quote(forward), SRCROOT
 
 
 def fingerprint(rule: str, file: str, spec_path: str) -> str:
