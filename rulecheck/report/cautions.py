@@ -1,0 +1,199 @@
+"""Safety cautions for the reports: the general ones, and hazards chosen from a result's outcomes.
+
+The selection is table-driven so that every renderer (HTML, Markdown, e-mail
+text) says the same thing. A hazard is selected when a spec has an outcome that
+is *applicable* (anything but ``not-applicable``) for a rule whose id or topic
+matches one of the hazard's triggers, or when the spec carries a chart that
+implies the hazard (a back-EMF chart means a permanent-magnet motor). Texts
+follow the rulebook's section 4.
+"""
+
+from __future__ import annotations
+
+from collections.abc import Mapping
+from dataclasses import dataclass, field
+from typing import Any
+
+from rulecheck.report.common import plain
+
+__all__ = ["GENERAL", "HAZARDS", "Caution", "Hazard", "SelectedHazard", "select_hazards"]
+
+
+@dataclass(frozen=True)
+class Caution:
+    """A caution that every report carries."""
+
+    key: str
+    title: str
+    text: str
+
+
+@dataclass(frozen=True)
+class Hazard:
+    """A specific hazard, with the rule-id and topic fragments and chart keys that select it."""
+
+    key: str
+    title: str
+    text: str
+    rule_prefixes: tuple[str, ...] = ()
+    rule_words: tuple[str, ...] = ()
+    topic_words: tuple[str, ...] = ()
+    charts: tuple[str, ...] = ()
+
+
+@dataclass
+class SelectedHazard:
+    """A hazard this result touches, with the drive trains and rules that selected it."""
+
+    hazard: Hazard
+    tags: list[str] = field(default_factory=list)
+    rules: list[str] = field(default_factory=list)
+
+    @property
+    def reason(self) -> str:
+        """Return, in words, why the hazard was selected (which drive trains, which rules)."""
+        parts = []
+        if self.tags:
+            noun = "drive trains " if len(self.tags) > 1 else "drive train "
+            parts.append(noun + ", ".join(self.tags))
+        if self.rules:
+            parts.append("rules " + ", ".join(self.rules))
+        return "; ".join(parts)
+
+
+GENERAL: tuple[Caution, ...] = (
+    Caution(
+        "screening",
+        "A screening aid, not an approval",
+        "These findings support engineering review. They are not an approval, a certification or a design sign-off. "
+        "A pass means only that the rules shown found nothing with the data given; rules that were not checked "
+        "prove nothing.",
+    ),
+    Caution(
+        "codes",
+        "Local codes govern",
+        "Local codes and the authority having jurisdiction govern. NEC Article 430, IEC 60364 and IEC 60204-1 are "
+        "named in this tool as examples only; national wiring rules, machinery rules and local amendments take "
+        "precedence. Confirm the adopted code edition.",
+    ),
+    Caution(
+        "review",
+        "Licensed review for safety-relevant designs",
+        "Safety-relevant designs need review by a qualified engineer, and a licensed engineer where the "
+        "jurisdiction requires one. Defaults marked 'from memory' or 'common practice' are heuristics: "
+        "manufacturer data override them, and they must not be the only basis for a pass on a safety-relevant rule.",
+    ),
+    Caution(
+        "shock",
+        "Electric shock and arc flash",
+        "Drive trains carry lethal voltages. Do a shock and arc-flash risk assessment (NFPA 70E / IEEE 1584 or the "
+        "local equivalent), use lockout/tagout and suitable PPE, and test for absence of voltage before touching.",
+    ),
+)
+
+HAZARDS: tuple[Hazard, ...] = (
+    Hazard(
+        "suspended-load",
+        "Suspended and overhauling loads",
+        "Never rely on the drive, its safe-torque-off function or a self-locking gear to hold a suspended load. "
+        "Use a spring-applied brake that sets on loss of power, with proven release and set sequencing and periodic "
+        "brake tests; secure the load mechanically for maintenance. Nobody works under a suspended load.",
+        rule_prefixes=("holding-brake",),
+        rule_words=("hoist", "vertical", "holding", "overhaul", "suspended", "lift"),
+        topic_words=("hoist", "holding", "vertical", "lifting"),
+    ),
+    Hazard(
+        "pm-generation",
+        "Permanent-magnet motors generate when turned",
+        "A permanent-magnet motor generates voltage whenever its shaft turns: pump back-flow, fan windmilling, a "
+        "load being lowered, or turning the shaft by hand. Its terminals can be lethal with the drive isolated. "
+        "Lock or uncouple the shaft before working on the motor or its cable.",
+        rule_prefixes=("pm-",),
+        rule_words=("back-emf", "permanent-magnet"),
+        topic_words=("permanent-magnet",),
+        charts=("back_emf",),
+    ),
+    Hazard(
+        "stored-energy",
+        "Stored energy",
+        "DC-link capacitors stay charged after isolation: observe the drive's labelled discharge time and verify "
+        "with a meter. Braking resistors can be very hot. Springs, counterweights and flywheels store energy too.",
+        rule_words=("regen", "braking", "brake-resistor", "dc-bus", "dc-link", "chopper", "uncontrolled-generation"),
+        topic_words=("regeneration", "braking", "dc-bus"),
+    ),
+    Hazard(
+        "overspeed",
+        "Overspeed",
+        "Field weakening, uncontrolled generation of PM motors, runaway overhauling loads and mechanical burst "
+        "speeds need overspeed protection that does not depend on the drive's control loop where the hazard "
+        "warrants it.",
+        rule_words=("overspeed", "max-speed", "maximum-speed", "field-weakening", "uncontrolled-generation", "runaway"),
+        topic_words=("overspeed",),
+    ),
+    Hazard(
+        "restart",
+        "Unexpected restart",
+        "Automatic restart after a power dip, or flying restart, can start machinery unexpectedly. Prevent restart "
+        "where a hazard exists (IEC 60204-1).",
+        rule_words=("restart", "auto-start"),
+    ),
+    Hazard(
+        "hazardous-area",
+        "Hazardous locations",
+        "Explosive atmospheres are outside this tool's scope. Only certified equipment and a qualified "
+        "hazardous-area review are acceptable.",
+        rule_words=("hazardous-area", "explosive", "atex"),
+        topic_words=("hazardous",),
+    ),
+    Hazard(
+        "insulation",
+        "Latent insulation and bearing damage",
+        "Reflected-wave overvoltage and bearing currents damage motors slowly. Measure the peak voltage at the "
+        "motor terminals and the shaft voltage at commissioning.",
+        rule_words=("reflected-wave", "insulation", "bearing-current"),
+    ),
+    Hazard(
+        "earthing",
+        "Earthing and leakage current",
+        "Drive leakage currents can exceed 3.5 mA, which calls for a reinforced protective earth; residual-current "
+        "devices must be of a type compatible with drives, and high-frequency bonding must be done properly.",
+        rule_words=("earth", "leakage", "rcd", "bonding"),
+    ),
+)
+
+
+def _matches(hazard: Hazard, outcome: Mapping[str, Any]) -> bool:
+    rule = plain(outcome.get("rule"), 200).lower()
+    topic = plain(outcome.get("topic"), 200).lower()
+    if any(rule.startswith(p) for p in hazard.rule_prefixes):
+        return True
+    if any(w in rule for w in hazard.rule_words):
+        return True
+    return any(w in topic for w in hazard.topic_words)
+
+
+def select_hazards(specs: list[Mapping[str, Any]]) -> list[SelectedHazard]:
+    """Return the hazards that the given specs' applicable outcomes and charts touch, in table order."""
+    selected: dict[str, SelectedHazard] = {}
+    for spec in specs:
+        if not isinstance(spec, Mapping):
+            continue
+        tag = plain(spec.get("tag"), 80) or plain(spec.get("file"), 120) or "(unnamed)"
+        charts = spec.get("charts") if isinstance(spec.get("charts"), Mapping) else {}
+        outcomes = [o for o in (spec.get("outcomes") or []) if isinstance(o, Mapping)]
+        for hazard in HAZARDS:
+            rules = [
+                plain(o.get("rule"), 120)
+                for o in outcomes
+                if o.get("outcome") != "not-applicable" and _matches(hazard, o)
+            ]
+            by_chart = any(key in charts for key in hazard.charts)
+            if not rules and not by_chart:
+                continue
+            entry = selected.setdefault(hazard.key, SelectedHazard(hazard))
+            if tag not in entry.tags:
+                entry.tags.append(tag)
+            for r in rules:
+                if r not in entry.rules:
+                    entry.rules.append(r)
+    return [selected[h.key] for h in HAZARDS if h.key in selected]

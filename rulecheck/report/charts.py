@@ -1,0 +1,480 @@
+"""Charts for the reports: SVG text for HTML, PNG bytes for e-mail, and a text equivalent of each.
+
+Three charts are drawn from the ``charts`` part of a spec's result (see the
+result contract): the torque–speed plane (``torque_speed``), the duty cycle over
+time (``duty``) and the permanent-magnet back-EMF against the voltages it must
+stay under (``back_emf``). They plot the numbers given; nothing is computed.
+
+Each series differs by line style and marker as well as by shade, so the charts
+read in greyscale print. Drawing is deterministic: a fixed SVG hash salt, glyphs
+as paths (no font files needed), and no date or creator metadata. matplotlib is
+imported only when a chart is drawn.
+"""
+
+from __future__ import annotations
+
+import io
+import math
+import re
+from collections.abc import Mapping, Sequence
+from dataclasses import dataclass, field
+from typing import Any
+
+from rulecheck.report.common import plain
+from rulecheck.units import QuantityError, format_value, parse_quantity
+
+__all__ = ["CHART_KEYS", "ChartDataError", "ChartText", "available", "describe", "png", "svg"]
+
+CHART_KEYS = ("torque_speed", "duty", "back_emf")
+MAX_PLOT_POINTS = 4000  # more points than this add nothing visible at report size
+MAX_TABLE_ROWS = 24  # a text equivalent stays short enough to read aloud
+MAX_LABELS = 12  # annotations beyond this clutter the plane
+
+_INK = "#1d2b36"
+_GREY = "#6b7680"
+_LOAD = "#000000"
+_ACCENT = "#7a4f12"
+_RC = {
+    "svg.hashsalt": "rulecheck-charts",
+    "svg.fonttype": "path",
+    "font.family": "DejaVu Sans",
+    "font.size": 9.0,
+    "axes.edgecolor": _GREY,
+    "axes.labelcolor": _INK,
+    "axes.titlesize": 10.0,
+    "xtick.color": _INK,
+    "ytick.color": _INK,
+    "grid.color": "#d5d9dd",
+    "grid.linewidth": 0.6,
+    "legend.fontsize": 8.0,
+    "legend.frameon": True,
+    "legend.framealpha": 0.92,
+    "path.simplify": True,
+}
+
+
+class ChartDataError(ValueError):
+    """The chart data in a result cannot be drawn; the message says which part is wrong."""
+
+
+@dataclass
+class ChartText:
+    """The text equivalent of a chart: a title, a description in words and a small table."""
+
+    key: str
+    title: str
+    description: str
+    columns: list[str]
+    rows: list[list[str]]
+    note: str = ""
+    series: list[str] = field(default_factory=list)
+
+    def as_text(self) -> str:
+        """Return the title, description and table as plain text (for the e-mail's text part)."""
+        widths = [len(c) for c in self.columns]
+        for row in self.rows:
+            widths = [max(w, len(cell)) for w, cell in zip(widths, row, strict=False)]
+        lines = [self.title, self.description]
+        if self.columns:
+            lines.append("  ".join(c.ljust(w) for c, w in zip(self.columns, widths, strict=False)).rstrip())
+            lines.extend("  ".join(cell.ljust(w) for cell, w in zip(row, widths, strict=False)).rstrip()
+                         for row in self.rows)
+        if self.note:
+            lines.append(self.note)
+        return "\n".join(lines)
+
+
+# --- reading the data --------------------------------------------------------
+
+
+def _num(value: Any, what: str) -> float:
+    if isinstance(value, bool) or not isinstance(value, (int, float)) or not math.isfinite(float(value)):
+        raise ChartDataError(f"{what} is not a finite number: {plain(value, 40)!r}")
+    return float(value)
+
+
+def _pairs(seq: Any, what: str, width: int = 2) -> list[tuple[float, ...]]:
+    if not isinstance(seq, Sequence) or isinstance(seq, (str, bytes)):
+        raise ChartDataError(f"{what} is not a list of points")
+    out = []
+    for i, item in enumerate(seq):
+        if not isinstance(item, Sequence) or isinstance(item, (str, bytes)) or len(item) != width:
+            raise ChartDataError(f"{what}[{i}] is not a point of {width} numbers")
+        out.append(tuple(_num(v, f"{what}[{i}]") for v in item))
+    return out
+
+
+def _series(seq: Any, what: str) -> list[float]:
+    if not isinstance(seq, Sequence) or isinstance(seq, (str, bytes)):
+        raise ChartDataError(f"{what} is not a list of numbers")
+    return [_num(v, f"{what}[{i}]") for i, v in enumerate(seq)]
+
+
+def _thin(points: list, limit: int = MAX_PLOT_POINTS) -> list:
+    """Return at most ``limit`` points, evenly spaced, always keeping the last."""
+    if len(points) <= limit:
+        return points
+    step = math.ceil(len(points) / limit)
+    thinned = points[::step]
+    if thinned[-1] is not points[-1]:
+        thinned.append(points[-1])
+    return thinned
+
+
+def _label(text: Any, limit: int = 40) -> str:
+    """Return a spec label safe for matplotlib text: one line, short, no mathtext, no legend-hiding underscore."""
+    s = plain(text, limit).replace("$", r"\$")
+    return ("\u200b" + s) if s.startswith("_") else s
+
+
+@dataclass(frozen=True)
+class _Axis:
+    """How one axis is shown: its unit text and the factor from the data's unit."""
+
+    unit: str
+    factor: float
+
+
+def _speed_axis(unit: Any) -> _Axis:
+    text = plain(unit, 20) or "r/min"
+    if text in ("r/min", "rpm"):
+        return _Axis("r/min", 1.0)
+    try:
+        return _Axis("r/min", parse_quantity(f"1 {text}", "rotational_speed") * 60.0 / (2.0 * math.pi))
+    except QuantityError as exc:
+        raise ChartDataError(f"speed unit {text!r} is not a shaft-speed unit") from exc
+
+
+def _quantity_axis(unit: Any, kind_name: str, default: str, units: str) -> _Axis:
+    text = plain(unit, 20) or default
+    try:
+        si = parse_quantity(f"1 {text}", kind_name)
+    except QuantityError as exc:
+        raise ChartDataError(f"unit {text!r} is not a {kind_name} unit") from exc
+    if units == "customary" and kind_name == "torque":
+        return _Axis("lbf·ft", si / parse_quantity("1 lbf*ft", "torque"))
+    shown = {"torque": "N·m", "voltage": "V"}.get(kind_name, text)
+    return _Axis(shown, si)
+
+
+def _fmt(x: float) -> str:
+    return format_value(x, None)
+
+
+# --- the three charts: data, text equivalent, drawing ------------------------
+
+
+@dataclass
+class _TorqueSpeed:
+    speed: _Axis
+    torque: _Axis
+    cont: list[tuple[float, float]]
+    peak: list[tuple[float, float]]
+    points: list[tuple[float, float, str]]
+    segments: list[tuple[float, float, float, str]]
+
+
+def _torque_speed(data: Mapping[str, Any], units: str) -> _TorqueSpeed:
+    sp = _speed_axis(data.get("speed_unit"))
+    tq = _quantity_axis(data.get("torque_unit"), "torque", "N*m", units)
+
+    def conv(pts: list[tuple[float, ...]]) -> list[tuple[float, float]]:
+        return [(n * sp.factor, t * tq.factor) for n, t in pts]
+
+    cont = conv(_pairs(data.get("motor_continuous") or [], "motor_continuous"))
+    peak = conv(_pairs(data.get("motor_peak") or [], "motor_peak"))
+    points = []
+    for i, p in enumerate(data.get("load_points") or []):
+        if not isinstance(p, Mapping):
+            raise ChartDataError(f"load_points[{i}] is not a point")
+        points.append((_num(p.get("speed"), f"load_points[{i}].speed") * sp.factor,
+                       _num(p.get("torque"), f"load_points[{i}].torque") * tq.factor, plain(p.get("label"), 60)))
+    segments = []
+    for i, s in enumerate(data.get("duty_segments") or []):
+        if not isinstance(s, Mapping):
+            raise ChartDataError(f"duty_segments[{i}] is not a segment")
+        segments.append((_num(s.get("speed_from"), f"duty_segments[{i}].speed_from") * sp.factor,
+                         _num(s.get("speed_to"), f"duty_segments[{i}].speed_to") * sp.factor,
+                         _num(s.get("torque"), f"duty_segments[{i}].torque") * tq.factor, plain(s.get("label"), 60)))
+    if not (cont or peak or points or segments):
+        raise ChartDataError("the torque–speed chart has no data")
+    return _TorqueSpeed(sp, tq, cont, peak, points[:MAX_PLOT_POINTS], segments[:MAX_PLOT_POINTS])
+
+
+def _describe_torque_speed(d: _TorqueSpeed) -> ChartText:
+    su, tu = d.speed.unit, d.torque.unit
+    words = []
+    if d.cont:
+        words.append(f"motor continuous capability {_fmt(min(t for _, t in d.cont))} to "
+                     f"{_fmt(max(t for _, t in d.cont))} {tu} from {_fmt(d.cont[0][0])} to {_fmt(d.cont[-1][0])} {su}")
+    if d.peak:
+        words.append(f"peak capability up to {_fmt(max(t for _, t in d.peak))} {tu}")
+    words.append(f"{len(d.points)} load operating point{'s' if len(d.points) != 1 else ''}")
+    words.append(f"{len(d.segments)} duty segment{'s' if len(d.segments) != 1 else ''}")
+    rows = []
+    for n, t in d.cont:
+        rows.append(["motor continuous", _fmt(n), _fmt(t)])
+    for n, t in d.peak:
+        rows.append(["motor peak", _fmt(n), _fmt(t)])
+    for n, t, label in d.points:
+        rows.append([f"load point {label}".strip(), _fmt(n), _fmt(t)])
+    for n0, n1, t, label in d.segments:
+        rows.append([f"duty segment {label}".strip(), f"{_fmt(n0)} to {_fmt(n1)}", _fmt(t)])
+    note = f"First {MAX_TABLE_ROWS} of {len(rows)} rows shown." if len(rows) > MAX_TABLE_ROWS else ""
+    return ChartText(
+        "torque_speed",
+        "Torque–speed plane: motor capability against the load",
+        "Torque against shaft speed: " + "; ".join(words) + ".",
+        ["series", f"speed ({su})", f"torque ({tu})"],
+        rows[:MAX_TABLE_ROWS],
+        note,
+        ["motor continuous: solid line, round markers", "motor peak: dashed line, square markers",
+         "load operating points: black triangles", "duty segments: dash-dot lines with cross ends"],
+    )
+
+
+def _draw_torque_speed(fig: Any, d: _TorqueSpeed) -> None:
+    ax = fig.add_subplot(1, 1, 1)
+    if d.cont:
+        ax.plot(*zip(*_thin(d.cont), strict=True), color=_INK, linestyle="-", linewidth=1.8, marker="o",
+                markersize=3.5, label="Motor continuous")
+    if d.peak:
+        ax.plot(*zip(*_thin(d.peak), strict=True), color=_INK, linestyle="--", linewidth=1.4, marker="s",
+                markersize=3.5, label="Motor peak")
+    for i, (n0, n1, t, label) in enumerate(d.segments):
+        ax.plot([n0, n1], [t, t], color=_ACCENT, linestyle="-.", linewidth=1.3, marker="x", markersize=5,
+                label="Duty segments" if i == 0 else None)
+        if label and i < MAX_LABELS:
+            ax.annotate(_label(label), ((n0 + n1) / 2, t), textcoords="offset points", xytext=(0, 4),
+                        ha="center", fontsize=7.5, color=_ACCENT, parse_math=False)
+    if d.points:
+        ax.plot([p[0] for p in d.points], [p[1] for p in d.points], linestyle="none", marker="^", markersize=7,
+                color=_LOAD, label="Load operating points")
+        for n, t, label in d.points[:MAX_LABELS]:
+            if label:
+                ax.annotate(_label(label), (n, t), textcoords="offset points", xytext=(5, -10), fontsize=7.5,
+                            color=_LOAD, parse_math=False)
+    ax.set_xlabel(f"Shaft speed ({d.speed.unit})")
+    ax.set_ylabel(f"Torque ({d.torque.unit})")
+    ax.set_title("Torque–speed plane")
+    ax.axhline(0.0, color=_GREY, linewidth=0.6)
+    ax.grid(True)
+    ax.legend(loc="best")
+
+
+@dataclass
+class _Duty:
+    time: _Axis
+    speed: _Axis
+    torque: _Axis
+    samples: list[tuple[float, float, float]]
+
+
+def _duty(data: Mapping[str, Any], units: str) -> _Duty:
+    tm = _quantity_axis(data.get("time_unit"), "time", "s", units)
+    tm = _Axis("s", tm.factor)
+    sp = _speed_axis(data.get("speed_unit"))
+    tq = _quantity_axis(data.get("torque_unit"), "torque", "N*m", units)
+    raw = _pairs(data.get("samples") or [], "samples", width=3)
+    if len(raw) < 2:
+        raise ChartDataError("the duty cycle has fewer than two samples")
+    samples = [(t * tm.factor, n * sp.factor, q * tq.factor) for t, n, q in raw]
+    return _Duty(tm, sp, tq, samples)
+
+
+def _describe_duty(d: _Duty) -> ChartText:
+    s = d.samples
+    speeds = [n for _, n, _ in s]
+    torques = [q for _, _, q in s]
+    description = (
+        f"Duty cycle over {_fmt(s[-1][0] - s[0][0])} s in {len(s)} samples: speed {_fmt(min(speeds))} to "
+        f"{_fmt(max(speeds))} {d.speed.unit}, torque {_fmt(min(torques))} to {_fmt(max(torques))} {d.torque.unit}."
+    )
+    rows = [[_fmt(t), _fmt(n), _fmt(q)] for t, n, q in s[:MAX_TABLE_ROWS]]
+    note = f"First {MAX_TABLE_ROWS} of {len(s)} samples shown." if len(s) > MAX_TABLE_ROWS else ""
+    return ChartText("duty", "Duty cycle: speed and torque over time", description,
+                     ["time (s)", f"speed ({d.speed.unit})", f"torque ({d.torque.unit})"], rows, note,
+                     ["upper panel: shaft speed, solid line", "lower panel: torque, solid line; zero torque dotted"])
+
+
+def _draw_duty(fig: Any, d: _Duty) -> None:
+    pts = _thin(d.samples)
+    t = [p[0] for p in pts]
+    marker = "o" if len(pts) <= 60 else None
+    ax1, ax2 = fig.subplots(2, 1, sharex=True)
+    ax1.plot(t, [p[1] for p in pts], color=_INK, linewidth=1.6, marker=marker, markersize=3)
+    ax1.set_ylabel(f"Speed ({d.speed.unit})")
+    ax1.set_title("Duty cycle")
+    ax1.grid(True)
+    ax2.plot(t, [p[2] for p in pts], color=_ACCENT, linewidth=1.6, marker=marker, markersize=3)
+    ax2.axhline(0.0, color=_GREY, linewidth=0.8, linestyle=":")
+    ax2.set_ylabel(f"Torque ({d.torque.unit})")
+    ax2.set_xlabel("Time (s)")
+    ax2.grid(True)
+    fig.align_ylabels([ax1, ax2])
+
+
+@dataclass
+class _BackEmf:
+    speed: _Axis
+    volt: _Axis
+    n: list[float]
+    emf: list[float]
+    rect: list[float]
+    available: float | None
+    trip: float | None
+
+
+def _back_emf(data: Mapping[str, Any], units: str) -> _BackEmf:
+    sp = _speed_axis(data.get("speed_unit"))
+    vu = _quantity_axis(data.get("voltage_unit"), "voltage", "V", units)
+    n = [x * sp.factor for x in _series(data.get("speed") or [], "speed")]
+    emf = [x * vu.factor for x in _series(data.get("emf_line_rms") or [], "emf_line_rms")]
+    rect = [x * vu.factor for x in _series(data.get("rectified_peak") or [], "rectified_peak")]
+    if len(n) < 2:
+        raise ChartDataError("the back-EMF chart has fewer than two speeds")
+    for name, ys in (("emf_line_rms", emf), ("rectified_peak", rect)):
+        if ys and len(ys) != len(n):
+            raise ChartDataError(f"{name} has {len(ys)} values for {len(n)} speeds")
+    if not emf and not rect:
+        raise ChartDataError("the back-EMF chart has no voltages")
+    available = data.get("available_voltage")
+    trip = data.get("dc_bus_trip")
+    return _BackEmf(
+        sp, vu, n[:MAX_PLOT_POINTS], emf[:MAX_PLOT_POINTS], rect[:MAX_PLOT_POINTS],
+        None if available is None else _num(available, "available_voltage") * vu.factor,
+        None if trip is None else _num(trip, "dc_bus_trip") * vu.factor,
+    )
+
+
+def _describe_back_emf(d: _BackEmf) -> ChartText:
+    v = d.volt.unit
+    top = f"At the highest speed shown ({_fmt(d.n[-1])} {d.speed.unit})"
+    parts = []
+    if d.emf:
+        parts.append(f"the line-to-line back-EMF (RMS) is {_fmt(d.emf[-1])} {v}")
+    if d.rect:
+        parts.append(f"its rectified peak is {_fmt(d.rect[-1])} {v}")
+    levels = []
+    if d.available is not None:
+        levels.append(f"available output voltage {_fmt(d.available)} {v}")
+    if d.trip is not None:
+        levels.append(f"DC-bus trip level {_fmt(d.trip)} {v}")
+    description = f"{top} {' and '.join(parts)}."
+    if levels:
+        description += " Reference levels: " + "; ".join(levels) + "."
+    rows = []
+    for i, n in enumerate(d.n[:MAX_TABLE_ROWS]):
+        rows.append([_fmt(n), _fmt(d.emf[i]) if d.emf else "—", _fmt(d.rect[i]) if d.rect else "—"])
+    note = f"First {MAX_TABLE_ROWS} of {len(d.n)} speeds shown." if len(d.n) > MAX_TABLE_ROWS else ""
+    return ChartText("back_emf", "Permanent-magnet back-EMF against available voltage and DC-bus trip level",
+                     description, [f"speed ({d.speed.unit})", f"back-EMF line RMS ({v})", f"rectified peak ({v})"],
+                     rows, note,
+                     ["back-EMF: solid line, round markers", "rectified peak: dashed line, square markers",
+                      "available voltage: dotted level", "DC-bus trip: thick dash-dot level"])
+
+
+def _draw_back_emf(fig: Any, d: _BackEmf) -> None:
+    ax = fig.add_subplot(1, 1, 1)
+    if d.emf:
+        ax.plot(d.n, d.emf, color=_INK, linestyle="-", linewidth=1.6, marker="o", markersize=3.5,
+                label="Back-EMF, line-to-line RMS")
+    if d.rect:
+        ax.plot(d.n, d.rect, color=_ACCENT, linestyle="--", linewidth=1.6, marker="s", markersize=3.5,
+                label="Rectified peak (into DC bus)")
+    for level, style, width, text in ((d.available, ":", 1.4, "Available output voltage"),
+                                      (d.trip, "-.", 2.2, "DC-bus trip level")):
+        if level is None:
+            continue
+        ax.axhline(level, color=_GREY if style == ":" else _LOAD, linestyle=style, linewidth=width,
+                   label=f"{text} {_fmt(level)} {d.volt.unit}")
+        ax.annotate(f"{text} {_fmt(level)} {d.volt.unit}", (0.01, level), xycoords=("axes fraction", "data"),
+                    textcoords="offset points", xytext=(0, 3), fontsize=7.5, color=_INK, parse_math=False)
+    ax.set_xlabel(f"Shaft speed ({d.speed.unit})")
+    ax.set_ylabel(f"Voltage ({d.volt.unit})")
+    ax.set_title("Back-EMF and rectified peak against speed")
+    top = max([*d.emf, *d.rect, d.available or 0.0, d.trip or 0.0])
+    ax.set_ylim(bottom=0.0, top=top * 1.12 if top > 0 else 1.0)
+    ax.grid(True)
+    ax.legend(loc="lower right")
+
+
+_CHARTS = {
+    "torque_speed": (_torque_speed, _describe_torque_speed, _draw_torque_speed, (7.0, 4.2)),
+    "duty": (_duty, _describe_duty, _draw_duty, (7.0, 4.4)),
+    "back_emf": (_back_emf, _describe_back_emf, _draw_back_emf, (7.0, 4.2)),
+}
+
+
+def _read(key: str, data: Any, units: str) -> Any:
+    if key not in _CHARTS:
+        raise ChartDataError(f"unknown chart {plain(key, 40)!r}")
+    if not isinstance(data, Mapping):
+        raise ChartDataError(f"the {key} chart data is not a mapping")
+    return _CHARTS[key][0](data, units)
+
+
+def available(spec: Mapping[str, Any]) -> list[str]:
+    """Return the keys of the charts that the spec's result carries, in report order."""
+    charts = spec.get("charts")
+    if not isinstance(charts, Mapping):
+        return []
+    return [k for k in CHART_KEYS if isinstance(charts.get(k), Mapping)]
+
+
+def describe(key: str, data: Mapping[str, Any], units: str = "si") -> ChartText:
+    """Return the text equivalent of a chart; raises :class:`ChartDataError` for data that cannot be read."""
+    return _CHARTS[key][1](_read(key, data, units))
+
+
+def _figure(key: str, data: Mapping[str, Any], units: str, fmt: str, dpi: float) -> bytes:
+    parsed = _read(key, data, units)
+    import matplotlib
+
+    matplotlib.use("Agg")
+    from matplotlib.figure import Figure
+
+    with matplotlib.rc_context(_RC):
+        fig = Figure(figsize=_CHARTS[key][3], layout="constrained")
+        _CHARTS[key][2](fig, parsed)
+        buf = io.BytesIO()
+        metadata = {"Date": None, "Creator": None, "Format": None, "Type": None} if fmt == "svg" else {
+            "Software": None}
+        fig.savefig(buf, format=fmt, dpi=dpi, metadata=metadata, facecolor="white")
+    return buf.getvalue()
+
+
+_ID = re.compile(r'\bid="([^"]+)"')
+_REF = re.compile(r'(href="#|url\(#)([^")]+)')
+
+
+def svg(key: str, data: Mapping[str, Any], units: str = "si", *, chart_id: str = "chart") -> str:
+    """Return the chart as an SVG element ready to inline in HTML, with ``<title>``/``<desc>`` from its text.
+
+    Element ids are prefixed with ``chart_id`` so several charts can share one
+    page; the XML prologue, comments, metadata and namespace declarations
+    (not needed inline in HTML) are removed.
+    """
+    from markupsafe import escape
+
+    prefix = re.sub(r"[^A-Za-z0-9_-]", "-", chart_id)[:40] or "chart"
+    text = describe(key, data, units)
+    body = _figure(key, data, units, "svg", 72).decode("utf-8")
+    body = body[body.index("<svg"):]
+    body = re.sub(r"<!--.*?-->", "", body, flags=re.S)
+    body = re.sub(r"<metadata>.*?</metadata>", "", body, flags=re.S)
+    body = _ID.sub(lambda m: f'id="{prefix}-{m.group(1)}"', body)
+    body = _REF.sub(lambda m: f"{m.group(1)}{prefix}-{m.group(2)}", body)
+    head_end = body.index(">") + 1
+    head = body[:head_end]
+    head = re.sub(r'\s(xmlns(:\w+)?|width|height|version)="[^"]*"', "", head)
+    head = head[:-1] + f' class="chart" role="img" aria-labelledby="{prefix}-title {prefix}-desc">'
+    desc = f"{text.description} {' '.join(text.series)}".strip()
+    inner = f'<title id="{prefix}-title">{escape(text.title)}</title><desc id="{prefix}-desc">{escape(desc)}</desc>'
+    body = head + inner + body[head_end:]
+    return re.sub(r">\s+<", "><", body).strip()
+
+
+def png(key: str, data: Mapping[str, Any], units: str = "si", *, dpi: float = 110) -> bytes:
+    """Return the chart as PNG bytes (for inline images in e-mail)."""
+    return _figure(key, data, units, "png", dpi)

@@ -1,0 +1,352 @@
+"""Shared helpers for the human-readable reports: value display, ordering, labels.
+
+Renderers only format the result dict (see the result contract); nothing here
+computes engineering values. Everything that came from a spec or a rule file is
+treated as untrusted text: the helpers return plain strings and leave escaping
+to the renderer that knows its output language.
+"""
+
+from __future__ import annotations
+
+import math
+from collections.abc import Iterable, Mapping
+from dataclasses import dataclass
+from typing import Any
+
+from rulecheck.units import KINDS, QuantityError, format_value, parse_quantity
+
+__all__ = [
+    "BASIS_STATUS",
+    "OUTCOME_LABELS",
+    "ORDER_STATEMENT",
+    "Label",
+    "display",
+    "display_limit",
+    "group_outcomes",
+    "outcome_label",
+    "plain",
+    "sorted_specs",
+    "verdict_label",
+    "value_items",
+]
+
+# Severity must read without colour: every label is a word plus a short text marker.
+@dataclass(frozen=True)
+class Label:
+    """A marker and a word for a verdict or an outcome, plus a CSS class name of our own."""
+
+    marker: str
+    word: str
+    css: str
+
+    @property
+    def text(self) -> str:
+        """Return marker and word together, e.g. ``[X] ERROR``."""
+        return f"{self.marker} {self.word}"
+
+
+OUTCOME_LABELS: dict[str, Label] = {
+    "error": Label("[X]", "ERROR", "sev-error"),
+    "warning": Label("[!]", "WARNING", "sev-warning"),
+    "info": Label("[i]", "INFO", "sev-info"),
+    "not-checked": Label("[?]", "NOT CHECKED", "sev-unchecked"),
+    "waived": Label("[W]", "WAIVED", "sev-waived"),
+    "pass": Label("[ok]", "PASS", "sev-pass"),
+    "not-applicable": Label("[-]", "N/A", "sev-na"),
+}
+
+VERDICT_LABELS: dict[str, Label] = {
+    "fail": Label("[X]", "FAIL", "sev-error"),
+    "invalid": Label("[X]", "INVALID", "sev-error"),
+    "unreadable": Label("[X]", "UNREADABLE", "sev-error"),
+    "warning": Label("[!]", "WARNING", "sev-warning"),
+    "pass": Label("[ok]", "PASS", "sev-pass"),
+}
+
+BASIS_STATUS: dict[str, str] = {
+    "V": "verified against a published source",
+    "V*": "verified numerically",
+    "P": "physics derivation",
+    "M": "from memory, not verified",
+    "C": "common practice, no authoritative source",
+}
+
+ORDER_STATEMENT = (
+    "Ordered worst first: failing and unloadable specs, then specs with warnings, then passing specs; "
+    "within each group by safety-relevant errors, errors, warnings and not-checked rules (most first), "
+    "then by tag."
+)
+
+_SEVERITY_RANK = {"error": 0, "warning": 1, "info": 2}
+_RATIO_WORDS = ("margin", "ratio", "factor", "utilisation", "utilization")
+
+
+def plain(text: Any, limit: int = 2000) -> str:
+    """Return ``text`` as a single-line string without control characters, cut to ``limit`` characters."""
+    if text is None:
+        return ""
+    s = str(text)
+    s = "".join(ch if ch.isprintable() else " " for ch in s)
+    s = " ".join(s.split())
+    if len(s) > limit:
+        s = s[: limit - 1] + "…"
+    return s
+
+
+def _number(value: Any) -> float | None:
+    if isinstance(value, bool) or not isinstance(value, (int, float)):
+        return None
+    value = float(value)
+    return value if math.isfinite(value) else None
+
+
+def display(value: Mapping[str, Any] | Any, system: str = "si", *, ratio: bool = False) -> str:
+    """Return a value dict ``{"value", "unit", "kind"}`` as text for people, e.g. ``1455 r/min``.
+
+    The dict carries machine units (shaft speed in r/min, the rest SI); it is
+    converted back to the internal SI value for :func:`rulecheck.units.format_value`.
+    With ``ratio`` a dimensionless value is shown as a plain number (margins),
+    otherwise as a percentage. Values that are not numbers are shown as text.
+    """
+    if not isinstance(value, Mapping):
+        return plain(value, 200) if value is not None else "—"
+    raw = value.get("value")
+    unit = plain(value.get("unit") or "", 40)
+    kind_name = value.get("kind")
+    number = _number(raw)
+    if number is None:
+        text = "—" if raw is None else plain(raw, 200)
+        return f"{text} {unit}".strip() if raw is not None and unit not in ("", "1") else text
+    if kind_name not in KINDS:
+        return f"{format_value(number, None)} {unit}".strip() if unit != "1" else format_value(number, None)
+    if kind_name == "fraction":
+        if ratio:
+            return format_value(number, None)
+        return format_value(number, "fraction", system)
+    k = KINDS[kind_name]
+    if unit in ("", k.json_unit):
+        si = number * 2.0 * math.pi / 60.0 if kind_name == "rotational_speed" else number
+    else:
+        try:
+            si = parse_quantity(f"{number!r} {unit}", kind_name)
+        except QuantityError:
+            return f"{format_value(number, None)} {unit}"
+    return format_value(si, kind_name, system)
+
+
+def _is_ratio_name(name: str) -> bool:
+    low = name.lower()
+    return any(word in low for word in _RATIO_WORDS)
+
+
+def value_items(outcome: Mapping[str, Any], system: str = "si") -> list[tuple[str, str]]:
+    """Return the outcome's computed values as ``(name, display text)`` pairs in their given order."""
+    values = outcome.get("values") or {}
+    if not isinstance(values, Mapping):
+        return []
+    items = []
+    for name, value in values.items():
+        items.append((plain(name, 80).replace("_", " "), display(value, system, ratio=_is_ratio_name(str(name)))))
+    return items
+
+
+def display_limit(outcome: Mapping[str, Any], system: str = "si") -> str:
+    """Return the outcome's limit as text ("" when it has none); a ratio when the rule reports a margin."""
+    limit = outcome.get("limit")
+    if limit is None:
+        return ""
+    values = outcome.get("values") or {}
+    ratio = isinstance(values, Mapping) and any(_is_ratio_name(str(k)) for k in values)
+    return display(limit, system, ratio=ratio)
+
+
+def outcome_label(outcome: Mapping[str, Any]) -> Label:
+    """Return the label of an outcome: its severity for a fail, else the outcome itself."""
+    kind = outcome.get("outcome")
+    if kind == "fail":
+        return OUTCOME_LABELS.get(outcome.get("severity"), OUTCOME_LABELS["error"])
+    return OUTCOME_LABELS.get(kind, Label("[?]", plain(kind, 20).upper() or "UNKNOWN", "sev-unchecked"))
+
+
+def verdict_label(spec: Mapping[str, Any]) -> Label:
+    """Return the label of a spec's verdict; an unreadable spec is labelled so whatever its verdict says."""
+    if spec.get("status") in ("invalid", "unreadable"):
+        return VERDICT_LABELS[spec["status"]]
+    return VERDICT_LABELS.get(spec.get("verdict"), Label("[?]", plain(spec.get("verdict"), 20).upper(), "sev-na"))
+
+
+def counts(spec: Mapping[str, Any]) -> dict[str, int]:
+    """Return the spec's outcome counts with every key present (missing counts are 0)."""
+    raw = spec.get("counts") or {}
+    keys = ("error", "warning", "info", "not-checked", "waived", "pass", "not-applicable")
+    out = {}
+    for key in keys:
+        n = raw.get(key, 0) if isinstance(raw, Mapping) else 0
+        out[key] = n if isinstance(n, int) and not isinstance(n, bool) else 0
+    return out
+
+
+def safety_errors(spec: Mapping[str, Any]) -> int:
+    """Return how many error-level fails of safety-relevant rules the spec has."""
+    return sum(
+        1
+        for o in _outcomes(spec)
+        if o.get("outcome") == "fail" and o.get("severity") == "error" and o.get("safety") is True
+    )
+
+
+def _outcomes(spec: Mapping[str, Any]) -> list[Mapping[str, Any]]:
+    outcomes = spec.get("outcomes") or []
+    return [o for o in outcomes if isinstance(o, Mapping)] if isinstance(outcomes, list) else []
+
+
+def _tier(spec: Mapping[str, Any]) -> int:
+    if spec.get("verdict") in ("fail", "invalid") or spec.get("status") in ("invalid", "unreadable"):
+        return 0
+    if spec.get("verdict") == "warning":
+        return 1
+    return 2
+
+
+def sorted_specs(specs: Iterable[Mapping[str, Any]]) -> list[Mapping[str, Any]]:
+    """Return the specs worst first, in the order :data:`ORDER_STATEMENT` describes."""
+
+    def key(spec: Mapping[str, Any]) -> tuple:
+        c = counts(spec)
+        return (
+            _tier(spec),
+            -safety_errors(spec),
+            -c["error"],
+            -c["warning"],
+            -c["not-checked"],
+            plain(spec.get("tag")),
+            plain(spec.get("file")),
+        )
+
+    return sorted((s for s in specs if isinstance(s, Mapping)), key=key)
+
+
+@dataclass
+class OutcomeGroups:
+    """A spec's outcomes sorted into the report's sections."""
+
+    failures: list[Mapping[str, Any]]
+    not_checked: list[Mapping[str, Any]]
+    waived: list[Mapping[str, Any]]
+    passed: list[Mapping[str, Any]]
+    not_applicable: list[Mapping[str, Any]]
+
+
+def group_outcomes(spec: Mapping[str, Any]) -> OutcomeGroups:
+    """Return the spec's outcomes grouped by kind; failures by severity, safety-relevant first, then rule id."""
+
+    def sev_key(o: Mapping[str, Any]) -> tuple:
+        return (_SEVERITY_RANK.get(o.get("severity"), 3), o.get("safety") is not True, plain(o.get("rule")))
+
+    groups = OutcomeGroups([], [], [], [], [])
+    for o in _outcomes(spec):
+        kind = o.get("outcome")
+        if kind == "fail":
+            groups.failures.append(o)
+        elif kind == "not-checked":
+            groups.not_checked.append(o)
+        elif kind == "waived":
+            groups.waived.append(o)
+        elif kind == "pass":
+            groups.passed.append(o)
+        else:
+            groups.not_applicable.append(o)
+    groups.failures.sort(key=sev_key)
+    groups.not_checked.sort(key=sev_key)
+    for group in (groups.waived, groups.passed, groups.not_applicable):
+        group.sort(key=lambda o: plain(o.get("rule")))
+    return groups
+
+
+def basis_items(outcome: Mapping[str, Any]) -> list[tuple[str, str, str]]:
+    """Return the outcome's basis as ``(source, status tag, status in words)`` triples."""
+    basis = outcome.get("basis") or []
+    if not isinstance(basis, list):
+        return []
+    out = []
+    for item in basis:
+        if isinstance(item, Mapping):
+            tag = plain(item.get("status"), 4)
+            out.append((plain(item.get("source"), 300), tag, BASIS_STATUS.get(tag, "status not stated")))
+        else:
+            out.append((plain(item, 300), "", "status not stated"))
+    return out
+
+
+def location_text(outcome: Mapping[str, Any]) -> str:
+    """Return ``path (line L, column C)`` for the outcome's location, or "" when it has none."""
+    loc = outcome.get("location") or {}
+    if not isinstance(loc, Mapping):
+        return ""
+    path = plain(loc.get("path"), 200)
+    where = []
+    if isinstance(loc.get("line"), int):
+        where.append(f"line {loc['line']}")
+    if isinstance(loc.get("column"), int):
+        where.append(f"column {loc['column']}")
+    if path and where:
+        return f"{path} ({', '.join(where)})"
+    return path or ", ".join(where)
+
+
+def missing_items(outcome: Mapping[str, Any]) -> list[str]:
+    """Return the spec paths whose values would let a not-checked rule run."""
+    missing = outcome.get("missing") or []
+    return [plain(m, 200) for m in missing] if isinstance(missing, list) else [plain(missing, 200)]
+
+
+def waiver_items(outcome: Mapping[str, Any]) -> dict[str, str]:
+    """Return the waiver's reason, approver and expiry as text ("" where absent)."""
+    w = outcome.get("waiver") or {}
+    if not isinstance(w, Mapping):
+        return {"reason": plain(w, 500), "approved_by": "", "expires": ""}
+    return {k: plain(w.get(k), 500) for k in ("reason", "approved_by", "expires")}
+
+
+def derived_items(spec: Mapping[str, Any], system: str = "si") -> list[dict[str, str]]:
+    """Return the spec's derived quantities (path, value, from, method, source), sorted by path."""
+    derived = spec.get("derived") or {}
+    if not isinstance(derived, Mapping):
+        return []
+    rows = []
+    for path in sorted(derived, key=str):
+        d = derived[path]
+        d = d if isinstance(d, Mapping) else {"value": d}
+        rows.append(
+            {
+                "path": plain(path, 200),
+                "value": display(d, system),
+                "from": plain(d.get("from"), 300),
+                "method": plain(d.get("method"), 100),
+                "source": plain(d.get("source"), 100),
+            }
+        )
+    return rows
+
+
+def summary_line(result: Mapping[str, Any]) -> str:
+    """Return a one-line summary of the whole result, e.g. ``3 drive trains: 1 fail, 1 warning, 1 pass``."""
+    specs = [s for s in (result.get("specs") or []) if isinstance(s, Mapping)]
+    tally: dict[str, int] = {}
+    for s in specs:
+        word = verdict_label(s).word.lower()
+        tally[word] = tally.get(word, 0) + 1
+    order = ["fail", "invalid", "unreadable", "warning", "pass"]
+    parts = [f"{tally[w]} {w}" for w in order if tally.get(w)]
+    parts += [f"{n} {w}" for w, n in sorted(tally.items()) if w not in order]
+    noun = "drive train" if len(specs) == 1 else "drive trains"
+    return f"{len(specs)} {noun}: " + (", ".join(parts) if parts else "nothing checked")
+
+
+def spec_name(spec: Mapping[str, Any]) -> str:
+    """Return ``TAG — title`` (or the file name when the spec has no tag) as plain text."""
+    tag = plain(spec.get("tag"), 80)
+    title = plain(spec.get("title"), 200)
+    if tag and title:
+        return f"{tag} — {title}"
+    return tag or title or plain(spec.get("file"), 200) or "(unnamed spec)"

@@ -1,0 +1,162 @@
+"""The HTML report: one self-contained, printable file per result, readable without scripts.
+
+:func:`render` turns the result dict into HTML through the jinja2 templates
+shipped in ``rulecheck/templates``. Autoescaping is on for every value; the only
+markup inserted unescaped is the chart SVG this package draws itself (its text
+comes from :mod:`rulecheck.report.charts`, which escapes the spec's labels).
+The page has no scripts and fetches nothing: styles are inline, charts are inline
+SVG (or, for e-mail, ``cid:`` images supplied by the caller).
+"""
+
+from __future__ import annotations
+
+from collections.abc import Callable, Mapping
+from functools import lru_cache
+from typing import Any
+
+from markupsafe import Markup
+
+from rulecheck.report import cautions, charts, common
+from rulecheck.report.common import plain
+
+__all__ = ["ImageSource", "render"]
+
+# (spec number, chart key, chart data) -> the ``src`` of an <img>; used by the e-mail builder
+ImageSource = Callable[[int, str, Mapping[str, Any]], str]
+
+UNITS_WORDS = {"si": "SI", "customary": "US customary"}
+
+
+@lru_cache(maxsize=1)
+def _environment() -> Any:
+    from jinja2 import Environment, PackageLoader, StrictUndefined
+
+    return Environment(
+        loader=PackageLoader("rulecheck", "templates"),
+        autoescape=True,
+        undefined=StrictUndefined,
+        trim_blocks=True,
+        lstrip_blocks=True,
+        keep_trailing_newline=True,
+    )
+
+
+def _finding(o: Mapping[str, Any], units: str) -> dict[str, Any]:
+    return {
+        "rule": plain(o.get("rule"), 120),
+        "title": plain(o.get("title"), 300),
+        "topic": plain(o.get("topic"), 80),
+        "label": common.outcome_label(o),
+        "severity": plain(o.get("severity"), 20),
+        "safety": o.get("safety") is True,
+        "message": plain(o.get("message"), 2000),
+        "fix": plain(o.get("fix"), 2000),
+        "formula": plain(o.get("formula"), 500),
+        "basis": common.basis_items(o),
+        "location": common.location_text(o),
+        "computed": common.value_items(o, units),
+        "limit": common.display_limit(o, units),
+        "missing": common.missing_items(o),
+        "waiver": common.waiver_items(o) if o.get("outcome") == "waived" else None,
+    }
+
+
+def _glance(c: Mapping[str, int], safety: int) -> list[tuple[str, str]]:
+    """Return the verdict-at-a-glance cells: (label text, count text)."""
+    return [
+        ("[X] errors", f"{c['error']}" + (f" ({safety} safety-relevant)" if safety else "")),
+        ("[!] warnings", str(c["warning"])),
+        ("[i] info", str(c["info"])),
+        ("[?] not checked", str(c["not-checked"])),
+        ("[W] waived", str(c["waived"])),
+        ("[ok] pass", str(c["pass"])),
+        ("[-] not applicable", str(c["not-applicable"])),
+    ]
+
+
+def _chart_views(spec: Mapping[str, Any], number: int, units: str, image: ImageSource | None) -> list[dict]:
+    views = []
+    for key in charts.available(spec):
+        data = spec["charts"][key]
+        view: dict[str, Any] = {"key": key, "svg": None, "src": None, "error": None, "text": None}
+        try:
+            view["text"] = charts.describe(key, data, units)
+            if image is not None:
+                view["src"] = image(number, key, data)
+            else:
+                view["svg"] = Markup(charts.svg(key, data, units, chart_id=f"dt{number}-{key}"))  # noqa: S704
+        except charts.ChartDataError as exc:
+            view["error"] = str(exc)
+        views.append(view)
+    return views
+
+
+def _spec_view(spec: Mapping[str, Any], number: int, units: str, draw: bool, image: ImageSource | None) -> dict:
+    groups = common.group_outcomes(spec)
+    c = common.counts(spec)
+    safety = common.safety_errors(spec)
+    errors = spec.get("errors") if isinstance(spec.get("errors"), list) else []
+    return {
+        "anchor": f"dt-{number}",
+        "number": number,
+        "name": common.spec_name(spec),
+        "tag": plain(spec.get("tag"), 80),
+        "title": plain(spec.get("title"), 300),
+        "file": plain(spec.get("file"), 300),
+        "spec_status": plain(spec.get("spec_status"), 60),
+        "status": plain(spec.get("status"), 30),
+        "sha256": plain(spec.get("sha256"), 80),
+        "verdict": common.verdict_label(spec),
+        "counts": c,
+        "safety_errors": safety,
+        "glance": _glance(c, safety),
+        "failures": [_finding(o, units) for o in groups.failures],
+        "not_checked": [_finding(o, units) for o in groups.not_checked],
+        "waived": [_finding(o, units) for o in groups.waived],
+        "passed": [_finding(o, units) for o in groups.passed],
+        "not_applicable": [_finding(o, units) for o in groups.not_applicable],
+        "derived": common.derived_items(spec, units),
+        "charts": _chart_views(spec, number, units, image) if draw else [],
+        "load_errors": [plain(e.get("message") if isinstance(e, Mapping) else e, 500) for e in errors],
+    }
+
+
+def context(result: Mapping[str, Any], *, units: str = "si", charts: bool = True,
+            image: ImageSource | None = None) -> dict[str, Any]:
+    """Return the template context for ``result`` (plain strings, labels and chart markup)."""
+    if units not in UNITS_WORDS:
+        raise ValueError(f"units must be 'si' or 'customary', not {units!r}")
+    specs = common.sorted_specs(result.get("specs") or [])
+    tool = result.get("tool") if isinstance(result.get("tool"), Mapping) else {}
+    settings = result.get("settings") if isinstance(result.get("settings"), Mapping) else {}
+    views = [_spec_view(s, i, units, charts, image) for i, s in enumerate(specs, start=1)]
+    totals = {k: sum(v["counts"][k] for v in views) for k in common.counts({})}
+    return {
+        "tool_name": plain(tool.get("name"), 40) or "rulecheck",
+        "tool_version": plain(tool.get("version"), 40) or "unknown",
+        "rules_digest": plain(tool.get("rules_digest"), 100) or "not stated",
+        "rule_count": plain(tool.get("rule_count"), 10) or "not stated",
+        "generated": plain(result.get("generated"), 40) or "not stated",
+        "fail_on": plain(settings.get("fail_on") or (result.get("summary") or {}).get("fail_on"), 20) or "error",
+        "units_word": UNITS_WORDS[units],
+        "summary_line": common.summary_line(result),
+        "order_statement": common.ORDER_STATEMENT,
+        "totals": totals,
+        "specs": views,
+        "general_cautions": cautions.GENERAL,
+        "hazards": cautions.select_hazards(specs),
+        "basis_words": common.BASIS_STATUS,
+        "for_mail": image is not None,
+    }
+
+
+def render(result: dict, *, units: str = "si", charts: bool = True, image: ImageSource | None = None) -> str:
+    """Return the whole HTML report for ``result`` as one self-contained document (text).
+
+    ``units`` is ``"si"`` or ``"customary"``; ``charts=False`` leaves the charts
+    out (their text equivalents too). ``image`` is for the e-mail builder: when
+    given, charts become ``<img src=...>`` with the source it returns instead of
+    inline SVG.
+    """
+    return _environment().get_template("report.html").render(context(result, units=units, charts=charts,
+                                                                     image=image))
