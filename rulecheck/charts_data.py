@@ -1,0 +1,128 @@
+"""Chart data for reports, computed from the model (renderers only draw what is here).
+
+All at the motor shaft: speeds in r/min, torques in N*m, voltages in V, times in s.
+"""
+
+from __future__ import annotations
+
+import math
+from typing import Any
+
+import numpy as np
+
+from rulecheck.model import Model
+from rulecheck.physics import machines as mc
+
+__all__ = ["chart_data"]
+
+RPM = 60.0 / (2.0 * math.pi)  # rad/s → r/min
+
+
+def _r(x: float) -> float:
+    return float(f"{x:.5g}")
+
+
+def chart_data(model: Model) -> dict[str, Any]:
+    """Return the torque–speed, duty-cycle and back-EMF chart data that the model supports."""
+    charts: dict[str, Any] = {}
+    ts = _torque_speed(model)
+    if ts:
+        charts["torque_speed"] = ts
+    duty = _duty(model)
+    if duty:
+        charts["duty"] = duty
+    emf = _back_emf(model)
+    if emf:
+        charts["back_emf"] = emf
+    return charts
+
+
+def _torque_speed(m: Model) -> dict[str, Any] | None:
+    from rulecheck.derive import _capability
+
+    cap = _capability(m)
+    nb = m.get("motor.base_speed")
+    if cap is None or not nb:
+        return None
+    top = max(x for x in (m.get("motor.max_speed"), m.get("train.speed_max"), nb * 1.2) if x)
+    speeds = np.unique(np.concatenate([np.linspace(0.0, top, 41), [nb]]))
+    cont = np.asarray(cap(speeds), dtype=float)
+    peak_limit = m.get("motor.peak_torque") or m.get("motor.breakdown_torque")
+    out: dict[str, Any] = {
+        "speed_unit": "r/min",
+        "torque_unit": "N*m",
+        "motor_continuous": [[_r(s * RPM), _r(t)] for s, t in zip(speeds, cont, strict=True)],
+    }
+    if peak_limit:
+        bd = m.get("motor.breakdown_torque")
+        peak = []
+        for s in speeds:
+            ratio = s / nb
+            if ratio <= 1.0:
+                value = peak_limit
+            elif m.get("motor.kind") == "induction" and bd:
+                # pull-out torque falls with the square of the field-weakening ratio
+                value = min(peak_limit * (1.0 / ratio), mc.breakdown_torque_field_weakening(bd, nb, s))
+            else:
+                value = peak_limit / ratio
+            peak.append([_r(s * RPM), _r(value)])
+        out["motor_peak"] = peak
+    points = []
+    i, eff = m.get("transmission.ratio"), m.get("transmission.efficiency")
+    fn = m.functions.get("load_torque")
+    nmin, nmax = m.get("load.speed_min"), m.get("load.speed_max")
+    if fn is not None and i and eff and nmax is not None:
+        for label, n in (("minimum speed", nmin), ("maximum speed", nmax)):
+            if n is not None:
+                points.append({"speed": _r(n * i * RPM), "torque": _r(abs(float(fn(n))) / (i * eff)), "label": label})
+    if m.has("train.speed_at_peak", "train.peak_torque_required"):
+        points.append({"speed": _r(m.get("train.speed_at_peak") * RPM), "torque": _r(m.get("train.peak_torque_required")),
+                       "label": "peak"})
+    if m.has("train.continuous_torque_required", "train.speed_max"):
+        points.append({"speed": _r(m.get("train.speed_max") * RPM),
+                       "torque": _r(m.get("train.continuous_torque_required")), "label": "RMS"})
+    out["load_points"] = points
+    out["duty_segments"] = [
+        {"speed_from": _r(s["speed_from"] * RPM), "speed_to": _r(s["speed_to"] * RPM), "torque": _r(s["torque"]),
+         "label": s.get("label", "")}
+        for s in m.lists.get("duty.segments", [])
+    ][:200]
+    return out
+
+
+def _duty(m: Model) -> dict[str, Any] | None:
+    samples: list[list[float]] = []
+    if m.lists.get("duty.segments"):
+        t = 0.0
+        for s in m.lists["duty.segments"][:500]:
+            samples.append([_r(t), _r(s["speed_from"] * RPM), _r(s["torque"])])
+            t += s["duration"]
+            samples.append([_r(t), _r(s["speed_to"] * RPM), _r(s["torque"])])
+    elif m.lists.get("duty.profile"):
+        samples = [[_r(t), _r(w * RPM), _r(q)] for t, w, q in m.lists["duty.profile"]]
+    if not samples:
+        return None
+    return {"time_unit": "s", "speed_unit": "r/min", "torque_unit": "N*m", "samples": samples}
+
+
+def _back_emf(m: Model) -> dict[str, Any] | None:
+    ke = m.get("motor.back_emf_constant_ll_rms")
+    if ke is None or m.get("motor.kind") != "pm-synchronous":
+        return None
+    top = m.get("train.speed_abs_max") or m.get("motor.max_speed") or m.get("motor.rated_speed")
+    if not top:
+        return None
+    speeds = np.linspace(0.0, top, 21)
+    out: dict[str, Any] = {
+        "speed_unit": "r/min",
+        "voltage_unit": "V",
+        "speed": [_r(s * RPM) for s in speeds],
+        "emf_line_rms": [_r(mc.back_emf_at_speed(ke, s)) for s in speeds],
+        "rectified_peak": [_r(mc.uncontrolled_generation_voltage(ke, s)) for s in speeds],
+    }
+    if m.get("drive.output_voltage_max") is not None:
+        out["available_voltage"] = _r(m.get("drive.output_voltage_max"))
+    trip = m.get("drive.dc_bus_trip")
+    if trip is not None:
+        out["dc_bus_trip"] = _r(trip)
+    return out

@@ -1,0 +1,278 @@
+"""Checking one spec file: load → validate → derive → rules → one result dict per spec."""
+
+from __future__ import annotations
+
+import datetime as _dt
+import os
+from dataclasses import dataclass, field
+from pathlib import Path
+from typing import Any
+
+from rulecheck import units
+from rulecheck.engine.run import Outcome, effective_params, evaluate_rule
+from rulecheck.engine.ruleset import RuleSet
+from rulecheck.load import Document, LoadError, Limits, load_file
+from rulecheck.schema import check_structure, read_quantities
+
+__all__ = ["BUILTIN_RULES", "CheckContext", "check_file", "outcome_dict"]
+
+# Checks done by the loader and schema rather than by rule files; listed with the rules.
+BUILTIN_RULES: dict[str, dict[str, Any]] = {
+    "yaml-syntax": {
+        "title": "The file is readable YAML: UTF-8, a mapping at the top, no duplicate keys or object tags",
+        "topic": "data-integrity", "severity": "error", "safety": False,
+        "description": "The spec must load as plain YAML data. Duplicate keys, tags that build objects, binary or "
+                       "non-UTF-8 content, alias bombs and over-deep nesting are refused with their position.",
+        "basis": [{"source": "YAML 1.2 specification; common practice", "status": "C"}],
+    },
+    "spec-schema": {
+        "title": "The spec follows the drive specification format",
+        "topic": "data-integrity", "severity": "error", "safety": False,
+        "description": "Every key is known (or starts with 'x-'), every value has the expected type, choice and "
+                       "range. A typo must not silently switch a check off.",
+        "basis": [{"source": "rulecheck spec format 1 (JSON Schema Draft 2020-12)", "status": "C"}],
+    },
+    "units-and-dimensions": {
+        "title": "Every physical value carries a unit of the right kind",
+        "topic": "data-integrity", "severity": "error", "safety": False,
+        "description": "Each quantity parses to the kind its field declares: torque is not energy, shaft speed is "
+                       "not frequency, a temperature rise is not a temperature. Bare numbers, decimal commas, "
+                       "unknown units and non-finite values are refused; ambiguous tokens are reported.",
+        "basis": [{"source": "pint unit definitions; NIST SP 811 (2008) App. B", "status": "V*"},
+                  {"source": "common practice", "status": "C"}],
+    },
+    "waiver-check": {
+        "title": "Waivers name a failing rule and have not expired",
+        "topic": "data-integrity", "severity": "warning", "safety": False,
+        "description": "A waiver that has expired, names no known rule, or waives a rule that does not fail is "
+                       "itself a finding, so stale deviations do not pile up.",
+        "basis": [{"source": "common practice", "status": "C"}],
+    },
+    "margins-check": {
+        "title": "A spec's margins name parameters that rules use",
+        "topic": "data-integrity", "severity": "error", "safety": False,
+        "description": "Each key of the spec's 'margins' section must be a parameter of some rule, and its value "
+                       "must be valid for that parameter.",
+        "basis": [{"source": "common practice", "status": "C"}],
+    },
+}
+
+
+@dataclass
+class CheckContext:
+    """What every spec of one run shares: rules, configuration, display settings."""
+
+    ruleset: RuleSet
+    value_kinds: dict[str, dict[str, str | None]]
+    project_params: dict[str, dict[str, Any]] = field(default_factory=dict)  # rule id or "*" → name → SI value
+    severity_overrides: dict[str, str] = field(default_factory=dict)
+    limits: Limits = field(default_factory=Limits)
+    today: _dt.date = field(default_factory=_dt.date.today)
+    system: str = "si"
+    base_dir: Path | None = None  # paths in results are relative to this
+
+
+def _value_dict(value: float, kind_name: str | None) -> dict[str, Any]:
+    if kind_name is None or kind_name not in units.KINDS:
+        return {"value": _round(value), "unit": "1", "kind": None}
+    k = units.KINDS[kind_name]
+    return {"value": _round(units.to_json_unit(value, kind_name)), "unit": k.json_unit, "kind": kind_name}
+
+
+def _round(value: float) -> float:
+    if isinstance(value, bool) or not isinstance(value, (int, float)):
+        return value
+    return float(f"{value:.6g}")
+
+
+def outcome_dict(o: Outcome, meta: dict[str, Any], doc: Document | None) -> dict[str, Any]:
+    """Return one outcome in the JSON-result form."""
+    pos = doc.position(o.path) if doc is not None and o.path else None
+    if doc is not None and o.path and o.path in doc.key_positions and o.rule in ("spec-schema",) and pos is None:
+        pos = doc.key_positions[o.path]
+    return {
+        "rule": o.rule,
+        "title": meta.get("title", ""),
+        "topic": meta.get("topic", ""),
+        "outcome": o.outcome,
+        "severity": o.severity,
+        "safety": bool(meta.get("safety", False)),
+        "message": o.message,
+        "fix": o.fix or o.hint,
+        "formula": meta.get("formula", ""),
+        "basis": meta.get("basis", []),
+        "location": {"path": o.path, "line": pos.line if pos else None, "column": pos.column if pos else None},
+        "values": {n: _value_dict(v, k) for n, (v, k) in o.values.items()},
+        "limit": _value_dict(*o.limit) if o.limit else None,
+        "missing": list(o.missing),
+        "waiver": o.waiver,
+    }
+
+
+def _display_path(path: Path, base: Path | None) -> str:
+    try:
+        rel = os.path.relpath(path, base) if base else str(path)
+    except ValueError:
+        rel = str(path)
+    return rel.replace(os.sep, "/")
+
+
+def _empty_result(file: str, status: str) -> dict[str, Any]:
+    return {"file": file, "tag": None, "title": None, "spec_status": None, "sha256": None, "status": status,
+            "verdict": "invalid", "counts": {}, "outcomes": [], "derived": {}, "charts": {}}
+
+
+def check_file(path: Path, ctx: CheckContext) -> dict[str, Any]:
+    """Return the result dict of one spec file (never raises for a bad spec)."""
+    from rulecheck.derive import build_model
+
+    file = _display_path(path, ctx.base_dir)
+    try:
+        doc = load_file(path, ctx.limits, display_name=file)
+    except LoadError as exc:
+        result = _empty_result(file, "unreadable" if exc.rule == "unreadable" else "invalid")
+        result["outcomes"].append({
+            **outcome_dict(Outcome("yaml-syntax", "fail", "error", exc.message, "", hint=exc.hint),
+                           BUILTIN_RULES["yaml-syntax"], None),
+            "location": {"path": "", "line": exc.line, "column": exc.column},
+        })
+        return _finish(result)
+    result = _empty_result(file, "checked")
+    result["sha256"] = doc.sha256
+    data = doc.data
+    result["tag"] = data.get("tag") if isinstance(data.get("tag"), str) else None
+    result["title"] = data.get("title") if isinstance(data.get("title"), str) else None
+    result["spec_status"] = data.get("status") if isinstance(data.get("status"), str) else None
+    problems = check_structure(doc)
+    quantities, unit_problems = read_quantities(doc)
+    problems += unit_problems
+    for p in problems:
+        pos = doc.key_positions.get(p.path) if p.at_key else None
+        entry = outcome_dict(Outcome(p.rule, "fail", p.severity, p.message, p.path, hint=p.hint),
+                             BUILTIN_RULES[p.rule], doc)
+        if pos:
+            entry["location"].update(line=pos.line, column=pos.column)
+        result["outcomes"].append(entry)
+    if any(p.severity == "error" for p in problems):
+        result["status"] = "invalid"
+    model = build_model(doc, quantities, base_dir=path.parent)
+    for note in model.notes:
+        result.setdefault("notes", []).append(note)
+    margins = data.get("margins") if isinstance(data.get("margins"), dict) else {}
+    spec_margins, margin_outcomes = _read_margins(margins, ctx.ruleset)
+    for o in margin_outcomes:
+        result["outcomes"].append(outcome_dict(o, BUILTIN_RULES["margins-check"], doc))
+    namespace = model.namespace()
+    rule_outcomes: dict[str, Outcome] = {}
+    for rule in ctx.ruleset.rules.values():
+        params = effective_params(rule, ctx.project_params, spec_margins)
+        outcome = evaluate_rule(rule, model, namespace, params, ctx.value_kinds.get(rule.id, {}), ctx.system,
+                                ctx.severity_overrides)
+        rule_outcomes[rule.id] = outcome
+    waiver_outcomes = _apply_waivers(data.get("waivers"), rule_outcomes, ctx)
+    for rule_id, outcome in rule_outcomes.items():
+        rule = ctx.ruleset.rules[rule_id]
+        result["outcomes"].append(outcome_dict(outcome, {**rule.metadata(), "formula": rule.formula}, doc))
+    for o in waiver_outcomes:
+        result["outcomes"].append(outcome_dict(o, BUILTIN_RULES["waiver-check"], doc))
+    result["derived"] = {
+        p: {**_value_dict(v, k), "from": d.describe(), "method": d.method, "source": d.source}
+        for p, v, k, d in model.derived_items()
+        if isinstance(v, (int, float)) and not isinstance(v, bool)
+    }
+    from rulecheck.charts_data import chart_data
+
+    result["charts"] = chart_data(model)
+    return _finish(result)
+
+
+def _read_margins(margins: dict[str, Any], ruleset: RuleSet) -> tuple[dict[str, Any], list[Outcome]]:
+    known: dict[str, Any] = {}
+    for rule in ruleset.rules.values():
+        for name, param in rule.params.items():
+            known.setdefault(name, param)
+    values: dict[str, Any] = {}
+    problems: list[Outcome] = []
+    for name, raw in margins.items():
+        path = f"margins.{name}"
+        if name not in known:
+            import difflib
+
+            close = difflib.get_close_matches(name, sorted(known), n=1)
+            problems.append(Outcome("margins-check", "fail", "error", f"{path}: no rule has a parameter '{name}'",
+                                    path, hint=f"did you mean '{close[0]}'?" if close else
+                                    "see 'rulecheck rules show ID' for each rule's parameters"))
+            continue
+        try:
+            values[name] = known[name].parse(raw)
+        except ValueError as exc:
+            problems.append(Outcome("margins-check", "fail", "error", f"{path}: {exc}", path))
+    return values, problems
+
+
+def _apply_waivers(waivers: Any, outcomes: dict[str, Outcome], ctx: CheckContext) -> list[Outcome]:
+    findings: list[Outcome] = []
+    if not isinstance(waivers, list):
+        return findings
+    for i, waiver in enumerate(waivers):
+        if not isinstance(waiver, dict) or not isinstance(waiver.get("rule"), str):
+            continue
+        path = f"waivers[{i}]"
+        rule_id = ctx.ruleset.resolve(waiver["rule"])
+        if rule_id is None:
+            findings.append(Outcome("waiver-check", "fail", "warning",
+                                    f"{path}: waiver names rule '{waiver['rule']}', which does not exist", path + ".rule",
+                                    hint="remove the waiver or correct the rule id ('rulecheck rules' lists them)"))
+            continue
+        try:
+            expires = _dt.date.fromisoformat(str(waiver.get("expires")))
+        except ValueError:
+            continue  # the schema reports the malformed date
+        outcome = outcomes[rule_id]
+        info = {"reason": waiver.get("reason", ""), "approved_by": waiver.get("approved_by", ""),
+                "expires": expires.isoformat(), "severity": outcome.severity}
+        if expires < ctx.today:
+            findings.append(Outcome("waiver-check", "fail", "warning",
+                                    f"{path}: waiver of '{rule_id}' expired on {expires.isoformat()}; "
+                                    f"the finding counts again", path + ".expires",
+                                    hint="renew the waiver at a design review, or fix the finding"))
+            continue
+        if outcome.outcome != "fail":
+            findings.append(Outcome("waiver-check", "fail", "warning",
+                                    f"{path}: waiver of '{rule_id}' is not needed: the rule's outcome is "
+                                    f"{outcome.outcome}", path + ".rule", hint="remove the stale waiver"))
+            continue
+        outcome.outcome = "waived"
+        outcome.waiver = info
+    return findings
+
+
+def _finish(result: dict[str, Any]) -> dict[str, Any]:
+    counts = {"error": 0, "warning": 0, "info": 0, "not-checked": 0, "waived": 0, "pass": 0, "not-applicable": 0}
+    for o in result["outcomes"]:
+        if o["outcome"] == "fail":
+            counts[o["severity"]] += 1
+        else:
+            counts[o["outcome"]] += 1
+    result["counts"] = counts
+    if result["status"] != "checked":
+        result["verdict"] = "invalid"
+    elif counts["error"]:
+        result["verdict"] = "fail"
+    elif counts["warning"] or any(o["outcome"] == "not-checked" and o["severity"] == "warning"
+                                  for o in result["outcomes"]):
+        result["verdict"] = "warning"
+    else:
+        result["verdict"] = "pass"
+    result["outcomes"].sort(key=_outcome_sort_key)
+    return result
+
+
+_OUTCOME_ORDER = {"fail": 0, "not-checked": 1, "waived": 2, "pass": 3, "not-applicable": 4}
+_SEVERITY_RANK = {"error": 0, "warning": 1, "info": 2}
+
+
+def _outcome_sort_key(o: dict[str, Any]) -> tuple[Any, ...]:
+    loc = o.get("location") or {}
+    return (_OUTCOME_ORDER.get(o["outcome"], 9), _SEVERITY_RANK.get(o["severity"], 9), loc.get("line") or 0,
+            loc.get("column") or 0, o["rule"])

@@ -1,0 +1,159 @@
+"""Project configuration: ``.rulecheck.yaml`` or ``[tool.rulecheck]`` in ``pyproject.toml``.
+
+Found by walking up from each spec's folder (the nearest wins), or named with
+``--config``. It may add rule folders (explicitly, and only inside the folder
+that holds the configuration), switch rules off, set parameters and
+severities, and adjust limits within safe bounds. Unknown keys, rule ids and
+parameters are errors naming the file and key.
+"""
+
+from __future__ import annotations
+
+import tomllib
+from dataclasses import dataclass, field
+from pathlib import Path
+from typing import Any
+
+from rulecheck.load import Limits, LoadError, load_file
+
+__all__ = ["CONFIG_NAME", "Config", "ConfigError", "discover", "read_config"]
+
+CONFIG_NAME = ".rulecheck.yaml"
+_KEYS = {"rule_paths", "disable", "severity", "parameters", "fail_on", "units", "limits"}
+_SEVERITIES = {"error", "warning", "info"}
+# the highest a configuration may raise each loader limit: beyond these a hostile file could exhaust memory
+_LIMIT_CAPS = {"max_bytes": 16 * 1_048_576, "max_depth": 128, "max_nodes": 2_000_000}
+
+
+class ConfigError(Exception):
+    """An unusable configuration; names the file and the key."""
+
+    def __init__(self, file: str, message: str, line: int | None = None) -> None:
+        super().__init__(message)
+        self.file = file
+        self.message = message
+        self.line = line
+
+    def __str__(self) -> str:
+        return f"{self.file}{':' + str(self.line) if self.line else ''}: {self.message}"
+
+
+@dataclass
+class Config:
+    """A project configuration as read (rule ids and parameters are checked against the rules later)."""
+
+    file: str | None = None
+    root: Path | None = None
+    rule_paths: list[Path] = field(default_factory=list)
+    disable: list[str] = field(default_factory=list)
+    severity: dict[str, str] = field(default_factory=dict)
+    parameters: dict[str, Any] = field(default_factory=dict)
+    fail_on: str | None = None
+    units: str | None = None
+    limits: Limits = field(default_factory=Limits)
+    positions: dict[str, int] = field(default_factory=dict)
+
+    def line(self, key: str) -> int | None:
+        """Return the line of a key path in the configuration file, when known."""
+        return self.positions.get(key)
+
+
+def _from_mapping(data: Any, file: str, root: Path, positions: dict[str, int]) -> Config:
+    if data is None:
+        data = {}
+    if not isinstance(data, dict):
+        raise ConfigError(file, "the configuration must be a mapping of keys")
+    cfg = Config(file=file, root=root, positions=positions)
+    for key in data:
+        if key not in _KEYS:
+            raise ConfigError(file, f"unknown key '{key}' (known: {', '.join(sorted(_KEYS))})", positions.get(key))
+    for entry in data.get("rule_paths") or []:
+        if not isinstance(entry, str) or not entry.strip():
+            raise ConfigError(file, "rule_paths entries must be folder names", positions.get("rule_paths"))
+        target = (root / entry).resolve()
+        try:
+            target.relative_to(root.resolve())
+        except ValueError:
+            raise ConfigError(file, f"rule_paths: '{entry}' is outside the folder of the configuration",
+                              positions.get("rule_paths")) from None
+        cfg.rule_paths.append(target)
+    disable = data.get("disable") or []
+    if not isinstance(disable, list) or not all(isinstance(x, str) for x in disable):
+        raise ConfigError(file, "disable must be a list of rule ids", positions.get("disable"))
+    cfg.disable = list(disable)
+    severity = data.get("severity") or {}
+    if not isinstance(severity, dict):
+        raise ConfigError(file, "severity must map rule ids to error, warning or info", positions.get("severity"))
+    for rule_id, level in severity.items():
+        if level not in _SEVERITIES:
+            raise ConfigError(file, f"severity.{rule_id}: '{level}' is not error, warning or info",
+                              positions.get(f"severity.{rule_id}"))
+    cfg.severity = dict(severity)
+    params = data.get("parameters") or {}
+    if not isinstance(params, dict):
+        raise ConfigError(file, "parameters must be a mapping", positions.get("parameters"))
+    cfg.parameters = params
+    for key, allowed in (("fail_on", _SEVERITIES), ("units", {"si", "customary"})):
+        value = data.get(key)
+        if value is not None and value not in allowed:
+            raise ConfigError(file, f"{key}: '{value}' is not one of {', '.join(sorted(allowed))}", positions.get(key))
+    cfg.fail_on, cfg.units = data.get("fail_on"), data.get("units")
+    limits = data.get("limits") or {}
+    if not isinstance(limits, dict):
+        raise ConfigError(file, "limits must be a mapping", positions.get("limits"))
+    values = {}
+    for key, value in limits.items():
+        if key not in _LIMIT_CAPS:
+            raise ConfigError(file, f"limits: unknown limit '{key}' (known: {', '.join(_LIMIT_CAPS)})",
+                              positions.get(f"limits.{key}"))
+        if not isinstance(value, int) or isinstance(value, bool) or not 1 <= value <= _LIMIT_CAPS[key]:
+            raise ConfigError(file, f"limits.{key} must be a whole number from 1 to {_LIMIT_CAPS[key]}",
+                              positions.get(f"limits.{key}"))
+        values[key] = value
+    cfg.limits = Limits(**values)
+    return cfg
+
+
+def read_config(path: Path) -> Config:
+    """Return the configuration in ``path`` (``.rulecheck.yaml`` or ``pyproject.toml``)."""
+    file = str(path)
+    if path.name == "pyproject.toml":
+        try:
+            data = tomllib.loads(path.read_text(encoding="utf-8"))
+        except (OSError, UnicodeDecodeError) as exc:
+            raise ConfigError(file, f"cannot read: {exc}") from None
+        except tomllib.TOMLDecodeError as exc:
+            raise ConfigError(file, f"invalid TOML: {exc}") from None
+        section = data.get("tool", {}).get("rulecheck", {})
+        return _from_mapping(section, file, path.parent, {})
+    try:
+        doc = load_file(path, display_name=file)
+    except LoadError as exc:
+        if exc.message == "the file is empty":
+            return _from_mapping({}, file, path.parent, {})
+        raise ConfigError(file, exc.message, exc.line) from None
+    positions = {k: p.line for k, p in doc.key_positions.items()}
+    return _from_mapping(doc.data, file, path.parent, positions)
+
+
+def _has_section(pyproject: Path) -> bool:
+    try:
+        return "rulecheck" in tomllib.loads(pyproject.read_text(encoding="utf-8")).get("tool", {})
+    except (OSError, UnicodeDecodeError, tomllib.TOMLDecodeError):
+        return False
+
+
+def discover(start: Path) -> Path | None:
+    """Return the nearest configuration file at or above ``start``, or None."""
+    folder = start if start.is_dir() else start.parent
+    folder = folder.resolve()
+    for candidate in (folder, *folder.parents):
+        own = candidate / CONFIG_NAME
+        if own.is_file():
+            return own
+        pyproject = candidate / "pyproject.toml"
+        if pyproject.is_file() and _has_section(pyproject):
+            return pyproject
+        if (candidate / ".git").exists():
+            break  # a repository's configuration lives inside it
+    return None

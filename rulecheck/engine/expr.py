@@ -1,0 +1,299 @@
+"""Rule expressions: compiled once in a sandbox, evaluated per spec on SI floats.
+
+Rule files may come from a pull request, so an expression is untrusted code.
+We use jinja2's ``ImmutableSandboxedEnvironment`` to compile expressions and
+narrow it further:
+
+* no attribute access except on the model's own sections (no ``__class__``,
+  no string or list methods);
+* only the filters and tests listed here, and only registered physics methods
+  and a few pure maths functions as callables; no ``range``, ``dict``,
+  ``namespace``, ``lipsum``;
+* ``**`` is bounded (small exponent, finite result), ``*`` and ``%`` refuse
+  sequences and strings, so nothing can repeat its way to exhaustion;
+* expression text is limited in length; jinja expressions have no loops, so
+  evaluation time is bounded by the text.
+
+A missing input is not an error: the model returns :class:`Missing`, an
+undefined value that remembers its key path; any use of it raises
+:class:`MissingInput`, which the engine turns into a ``not-checked`` outcome
+naming the inputs that would allow the check. ``x is defined`` tests it.
+"""
+
+from __future__ import annotations
+
+import math
+from typing import Any, Callable
+
+from jinja2 import StrictUndefined, TemplateSyntaxError
+from jinja2.exceptions import SecurityError, UndefinedError
+from jinja2.sandbox import ImmutableSandboxedEnvironment
+
+MAX_EXPRESSION_LENGTH = 600
+MAX_EXPONENT = 8.0
+MAX_MAGNITUDE = 1e100
+
+__all__ = [
+    "ExpressionError",
+    "Missing",
+    "MissingInput",
+    "Section",
+    "compile_expression",
+    "environment",
+]
+
+
+class ExpressionError(Exception):
+    """A rule expression that cannot be compiled or evaluated; the message says why."""
+
+
+class MissingInput(Exception):
+    """An expression needed a spec value that is not given and could not be derived."""
+
+    def __init__(self, paths: tuple[str, ...]) -> None:
+        super().__init__(", ".join(paths))
+        self.paths = paths
+
+
+class Missing(StrictUndefined):
+    """An absent model value that remembers where it would have come from.
+
+    Without ``paths`` it is jinja's ordinary undefined (an unknown name, or an
+    attribute the sandbox refuses) and its use is an error of the rule.
+    """
+
+    __slots__ = ("_paths",)
+
+    def __init__(self, hint: Any = None, obj: Any = None, name: Any = None, exc: Any = UndefinedError,
+                 paths: tuple[str, ...] = ()) -> None:
+        from jinja2.utils import missing
+
+        super().__init__(hint, missing if obj is None else obj, name, exc)
+        self._paths = paths
+
+    def _fail_with_undefined_error(self, *args: Any, **kwargs: Any) -> Any:
+        if self._paths:
+            raise MissingInput(self._paths)
+        raise self._undefined_exception(self._undefined_message)
+
+
+# jinja binds its operators to the base class's function; point every one at ours.
+for _op in (
+    "__add__ __radd__ __sub__ __rsub__ __mul__ __rmul__ __truediv__ __rtruediv__ __floordiv__ __rfloordiv__ "
+    "__mod__ __rmod__ __pos__ __neg__ __call__ __getitem__ __lt__ __le__ __gt__ __ge__ __int__ __float__ "
+    "__complex__ __pow__ __rpow__ __iter__ __str__ __len__ __eq__ __ne__ __bool__ __hash__ __contains__ __abs__"
+).split():
+    setattr(Missing, _op, Missing._fail_with_undefined_error)
+
+
+class Section:
+    """A read-only view of one part of the model (``motor``, ``load``...) for expressions."""
+
+    __slots__ = ("_name", "_values", "_children")
+
+    def __init__(self, name: str, values: dict[str, Any], children: dict[str, Section] | None = None) -> None:
+        object.__setattr__(self, "_name", name)
+        object.__setattr__(self, "_values", values)
+        object.__setattr__(self, "_children", children or {})
+
+    def __getattr__(self, key: str) -> Any:
+        if key.startswith("_"):
+            raise AttributeError(key)
+        children = object.__getattribute__(self, "_children")
+        if key in children:
+            return children[key]
+        values = object.__getattribute__(self, "_values")
+        name = object.__getattribute__(self, "_name")
+        if key in values:
+            return values[key]
+        return Missing(paths=(f"{name}.{key}" if name else key,))
+
+    __getitem__ = __getattr__
+
+    def __setattr__(self, key: str, value: Any) -> None:
+        raise SecurityError("the model is read-only")
+
+    def __repr__(self) -> str:
+        return f"<section {object.__getattribute__(self, '_name')}>"
+
+
+def _magnitude(value: Any) -> float | None:
+    if isinstance(value, bool):
+        return None
+    if isinstance(value, (int, float)):
+        return float(value)
+    mag = getattr(value, "magnitude", None)  # pint quantities during the dimensional check
+    return float(mag) if isinstance(mag, (int, float)) else None
+
+
+class _RuleEnvironment(ImmutableSandboxedEnvironment):
+    intercepted_binops = frozenset(["**", "*", "%", "//"])
+    intercepted_unops = frozenset()
+
+    def is_safe_attribute(self, obj: Any, attr: str, value: Any) -> bool:
+        return isinstance(obj, Section) and not attr.startswith("_")
+
+    def is_safe_callable(self, obj: Any) -> bool:
+        return getattr(obj, "_rule_callable", False) is True
+
+    def call_binop(self, context: Any, operator: str, left: Any, right: Any) -> Any:
+        if isinstance(left, (str, list, tuple, dict)) or isinstance(right, (str, list, tuple, dict)):
+            raise SecurityError(f"operator {operator!r} is not allowed on text or lists in a rule expression")
+        if operator == "**":
+            exponent = _magnitude(right)
+            base = _magnitude(left)
+            if exponent is None or abs(exponent) > MAX_EXPONENT:
+                raise SecurityError(f"exponent {right!r} is outside ±{MAX_EXPONENT:g} in a rule expression")
+            if base is not None and abs(base) > MAX_MAGNITUDE ** (1 / max(abs(exponent), 1)):
+                raise SecurityError("power too large in a rule expression")
+            return left**right
+        if operator == "*":
+            return left * right
+        if operator == "%":
+            return left % right
+        return left // right
+
+    def getattr(self, obj: Any, attribute: str) -> Any:
+        if isinstance(obj, Section):
+            if attribute.startswith("_"):
+                return self.unsafe_undefined(obj, attribute)
+            return getattr(obj, attribute)
+        if isinstance(obj, Missing):
+            return obj  # a part of a missing thing is missing too
+        return self.unsafe_undefined(obj, attribute)
+
+    def getitem(self, obj: Any, argument: Any) -> Any:
+        if isinstance(obj, Section) and isinstance(argument, str):
+            return self.getattr(obj, argument)
+        if isinstance(obj, (list, tuple)) and isinstance(argument, int):
+            try:
+                return obj[argument]
+            except IndexError:
+                return Missing(paths=(f"[{argument}]",))
+        if isinstance(obj, Missing):
+            return obj
+        return self.undefined(obj=obj, name=str(argument))
+
+
+def _callable(fn: Callable[..., Any]) -> Callable[..., Any]:
+    fn._rule_callable = True  # type: ignore[attr-defined]
+    return fn
+
+
+def _sqrt(x: Any) -> Any:
+    return x**0.5
+
+
+def _cos(x: Any) -> Any:
+    return math.cos(float(getattr(x, "magnitude", x)))
+
+
+def _sin(x: Any) -> Any:
+    return math.sin(float(getattr(x, "magnitude", x)))
+
+
+def _tan(x: Any) -> Any:
+    return math.tan(float(getattr(x, "magnitude", x)))
+
+
+def _interp(x: Any, xs: Any, ys: Any) -> Any:
+    """Linear interpolation in a table (clamped at both ends)."""
+    points = list(zip(xs, ys))
+    if not points:
+        raise ExpressionError("interp needs a table")
+    if x <= points[0][0]:
+        return points[0][1]
+    for (x0, y0), (x1, y1) in zip(points, points[1:]):
+        if x <= x1:
+            return y0 + (y1 - y0) * (x - x0) / (x1 - x0)
+    return points[-1][1]
+
+
+BUILTINS: dict[str, Callable[..., Any]] = {
+    "min": min,
+    "max": max,
+    "abs": abs,
+    "sqrt": _sqrt,
+    "cos": _cos,
+    "sin": _sin,
+    "tan": _tan,
+    "interp": _interp,
+}
+
+CONSTANTS: dict[str, float] = {
+    "pi": math.pi,
+    "g_n": 9.80665,  # standard acceleration of gravity, CGPM 1901 (exact)
+    "sqrt2": math.sqrt(2.0),
+    "sqrt3": math.sqrt(3.0),
+}
+
+_FILTERS = {"abs", "round", "float", "int", "default", "d", "length", "min", "max", "sum", "first", "last", "lower",
+            "upper", "join"}
+_TESTS = {"defined", "undefined", "none", "number", "string", "true", "false", "boolean", "in", "eq", "ne", "lt", "le",
+          "gt", "ge", "==", "!=", "<", "<=", ">", ">="}
+
+
+def environment(methods: dict[str, Callable[..., Any]] | None = None) -> _RuleEnvironment:
+    """Return a fresh sandbox with the rule builtins and the given methods as callables."""
+    env = _RuleEnvironment(undefined=Missing, autoescape=False)
+    env.globals.clear()
+    env.filters = {k: v for k, v in env.filters.items() if k in _FILTERS}
+    env.tests = {k: v for k, v in env.tests.items() if k in _TESTS}
+    for name, fn in {**BUILTINS, **(methods or {})}.items():
+        env.globals[name] = _callable(_wrap(fn))
+    env.globals.update(CONSTANTS)
+    return env
+
+
+def _wrap(fn: Callable[..., Any]) -> Callable[..., Any]:
+    def call(*args: Any, **kwargs: Any) -> Any:
+        for a in (*args, *kwargs.values()):
+            if isinstance(a, Missing):
+                a._fail_with_undefined_error()
+        return fn(*args, **kwargs)
+
+    call.__name__ = getattr(fn, "__name__", "function")
+    return call
+
+
+def compile_expression(env: _RuleEnvironment, text: str) -> Callable[..., Any]:
+    """Compile one expression; raise :class:`ExpressionError` with the reason."""
+    if not isinstance(text, str):
+        text = str(text)
+    if len(text) > MAX_EXPRESSION_LENGTH:
+        raise ExpressionError(f"expression is longer than {MAX_EXPRESSION_LENGTH} characters")
+    if "__" in text:
+        raise ExpressionError("names with double underscores are not allowed in rule expressions")
+    try:
+        compiled = env.compile_expression(text, undefined_to_none=False)
+    except TemplateSyntaxError as exc:
+        raise ExpressionError(f"syntax error: {exc.message}") from None
+    except Exception as exc:  # jinja raises a few types for malformed input
+        raise ExpressionError(f"cannot compile: {exc}") from None
+    return compiled
+
+
+def evaluate(compiled: Callable[..., Any], namespace: dict[str, Any]) -> Any:
+    """Evaluate a compiled expression; raise MissingInput, or ExpressionError for anything else."""
+    try:
+        result = compiled(**namespace)
+        if isinstance(result, Missing):
+            result._fail_with_undefined_error()
+        return result
+    except MissingInput:
+        raise
+    except SecurityError as exc:
+        raise ExpressionError(f"not allowed: {exc}") from None
+    except UndefinedError as exc:
+        raise ExpressionError(f"unknown name: {exc.message}") from None
+    except ZeroDivisionError:
+        raise ExpressionError("division by zero") from None
+    except (OverflowError, ValueError, TypeError, ArithmeticError) as exc:
+        raise ExpressionError(f"{type(exc).__name__}: {exc}") from None
+    except RecursionError:
+        raise ExpressionError("expression nests too deeply") from None
+    except Exception as exc:  # pint's DimensionalityError and anything a method raises
+        name = type(exc).__name__
+        if name == "DimensionalityError":
+            raise ExpressionError(f"dimension mismatch: {exc}") from None
+        raise ExpressionError(f"{name}: {exc}") from None

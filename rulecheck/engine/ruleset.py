@@ -1,0 +1,334 @@
+"""Rule files: loading, validation against the rule schema, and compilation.
+
+A rule file is data: YAML, one rule per file, its id equal to the file name.
+It is loaded with the same safe loader as specs (so errors carry file:line),
+validated against ``schemas/rule.schema.yaml``, and its expressions are
+compiled once in the sandbox of :mod:`rulecheck.engine.expr`.
+"""
+
+from __future__ import annotations
+
+import hashlib
+import re
+from dataclasses import dataclass, field
+from functools import lru_cache
+from importlib import resources
+from pathlib import Path
+from typing import Any, Callable
+
+import yaml
+
+from rulecheck import units
+from rulecheck.engine import expr
+from rulecheck.load import Document, LoadError, Position, load_file, path_text
+
+__all__ = ["Check", "Param", "Rule", "RuleError", "RuleSet", "load_rule_file", "load_rules", "shipped_rules_dir"]
+
+MAX_RULE_FILE_BYTES = 262_144
+MAX_TEMPLATE_LENGTH = 1000
+
+
+class RuleError(Exception):
+    """A rule file that cannot be used; names the file, line and column."""
+
+    def __init__(self, file: str, message: str, line: int | None = None, column: int | None = None) -> None:
+        super().__init__(message)
+        self.file = file
+        self.message = message
+        self.line = line
+        self.column = column
+
+    def __str__(self) -> str:
+        where = self.file + (f":{self.line}:{self.column}" if self.line else "")
+        return f"{where}: {self.message}"
+
+
+@dataclass(frozen=True)
+class Param:
+    """A rule parameter: its default (SI float, bool or text) and kind."""
+
+    name: str
+    default: Any
+    kind: str | None
+    description: str
+    minimum: float | None = None
+    maximum: float | None = None
+    written: str = ""
+
+    def parse(self, value: Any) -> Any:
+        """Return ``value`` (as written in configuration) in SI; raise ValueError with the reason."""
+        if isinstance(self.default, bool):
+            if not isinstance(value, bool):
+                raise ValueError(f"parameter '{self.name}' takes true or false")
+            return value
+        if self.kind is None or self.kind == "fraction":
+            try:
+                si = units.parse_quantity(value, "fraction")
+            except units.QuantityError as exc:
+                raise ValueError(f"parameter '{self.name}': {exc.message}") from None
+        else:
+            try:
+                si = units.parse_quantity(value, self.kind)
+            except units.QuantityError as exc:
+                raise ValueError(f"parameter '{self.name}': {exc.message}; {exc.hint}") from None
+        if self.minimum is not None and si < self.minimum or self.maximum is not None and si > self.maximum:
+            raise ValueError(f"parameter '{self.name}' = {value!r} is outside its safe range "
+                             f"[{self.minimum}, {self.maximum}]")
+        return si
+
+
+@dataclass(frozen=True)
+class Check:
+    """One failure condition of a rule."""
+
+    when: Callable[..., Any]
+    when_text: str
+    severity: str
+    message: Any | None  # compiled template
+    position: Position | None
+
+
+@dataclass
+class Rule:
+    """A compiled rule."""
+
+    id: str
+    file: str
+    title: str
+    topic: str
+    severity: str
+    safety: bool
+    description: str
+    basis: list[dict[str, str]]
+    aliases: list[str]
+    params: dict[str, Param]
+    applies_when: Callable[..., Any] | None
+    applies_text: str
+    values: list[tuple[str, Callable[..., Any], str, str | None]]  # name, compiled, text, declared kind
+    checks: list[Check]
+    message: Any
+    pass_message: Any | None
+    fix: Any
+    formula: str
+    location: str
+    limit: str
+    examples: list[dict[str, Any]]
+    raw: dict[str, Any] = field(repr=False, default_factory=dict)
+    doc: Document | None = field(repr=False, default=None)
+    builtin: bool = False
+
+    def metadata(self) -> dict[str, Any]:
+        """Return the rule's description for reports and SARIF (no compiled parts)."""
+        return {
+            "id": self.id,
+            "title": self.title,
+            "topic": self.topic,
+            "severity": self.severity,
+            "safety": self.safety,
+            "description": self.description.strip(),
+            "basis": self.basis,
+            "fix": self.raw.get("fix", ""),
+            "formula": self.formula,
+            "aliases": self.aliases,
+            "parameters": {
+                p.name: {"default": p.written, "kind": p.kind, "description": p.description}
+                for p in self.params.values()
+            },
+        }
+
+
+@dataclass
+class RuleSet:
+    """The rules of one run, by id, with aliases and a digest of their files."""
+
+    rules: dict[str, Rule]
+    aliases: dict[str, str]
+    digest: str
+
+    def resolve(self, rule_id: str) -> str | None:
+        """Return the current id for ``rule_id`` or one of its aliases, or None."""
+        if rule_id in self.rules:
+            return rule_id
+        return self.aliases.get(rule_id)
+
+    def parameter_names(self) -> set[str]:
+        """Return every parameter name any rule declares."""
+        return {p for r in self.rules.values() for p in r.params}
+
+
+@lru_cache(maxsize=1)
+def _rule_validator() -> Any:
+    from jsonschema import Draft202012Validator
+
+    text = resources.files("rulecheck").joinpath("schemas/rule.schema.yaml").read_text(encoding="utf-8")
+    return Draft202012Validator(yaml.safe_load(text))
+
+
+def shipped_rules_dir() -> Path:
+    """Return the folder of the rules shipped with rulecheck."""
+    return Path(str(resources.files("rulecheck").joinpath("rules")))
+
+
+@lru_cache(maxsize=1)
+def environment() -> Any:
+    """Return the sandbox shared by every rule, with the physics methods as callables."""
+    from rulecheck.physics import METHODS
+
+    return expr.environment({name: info.function for name, info in METHODS.items() if info.expose})
+
+
+def _template(env: Any, text: str, file: str, where: str, pos: Position | None) -> Any:
+    if not isinstance(text, str):
+        raise RuleError(file, f"{where} must be text", *(_lc(pos)))
+    if len(text) > MAX_TEMPLATE_LENGTH:
+        raise RuleError(file, f"{where} is longer than {MAX_TEMPLATE_LENGTH} characters", *(_lc(pos)))
+    if "{%" in text or "{#" in text or "__" in text:
+        raise RuleError(file, f"{where}: only {{{{ value }}}} substitutions are allowed in messages", *(_lc(pos)))
+    try:
+        return env.from_string(text)
+    except Exception as exc:
+        raise RuleError(file, f"{where}: cannot compile template: {exc}", *(_lc(pos))) from None
+
+
+def _lc(pos: Position | None) -> tuple[int | None, int | None]:
+    return (pos.line, pos.column) if pos else (None, None)
+
+
+def _compile(env: Any, text: Any, file: str, where: str, pos: Position | None) -> Callable[..., Any]:
+    try:
+        return expr.compile_expression(env, text)
+    except expr.ExpressionError as exc:
+        raise RuleError(file, f"{where}: {exc}", *(_lc(pos))) from None
+
+
+_IDENT = re.compile(r"^[a-z][a-z0-9_]*$")
+_RESERVED = {"supply", "drive", "motor", "transmission", "load", "environment", "cable", "protection", "duty",
+             "spec", "site", "train", *expr.BUILTINS, *expr.CONSTANTS}
+
+
+def load_rule_file(path: Path) -> Rule:
+    """Return the compiled rule in ``path``; raise :class:`RuleError` naming file and line."""
+    file = str(path)
+    try:
+        doc = load_file(path, display_name=file)
+    except LoadError as exc:
+        raise RuleError(file, exc.message, exc.line, exc.column) from None
+    if not isinstance(doc.data, dict):
+        raise RuleError(file, "a rule file is a mapping", 1, 1)
+    if path.stat().st_size > MAX_RULE_FILE_BYTES:
+        raise RuleError(file, f"rule file is larger than {MAX_RULE_FILE_BYTES} bytes", 1, 1)
+    errors = sorted(_rule_validator().iter_errors(doc.data), key=lambda e: list(map(str, e.absolute_path)))
+    if errors:
+        error = errors[0]
+        key = path_text(list(error.absolute_path))
+        pos = doc.position(key)
+        message = error.message
+        if error.validator == "additionalProperties":
+            message = f"unknown key in {key or 'the rule'}: {error.message.split('(')[-1].rstrip(')')}"
+        raise RuleError(file, f"{key or 'rule'}: {message}", *(_lc(pos)))
+    data = doc.data
+    if data["id"] != path.stem:
+        raise RuleError(file, f"id '{data['id']}' differs from the file name '{path.stem}'", *(_lc(doc.position("id"))))
+    env = environment()
+    params: dict[str, Param] = {}
+    for name, spec in (data.get("parameters") or {}).items():
+        where = f"parameters.{name}"
+        kind_name = spec.get("kind")
+        if kind_name is not None and kind_name not in units.KINDS:
+            raise RuleError(file, f"{where}: unknown kind '{kind_name}'", *(_lc(doc.position(where + ".kind"))))
+        if name in _RESERVED:
+            raise RuleError(file, f"{where}: '{name}' is a reserved name", *(_lc(doc.position(where))))
+        default = spec["default"]
+        param = Param(name, None, kind_name, spec["description"], spec.get("minimum"), spec.get("maximum"),
+                      str(default))
+        if not isinstance(default, bool):
+            try:
+                default = param.parse(default)
+            except ValueError as exc:
+                raise RuleError(file, f"{where}.default: {exc}", *(_lc(doc.position(where + ".default")))) from None
+        params[name] = Param(name, default, kind_name, spec["description"], spec.get("minimum"), spec.get("maximum"),
+                             str(spec["default"]))
+    values = []
+    for name, spec in (data.get("values") or {}).items():
+        where = f"values.{name}"
+        if name in _RESERVED or name in params:
+            raise RuleError(file, f"{where}: '{name}' is a reserved or parameter name", *(_lc(doc.position(where))))
+        text, kind_name = (spec, None) if isinstance(spec, str) else (spec["expr"], spec.get("kind"))
+        if kind_name is not None and kind_name not in units.KINDS:
+            raise RuleError(file, f"{where}: unknown kind '{kind_name}'", *(_lc(doc.position(where))))
+        values.append((name, _compile(env, text, file, where, doc.position(where)), text, kind_name))
+    checks = []
+    for i, spec in enumerate(data["checks"]):
+        where = f"checks[{i}]"
+        pos = doc.position(where + ".when")
+        message = _template(env, spec["message"], file, where + ".message",
+                            doc.position(where + ".message")) if "message" in spec else None
+        checks.append(Check(_compile(env, spec["when"], file, where + ".when", pos), spec["when"], spec["severity"],
+                            message, pos))
+    applies_text = data.get("applies_when", "")
+    applies = _compile(env, applies_text, file, "applies_when", doc.position("applies_when")) if applies_text else None
+    for name in (data.get("limit"),):
+        if name and name not in params and name not in dict((v[0], v) for v in values):
+            raise RuleError(file, f"limit '{name}' is neither a parameter nor a value", *(_lc(doc.position("limit"))))
+    return Rule(
+        id=data["id"],
+        file=file,
+        title=data["title"],
+        topic=data["topic"],
+        severity=data["severity"],
+        safety=bool(data.get("safety", False)),
+        description=data["description"],
+        basis=data["basis"],
+        aliases=list(data.get("aliases") or []),
+        params=params,
+        applies_when=applies,
+        applies_text=applies_text,
+        values=values,
+        checks=checks,
+        message=_template(env, data["message"], file, "message", doc.position("message")),
+        pass_message=_template(env, data["pass_message"], file, "pass_message", doc.position("pass_message"))
+        if "pass_message" in data else None,
+        fix=_template(env, data["fix"], file, "fix", doc.position("fix")),
+        formula=data.get("formula", ""),
+        location=data.get("location", ""),
+        limit=data.get("limit", ""),
+        examples=data["examples"],
+        raw=data,
+        doc=doc,
+    )
+
+
+def rule_files(folder: Path) -> list[Path]:
+    """Return the rule files of a folder in stable order (``*.yaml``, not recursive)."""
+    return sorted(p for p in folder.glob("*.yaml") if p.is_file() and not p.is_symlink())
+
+
+def load_rules(folders: list[Path], disabled: set[str] | None = None) -> tuple[RuleSet, list[RuleError]]:
+    """Return the rules of ``folders`` (errors collected, not raised) with ids unique across folders."""
+    rules: dict[str, Rule] = {}
+    aliases: dict[str, str] = {}
+    errors: list[RuleError] = []
+    digest = hashlib.sha256()
+    for folder in folders:
+        if not folder.is_dir():
+            errors.append(RuleError(str(folder), "rule folder does not exist"))
+            continue
+        for path in rule_files(folder):
+            try:
+                rule = load_rule_file(path)
+            except RuleError as exc:
+                errors.append(exc)
+                continue
+            digest.update(rule.id.encode() + b"\0" + (rule.doc.sha256.encode() if rule.doc else b""))
+            if rule.id in rules or rule.id in aliases:
+                errors.append(RuleError(str(path), f"rule id '{rule.id}' is already defined in {rules[rule.id].file}"
+                                        if rule.id in rules else f"rule id '{rule.id}' is an alias of another rule"))
+                continue
+            for alias in rule.aliases:
+                if alias in rules or alias in aliases:
+                    errors.append(RuleError(str(path), f"alias '{alias}' is already used"))
+                aliases[alias] = rule.id
+            rules[rule.id] = rule
+    for rule_id in list(disabled or ()):
+        rules.pop(rule_id, None)
+    return RuleSet(dict(sorted(rules.items())), aliases, "sha256:" + digest.hexdigest()), errors

@@ -1,0 +1,212 @@
+"""Evaluating compiled rules against one drive-train model: exactly one outcome per rule."""
+
+from __future__ import annotations
+
+import math
+from dataclasses import dataclass, field
+from typing import Any
+
+from rulecheck import units
+from rulecheck.engine import expr
+from rulecheck.engine.ruleset import Rule, RuleSet
+from rulecheck.model import Model
+
+__all__ = ["Outcome", "Shown", "evaluate_rule", "kind_of_result"]
+
+SEVERITY_ORDER = {"error": 3, "warning": 2, "info": 1}
+
+
+@dataclass
+class Outcome:
+    """The result of one rule on one spec."""
+
+    rule: str
+    outcome: str  # pass | fail | not-checked | not-applicable | waived
+    severity: str
+    message: str
+    path: str = ""
+    fix: str = ""
+    values: dict[str, tuple[float, str]] = field(default_factory=dict)  # name -> (SI value, kind)
+    limit: tuple[float, str] | None = None
+    missing: list[str] = field(default_factory=list)
+    waiver: dict[str, Any] | None = None
+    rule_error: bool = False
+    hint: str = ""
+
+
+class Shown:
+    """A computed value as a message template shows it: with its unit."""
+
+    __slots__ = ("value", "kind", "system")
+
+    def __init__(self, value: float, kind: str | None, system: str) -> None:
+        self.value = value
+        self.kind = kind
+        self.system = system
+
+    def __str__(self) -> str:
+        return units.format_value(self.value, self.kind, self.system)
+
+
+def _param_display(param: Any, value: float, system: str) -> Shown:
+    if param.kind in (None, "fraction"):
+        # a parameter written as a percentage is shown as one; a margin such as 1.1 as a plain number
+        return Shown(value, "fraction" if param.written.strip().endswith("%") else None, system)
+    return Shown(value, param.kind, system)
+
+
+# Dimensionality (as pint writes it) → kind, for values whose kind a rule does not declare.
+_DIMENSION_KINDS: dict[str, str] = {}
+
+
+def kind_of_result(value: Any, declared: str | None, name: str) -> str | None:
+    """Return the kind of a lint-time pint result (declared kind wins; torque over energy; speed by name)."""
+    if declared:
+        return declared
+    if isinstance(value, bool) or value is None:
+        return None
+    if isinstance(value, (int, float)):
+        return "fraction" if name.endswith(("efficiency", "factor", "share", "deviation", "slip")) else None
+    dims = getattr(value, "dimensionality", None)
+    if dims is None:
+        return None
+    if not _DIMENSION_KINDS:
+        ureg = units.registry()
+        for kind_name in reversed(list(units.KINDS)):
+            k = units.KINDS[kind_name]
+            if kind_name in ("temperature",):
+                continue
+            unit = "dimensionless" if k.si_unit == "1" else k.si_unit.replace("^", "**")
+            _DIMENSION_KINDS[str(ureg.Quantity(1.0, unit).dimensionality)] = kind_name
+        _DIMENSION_KINDS[str(ureg.Quantity(1.0, "N*m").dimensionality)] = "torque"
+        _DIMENSION_KINDS[str(ureg.Quantity(1.0, "dimensionless").dimensionality)] = "fraction"
+    text = str(dims)
+    found = _DIMENSION_KINDS.get(text)
+    if found in ("frequency", "rotational_speed"):
+        return "rotational_speed" if "speed" in name else "frequency"
+    if found == "torque" and "energy" in name:
+        return "energy"
+    if found == "fraction" and not name.endswith(("efficiency", "factor", "share", "deviation", "slip", "drop",
+                                                  "unbalance", "utilisation", "cdf", "tolerance")):
+        return None
+    return found
+
+
+def _severity(rule: Rule, level: str, overrides: dict[str, str]) -> str:
+    override = overrides.get(rule.id)
+    if not override:
+        return level
+    # a configured severity caps (or raises) every level of the rule to that level
+    return override
+
+
+def _render(template: Any, namespace: dict[str, Any]) -> str:
+    if template is None:
+        return ""
+    try:
+        return template.render(**namespace).strip()
+    except expr.MissingInput as exc:
+        return f"(message needs {', '.join(exc.paths)})"
+    except Exception as exc:  # a template is untrusted text; its failure must not stop the run
+        return f"(message could not be shown: {type(exc).__name__})"
+
+
+def evaluate_rule(rule: Rule, model: Model, namespace: dict[str, Any], params: dict[str, Any],
+                  value_kinds: dict[str, str | None], system: str = "si",
+                  severity_overrides: dict[str, str] | None = None) -> Outcome:
+    """Return the one outcome of ``rule`` on ``model``; rule errors become outcomes, never exceptions."""
+    severity_overrides = severity_overrides or {}
+    ns = dict(namespace)
+    ns.update(params)
+    unsure = "warning" if rule.safety else "info"
+    if rule.applies_when is not None:
+        try:
+            applies = expr.evaluate(rule.applies_when, ns)
+        except expr.MissingInput as exc:
+            return Outcome(rule.id, "not-checked", unsure,
+                           f"cannot tell whether the rule applies: needs {', '.join(exc.paths)}",
+                           rule.location, missing=list(exc.paths))
+        except expr.ExpressionError as exc:
+            return _rule_error(rule, "applies_when", rule.applies_text, exc)
+        if not applies:
+            return Outcome(rule.id, "not-applicable", "info", "", rule.location)
+    computed: dict[str, Any] = {}
+    missing: list[str] = []
+    for name, compiled, text, _kind in rule.values:
+        try:
+            value = expr.evaluate(compiled, ns)
+        except expr.MissingInput as exc:
+            for p in exc.paths:
+                if p not in missing:
+                    missing.append(p)
+            ns[name] = expr.Missing(paths=exc.paths)
+            continue
+        except expr.ExpressionError as exc:
+            return _rule_error(rule, f"values.{name}", text, exc)
+        if isinstance(value, float) and not math.isfinite(value):
+            return _rule_error(rule, f"values.{name}", text, expr.ExpressionError("result is not a finite number"))
+        computed[name] = value
+        ns[name] = value
+    shown_values = {n: (v, value_kinds.get(n)) for n, v in computed.items()
+                    if isinstance(v, (int, float)) and not isinstance(v, bool)}
+    display = dict(ns)
+    for n, (v, k) in shown_values.items():
+        display[n] = Shown(v, k, system)
+    for n, p in rule.params.items():
+        value = params.get(n)
+        if isinstance(value, (int, float)) and not isinstance(value, bool):
+            display[n] = _param_display(p, value, system)
+    limit = None
+    if rule.limit:
+        if rule.limit in rule.params and isinstance(params.get(rule.limit), (int, float)):
+            shown = _param_display(rule.params[rule.limit], params[rule.limit], system)
+            limit = (params[rule.limit], shown.kind or "1")
+        elif rule.limit in shown_values:
+            limit = shown_values[rule.limit]
+    for i, check in enumerate(rule.checks):
+        try:
+            failed = expr.evaluate(check.when, ns)
+        except expr.MissingInput as exc:
+            for p in exc.paths:
+                if p not in missing:
+                    missing.append(p)
+            return Outcome(rule.id, "not-checked", unsure, _not_checked_message(rule, missing), rule.location,
+                           values=shown_values, missing=missing, limit=limit)
+        except expr.ExpressionError as exc:
+            return _rule_error(rule, f"checks[{i}].when", check.when_text, exc)
+        if failed:
+            message = _render(check.message or rule.message, display)
+            return Outcome(rule.id, "fail", _severity(rule, check.severity, severity_overrides), message,
+                           rule.location, fix=_render(rule.fix, display), values=shown_values, limit=limit)
+    if missing:
+        return Outcome(rule.id, "not-checked", unsure, _not_checked_message(rule, missing), rule.location,
+                       values=shown_values, missing=missing, limit=limit)
+    return Outcome(rule.id, "pass", "info", _render(rule.pass_message, display), rule.location, values=shown_values,
+                   limit=limit)
+
+
+def _not_checked_message(rule: Rule, missing: list[str]) -> str:
+    lead = "safety-relevant check could not be evaluated" if rule.safety else "could not be evaluated"
+    return f"{lead}: give {', '.join(missing)}"
+
+
+def _rule_error(rule: Rule, where: str, text: str, exc: Exception) -> Outcome:
+    pos = rule.doc.position(where) if rule.doc else None
+    loc = f"{rule.file}:{pos.line}:{pos.column}" if pos else rule.file
+    return Outcome(rule.id, "not-checked", "error", f"rule error in {loc} ({where}: {text!r}): {exc}", "",
+                   rule_error=True)
+
+
+def effective_params(rule: Rule, project: dict[str, Any], spec_margins: dict[str, Any]) -> dict[str, Any]:
+    """Return the rule's parameters: defaults, then project configuration, then the spec's margins (SI)."""
+    out = {n: p.default for n, p in rule.params.items()}
+    for source in (project.get("*", {}), project.get(rule.id, {}), spec_margins):
+        for name, value in source.items():
+            if name in rule.params:
+                out[name] = value
+    return out
+
+
+def ruleset_value_kinds(ruleset: RuleSet) -> dict[str, dict[str, str | None]]:
+    """Return, per rule, the declared kinds of its named values (lint fills in the rest)."""
+    return {r.id: {name: kind for name, _c, _t, kind in r.values} for r in ruleset.rules.values()}

@@ -1,0 +1,252 @@
+"""Safe YAML loading with a locator: every key path → file, line, column.
+
+We compose the YAML into nodes (PyYAML's C composer when available) and build
+plain Python values ourselves, so that
+
+* no tag can construct a Python object (only the standard scalar, sequence
+  and mapping tags are accepted; ``!!python/...`` and custom tags are errors);
+* a key given twice is an error at the second key, not "last one wins";
+* aliases are counted as they are expanded, so an alias bomb stops early;
+* each value keeps the text it was written with, so a later stage can say
+  "``no`` was read as false by YAML 1.1; quote it";
+* dates stay the strings they were written as (the schema checks their form).
+
+Limits (size, depth, nodes) are arguments with sane defaults.
+"""
+
+from __future__ import annotations
+
+import hashlib
+import os
+from dataclasses import dataclass, field
+from typing import Any
+
+import yaml
+
+try:  # the C composer is several times faster; both give the same nodes
+    from yaml import CSafeLoader as _Loader
+except ImportError:  # pragma: no cover - depends on how PyYAML was built
+    from yaml import SafeLoader as _Loader  # type: ignore[assignment]
+
+__all__ = ["Document", "LoadError", "Limits", "Position", "load_file", "load_text", "path_text"]
+
+
+@dataclass(frozen=True)
+class Limits:
+    """Bounds on one spec file; each stops a hostile or broken file early."""
+
+    max_bytes: int = 1_048_576  # 1 MiB: a drive spec is a few kB
+    max_depth: int = 32
+    max_nodes: int = 100_000  # counts alias expansions too
+
+
+@dataclass(frozen=True)
+class Position:
+    """A 1-based line and column in a file."""
+
+    line: int
+    column: int
+
+
+class LoadError(Exception):
+    """A file that cannot be read as a spec document; carries a position when known."""
+
+    def __init__(self, message: str, line: int | None = None, column: int | None = None, rule: str = "yaml-syntax",
+                 hint: str = "") -> None:
+        super().__init__(message)
+        self.message = message
+        self.line = line
+        self.column = column
+        self.rule = rule
+        self.hint = hint
+
+
+@dataclass
+class Document:
+    """A loaded spec: its data, where each key path sits, and the raw text of scalars."""
+
+    file: str
+    data: Any
+    sha256: str
+    positions: dict[str, Position] = field(default_factory=dict)  # key path → position of the value
+    key_positions: dict[str, Position] = field(default_factory=dict)  # key path → position of the key
+    raw: dict[str, tuple[str, str]] = field(default_factory=dict)  # key path → (plain scalar text, resolved tag)
+
+    def position(self, path: str) -> Position | None:
+        """Return the position of ``path``, or of its nearest parent that has one."""
+        while True:
+            if path in self.positions:
+                return self.positions[path]
+            if not path:
+                return None
+            cut = max(path.rfind("."), path.rfind("["))
+            path = path[:cut] if cut > 0 else ""
+
+
+def path_text(parts: tuple[Any, ...] | list[Any]) -> str:
+    """Return the dotted key path for a sequence of keys and indices: ``load.duty[2].duration``."""
+    out = ""
+    for part in parts:
+        if isinstance(part, int):
+            out += f"[{part}]"
+        else:
+            out += ("." if out else "") + str(part)
+    return out
+
+
+_SCALAR_TAGS = {
+    "tag:yaml.org,2002:str",
+    "tag:yaml.org,2002:int",
+    "tag:yaml.org,2002:float",
+    "tag:yaml.org,2002:bool",
+    "tag:yaml.org,2002:null",
+    "tag:yaml.org,2002:timestamp",
+}
+_MAP_TAG = "tag:yaml.org,2002:map"
+_SEQ_TAG = "tag:yaml.org,2002:seq"
+
+
+class _Builder:
+    def __init__(self, doc: Document, limits: Limits) -> None:
+        self.doc = doc
+        self.limits = limits
+        self.nodes = 0
+        self.constructor = yaml.constructor.SafeConstructor()
+
+    @staticmethod
+    def _pos(node: yaml.Node) -> Position:
+        return Position(node.start_mark.line + 1, node.start_mark.column + 1)
+
+    def build(self, node: yaml.Node, parts: tuple[Any, ...], depth: int) -> Any:
+        self.nodes += 1
+        if self.nodes > self.limits.max_nodes:
+            raise LoadError(
+                f"document expands to more than {self.limits.max_nodes} values (alias expansion?)",
+                *self._lc(node),
+                hint="remove repeated aliases; a drive spec needs no more than a few hundred values",
+            )
+        if depth > self.limits.max_depth:
+            raise LoadError(f"nesting is deeper than {self.limits.max_depth} levels", *self._lc(node))
+        path = path_text(parts)
+        self.doc.positions.setdefault(path, self._pos(node))
+        if isinstance(node, yaml.MappingNode):
+            if node.tag != _MAP_TAG:
+                raise self._tag_error(node)
+            result: dict[str, Any] = {}
+            for key_node, value_node in node.value:
+                if key_node.tag == "tag:yaml.org,2002:merge":
+                    raise LoadError("merge keys ('<<') are not accepted in a spec", *self._lc(key_node),
+                                    hint="write the values out")
+                if not isinstance(key_node, yaml.ScalarNode) or key_node.tag not in _SCALAR_TAGS:
+                    raise LoadError("a key must be a plain word", *self._lc(key_node))
+                key = key_node.value
+                if key in result:
+                    first = self.doc.key_positions.get(path_text((*parts, key)))
+                    where = f" (first given at line {first.line})" if first else ""
+                    raise LoadError(
+                        f"duplicate key '{key}'{where}",
+                        *self._lc(key_node),
+                        hint="a key may appear once in a mapping; remove one of them",
+                    )
+                child = (*parts, key)
+                self.doc.key_positions[path_text(child)] = self._pos(key_node)
+                result[key] = self.build(value_node, child, depth + 1)
+            return result
+        if isinstance(node, yaml.SequenceNode):
+            if node.tag != _SEQ_TAG:
+                raise self._tag_error(node)
+            return [self.build(item, (*parts, i), depth + 1) for i, item in enumerate(node.value)]
+        if node.tag not in _SCALAR_TAGS:
+            raise self._tag_error(node)
+        self.doc.raw[path] = (node.value, node.tag)
+        if node.tag == "tag:yaml.org,2002:timestamp":
+            return node.value  # dates stay text; the schema checks their form
+        try:
+            value = self.constructor.construct_object(node, deep=True)
+        except (ValueError, OverflowError, yaml.YAMLError) as exc:
+            raise LoadError(f"cannot read value {node.value!r}: {exc}", *self._lc(node)) from None
+        return value
+
+    def _lc(self, node: yaml.Node) -> tuple[int, int]:
+        return node.start_mark.line + 1, node.start_mark.column + 1
+
+    def _tag_error(self, node: yaml.Node) -> LoadError:
+        return LoadError(
+            f"tag '{node.tag}' is not allowed in a spec",
+            *self._lc(node),
+            hint="specs hold plain mappings, lists, strings and numbers; remove the tag",
+        )
+
+
+def _decode(data: bytes) -> str:
+    if data.startswith((b"\xff\xfe", b"\xfe\xff")) or (len(data) > 1 and (data[0] == 0) != (data[1] == 0)):
+        raise LoadError("the file is UTF-16 encoded", 1, 1, hint="save the file as UTF-8")
+    if b"\x00" in data:
+        off = data.index(b"\x00")
+        line = data.count(b"\n", 0, off) + 1
+        raise LoadError("the file contains NUL bytes: it looks binary, not a YAML spec", line, 1)
+    if data.startswith(b"\xef\xbb\xbf"):
+        data = data[3:]
+    try:
+        return data.decode("utf-8")
+    except UnicodeDecodeError as exc:
+        line = data.count(b"\n", 0, exc.start) + 1
+        column = exc.start - (data.rfind(b"\n", 0, exc.start) + 1) + 1
+        raise LoadError(f"the file is not valid UTF-8 (byte 0x{data[exc.start]:02x})", line, column,
+                        hint="save the file as UTF-8") from None
+
+
+def load_text(text: str | bytes, file: str = "<string>", limits: Limits | None = None) -> Document:
+    """Return the :class:`Document` for spec text; raise :class:`LoadError` with a position."""
+    limits = limits or Limits()
+    data = text.encode("utf-8") if isinstance(text, str) else text
+    if len(data) > limits.max_bytes:
+        raise LoadError(f"the file is {len(data)} bytes, more than the limit of {limits.max_bytes}", 1, 1,
+                        hint="a drive spec is a few kilobytes; raise limits.max_bytes in the configuration if needed")
+    decoded = _decode(data)
+    doc = Document(file=file, data=None, sha256=hashlib.sha256(data).hexdigest())
+    if not decoded.strip() or all(
+        not line.strip() or line.lstrip().startswith("#") for line in decoded.splitlines()
+    ):
+        raise LoadError("the file is empty", 1, 1, hint="a spec starts with 'format: 1' and 'tag: ...'")
+    try:
+        loader = _Loader(decoded)
+        try:
+            root = loader.get_single_node()
+        finally:
+            loader.dispose()
+    except yaml.MarkedYAMLError as exc:
+        mark = exc.problem_mark or exc.context_mark
+        problem = exc.problem or exc.context or "invalid YAML"
+        hint = ""
+        if "\t" in decoded and ("tab" in problem or "found character" in problem):
+            hint = "YAML does not allow tabs for indentation; indent with spaces"
+        line, column = (mark.line + 1, mark.column + 1) if mark else (None, None)
+        raise LoadError(f"invalid YAML: {problem}", line, column, hint=hint) from None
+    except yaml.YAMLError as exc:
+        raise LoadError(f"invalid YAML: {exc}") from None
+    except RecursionError:
+        raise LoadError(f"nesting is deeper than {limits.max_depth} levels") from None
+    if root is None:
+        raise LoadError("the file is empty", 1, 1, hint="a spec starts with 'format: 1' and 'tag: ...'")
+    if not isinstance(root, yaml.MappingNode):
+        kind = "a list" if isinstance(root, yaml.SequenceNode) else "a single value"
+        raise LoadError(f"the top level is {kind}, not a mapping of sections", root.start_mark.line + 1,
+                        root.start_mark.column + 1, hint="a spec is a mapping: 'format: 1', 'tag: ...', 'motor: ...'")
+    try:
+        doc.data = _Builder(doc, limits).build(root, (), 0)
+    except RecursionError:
+        raise LoadError(f"nesting is deeper than {limits.max_depth} levels") from None
+    return doc
+
+
+def load_file(path: str | os.PathLike[str], limits: Limits | None = None, display_name: str | None = None) -> Document:
+    """Return the :class:`Document` for a spec file; raise :class:`LoadError` (rule ``unreadable`` for OS errors)."""
+    limits = limits or Limits()
+    name = display_name or os.fspath(path)
+    try:
+        with open(path, "rb") as handle:
+            data = handle.read(limits.max_bytes + 1)
+    except OSError as exc:
+        raise LoadError(f"cannot read the file: {exc.strerror or exc}", rule="unreadable") from None
+    return load_text(data, name, limits)

@@ -1,0 +1,288 @@
+"""The spec schema: structure validation with positions, and quantity parsing.
+
+The JSON Schema in ``schemas/spec.schema.yaml`` is the one source of truth.
+jsonschema checks the structure; :func:`read_quantities` then walks the same
+schema beside the document and parses every field that declares
+``x-dimension`` into an SI float, so units are read once, where data enters.
+"""
+
+from __future__ import annotations
+
+import difflib
+import json
+from dataclasses import dataclass, field
+from functools import lru_cache
+from importlib import resources
+from typing import Any
+
+import yaml
+
+from rulecheck import units
+from rulecheck.load import Document, path_text
+
+__all__ = ["Problem", "Quantities", "check_structure", "read_quantities", "spec_schema", "walk_fields"]
+
+
+@dataclass(frozen=True)
+class Problem:
+    """One thing wrong with a spec's structure or units, at a key path."""
+
+    rule: str  # spec-schema | units-and-dimensions
+    path: str
+    message: str
+    hint: str = ""
+    severity: str = "error"
+    at_key: bool = False  # position of the key rather than of its value
+
+
+@dataclass
+class Quantities:
+    """Every quantity of a spec in SI floats, by key path, with its kind and how it was written."""
+
+    values: dict[str, float] = field(default_factory=dict)
+    kinds: dict[str, str] = field(default_factory=dict)
+    written: dict[str, str] = field(default_factory=dict)
+
+
+@lru_cache(maxsize=1)
+def spec_schema() -> dict[str, Any]:
+    """Return the spec-format JSON Schema (Draft 2020-12) as a dict."""
+    text = resources.files("rulecheck").joinpath("schemas/spec.schema.yaml").read_text(encoding="utf-8")
+    return yaml.safe_load(text)
+
+
+def schema_json() -> str:
+    """Return the spec-format schema as JSON text, for editors."""
+    return json.dumps(spec_schema(), indent=2, ensure_ascii=False) + "\n"
+
+
+@lru_cache(maxsize=1)
+def _validator() -> Any:
+    from jsonschema import Draft202012Validator
+
+    schema = spec_schema()
+    Draft202012Validator.check_schema(schema)
+    return Draft202012Validator(schema)
+
+
+def _resolve(node: dict[str, Any]) -> dict[str, Any]:
+    """Follow local ``$ref``s, merging sibling keywords (description) over the target."""
+    seen = 0
+    while "$ref" in node and seen < 10:
+        ref = node["$ref"]
+        target: Any = spec_schema()
+        for part in ref.lstrip("#/").split("/"):
+            target = target[part]
+        node = {**target, **{k: v for k, v in node.items() if k != "$ref"}}
+        seen += 1
+    return node
+
+
+def _subschema(parts: list[Any]) -> dict[str, Any] | None:
+    node = _resolve(spec_schema())
+    for part in parts:
+        if isinstance(part, int):
+            node = _resolve(node.get("items", {}))
+        else:
+            props = node.get("properties", {})
+            if part not in props:
+                return None
+            node = _resolve(props[part])
+    return node
+
+
+_TYPE_WORDS = {
+    "string": "a quoted text or quantity",
+    "number": "a number",
+    "integer": "a whole number",
+    "boolean": "true or false",
+    "object": "a mapping of keys",
+    "array": "a list",
+}
+
+
+def _describe_type(expected: Any) -> str:
+    if isinstance(expected, list):
+        return " or ".join(_TYPE_WORDS.get(t, t) for t in expected)
+    return _TYPE_WORDS.get(expected, str(expected))
+
+
+def _yaml11_hint(doc: Document, path: str, value: Any) -> str:
+    raw = doc.raw.get(path)
+    if raw is None:
+        return ""
+    text, tag = raw
+    if tag.endswith(":bool") and isinstance(value, bool):
+        return f"YAML read the unquoted word '{text}' as {str(value).lower()}; put it in quotes"
+    if tag.endswith(":int") and ":" in text:
+        return f"YAML read '{text}' as the base-60 number {value}; put it in quotes"
+    if tag.endswith(":int") and text.startswith("0") and len(text) > 1 and text.isdigit():
+        return f"YAML read '{text}' as the octal number {value}; put it in quotes"
+    if tag.endswith((":int", ":float")):
+        return "YAML read a bare number; quantities need their unit in quotes"
+    if tag.endswith(":null"):
+        return f"YAML read '{text or '(nothing)'}' as an empty value"
+    return ""
+
+
+def check_structure(doc: Document) -> list[Problem]:
+    """Return structure problems of ``doc`` against the spec schema, in plain words."""
+    from jsonschema.exceptions import best_match
+
+    problems: list[Problem] = []
+    errors = list(_validator().iter_errors(doc.data))
+    # group by instance path and report the best-matching error of each group
+    by_path: dict[tuple[Any, ...], list[Any]] = {}
+    for error in errors:
+        by_path.setdefault(tuple(error.absolute_path), []).append(error)
+    for parts, group in by_path.items():
+        additional = [e for e in group if e.validator == "additionalProperties"]
+        for error in additional:
+            problems.extend(_unknown_keys(doc, list(parts), error))
+        rest = [e for e in group if e.validator != "additionalProperties"]
+        if rest:
+            problems.append(_plain(doc, list(parts), best_match(rest)))
+    return problems
+
+
+def _unknown_keys(doc: Document, parts: list[Any], error: Any) -> list[Problem]:
+    instance = error.instance if isinstance(error.instance, dict) else {}
+    sub = _subschema(parts) or {}
+    known = list(sub.get("properties", {}))
+    out = []
+    for key in instance:
+        if key in known or (isinstance(key, str) and key.startswith("x-")):
+            continue
+        close = difflib.get_close_matches(str(key), known, n=1, cutoff=0.6)
+        where = path_text(parts) or "the top level"
+        hint = f"did you mean '{close[0]}'?" if close else f"known keys here: {', '.join(known)}"
+        hint += " (keys starting with 'x-' are free for your own notes)"
+        out.append(Problem("spec-schema", path_text([*parts, key]), f"unknown key '{key}' in {where}", hint, at_key=True))
+    return out
+
+
+def _plain(doc: Document, parts: list[Any], error: Any) -> Problem:
+    path = path_text(parts)
+    where = path or "the top level"
+    value = error.instance
+    validator = error.validator
+    if validator == "required":
+        missing = error.message.split("'")[1] if "'" in error.message else error.message
+        sub = _subschema([*parts, missing]) or {}
+        desc = sub.get("description", "")
+        return Problem("spec-schema", path, f"{where} needs '{missing}'", desc)
+    if validator == "type":
+        hint = _yaml11_hint(doc, path, value)
+        sub = _subschema(parts) or {}
+        if sub.get("x-dimension"):
+            kind = units.KINDS[sub["x-dimension"]]
+            rule = "units-and-dimensions"
+            message = f"{where}: expected a quantity ({kind.description}), got {_show(value)}"
+            return Problem(rule, path, message, hint or f"write it with its unit in quotes, e.g. '{kind.example}'")
+        return Problem("spec-schema", path, f"{where}: expected {_describe_type(error.validator_value)}, got {_show(value)}",
+                       hint)
+    if validator in ("enum", "const"):
+        options = error.validator_value if validator == "enum" else [error.validator_value]
+        close = difflib.get_close_matches(str(value), [str(o) for o in options], n=1, cutoff=0.5)
+        hint = f"did you mean '{close[0]}'? " if close else ""
+        hint += "expected one of: " + ", ".join(str(o) for o in options)
+        yaml_hint = _yaml11_hint(doc, path, value)
+        if yaml_hint and isinstance(value, bool):
+            hint = yaml_hint + "; " + hint
+        return Problem("spec-schema", path, f"{where}: {_show(value)} is not a known value", hint)
+    if validator == "pattern":
+        return Problem("spec-schema", path, f"{where}: {_show(value)} does not have the expected form",
+                       (_subschema(parts) or {}).get("description", ""))
+    if validator in ("minimum", "maximum", "exclusiveMinimum", "exclusiveMaximum"):
+        words = {"minimum": "at least", "maximum": "at most", "exclusiveMinimum": "more than",
+                 "exclusiveMaximum": "less than"}[validator]
+        return Problem("spec-schema", path, f"{where}: {_show(value)} must be {words} {error.validator_value}",
+                       (_subschema(parts) or {}).get("description", ""))
+    if validator in ("minItems", "maxItems", "minLength", "maxLength"):
+        return Problem("spec-schema", path, f"{where}: {error.message}")
+    return Problem("spec-schema", path, f"{where}: {error.message}")
+
+
+def _show(value: Any) -> str:
+    if isinstance(value, bool):
+        return str(value).lower()
+    if value is None:
+        return "an empty value"
+    if isinstance(value, (dict, list)):
+        return "a mapping" if isinstance(value, dict) else "a list"
+    text = repr(value) if isinstance(value, str) else str(value)
+    return text if len(text) <= 60 else text[:57] + "..."
+
+
+def walk_fields(data: Any, node: dict[str, Any] | None = None, parts: tuple[Any, ...] = ()) -> Any:
+    """Yield (path parts, value, resolved subschema) for every value of ``data`` that the schema describes."""
+    node = _resolve(node if node is not None else spec_schema())
+    yield parts, data, node
+    if isinstance(data, dict):
+        props = node.get("properties", {})
+        for key, value in data.items():
+            if key in props:
+                yield from walk_fields(value, props[key], (*parts, key))
+    elif isinstance(data, list) and "items" in node:
+        for i, item in enumerate(data):
+            yield from walk_fields(item, node["items"], (*parts, i))
+
+
+# Kinds whose values are magnitudes of physical things and so must be above zero.
+_POSITIVE_KINDS = {
+    "power", "voltage", "current", "resistance", "inductance", "capacitance", "inertia", "mass", "length", "area",
+    "frequency", "time", "back_emf_constant", "torque_constant", "density", "resistance_per_length",
+}
+# Fractions that cannot exceed one (an efficiency of 92 is a percentage written without '%').
+_AT_MOST_ONE = {
+    "efficiency", "power_factor", "reverse_efficiency", "screw_efficiency", "derating", "motor_derating",
+    "duty_cdf", "voltage_tolerance", "frequency_tolerance", "voltage_drop_limit",
+}
+
+
+def _range_problem(path: str, parts: tuple[Any, ...], si: float, kind_name: str, value: Any) -> Problem | None:
+    name = str(parts[-1]) if parts else ""
+    if kind_name in _POSITIVE_KINDS and si <= 0 and name not in ("altitude",):
+        return Problem("spec-schema", path, f"{path}: {value!r} must be greater than zero",
+                       "give the physical value; leave the key out if it is not known")
+    if kind_name == "rotational_speed" and si < 0 and name != "speed_to":
+        return Problem("spec-schema", path, f"{path}: {value!r} must not be negative")
+    if kind_name == "fraction":
+        if name in _AT_MOST_ONE and si > 1.0:
+            shown = f"{value}" if isinstance(value, str) else f"{value} (a plain number is a fraction of one)"
+            return Problem("spec-schema", path, f"{path}: {shown} is above 100 %",
+                           f"write '{value} %' or the fraction {value / 100:g}"
+                           if not isinstance(value, str) else "an efficiency or factor cannot exceed 100 %")
+        if si < 0:
+            return Problem("spec-schema", path, f"{path}: {value!r} must not be negative")
+        if name in ("efficiency", "power_factor") and si == 0:
+            return Problem("spec-schema", path, f"{path}: {value!r} must be greater than zero")
+    return None
+
+
+def read_quantities(doc: Document) -> tuple[Quantities, list[Problem]]:
+    """Return every ``x-dimension`` field of ``doc`` parsed to SI, and the unit problems found."""
+    q = Quantities()
+    problems: list[Problem] = []
+    for parts, value, node in walk_fields(doc.data):
+        kind_name = node.get("x-dimension")
+        if not kind_name or isinstance(value, (dict, list)):
+            continue
+        path = path_text(parts)
+        if value is None or isinstance(value, bool) or (kind_name != "fraction" and not isinstance(value, str)):
+            continue  # the structure check reports the wrong type, with the YAML 1.1 hint
+        try:
+            si = units.parse_quantity(value, kind_name)
+        except units.QuantityError as exc:
+            problems.append(Problem("units-and-dimensions", path, f"{path}: {exc.message}", exc.hint))
+            continue
+        problem = _range_problem(path, parts, si, kind_name, value)
+        if problem:
+            problems.append(problem)
+            continue
+        q.values[path] = si
+        q.kinds[path] = kind_name
+        q.written[path] = str(value)
+        for note in units.ambiguity_notes(value, kind_name):
+            problems.append(Problem("units-and-dimensions", path, f"{path}: {note}", severity="warning"))
+    return q, problems
