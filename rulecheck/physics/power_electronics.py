@@ -258,3 +258,21 @@ def motor_peak_voltage(
     Rulebook R39 (voltage doubling at an open line end; the linear build-up is common practice).
     """
     return dc_voltage * (1.0 + reflection_coefficient * np.minimum(1.0, cable_length / critical_length))
+
+
+@method(returns="voltage", rated_voltage="voltage")
+def inverter_duty_insulation_peak_limit(rated_voltage: float) -> float:
+    """Return the peak terminal voltage [V] an inverter-duty (NEMA MG 1 Part 31) motor withstands.
+
+    Parameters
+    ----------
+    rated_voltage : motor rated line-to-line voltage V_N, ≤ 600 V class [V]
+
+    Method: V_pk ≤ 3.1·V_N (= 1.1·2·√2·V_N), at rise times of 0.1 µs or more. A general-purpose motor
+    (Part 30) is good for 1000 V peak at rise times of 2 µs or more.
+
+    References
+    ----------
+    NEMA MG 1 Part 31 (inverter-fed definite-purpose motors); rulebook R39 and K30.
+    """
+    return 3.1 * rated_voltage

@@ -65,3 +65,11 @@ def test_k40_reflected_wave():
     assert pe.motor_peak_voltage(650.0, 3.75, 7.5) == pytest.approx(975.0)
     peaks = pe.motor_peak_voltage(650.0, np.array([0.0, 7.5, 100.0]), 7.5, 0.8)
     assert list(peaks) == pytest.approx([650.0, 1170.0, 1170.0])
+
+
+def test_k30_part31_insulation_limit():
+    # K30: NEMA MG 1 Part 31: 3.1 × 460 = 1426 V; 3.1 × 575 = 1782.5 V
+    assert pe.inverter_duty_insulation_peak_limit(460) == pytest.approx(1426.0)
+    assert pe.inverter_duty_insulation_peak_limit(575) == pytest.approx(1782.5)
+    # a 460 V bus (√2·480 V line maximum = 679 V) doubled at a long cable stays under 1426 V
+    assert pe.motor_peak_voltage(pe.dc_bus_voltage_no_load(480), 50.0, 7.5) < 1426.0
