@@ -14,7 +14,7 @@ from rulecheck.engine.ruleset import RuleSet
 from rulecheck.load import Document, LoadError, Limits, load_file
 from rulecheck.schema import check_structure, read_quantities
 
-__all__ = ["BUILTIN_RULES", "CheckContext", "check_file", "outcome_dict"]
+__all__ = ["BUILTIN_RULES", "CheckContext", "check_document", "check_file", "outcome_dict"]
 
 # Checks done by the loader and schema rather than by rule files; listed with the rules.
 BUILTIN_RULES: dict[str, dict[str, Any]] = {
@@ -124,8 +124,6 @@ def _empty_result(file: str, status: str) -> dict[str, Any]:
 
 def check_file(path: Path, ctx: CheckContext) -> dict[str, Any]:
     """Return the result dict of one spec file (never raises for a bad spec)."""
-    from rulecheck.derive import build_model
-
     file = _display_path(path, ctx.base_dir)
     try:
         doc = load_file(path, ctx.limits, display_name=file)
@@ -137,7 +135,15 @@ def check_file(path: Path, ctx: CheckContext) -> dict[str, Any]:
             "location": {"path": "", "line": exc.line, "column": exc.column},
         })
         return _finish(result)
-    result = _empty_result(file, "checked")
+    return check_document(doc, ctx, path.parent)
+
+
+def check_document(doc: Document, ctx: CheckContext, base_dir: Path | None = None) -> dict[str, Any]:
+    """Return the result dict of a loaded spec document."""
+    from rulecheck.charts_data import chart_data
+    from rulecheck.derive import build_model
+
+    result = _empty_result(doc.file, "checked")
     result["sha256"] = doc.sha256
     data = doc.data
     result["tag"] = data.get("tag") if isinstance(data.get("tag"), str) else None
@@ -155,7 +161,7 @@ def check_file(path: Path, ctx: CheckContext) -> dict[str, Any]:
         result["outcomes"].append(entry)
     if any(p.severity == "error" for p in problems):
         result["status"] = "invalid"
-    model = build_model(doc, quantities, base_dir=path.parent)
+    model = build_model(doc, quantities, base_dir=base_dir)
     for note in model.notes:
         result.setdefault("notes", []).append(note)
     margins = data.get("margins") if isinstance(data.get("margins"), dict) else {}
@@ -180,8 +186,6 @@ def check_file(path: Path, ctx: CheckContext) -> dict[str, Any]:
         for p, v, k, d in model.derived_items()
         if isinstance(v, (int, float)) and not isinstance(v, bool)
     }
-    from rulecheck.charts_data import chart_data
-
     result["charts"] = chart_data(model)
     return _finish(result)
 

@@ -129,6 +129,27 @@ DERIVED: dict[str, tuple[str | None, str]] = {
 }
 
 
+# Further derive steps live in topic modules; each exports DERIVED (same form) and derive(model, data, base).
+EXTENSIONS = ("rulecheck.derive_machines", "rulecheck.derive_installation")
+
+
+def _extensions() -> list[Any]:
+    import importlib
+
+    modules = []
+    for name in EXTENSIONS:
+        try:
+            modules.append(importlib.import_module(name))
+        except ModuleNotFoundError as exc:
+            if exc.name != name:
+                raise
+    return modules
+
+
+for _module in _extensions():
+    DERIVED.update(_module.DERIVED)
+
+
 def _given(model: Model, doc: Document, q: Quantities) -> None:
     for parts, value, node in walk_fields(doc.data):
         path = path_text(parts)
@@ -155,11 +176,14 @@ def build_model(doc: Document, q: Quantities, base_dir: Path | None = None) -> M
     model = Model()
     _given(model, doc, q)
     data = doc.data if isinstance(doc.data, dict) else {}
-    for step in (_supply, _drive, _motor, _transmission, _load, _train, _duty, _site, _cable_protection):
+    steps = [_supply, _drive, _motor, _transmission, _load, _train, _duty, _site, _cable_protection]
+    steps += [module.derive for module in _extensions()]
+    for step in steps:
         try:
             step(model, data, base_dir)
         except (ValueError, ZeroDivisionError, OverflowError, FloatingPointError) as exc:
-            model.notes.append(f"{step.__name__.strip('_')}: could not derive every value ({exc})")
+            name = getattr(step, "__module__", "") + "." + step.__name__.strip("_")
+            model.notes.append(f"{name}: could not derive every value ({exc})")
     return model
 
 

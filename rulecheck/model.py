@@ -81,10 +81,15 @@ class Model:
             for v in [self.values[p]]
         )
 
-    def namespace(self) -> dict[str, Section]:
-        """Return the model as nested read-only sections for rule expressions."""
+    def namespace(self, wrap: Any = None) -> dict[str, Section]:
+        """Return the model as nested read-only sections for rule expressions.
+
+        ``wrap(value, kind)``, when given, turns each value into what a message template shows.
+        """
         tree: dict[str, Any] = {}
         for path, value in self.values.items():
+            if wrap is not None:
+                value = wrap(value, self.kinds.get(path))
             parts = path.split(".")
             node = tree
             for part in parts[:-1]:

@@ -250,7 +250,11 @@ def _wrap(fn: Callable[..., Any]) -> Callable[..., Any]:
         for a in (*args, *kwargs.values()):
             if isinstance(a, Missing):
                 a._fail_with_undefined_error()
-        return fn(*args, **kwargs)
+        result = fn(*args, **kwargs)
+        if result is None:
+            # a method with no published value for these inputs (e.g. a table point it does not hold)
+            return Missing(paths=(f"{getattr(fn, '__name__', 'method')}(): a published value for these inputs",))
+        return result
 
     call.__name__ = getattr(fn, "__name__", "function")
     return call

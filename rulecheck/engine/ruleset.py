@@ -165,8 +165,11 @@ def _rule_validator() -> Any:
 
 
 def shipped_rules_dir() -> Path:
-    """Return the folder of the rules shipped with rulecheck."""
-    return Path(str(resources.files("rulecheck").joinpath("rules")))
+    """Return the folder of the rules shipped with rulecheck (installed, or ``rules/`` of a source tree)."""
+    installed = Path(str(resources.files("rulecheck").joinpath("rules")))
+    if installed.is_dir():
+        return installed
+    return Path(__file__).resolve().parents[2] / "rules"
 
 
 @lru_cache(maxsize=1)

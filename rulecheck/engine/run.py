@@ -48,6 +48,23 @@ class Shown:
         return units.format_value(self.value, self.kind, self.system)
 
 
+def _show_model_value(system: str) -> Any:
+    def wrap(value: Any, kind_name: str | None) -> Any:
+        if isinstance(value, (int, float)) and not isinstance(value, bool) and kind_name and kind_name != "flag":
+            return Shown(value, kind_name, system)
+        return value
+
+    return wrap
+
+
+def _display_sections(model: Model, system: str) -> dict[str, Any]:
+    """Return (and keep on the model) the sections as message templates show them."""
+    cache = model.functions.setdefault("_display", {})
+    if system not in cache:
+        cache[system] = model.namespace(_show_model_value(system))
+    return cache[system]
+
+
 def _param_display(param: Any, value: float, system: str) -> Shown:
     if param.kind in (None, "fraction"):
         # a parameter written as a percentage is shown as one; a margin such as 1.1 as a plain number
@@ -150,6 +167,7 @@ def evaluate_rule(rule: Rule, model: Model, namespace: dict[str, Any], params: d
     shown_values = {n: (v, value_kinds.get(n)) for n, v in computed.items()
                     if isinstance(v, (int, float)) and not isinstance(v, bool)}
     display = dict(ns)
+    display.update(_display_sections(model, system))
     for n, (v, k) in shown_values.items():
         display[n] = Shown(v, k, system)
     for n, p in rule.params.items():

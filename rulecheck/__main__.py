@@ -1,0 +1,7 @@
+"""``python -m rulecheck``."""
+
+import sys
+
+from rulecheck.cli import main
+
+sys.exit(main())

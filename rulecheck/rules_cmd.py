@@ -1,0 +1,118 @@
+"""``rulecheck rules``: list the rules, show one, or lint a folder of rule files."""
+
+from __future__ import annotations
+
+import sys
+import textwrap
+from pathlib import Path
+
+from rulecheck.check import BUILTIN_RULES
+from rulecheck.engine.lint import lint_rule
+from rulecheck.engine.ruleset import RuleError, load_rule_file, load_rules, rule_files, shipped_rules_dir
+
+__all__ = ["lint_folder", "list_rules", "show_rule"]
+
+_STATUS = {"V": "verified", "V*": "verified numerically", "P": "derivation", "M": "from memory",
+           "C": "common practice"}
+
+
+def _ruleset(extra: list[str]):  # type: ignore[no-untyped-def]
+    ruleset, errors = load_rules([shipped_rules_dir(), *[Path(p) for p in extra]])
+    for e in errors:
+        print(f"rulecheck: {e}", file=sys.stderr)
+    return ruleset, errors
+
+
+def list_rules(extra: list[str]) -> int:
+    """Print one line per rule: id, topic, severity, safety flag, title."""
+    ruleset, errors = _ruleset(extra)
+    rows = [(k, v["topic"], v["severity"], v["safety"], v["title"] + " (built in)") for k, v in BUILTIN_RULES.items()]
+    rows += [(r.id, r.topic, r.severity, r.safety, r.title) for r in ruleset.rules.values()]
+    width = max(len(r[0]) for r in rows)
+    for rule_id, topic, severity, safety, title in sorted(rows, key=lambda r: (r[1], r[0])):
+        mark = "S" if safety else " "
+        print(f"{rule_id:<{width}}  {topic:<20}  {severity:<7}  {mark}  {title}")
+    print(f"\n{len(rows)} rules; S = safety-relevant (never a silent pass when it cannot be evaluated)")
+    return 2 if errors else 0
+
+
+def show_rule(rule_id: str, extra: list[str]) -> int:
+    """Print what a rule checks, why, its formula, parameters, basis and examples."""
+    if rule_id in BUILTIN_RULES:
+        meta = BUILTIN_RULES[rule_id]
+        print(f"{rule_id}: {meta['title']}\n\n{textwrap.fill(meta['description'], 88)}\n")
+        for b in meta["basis"]:
+            print(f"basis: {b['source']} ({_STATUS.get(b['status'], b['status'])})")
+        print("\nBuilt in: checked while the spec is loaded and validated.")
+        return 0
+    ruleset, _errors = _ruleset(extra)
+    resolved = ruleset.resolve(rule_id)
+    if resolved is None:
+        import difflib
+
+        close = difflib.get_close_matches(rule_id, [*ruleset.rules, *BUILTIN_RULES], n=1)
+        print(f"rulecheck: no rule '{rule_id}'" + (f"; did you mean '{close[0]}'?" if close else ""),
+              file=sys.stderr)
+        return 2
+    r = ruleset.rules[resolved]
+    print(f"{r.id}: {r.title}")
+    print(f"topic {r.topic}, severity {r.severity}" + (", safety-relevant" if r.safety else ""))
+    if r.aliases:
+        print("aliases: " + ", ".join(r.aliases))
+    print()
+    for para in r.description.strip().split("\n\n"):
+        print(textwrap.fill(" ".join(para.split()), 88))
+        print()
+    if r.formula:
+        print(f"formula: {r.formula}")
+    if r.applies_text:
+        print(f"applies when: {r.applies_text}")
+    if r.values:
+        print("computed:")
+        for name, _c, text, _k in r.values:
+            print(f"  {name} = {text}")
+    print("fails when (first that holds):")
+    for c in r.checks:
+        print(f"  [{c.severity}] {c.when_text}")
+    if r.params:
+        print("parameters (override in configuration or in the spec's 'margins'):")
+        for p in r.params.values():
+            print(f"  {p.name} = {p.written}  — {p.description}")
+    print("basis:")
+    for b in r.basis:
+        print(f"  {b['source']} ({_STATUS.get(b['status'], b['status'])})")
+    print("examples:")
+    for ex in r.examples:
+        print(f"  {ex['outcome']}: {ex['name']}")
+    print(f"\nfile: {r.file}")
+    return 0
+
+
+def lint_folder(folder: str) -> int:
+    """Validate and dimension-check every rule file in ``folder``; print problems as file:line:col."""
+    path = Path(folder)
+    if not path.is_dir():
+        print(f"rulecheck: {folder}: not a folder", file=sys.stderr)
+        return 2
+    files = rule_files(path)
+    problems: list[RuleError] = []
+    ids: dict[str, str] = {}
+    for file in files:
+        try:
+            rule = load_rule_file(file)
+        except RuleError as exc:
+            problems.append(exc)
+            continue
+        if rule.id in ids or rule.id in BUILTIN_RULES:
+            problems.append(RuleError(str(file), f"rule id '{rule.id}' is already used by "
+                                      f"{ids.get(rule.id, 'a built-in check')}"))
+        ids[rule.id] = str(file)
+        _kinds, found = lint_rule(rule)
+        problems.extend(found)
+        outcomes = {e["outcome"] for e in rule.examples}
+        if "pass" not in outcomes or "fail" not in outcomes:
+            problems.append(RuleError(str(file), "examples need at least one pass and one fail case"))
+    for p in problems:
+        print(str(p))
+    print(f"{len(files)} rule files, {len(problems)} problems", file=sys.stderr)
+    return 1 if problems else 0
