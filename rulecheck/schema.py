@@ -178,7 +178,8 @@ def _plain(doc: Document, parts: list[Any], error: Any) -> Problem:
             kind = units.KINDS[sub["x-dimension"]]
             rule = "units-and-dimensions"
             message = f"{where}: expected a quantity ({kind.description}), got {_show(value)}"
-            return Problem(rule, path, message, hint or f"write it with its unit in quotes, e.g. '{kind.example}'")
+            example = f"write it with its unit in quotes, e.g. '{kind.example}'"
+            return Problem(rule, path, message, f"{hint}; {example}" if hint else example)
         return Problem("spec-schema", path, f"{where}: expected {_describe_type(error.validator_value)}, got {_show(value)}",
                        hint)
     if validator in ("enum", "const"):

@@ -299,6 +299,11 @@ def _conversion(unit_text: str, kind_name: str) -> tuple[float, float]:
                 f"{text!r}: per-hertz constants mix electrical and mechanical speed",
                 "write the back-EMF constant in V/krpm (with its convention) or V*s/rad",
             )
+        if kind_name == "frequency" and any(v in _SPEED_NAMES - {"s", "second", "min", "minute"} for _, v in tokens):
+            raise QuantityError(
+                f"{text!r} is a shaft speed, not an electrical frequency",
+                "write the frequency in Hz; shaft speed belongs in a speed field (f = pole pairs × n / 60)",
+            )
         if kind_name == "torque" and any(v in ("J", "kJ", "joule", "Wh", "kWh", "cal") for _, v in tokens):
             raise QuantityError(f"{text!r} is an energy unit, not a torque unit", "write torque in N*m or lbf*ft")
         if kind_name == "energy" and any(v in ("lbf", "N") for _, v in tokens) and not any(

@@ -1,0 +1,156 @@
+"""Quantity parsing and display, checked against published conversion factors.
+
+Sources: NIST Special Publication 811 (2008 edition), Appendix B.8/B.9 (conversion factors);
+SI Brochure, 9th edition (2019), Table 4 note (revolution = 2π rad); scipy.constants (CODATA).
+"""
+
+from __future__ import annotations
+
+import math
+import time
+
+import pytest
+import scipy.constants as sc
+from hypothesis import given
+from hypothesis import strategies as st
+
+from rulecheck.units import QuantityError, ambiguity_notes, format_value, parse_quantity, registry
+
+REL = 1e-9  # exact definitions: only floating-point rounding separates the two sides
+
+
+def test_horsepower_is_nist_value() -> None:
+    # NIST SP 811 (2008) B.8: horsepower (550 ft·lbf/s) = 745.699 87 W; scipy.constants.hp is the same definition
+    assert parse_quantity("1 hp", "power") == pytest.approx(745.69987158227022, rel=REL)
+    assert parse_quantity("1 hp", "power") == pytest.approx(sc.hp, rel=REL)
+    assert registry().Quantity(1, "hp").to("W").magnitude == pytest.approx(745.69987, rel=1e-8)
+
+
+def test_other_horsepowers() -> None:
+    # NIST SP 811 (2008) B.8: metric horsepower 735.498 75 W, electric horsepower 746 W
+    assert parse_quantity("1 hp_metric", "power") == pytest.approx(735.49875, rel=1e-8)
+    assert parse_quantity("1 hp_elec", "power") == pytest.approx(746.0, rel=REL)
+    assert parse_quantity("1 hp_mech", "power") == pytest.approx(745.69987158, rel=1e-9)
+
+
+def test_bare_hp_is_reported_as_ambiguous() -> None:
+    # rulebook R01 / pitfall 5: mechanical, metric and electrical horsepower differ
+    assert ambiguity_notes("10 hp", "power")
+    assert not ambiguity_notes("10 hp_mech", "power")
+    assert not ambiguity_notes("7.5 kW", "power")
+
+
+def test_revolution_per_minute_in_rad_per_second() -> None:
+    # SI Brochure (2019): 1 revolution = 2π rad, so 1 r/min = 2π/60 rad/s = 0.104 719 755 rad/s
+    for text in ("1 r/min", "1 rpm", "1 min^-1", "1 1/min", "1 rev/min", "1 min-1"):
+        assert parse_quantity(text, "rotational_speed") == pytest.approx(2 * math.pi / 60, rel=REL), text
+    assert parse_quantity("1 rev/s", "rotational_speed") == pytest.approx(2 * math.pi, rel=REL)
+    assert parse_quantity("1 rad/s", "rotational_speed") == pytest.approx(1.0, rel=REL)
+
+
+@pytest.mark.parametrize("speed", ["1455 r/min", "1455 rpm", "1455 min^-1", "1455 1/min"])
+def test_torque_from_power_in_every_speed_notation(speed: str) -> None:
+    # common practice: T[N·m] = 9549.2966·P[kW]/n[r/min] (60000/2π); 7.5 kW at 1455 r/min → 49.22 N·m
+    torque = parse_quantity("7.5 kW", "power") / parse_quantity(speed, "rotational_speed")
+    assert torque == pytest.approx(60000 / (2 * math.pi) * 7.5 / 1455, rel=REL)
+    assert round(torque, 1) == 49.2
+
+
+def test_customary_torque_constant_5252() -> None:
+    # common practice: T[lbf·ft] = 5252.113·P[hp]/n[r/min] (33000/2π); 30 hp at 1725 r/min → 91.34 lbf·ft (K15)
+    torque_nm = parse_quantity("30 hp", "power") / parse_quantity("1725 r/min", "rotational_speed")
+    torque_lbf_ft = torque_nm / parse_quantity("1 lbf*ft", "torque")
+    assert torque_lbf_ft == pytest.approx(33000 / (2 * math.pi) * 30 / 1725, rel=1e-9)
+    assert torque_lbf_ft == pytest.approx(91.34, abs=0.005)
+
+
+def test_customary_units() -> None:
+    # NIST SP 811 (2008) B.9: 1 lbf·ft = 1.355 818 N·m; 1 lbf·in = 0.112 984 8 N·m; 1 lb·ft² = 0.042 140 11 kg·m²;
+    # 1 in = 0.0254 m (exact); 1 lb = 0.453 592 37 kg (exact)
+    assert parse_quantity("1 lbf*ft", "torque") == pytest.approx(1.3558179483, rel=1e-9)
+    assert parse_quantity("1 lbf*in", "torque") == pytest.approx(0.1129848290, rel=1e-9)
+    assert parse_quantity("1 lb*ft^2", "inertia") == pytest.approx(0.04214011009, rel=1e-9)
+    assert parse_quantity("10 in", "length") == pytest.approx(0.254, rel=REL)
+    assert parse_quantity("1 lb", "mass") == pytest.approx(sc.pound, rel=REL)
+
+
+def test_offset_temperatures_are_handled_on_purpose() -> None:
+    # 104 °F = 40 °C; a rise of 18 delta_degF = 10 K; a temperature is refused where a difference is meant
+    assert parse_quantity("104 degF", "temperature") == pytest.approx(40.0, abs=1e-9)
+    assert parse_quantity("313.15 K", "temperature") == pytest.approx(40.0, abs=1e-9)
+    assert parse_quantity("18 delta_degF", "temperature_difference") == pytest.approx(10.0, rel=1e-9)
+    with pytest.raises(QuantityError):
+        parse_quantity("40 degC", "temperature_difference")
+
+
+def test_percent_and_fractions() -> None:
+    assert parse_quantity("12 %", "fraction") == pytest.approx(0.12)
+    assert parse_quantity(0.12, "fraction") == pytest.approx(0.12)
+    with pytest.raises(QuantityError):
+        parse_quantity("12 %", "power")
+
+
+def test_back_emf_constant_conventions() -> None:
+    # 1 V/krpm = 60/(2π·1000) V·s/rad = 0.009 549 3 V·s/rad (rulebook pitfall 7)
+    assert parse_quantity("1 V/krpm", "back_emf_constant") == pytest.approx(60 / (2 * math.pi * 1000), rel=1e-9)
+    assert parse_quantity("100 V/krpm", "back_emf_constant") == pytest.approx(0.954930, rel=1e-6)
+    assert parse_quantity("0.1 V/rpm", "back_emf_constant") == pytest.approx(0.954930, rel=1e-6)
+    with pytest.raises(QuantityError):
+        parse_quantity("1 V/Hz", "back_emf_constant")
+
+
+@pytest.mark.parametrize(
+    ("text", "kind_name", "words"),
+    [
+        (1455, "rotational_speed", "no unit"),
+        ("1455", "rotational_speed", "no unit"),
+        ("1455 Hz", "rotational_speed", "not a shaft speed"),
+        ("50 r/min", "frequency", "not an electrical frequency"),
+        ("50 rpm", "frequency", "not an electrical frequency"),
+        ("5 J", "torque", "energy"),
+        ("5 kW", "torque", "not a torque"),
+        ("5 blorps", "length", "unknown unit"),
+        ("1e400 kW", "power", "finite"),
+        ("nan kW", "power", "number"),
+        ("inf kW", "power", "number"),
+        ("0,75 kW", "power", "decimal comma"),
+        ("9**9**9 kW", "power", "arithmetic"),
+        ("9 kW**9**9", "power", "exponent"),
+        ("9 kW^99", "power", "exponent"),
+        ("9 ((((kW))))", "power", "parentheses"),
+        ("9 kW)", "power", "parentheses"),
+        (True, "power", "boolean"),
+        ("x" * 200, "power", "longer"),
+    ],
+)
+def test_bad_quantities_give_clear_errors(text: object, kind_name: str, words: str) -> None:
+    with pytest.raises(QuantityError) as info:
+        parse_quantity(text, kind_name)
+    assert words in (info.value.message + " " + info.value.hint)
+
+
+def test_hostile_unit_strings_are_refused_quickly() -> None:
+    hostile = ["9**9**9 kW", "1 " + "(" * 500 + "kW" + ")" * 500, "1 " + "kW*" * 5000 + "kW",
+               "1 " + "kW^2^2^2^2^2^2^2", "1 " + "k" * 10000]
+    start = time.perf_counter()
+    for text in hostile:
+        with pytest.raises(QuantityError):
+            parse_quantity(text, "power")
+    assert time.perf_counter() - start < 1.0  # a guard against evaluation, not a benchmark: each is refused at once
+
+
+def test_display() -> None:
+    assert format_value(49.22317, "torque") == "49.22 N·m"
+    assert format_value(7500.0, "power") == "7.5 kW"
+    assert format_value(2 * math.pi * 1455 / 60, "rotational_speed") == "1455 r/min"
+    assert format_value(0.12, "fraction") == "12 %"
+    assert format_value(7456.9987, "power", "customary") == "10 hp"
+    assert format_value(40.0, "temperature", "customary") == "104 °F"
+
+
+@given(st.floats(min_value=0.01, max_value=1e6), st.floats(min_value=1.0, max_value=1e5))
+def test_same_torque_from_si_and_customary(kw: float, rpm: float) -> None:
+    si = parse_quantity(f"{kw!r} kW", "power") / parse_quantity(f"{rpm!r} r/min", "rotational_speed")
+    hp = kw * 1000 / 745.69987158227022
+    customary = parse_quantity(f"{hp!r} hp", "power") / parse_quantity(f"{rpm!r} rpm", "rotational_speed")
+    assert customary == pytest.approx(si, rel=1e-9)
