@@ -1,0 +1,153 @@
+"""Charts: deterministic SVG and PNG, greyscale-distinguishable series, text equivalents, bad data refused."""
+
+from __future__ import annotations
+
+import re
+import time
+
+import pytest
+
+from rulecheck.report import charts
+
+from . import sample
+
+
+def _figure(key: str, data: dict):
+    import matplotlib
+
+    matplotlib.use("Agg")
+    from matplotlib.figure import Figure
+
+    fig = Figure()
+    parsed = charts._read(key, data, "si")
+    {"torque_speed": charts._draw_torque_speed, "duty": charts._draw_duty, "back_emf": charts._draw_back_emf}[key](
+        fig, parsed)
+    return fig
+
+
+@pytest.mark.parametrize("key,spec", [("torque_speed", sample.conveyor), ("duty", sample.conveyor),
+                                      ("back_emf", sample.servo)])
+def test_svg_and_png_are_deterministic(key, spec):
+    data = spec()["charts"][key]
+    assert charts.svg(key, data, chart_id="a") == charts.svg(key, data, chart_id="a")
+    first = charts.png(key, data)
+    assert first == charts.png(key, data)
+    assert first.startswith(b"\x89PNG\r\n\x1a\n")
+
+
+def test_svg_is_inline_ready_with_title_and_description():
+    data = sample.servo()["charts"]["back_emf"]
+    svg = charts.svg("back_emf", data, chart_id="dt2-back_emf")
+    assert svg.startswith("<svg ") and svg.endswith("</svg>")
+    assert 'role="img"' in svg and 'aria-labelledby="dt2-back_emf-title dt2-back_emf-desc"' in svg
+    assert '<title id="dt2-back_emf-title">' in svg and "DC-bus trip level 800 V" in svg
+    for absent in ("<?xml", "<!DOCTYPE", "<!--", "<metadata", "http://", "https://", "<script", "Date"):
+        assert absent not in svg, absent
+
+
+def test_svg_ids_are_prefixed_so_charts_can_share_a_page():
+    data = sample.conveyor()["charts"]["torque_speed"]
+    a = charts.svg("torque_speed", data, chart_id="one")
+    b = charts.svg("torque_speed", data, chart_id="two")
+    ids_a = set(re.findall(r'id="([^"]+)"', a))
+    assert ids_a and all(i.startswith("one-") for i in ids_a)
+    assert not ids_a & set(re.findall(r'id="([^"]+)"', b))
+    # every internal reference points at an id of the same chart
+    refs = re.findall(r'(?:href="#|url\(#)([^")]+)', a)
+    assert refs and set(refs) <= ids_a
+
+
+@pytest.mark.parametrize("key,spec", [("torque_speed", sample.conveyor), ("back_emf", sample.servo)])
+def test_series_differ_by_line_style_or_marker_not_only_colour(key, spec):
+    fig = _figure(key, spec()["charts"][key])
+    ax = fig.axes[0]
+    styles = {}
+    for line in ax.get_lines():
+        label = line.get_label()
+        if label.startswith("_"):
+            continue
+        styles[label] = (line.get_linestyle(), line.get_marker(), round(line.get_linewidth(), 1))
+    assert len(styles) >= 3
+    assert len(set(styles.values())) == len(styles), styles
+
+
+def test_duty_has_speed_and_torque_panels_with_units():
+    fig = _figure("duty", sample.conveyor()["charts"]["duty"])
+    labels = [ax.get_ylabel() for ax in fig.axes]
+    assert labels == ["Speed (r/min)", "Torque (N·m)"]
+    assert fig.axes[1].get_xlabel() == "Time (s)"
+
+
+def test_axes_carry_units_and_customary_torque():
+    fig = _figure("torque_speed", sample.conveyor()["charts"]["torque_speed"])
+    assert fig.axes[0].get_xlabel() == "Shaft speed (r/min)" and fig.axes[0].get_ylabel() == "Torque (N·m)"
+    text = charts.describe("torque_speed", sample.conveyor()["charts"]["torque_speed"], "customary")
+    assert text.columns == ["series", "speed (r/min)", "torque (lbf·ft)"]
+    # 110 N·m ÷ 1.3558179483314004 N·m per lbf·ft (lbf = 4.4482216152605 N, ft = 0.3048 m, NIST SP 811)
+    assert ["motor peak", "0", "81.13"] in text.rows
+
+
+def test_text_equivalent_reads_the_data():
+    text = charts.describe("duty", sample.conveyor()["charts"]["duty"])
+    assert text.description == ("Duty cycle over 60 s in 7 samples: speed 0 to 1455 r/min, torque -20 to 70 N·m.")
+    assert text.rows[1] == ["2", "1455", "70"]
+    plain = text.as_text()
+    assert plain.splitlines()[0] == "Duty cycle: speed and torque over time"
+    assert "time (s)  speed (r/min)  torque (N·m)" in plain
+
+
+def test_speed_in_other_units_is_shown_in_r_min():
+    data = {"speed_unit": "rad/s", "torque_unit": "kN*m", "motor_continuous": [[0, 1.0], [157.07963267948966, 1.0]]}
+    text = charts.describe("torque_speed", data)
+    # 157.08 rad/s × 60/(2π) = 1500 r/min; 1 kN·m = 1000 N·m
+    assert text.rows[1] == ["motor continuous", "1500", "1000"]
+
+
+@pytest.mark.parametrize("data,message", [
+    ({"motor_continuous": [[0, "x"]]}, "motor_continuous[0] is not a finite number"),
+    ({"motor_continuous": [[0, float("nan")]]}, "not a finite number"),
+    ({"motor_continuous": "a string"}, "not a list of points"),
+    ({"motor_continuous": [[0, 1, 2]]}, "is not a point of 2 numbers"),
+    ({"speed_unit": "Hz", "motor_continuous": [[0, 1]]}, "not a shaft-speed unit"),
+    ({}, "has no data"),
+])
+def test_bad_torque_speed_data_is_refused(data, message):
+    with pytest.raises(charts.ChartDataError, match=re.escape(message)):
+        charts.svg("torque_speed", data)
+
+
+def test_bad_back_emf_data_is_refused():
+    data = {"speed": [0, 1000], "emf_line_rms": [0, 98, 196]}
+    with pytest.raises(charts.ChartDataError, match="3 values for 2 speeds"):
+        charts.describe("back_emf", data)
+
+
+def test_hostile_labels_draw_as_text():
+    data = sample.hostile()["charts"]["torque_speed"]
+    data["load_points"].append({"speed": 700, "torque": 3, "label": "$\\bogus{$"})
+    data["duty_segments"] = [{"speed_from": 0, "speed_to": 9, "torque": 1, "label": "_hidden $x$"}]
+    svg = charts.svg("torque_speed", data)  # a label read as mathtext would raise on the bogus command
+    assert "<script" not in svg and "alert" not in svg  # labels are drawn as glyph paths, not markup
+    fig = _figure("torque_speed", data)
+    texts = {t.get_text() for t in fig.axes[0].texts}
+    assert {"<script>alert(1)</script>", "\\$\\bogus{\\$", "\u200b_hidden \\$x\\$"} <= texts
+    rows = charts.describe("torque_speed", data).rows
+    assert ["load point <script>alert(1)</script>", "500", "12.5"] in rows
+
+
+def test_a_long_duty_cycle_draws_quickly():
+    n = 200_000
+    samples = [[i * 0.01, 1455.0 * ((i // 500) % 2), 40.0 * ((i // 300) % 3 - 1)] for i in range(n)]
+    data = {"time_unit": "s", "speed_unit": "r/min", "torque_unit": "N*m", "samples": samples}
+    start = time.perf_counter()
+    svg = charts.svg("duty", data)
+    elapsed = time.perf_counter() - start
+    assert len(svg) < 2_000_000  # thinned to a plotting size, not 200 000 vertices
+    assert "First 24 of 200000 samples shown." in charts.describe("duty", data).note
+    assert elapsed < 20.0, elapsed  # generous for a shared 2-core machine; typically about 1 s
+
+
+def test_available_lists_known_charts_in_order():
+    assert charts.available(sample.servo()) == ["torque_speed", "back_emf"]
+    assert charts.available({"charts": {"duty": {}, "mystery": {}}}) == ["duty"]
+    assert charts.available({"charts": None}) == []
