@@ -17,18 +17,31 @@ from rulecheck.units import KINDS, QuantityError, format_value, parse_quantity
 
 __all__ = [
     "BASIS_STATUS",
-    "OUTCOME_LABELS",
     "ORDER_STATEMENT",
+    "OUTCOME_LABELS",
+    "VERDICT_LABELS",
     "Label",
+    "OutcomeGroups",
+    "basis_items",
+    "counts",
+    "derived_items",
     "display",
     "display_limit",
     "group_outcomes",
+    "location_text",
+    "missing_items",
     "outcome_label",
     "plain",
+    "safety_errors",
     "sorted_specs",
-    "verdict_label",
+    "spec_name",
+    "summary_line",
     "value_items",
+    "verdict_label",
+    "waiver_items",
 ]
+
+
 
 # Severity must read without colour: every label is a word plus a short text marker.
 @dataclass(frozen=True)
