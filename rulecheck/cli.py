@@ -32,6 +32,10 @@ class _Parser(argparse.ArgumentParser):
             words = message.split(":", 1)[1].replace("'", " ").replace("(", " ").split()
             options = [o for a in self._actions for o in a.option_strings]
             choices = [c for a in self._actions if isinstance(a.choices, dict) for c in a.choices]
+            for action in self._actions:  # the options of every command, for a mistyped one after the command
+                if isinstance(action.choices, dict):
+                    for sub in action.choices.values():
+                        options += [o for a in sub._actions for o in a.option_strings]
             for word in words:
                 pool = options if word.startswith("-") else choices
                 close = difflib.get_close_matches(word.split("=")[0], pool, n=1)
@@ -65,6 +69,43 @@ def _parser() -> _Parser:
     check.add_argument("--no-color", action="store_true", help="never colour the output")
     check.add_argument("--no-charts", action="store_true", help="leave charts out of the HTML report")
     check.add_argument("--today", metavar="YYYY-MM-DD", help="date for waiver expiry (default: today)")
+    check.add_argument("--report", action="append", default=[], metavar="FORMAT=FILE",
+                       help="also write a report in FORMAT to FILE (may be repeated), e.g. sarif=out.sarif")
+    check.add_argument("--baseline", metavar="FILE", help="findings recorded in FILE do not fail the run")
+    check.add_argument("--changed-since", metavar="REV",
+                       help="check only specs changed since git revision REV (all, if rules or configuration changed)")
+    _speed_options(check)
+
+    baseline = sub.add_parser("baseline", help="record the current findings in a baseline file",
+                              description="Write the current findings of specs to a baseline file.")
+    baseline.add_argument("paths", nargs="+", metavar="PATH")
+    baseline.add_argument("--output", "-o", metavar="FILE", default=".rulecheck-baseline.json",
+                          help="baseline file to write (default: .rulecheck-baseline.json)")
+    baseline.add_argument("--config", metavar="FILE")
+    baseline.add_argument("--rules", dest="rule_paths", action="append", default=[], metavar="DIR")
+    baseline.add_argument("--today", metavar="YYYY-MM-DD")
+    _speed_options(baseline)
+
+    mail = sub.add_parser("mail", help="write or send the findings report as an e-mail",
+                          description="Write the findings report as an e-mail (.eml) or send it over SMTP. "
+                                      "SMTP settings come from RULECHECK_SMTP_HOST, RULECHECK_SMTP_PORT, "
+                                      "RULECHECK_SMTP_SECURITY (starttls|tls|none), RULECHECK_SMTP_USER and "
+                                      "RULECHECK_SMTP_PASSWORD, never from a spec file.")
+    mail.add_argument("paths", nargs="+", metavar="PATH")
+    mail.add_argument("--to", action="append", required=True, metavar="ADDRESS", help="recipient (may be repeated)")
+    mail.add_argument("--from", dest="sender", default=os.environ.get("RULECHECK_MAIL_FROM", "rulecheck@localhost"),
+                      metavar="ADDRESS", help="sender (default: RULECHECK_MAIL_FROM or rulecheck@localhost)")
+    mail.add_argument("--subject", help="subject line (default: a summary of the verdicts)")
+    mail.add_argument("--eml", metavar="FILE", help="write the message to FILE")
+    mail.add_argument("--html", metavar="FILE", help="also write the HTML report to FILE (before anything is sent)")
+    mail.add_argument("--send", action="store_true", help="send the message over SMTP")
+    mail.add_argument("--dry-run", action="store_true", help="show what would be sent, without connecting")
+    mail.add_argument("--config", metavar="FILE")
+    mail.add_argument("--rules", dest="rule_paths", action="append", default=[], metavar="DIR")
+    mail.add_argument("--units", choices=("si", "customary"), default=None)
+    mail.add_argument("--today", metavar="YYYY-MM-DD")
+    mail.add_argument("--fail-on", choices=("error", "warning", "info"), default=None)
+    _speed_options(mail)
 
     rules = sub.add_parser("rules", help="list, show or lint rules", description="List, show or lint rules.")
     rules.add_argument("action", nargs="?", choices=("list", "show", "lint"), default="list")
@@ -75,6 +116,35 @@ def _parser() -> _Parser:
     schema = sub.add_parser("schema", help="print a JSON Schema", description="Print a JSON Schema.")
     schema.add_argument("which", nargs="?", choices=("spec", "result", "rule"), default="spec")
     return parser
+
+
+def _speed_options(parser: argparse.ArgumentParser) -> None:
+    parser.add_argument("--jobs", "-j", type=int, default=0, metavar="N",
+                        help="worker processes (default 0: all cores)")
+    parser.add_argument("--cache-dir", default=".rulecheck-cache", metavar="DIR",
+                        help="result cache folder (default: .rulecheck-cache)")
+    parser.add_argument("--no-cache", action="store_true", help="neither read nor write the result cache")
+    parser.add_argument("--no-progress", action="store_true", help="never show a progress bar")
+
+
+def _progress(args: argparse.Namespace) -> Any:
+    """Return a progress callback for long runs on a terminal (never in CI logs or when piped)."""
+    if getattr(args, "no_progress", False) or not sys.stderr.isatty() or os.environ.get("CI"):
+        return None
+    state = {"shown": False}
+
+    def show(done: int, total: int) -> None:
+        if total < 50:
+            return
+        width = 30
+        filled = width * done // total
+        sys.stderr.write(f"\r[{'#' * filled}{'.' * (width - filled)}] {done}/{total} specs")
+        state["shown"] = True
+        if done == total:
+            sys.stderr.write("\r" + " " * (width + 30) + "\r")
+        sys.stderr.flush()
+
+    return show
 
 
 def _write(path: str | None, text: str | bytes) -> None:
@@ -149,39 +219,127 @@ def render(result: dict[str, Any], fmt: str, args: argparse.Namespace) -> str:
     return text.render(result, colour=_colour(args), verbose=args.verbose, show_derived=args.show_derived)
 
 
-def _cmd_check(args: argparse.Namespace) -> int:
+def _today(args: argparse.Namespace) -> _dt.date | None:
+    if not getattr(args, "today", None):
+        return None
+    try:
+        return _dt.date.fromisoformat(args.today)
+    except ValueError:
+        raise _Usage(f"--today: '{args.today}' is not a date (YYYY-MM-DD)") from None
+
+
+class _Usage(Exception):
+    pass
+
+
+def _run(args: argparse.Namespace, paths: list[str]) -> dict[str, Any]:
     from rulecheck.runner import RunOptions, UsageError, run
 
-    today = None
-    if args.today:
-        try:
-            today = _dt.date.fromisoformat(args.today)
-        except ValueError:
-            print(f"rulecheck: --today: '{args.today}' is not a date (YYYY-MM-DD)", file=sys.stderr)
-            return 2
+    if args.jobs < 0:
+        raise _Usage("--jobs must be 0 (all cores) or more")
+    options = RunOptions(paths=paths, config=args.config, rule_paths=args.rule_paths,
+                         fail_on=getattr(args, "fail_on", None), units=getattr(args, "units", None),
+                         today=_today(args), jobs=args.jobs, cache_dir=None if args.no_cache else args.cache_dir,
+                         changed_since=getattr(args, "changed_since", None))
+    try:
+        return run(options, progress=_progress(args))
+    except UsageError as exc:
+        raise _Usage(str(exc)) from None
+
+
+def _cmd_check(args: argparse.Namespace) -> int:
+    reports: list[tuple[str, str]] = []
+    for entry in args.report:
+        fmt, sep, file = entry.partition("=")
+        if not sep or fmt not in FORMATS or not file:
+            raise _Usage(f"--report {entry!r}: write FORMAT=FILE with FORMAT one of {', '.join(FORMATS)}")
+        reports.append((fmt, file))
     fmt = args.format
     if fmt is None:
         from rulecheck.report.annotations import detect_ci_annotations
 
         fmt = "annotations" if detect_ci_annotations(os.environ) and not args.output else "text"
-    options = RunOptions(paths=args.paths, config=args.config, rule_paths=args.rule_paths, fail_on=args.fail_on,
-                         units=args.units, today=today)
-    try:
-        result = run(options)
-    except UsageError as exc:
-        print(f"rulecheck: {exc}", file=sys.stderr)
-        return 2
-    output = render(result, fmt, args)
-    try:
-        _write(args.output, output)
-    except OSError as exc:
-        print(f"rulecheck: cannot write {args.output}: {exc.strerror or exc}", file=sys.stderr)
-        return 2
-    if args.output and fmt != "text":
-        # a file report still leaves a one-line summary on the terminal
+    result = _run(args, args.paths)
+    if args.baseline:
+        from rulecheck import baseline
+
+        try:
+            known = baseline.load(Path(args.baseline).read_text(encoding="utf-8"), args.baseline)
+        except OSError as exc:
+            raise _Usage(f"--baseline {args.baseline}: {exc.strerror or exc}") from None
+        except baseline.BaselineError as exc:
+            raise _Usage(str(exc)) from None
+        baseline.apply(result, known, args.baseline)
+    outputs = [(fmt, args.output), *reports]
+    rendered = [(f, file, render(result, f, args)) for f, file in outputs]
+    for _f, file, text in rendered:  # every report is rendered before any is written: no partial set of outputs
+        try:
+            _write(file, text)
+        except OSError as exc:
+            raise _Usage(f"cannot write {file}: {exc.strerror or exc}") from None
+    if (args.output and fmt != "text") or reports:
         s = result["summary"]
-        print(f"rulecheck: wrote {args.output}: {s['specs']} specs, {s['fail']['error']} errors, "
-              f"{s['fail']['warning']} warnings, {s['not-checked']} not checked", file=sys.stderr)
+        print(f"rulecheck: {s['specs']} specs, {s['fail']['error']} errors, {s['fail']['warning']} warnings, "
+              f"{s['not-checked']} not checked; wrote " + ", ".join(f for _fmt, f, _t in rendered if f),
+              file=sys.stderr)
+    if args.baseline:
+        b = result["summary"]["baseline"]
+        print(f"rulecheck: baseline {args.baseline}: {b['matched']} known, {b['new']} new, "
+              f"{len(b['fixed'])} fixed", file=sys.stderr)
+    return int(result["summary"]["exit_code"])
+
+
+def _cmd_baseline(args: argparse.Namespace) -> int:
+    from rulecheck import baseline
+
+    result = _run(args, args.paths)
+    text = baseline.render(result)
+    try:
+        _write(args.output, text)
+    except OSError as exc:
+        raise _Usage(f"cannot write {args.output}: {exc.strerror or exc}") from None
+    count = text.count('"rule":')
+    print(f"rulecheck: wrote {args.output} with {count} findings of {result['summary']['specs']} specs",
+          file=sys.stderr)
+    return 0
+
+
+def _cmd_mail(args: argparse.Namespace) -> int:
+    from rulecheck.report import mail
+
+    result = _run(args, args.paths)
+    try:
+        message = mail.build_message(result, sender=args.sender, recipients=args.to, subject=args.subject,
+                                     units=result["settings"]["units"])
+    except (ValueError, mail.MailError) as exc:
+        raise _Usage(str(exc)) from None
+    for file, data in ((args.html, lambda: render(result, "html", args)), (args.eml, lambda: mail.as_bytes(message))):
+        if file:
+            try:
+                _write(file, data())
+            except OSError as exc:
+                raise _Usage(f"cannot write {file}: {exc.strerror or exc}") from None
+            print(f"rulecheck: wrote {file}", file=sys.stderr)
+    if args.dry_run or not (args.send or args.eml):
+        print(mail.describe(message))
+    if args.send and not args.dry_run:
+        host = os.environ.get("RULECHECK_SMTP_HOST")
+        if not host:
+            raise _Usage("--send needs RULECHECK_SMTP_HOST (and RULECHECK_SMTP_PORT, RULECHECK_SMTP_SECURITY, "
+                         "RULECHECK_SMTP_USER, RULECHECK_SMTP_PASSWORD as needed)")
+        security = os.environ.get("RULECHECK_SMTP_SECURITY", "starttls")
+        try:
+            port = int(os.environ.get("RULECHECK_SMTP_PORT", "465" if security == "tls" else "587"))
+        except ValueError:
+            raise _Usage("RULECHECK_SMTP_PORT must be a port number") from None
+        try:
+            mail.send(message, host=host, port=port, security=security,
+                      username=os.environ.get("RULECHECK_SMTP_USER"),
+                      password=os.environ.get("RULECHECK_SMTP_PASSWORD"))
+        except mail.MailError as exc:
+            print(f"rulecheck: {exc}", file=sys.stderr)
+            return 2
+        print(f"rulecheck: sent to {', '.join(args.to)} via {host}:{port}", file=sys.stderr)
     return int(result["summary"]["exit_code"])
 
 
@@ -229,12 +387,13 @@ def main(argv: Sequence[str] | None = None) -> int:
     if args.command is None:
         parser.print_help()
         return 2
+    commands = {"check": _cmd_check, "baseline": _cmd_baseline, "mail": _cmd_mail, "rules": _cmd_rules,
+                "schema": _cmd_schema}
     try:
-        if args.command == "check":
-            return _cmd_check(args)
-        if args.command == "rules":
-            return _cmd_rules(args)
-        return _cmd_schema(args)
+        return commands[args.command](args)
+    except _Usage as exc:
+        print(f"rulecheck: {exc}", file=sys.stderr)
+        return 2
     except KeyboardInterrupt:
         print("rulecheck: interrupted", file=sys.stderr)
         return 130

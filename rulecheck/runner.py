@@ -1,27 +1,38 @@
 """A whole run: collect spec files, find their configuration, load rules once, check every spec.
 
 One bad file never stops the others: each spec's problems are outcomes of that
-spec. Only unusable rules or configuration stop a run (exit code 2).
+spec, and a worker process that dies becomes a finding for the file it was
+checking. Only unusable rules or configuration stop a run (exit code 2).
+
+Speed: results are cached by content (:mod:`rulecheck.cache`); rules are
+compiled and linted only when some spec is not in the cache; ``jobs`` worker
+processes share the checking, each compiling the rules once.
 """
 
 from __future__ import annotations
 
 import datetime as _dt
+import hashlib
+import json
 import os
+import subprocess
+from concurrent.futures import ProcessPoolExecutor
+from concurrent.futures.process import BrokenProcessPool
 from dataclasses import dataclass, field
 from pathlib import Path
-from typing import Any, Callable, Iterator
+from typing import Any, Callable
 
 from rulecheck import __version__
+from rulecheck.cache import ResultCache, code_digest, spec_key
 from rulecheck.check import BUILTIN_RULES, CheckContext, check_file
-from rulecheck.config import Config, ConfigError, discover, read_config
-from rulecheck.engine.lint import lint_ruleset
-from rulecheck.engine.ruleset import RuleError, RuleSet, load_rules, shipped_rules_dir
+from rulecheck.config import CONFIG_NAME, Config, ConfigError, discover, read_config
+from rulecheck.engine.ruleset import RuleSet, load_rules, rules_digest, shipped_rules_dir
 
-__all__ = ["RunOptions", "UsageError", "collect_specs", "prepare", "run"]
+__all__ = ["RunOptions", "UsageError", "assemble", "collect_specs", "counts_toward_failure", "prepare", "run"]
 
 SPEC_SUFFIXES = (".yaml", ".yml")
 SEVERITY_RANK = {"info": 1, "warning": 2, "error": 3}
+DEFAULT_CACHE_DIR = ".rulecheck-cache"
 
 
 class UsageError(Exception):
@@ -38,25 +49,32 @@ class RunOptions:
     fail_on: str | None = None
     units: str | None = None
     today: _dt.date | None = None
-    jobs: int = 1
-    cache_dir: str | None = None
-    only_rules: list[str] = field(default_factory=list)
+    jobs: int = 1  # 0 = all cores
+    cache_dir: str | None = None  # None = no cache
+    changed_since: str | None = None
 
 
 def collect_specs(paths: list[str]) -> list[Path]:
-    """Return the spec files named or found under ``paths`` (recursive, stable order, no duplicates)."""
+    """Return the spec files named or found under ``paths`` (recursive, stable order, no duplicates).
+
+    Folders are searched for ``*.yaml``/``*.yml``; hidden folders and files, configuration
+    files and links are skipped there (a file named directly is always taken).
+    """
     found: list[Path] = []
     seen: set[Path] = set()
     for raw in paths:
         path = Path(raw)
         if path.is_dir():
-            candidates: Iterator[Path] = iter(sorted(
-                p for p in path.rglob("*")
-                if p.suffix in SPEC_SUFFIXES and p.is_file() and not any(
-                    part.startswith(".") for part in p.relative_to(path).parts)
-            ))
+            candidates = []
+            for folder, dirs, files in os.walk(path):
+                dirs[:] = sorted(d for d in dirs if not d.startswith(".") and not os.path.islink(os.path.join(folder, d)))
+                for name in sorted(files):
+                    full = Path(folder) / name
+                    if (name.endswith(SPEC_SUFFIXES) and not name.startswith(".") and name != CONFIG_NAME
+                            and not full.is_symlink()):
+                        candidates.append(full)
         elif path.exists():
-            candidates = iter([path])
+            candidates = [path]
         else:
             raise UsageError(f"{raw}: no such file or directory")
         for p in candidates:
@@ -65,6 +83,9 @@ def collect_specs(paths: list[str]) -> list[Path]:
                 seen.add(key)
                 found.append(p)
     return found
+
+
+# --- preparing rules for one configuration ------------------------------------------------------------
 
 
 @dataclass
@@ -79,46 +100,57 @@ class Prepared:
 def _params_from_config(cfg: Config, ruleset: RuleSet) -> dict[str, dict[str, Any]]:
     out: dict[str, dict[str, Any]] = {}
     names = ruleset.parameter_names()
+    file = cfg.file or "?"
     for key, value in cfg.parameters.items():
         rule_id = ruleset.resolve(key)
         if isinstance(value, dict) and rule_id:
             rule = ruleset.rules[rule_id]
             for name, raw in value.items():
+                where = f"parameters.{key}.{name}"
                 if name not in rule.params:
-                    raise ConfigError(cfg.file or "?", f"parameters.{key}: rule '{rule_id}' has no parameter '{name}'"
-                                      f" (it has: {', '.join(rule.params) or 'none'})",
-                                      cfg.line(f"parameters.{key}.{name}"))
+                    raise ConfigError(file, f"{where}: rule '{rule_id}' has no parameter '{name}' "
+                                      f"(it has: {', '.join(rule.params) or 'none'})", cfg.line(where))
                 try:
                     out.setdefault(rule_id, {})[name] = rule.params[name].parse(raw)
                 except ValueError as exc:
-                    raise ConfigError(cfg.file or "?", f"parameters.{key}.{name}: {exc}",
-                                      cfg.line(f"parameters.{key}.{name}")) from None
+                    raise ConfigError(file, f"{where}: {exc}", cfg.line(where)) from None
         elif key in names and not isinstance(value, dict):
             param = next(r.params[key] for r in ruleset.rules.values() if key in r.params)
             try:
                 out.setdefault("*", {})[key] = param.parse(value)
             except ValueError as exc:
-                raise ConfigError(cfg.file or "?", f"parameters.{key}: {exc}", cfg.line(f"parameters.{key}")) from None
+                raise ConfigError(file, f"parameters.{key}: {exc}", cfg.line(f"parameters.{key}")) from None
         else:
-            raise ConfigError(cfg.file or "?", f"parameters: '{key}' is neither a rule id nor a rule parameter",
+            raise ConfigError(file, f"parameters: '{key}' is neither a rule id nor a rule parameter",
                               cfg.line(f"parameters.{key}"))
     return out
 
 
+def rule_folders(cfg: Config, extra: list[Path]) -> list[Path]:
+    """Return the rule folders of a run: the shipped rules, then the configuration's, then the command line's."""
+    return [shipped_rules_dir(), *cfg.rule_paths, *extra]
+
+
 def prepare(cfg: Config, extra_rule_paths: list[Path], today: _dt.date, units_system: str,
-            base_dir: Path | None) -> Prepared:
-    """Return the compiled, linted rule set and check context of one configuration; raise UsageError."""
-    folders = [shipped_rules_dir(), *cfg.rule_paths, *extra_rule_paths]
-    ruleset, errors = load_rules(folders)
+            base_dir: Path | None, value_kinds: dict[str, dict[str, str | None]] | None = None) -> Prepared:
+    """Return the compiled (and, unless ``value_kinds`` is given, linted) rules of one configuration.
+
+    Raises UsageError for unusable rules or configuration.
+    """
+    from rulecheck.engine.lint import lint_ruleset
+
+    ruleset, errors = load_rules(rule_folders(cfg, extra_rule_paths))
     for rule_id in (*cfg.disable, *cfg.severity):
         if ruleset.resolve(rule_id) is None and rule_id not in BUILTIN_RULES:
-            raise UsageError(str(ConfigError(cfg.file or "?", f"unknown rule id '{rule_id}'",
-                                             cfg.line("disable") or cfg.line(f"severity.{rule_id}"))))
+            where = "disable" if rule_id in cfg.disable else f"severity.{rule_id}"
+            raise UsageError(str(ConfigError(cfg.file or "?", f"{where}: unknown rule id '{rule_id}'",
+                                             cfg.line(where))))
     if errors:
         raise UsageError("\n".join(str(e) for e in errors))
-    value_kinds, problems = lint_ruleset(ruleset)
-    if problems:
-        raise UsageError("\n".join(str(e) for e in problems))
+    if value_kinds is None:
+        value_kinds, problems = lint_ruleset(ruleset)
+        if problems:
+            raise UsageError("\n".join(str(e) for e in problems))
     for rule_id in cfg.disable:
         resolved = ruleset.resolve(rule_id)
         if resolved:
@@ -134,20 +166,163 @@ def prepare(cfg: Config, extra_rule_paths: list[Path], today: _dt.date, units_sy
     return Prepared(cfg, ruleset, ctx)
 
 
-def _config_for(spec: Path, explicit: Config | None, cache: dict[Path | None, Config]) -> Config:
-    if explicit is not None:
-        return explicit
-    found = discover(spec)
-    if found not in cache:
+# --- configuration discovery ---------------------------------------------------------------------------
+
+
+class _Configs:
+    """Configurations by file, discovered per spec folder and read once."""
+
+    def __init__(self, explicit: Config | None) -> None:
+        self.explicit = explicit
+        self.by_file: dict[str | None, Config] = {}
+        self.by_folder: dict[Path, str | None] = {}
+
+    def for_spec(self, spec: Path) -> Config:
+        if self.explicit is not None:
+            return self.explicit
+        folder = spec.parent.resolve()
+        if folder not in self.by_folder:
+            found = discover(folder)
+            self.by_folder[folder] = str(found) if found else None
+        key = self.by_folder[folder]
+        if key not in self.by_file:
+            try:
+                self.by_file[key] = read_config(Path(key)) if key else Config()
+            except ConfigError as exc:
+                raise UsageError(str(exc)) from None
+        return self.by_file[key]
+
+
+def _config_digest(cfg: Config) -> str:
+    if not cfg.file:
+        return "none"
+    try:
+        return hashlib.sha256(Path(cfg.file).read_bytes()).hexdigest()
+    except OSError:
+        return "unreadable"
+
+
+# --- changed-only runs ---------------------------------------------------------------------------------
+
+
+def changed_files(rev: str, cwd: Path) -> set[Path] | None:
+    """Return the files changed since git revision ``rev`` (committed, staged, unstaged, untracked).
+
+    Returns None when the folder is not in a git repository; raises UsageError for an unknown revision.
+    """
+    def git(*args: str) -> str:
+        proc = subprocess.run(["git", *args], cwd=cwd, capture_output=True, text=True, timeout=60)
+        if proc.returncode != 0:
+            raise UsageError(f"--changed-since {rev}: git {' '.join(args[:2])} failed: "
+                             f"{proc.stderr.strip() or proc.stdout.strip()}")
+        return proc.stdout
+
+    try:
+        top = Path(git("rev-parse", "--show-toplevel").strip())
+    except (OSError, subprocess.SubprocessError):
+        return None
+    if rev.startswith("-"):
+        raise UsageError(f"--changed-since: '{rev}' is not a revision")
+    git("rev-parse", "--verify", "--quiet", f"{rev}^{{commit}}")
+    names = git("diff", "--name-only", "-z", rev, "--").split("\0")
+    names += git("ls-files", "--others", "--exclude-standard", "-z").split("\0")
+    return {(top / n).resolve() for n in names if n}
+
+
+def _filter_changed(specs: list[Path], rev: str, configs: _Configs, extra: list[Path]) -> list[Path]:
+    changed = changed_files(rev, Path.cwd())
+    if changed is None:
+        raise UsageError("--changed-since needs a git repository")
+    if not specs:
+        return specs
+    # a change to a configuration or a rule file can change any spec's outcome
+    for spec in specs:
+        cfg = configs.for_spec(spec)
+        if cfg.file and Path(cfg.file).resolve() in changed:
+            return specs
+        for folder in rule_folders(cfg, extra)[1:]:
+            if any(str(p).startswith(str(folder.resolve()) + os.sep) for p in changed):
+                return specs
+    kept = []
+    for spec in specs:
+        if spec.resolve() in changed:
+            kept.append(spec)
+            continue
+        text = spec.read_bytes() if spec.is_file() else b""
+        if b"duty_profile" in text and any(p.parent == spec.parent.resolve() and p.suffix == ".csv" for p in changed):
+            kept.append(spec)
+    return kept
+
+
+# --- workers -------------------------------------------------------------------------------------------
+
+_WORKER: dict[str, Any] = {}
+
+
+def _worker_init(explicit: str | None, extra: list[str], today: str, units_system: str, base_dir: str,
+                 value_kinds: dict[str, dict[str, dict[str, str | None]]]) -> None:
+    _WORKER.clear()
+    _WORKER.update(explicit=explicit, extra=[Path(p) for p in extra], today=_dt.date.fromisoformat(today),
+                   units=units_system, base=Path(base_dir), kinds=value_kinds, prepared={})
+
+
+def _worker_check(config_file: str | None, spec: str) -> dict[str, Any]:
+    prepared = _WORKER["prepared"]
+    if config_file not in prepared:
+        cfg = read_config(Path(config_file)) if config_file else Config()
+        prepared[config_file] = prepare(cfg, _WORKER["extra"], _WORKER["today"], _WORKER["units"], _WORKER["base"],
+                                        value_kinds=_WORKER["kinds"].get(config_file or ""))
+    return check_file(Path(spec), prepared[config_file].context)
+
+
+def _crash_result(file: str, detail: str) -> dict[str, Any]:
+    from rulecheck.check import _finish
+
+    outcome = {
+        "rule": "yaml-syntax", "title": BUILTIN_RULES["yaml-syntax"]["title"], "topic": "data-integrity",
+        "outcome": "fail", "severity": "error", "safety": False,
+        "message": f"checking this file stopped the worker process ({detail}); the file was not checked",
+        "fix": "report the file to the rulecheck maintainers; check it alone with --jobs 1 to see more",
+        "formula": "", "basis": BUILTIN_RULES["yaml-syntax"]["basis"],
+        "location": {"path": "", "line": None, "column": None}, "values": {}, "limit": None, "missing": [],
+        "waiver": None,
+    }
+    return _finish({"file": file, "tag": None, "title": None, "spec_status": None, "sha256": None,
+                    "status": "unreadable", "verdict": "invalid", "counts": {}, "outcomes": [outcome],
+                    "derived": {}, "charts": {}})
+
+
+def _parallel(todo: list[tuple[int, str | None, Path, str]], jobs: int, init_args: tuple[Any, ...],
+              results: dict[int, dict[str, Any]], progress: Callable[[], None] | None) -> None:
+    """Check ``todo`` in worker processes; a crashed worker's files are retried alone, then reported."""
+    retry: list[tuple[int, str | None, Path, str]] = []
+    with ProcessPoolExecutor(max_workers=jobs, initializer=_worker_init, initargs=init_args) as pool:
+        futures = {pool.submit(_worker_check, cfg, str(spec)): (k, cfg, spec, shown) for k, cfg, spec, shown in todo}
+        for future, item in futures.items():
+            try:
+                results[item[0]] = future.result()
+                if progress:
+                    progress()
+            except BrokenProcessPool:
+                retry.append(item)
+    for item in retry:
+        k, cfg, spec, shown = item
         try:
-            cache[found] = read_config(found) if found else Config()
-        except ConfigError as exc:
-            raise UsageError(str(exc)) from None
-    return cache[found]
+            with ProcessPoolExecutor(max_workers=1, initializer=_worker_init, initargs=init_args) as pool:
+                results[k] = pool.submit(_worker_check, cfg, str(spec)).result()
+        except BrokenProcessPool:
+            results[k] = _crash_result(shown, "the worker process ended unexpectedly")
+        if progress:
+            progress()
+
+
+# --- the run -------------------------------------------------------------------------------------------
 
 
 def run(options: RunOptions, progress: Callable[[int, int], None] | None = None) -> dict[str, Any]:
     """Return the JSON result of a run; raise UsageError for bad paths, rules or configuration."""
+    from rulecheck.check import _display_path
+
     today = options.today or _dt.date.today()
     specs = collect_specs(options.paths)
     explicit = None
@@ -165,38 +340,90 @@ def run(options: RunOptions, progress: Callable[[int, int], None] | None = None)
         if not folder.is_dir():
             raise UsageError(f"{raw}: rule folder not found")
         extra.append(folder.resolve())
+    configs = _Configs(explicit)
+    if options.changed_since:
+        specs = _filter_changed(specs, options.changed_since, configs, extra)
     base_dir = Path.cwd()
-    config_cache: dict[Path | None, Config] = {}
-    prepared: dict[int, Prepared] = {}
-    results: list[dict[str, Any]] = []
-    fail_on = options.fail_on
-    units_system = options.units
-    first_cfg = _config_for(specs[0] if specs else Path.cwd(), explicit, config_cache)
-    fail_on = fail_on or first_cfg.fail_on or "error"
-    units_system = units_system or first_cfg.units or "si"
-    digest = ""
-    rule_count = 0
+    first_cfg = configs.for_spec(specs[0]) if specs else (explicit or Config())
+    fail_on = options.fail_on or first_cfg.fail_on or "error"
+    units_system = options.units or first_cfg.units or "si"
+    cache = ResultCache(Path(options.cache_dir)) if options.cache_dir else None
+
+    # group by configuration; a context key covers everything but the spec itself
+    keys: dict[str | None, str] = {}
+    digests: dict[str | None, str] = {}
+    plan: list[tuple[int, str | None, Path, str, str | None]] = []
     for k, spec in enumerate(specs):
-        cfg = _config_for(spec, explicit, config_cache)
-        key = id(cfg)
-        if key not in prepared:
-            prepared[key] = prepare(cfg, extra, today, units_system, base_dir)
-        prep = prepared[key]
-        digest, rule_count = prep.ruleset.digest, len(prep.ruleset.rules)
-        results.append(check_file(spec, prep.context))
+        cfg = configs.for_spec(spec)
+        if cfg.file not in keys:
+            digests[cfg.file] = rules_digest(rule_folders(cfg, extra))
+            keys[cfg.file] = hashlib.sha256(json.dumps(
+                [__version__, code_digest(), digests[cfg.file], _config_digest(cfg), today.isoformat(), units_system,
+                 [str(p) for p in extra]]).encode()).hexdigest()
+        shown = _display_path(spec, base_dir)
+        key = None
+        if cache is not None:
+            try:
+                key = spec_key(spec.read_bytes(), spec, shown, keys[cfg.file])
+            except OSError:
+                key = None
+        plan.append((k, cfg.file, spec, shown, key))
+
+    results: dict[int, dict[str, Any]] = {}
+    done = 0
+
+    def tick() -> None:
+        nonlocal done
+        done += 1
         if progress:
-            progress(k + 1, len(specs))
-    if not specs:
-        prep = prepare(first_cfg, extra, today, units_system, base_dir)
-        digest, rule_count = prep.ruleset.digest, len(prep.ruleset.rules)
-    return assemble(results, fail_on, units_system, digest, rule_count)
+            progress(done, len(specs))
+
+    todo = []
+    for k, cfg_file, spec, shown, key in plan:
+        hit = cache.get(key) if cache is not None and key else None
+        if hit is not None:
+            results[k] = hit
+            tick()
+        else:
+            todo.append((k, cfg_file, spec, shown))
+    prepared: dict[str | None, Prepared] = {}
+    for _k, cfg_file, spec, _shown in todo:
+        if cfg_file not in prepared:
+            prepared[cfg_file] = prepare(configs.for_spec(spec), extra, today, units_system, base_dir)
+    jobs = options.jobs if options.jobs > 0 else (os.cpu_count() or 1)
+    jobs = min(jobs, max(1, len(todo) // 8))  # small runs are faster in one process
+    if jobs <= 1:
+        for k, cfg_file, spec, _shown in todo:
+            results[k] = check_file(spec, prepared[cfg_file].context)
+            tick()
+    else:
+        kinds = {cfg or "": p.context.value_kinds for cfg, p in prepared.items()}
+        init = (explicit.file if explicit else None, [str(p) for p in extra], today.isoformat(), units_system,
+                str(base_dir), kinds)
+        _parallel(todo, jobs, init, results, tick)
+    if cache is not None:
+        for k, _cfg, _spec, _shown, key in plan:
+            if key and k in {t[0] for t in todo} and results[k].get("status") != "unreadable":
+                cache.put(key, results[k])
+    ordered = [results[k] for k in range(len(specs))]
+    digest = next(iter(digests.values()), rules_digest(rule_folders(first_cfg, extra)))
+    rule_count = len(next(iter(prepared.values())).ruleset.rules) if prepared else None
+    if rule_count is None:
+        rule_count = len(load_rules(rule_folders(first_cfg, extra))[0].rules)
+    result = assemble(ordered, fail_on, units_system, digest, rule_count)
+    if cache is not None:
+        result["summary"]["cache"] = {"hits": cache.hits, "misses": cache.misses}
+    return result
 
 
 def counts_toward_failure(outcome: dict[str, Any], fail_on: str) -> bool:
     """Return whether an outcome makes the run fail at the ``fail_on`` level.
 
-    Fails count at their severity; a safety rule that could not be evaluated counts as a warning.
+    Fails count at their severity; a safety rule that could not be evaluated counts as a warning;
+    a rule that could not run (a rule error) counts as an error. Outcomes matched by a baseline do not count.
     """
+    if outcome.get("baseline"):
+        return False
     threshold = SEVERITY_RANK[fail_on]
     if outcome["outcome"] == "fail":
         return SEVERITY_RANK.get(outcome["severity"], 0) >= threshold
@@ -209,6 +436,22 @@ def counts_toward_failure(outcome: dict[str, Any], fail_on: str) -> bool:
 def assemble(results: list[dict[str, Any]], fail_on: str, units_system: str, digest: str,
              rule_count: int) -> dict[str, Any]:
     """Return the complete result document for a list of spec results."""
+    result = {
+        "format_version": 1,
+        "tool": {"name": "rulecheck", "version": __version__, "rules_digest": digest, "rule_count": rule_count},
+        "generated": _dt.datetime.now(_dt.timezone.utc).replace(microsecond=0).isoformat().replace("+00:00", "Z"),
+        "settings": {"fail_on": fail_on, "units": units_system},
+        "specs": results,
+        "summary": {},
+    }
+    summarise(result)
+    return result
+
+
+def summarise(result: dict[str, Any]) -> None:
+    """Recompute the result's summary and exit code from its specs (after a baseline is applied, too)."""
+    results = result["specs"]
+    fail_on = result["settings"]["fail_on"]
     summary: dict[str, Any] = {
         "specs": len(results),
         "checked": sum(r["status"] == "checked" for r in results),
@@ -221,7 +464,7 @@ def assemble(results: list[dict[str, Any]], fail_on: str, units_system: str, dig
     }
     failing = False
     for r in results:
-        if r["status"] != "checked":
+        if r["status"] != "checked" and not all(o.get("baseline") for o in r["outcomes"] if o["outcome"] == "fail"):
             failing = True
         for o in r["outcomes"]:
             if o["outcome"] == "fail":
@@ -230,17 +473,8 @@ def assemble(results: list[dict[str, Any]], fail_on: str, units_system: str, dig
                 summary[o["outcome"]] += 1
             if counts_toward_failure(o, fail_on):
                 failing = True
+    for key in ("cache", "baseline"):
+        if key in result.get("summary", {}):
+            summary[key] = result["summary"][key]
     summary["exit_code"] = 1 if failing else 0
-    return {
-        "format_version": 1,
-        "tool": {"name": "rulecheck", "version": __version__, "rules_digest": digest, "rule_count": rule_count},
-        "generated": _dt.datetime.now(_dt.timezone.utc).replace(microsecond=0).isoformat().replace("+00:00", "Z"),
-        "settings": {"fail_on": fail_on, "units": units_system},
-        "specs": results,
-        "summary": summary,
-    }
-
-
-def relative(path: str) -> str:
-    """Return ``path`` with forward slashes."""
-    return path.replace(os.sep, "/")
+    result["summary"] = summary

@@ -306,12 +306,25 @@ def rule_files(folder: Path) -> list[Path]:
     return sorted(p for p in folder.glob("*.yaml") if p.is_file() and not p.is_symlink())
 
 
+def rules_digest(folders: list[Path]) -> str:
+    """Return a digest of the rule files of ``folders`` (names and bytes), without compiling them."""
+    digest = hashlib.sha256()
+    for folder in folders:
+        digest.update(b"folder\0")  # folder boundaries count; their location on this machine does not
+        if folder.is_dir():
+            for path in rule_files(folder):
+                try:
+                    digest.update(path.name.encode() + b"\0" + hashlib.sha256(path.read_bytes()).digest())
+                except OSError:
+                    digest.update(path.name.encode() + b"\0unreadable")
+    return "sha256:" + digest.hexdigest()
+
+
 def load_rules(folders: list[Path], disabled: set[str] | None = None) -> tuple[RuleSet, list[RuleError]]:
     """Return the rules of ``folders`` (errors collected, not raised) with ids unique across folders."""
     rules: dict[str, Rule] = {}
     aliases: dict[str, str] = {}
     errors: list[RuleError] = []
-    digest = hashlib.sha256()
     for folder in folders:
         if not folder.is_dir():
             errors.append(RuleError(str(folder), "rule folder does not exist"))
@@ -322,7 +335,6 @@ def load_rules(folders: list[Path], disabled: set[str] | None = None) -> tuple[R
             except RuleError as exc:
                 errors.append(exc)
                 continue
-            digest.update(rule.id.encode() + b"\0" + (rule.doc.sha256.encode() if rule.doc else b""))
             if rule.id in rules or rule.id in aliases:
                 errors.append(RuleError(str(path), f"rule id '{rule.id}' is already defined in {rules[rule.id].file}"
                                         if rule.id in rules else f"rule id '{rule.id}' is an alias of another rule"))
@@ -334,4 +346,4 @@ def load_rules(folders: list[Path], disabled: set[str] | None = None) -> tuple[R
             rules[rule.id] = rule
     for rule_id in list(disabled or ()):
         rules.pop(rule_id, None)
-    return RuleSet(dict(sorted(rules.items())), aliases, "sha256:" + digest.hexdigest()), errors
+    return RuleSet(dict(sorted(rules.items())), aliases, rules_digest(folders)), errors

@@ -1,0 +1,83 @@
+"""Baselines: record a repository's current findings so that only new ones fail a pull request.
+
+A finding's identity is its rule, its file and its spec key path — never its line,
+so an edit that moves lines keeps the finding matched. Findings of the baseline
+that no longer occur are reported as fixed.
+"""
+
+from __future__ import annotations
+
+import json
+from collections import Counter
+from typing import Any
+
+__all__ = ["BaselineError", "apply", "identity", "load", "render"]
+
+_FORMAT = "rulecheck-baseline"
+
+
+class BaselineError(ValueError):
+    """A baseline file that cannot be used."""
+
+
+def identity(spec: dict[str, Any], outcome: dict[str, Any]) -> tuple[str, str, str]:
+    """Return the stable identity of a finding: (rule, file, spec path)."""
+    return (outcome["rule"], spec["file"], (outcome.get("location") or {}).get("path") or "")
+
+
+def _is_finding(outcome: dict[str, Any]) -> bool:
+    return outcome["outcome"] == "fail" or (
+        outcome["outcome"] == "not-checked" and (outcome.get("safety") or outcome["severity"] == "error"))
+
+
+def render(result: dict[str, Any]) -> str:
+    """Return the baseline document for the findings of ``result``."""
+    findings = []
+    for spec in result["specs"]:
+        for o in spec["outcomes"]:
+            if _is_finding(o):
+                rule, file, path = identity(spec, o)
+                findings.append({"rule": rule, "file": file, "path": path, "outcome": o["outcome"],
+                                 "severity": o["severity"], "message": o["message"]})
+    findings.sort(key=lambda f: (f["file"], f["rule"], f["path"]))
+    doc = {"format": _FORMAT, "version": 1, "tool_version": result["tool"]["version"], "findings": findings}
+    return json.dumps(doc, indent=2, ensure_ascii=False) + "\n"
+
+
+def load(text: str, name: str = "baseline") -> Counter[tuple[str, str, str]]:
+    """Return the finding identities of a baseline document (with their counts)."""
+    try:
+        doc = json.loads(text)
+    except ValueError as exc:
+        raise BaselineError(f"{name}: not a baseline file (invalid JSON: {exc})") from None
+    if not isinstance(doc, dict) or doc.get("format") != _FORMAT or not isinstance(doc.get("findings"), list):
+        raise BaselineError(f"{name}: not a rulecheck baseline file (write one with 'rulecheck baseline')")
+    out: Counter[tuple[str, str, str]] = Counter()
+    for i, f in enumerate(doc["findings"]):
+        if not isinstance(f, dict) or not all(isinstance(f.get(k), str) for k in ("rule", "file", "path")):
+            raise BaselineError(f"{name}: findings[{i}] needs rule, file and path")
+        out[(f["rule"], f["file"], f["path"])] += 1
+    return out
+
+
+def apply(result: dict[str, Any], known: Counter[tuple[str, str, str]], name: str) -> None:
+    """Mark the findings of ``result`` that the baseline knows; record new and fixed ones in the summary."""
+    from rulecheck.runner import summarise
+
+    remaining = Counter(known)
+    new = 0
+    matched = 0
+    for spec in result["specs"]:
+        for o in spec["outcomes"]:
+            if not _is_finding(o):
+                continue
+            key = identity(spec, o)
+            if remaining[key] > 0:
+                remaining[key] -= 1
+                o["baseline"] = True
+                matched += 1
+            else:
+                new += 1
+    fixed = [{"rule": r, "file": f, "path": p} for (r, f, p), n in sorted(remaining.items()) for _ in range(n)]
+    result.setdefault("summary", {})["baseline"] = {"file": name, "matched": matched, "new": new, "fixed": fixed}
+    summarise(result)

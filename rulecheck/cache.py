@@ -1,0 +1,101 @@
+"""A result cache keyed by content, so an unchanged repository re-checks fast.
+
+The key of a spec's result is a hash of everything the result depends on: the
+spec's bytes (and those of a duty profile it names), its displayed path, the
+rule set's digest, the configuration's content, the tool version, the date
+(waivers expire) and the display units. Entries are JSON files written
+atomically; a corrupt, truncated or foreign entry is ignored and replaced.
+"""
+
+from __future__ import annotations
+
+import hashlib
+import json
+import os
+import re
+import tempfile
+from functools import lru_cache
+from pathlib import Path
+from typing import Any
+
+__all__ = ["ResultCache", "code_digest", "spec_key"]
+
+_MAGIC = "rulecheck-cache-1"
+_PROFILE = re.compile(rb"^\s*duty_profile\s*:\s*['\"]?([A-Za-z0-9_./-]+\.csv)", re.MULTILINE)
+
+
+@lru_cache(maxsize=1)
+def code_digest() -> str:
+    """Return a digest of rulecheck's own code and data files, so a changed tool never reuses old results."""
+    root = Path(__file__).resolve().parent
+    h = hashlib.sha256()
+    for path in sorted(root.rglob("*")):
+        if path.suffix in (".py", ".yaml", ".json", ".html", ".css") and "__pycache__" not in path.parts:
+            try:
+                h.update(str(path.relative_to(root)).encode() + b"\0" + path.read_bytes())
+            except OSError:
+                continue
+    return h.hexdigest()
+
+
+def spec_key(spec_bytes: bytes, spec_path: Path, display: str, context_key: str) -> str:
+    """Return the cache key of one spec's result."""
+    h = hashlib.sha256()
+    h.update(_MAGIC.encode())
+    h.update(context_key.encode())
+    h.update(b"\0" + display.encode("utf-8", "surrogateescape") + b"\0")
+    h.update(hashlib.sha256(spec_bytes).digest())
+    for match in _PROFILE.finditer(spec_bytes):
+        # a measured profile beside the spec is part of what the result depends on
+        profile = spec_path.parent / match.group(1).decode("ascii", "replace")
+        try:
+            h.update(hashlib.sha256(profile.read_bytes()).digest())
+        except OSError:
+            h.update(b"missing")
+    return h.hexdigest()
+
+
+class ResultCache:
+    """A folder of cached spec results."""
+
+    def __init__(self, folder: Path) -> None:
+        self.folder = folder
+        self.hits = 0
+        self.misses = 0
+        self.usable = True
+
+    def _path(self, key: str) -> Path:
+        return self.folder / key[:2] / f"{key}.json"
+
+    def get(self, key: str) -> dict[str, Any] | None:
+        """Return the cached result for ``key``, or None (a bad entry counts as absent)."""
+        try:
+            text = self._path(key).read_text(encoding="utf-8")
+            entry = json.loads(text)
+        except (OSError, ValueError, UnicodeDecodeError):
+            self.misses += 1
+            return None
+        if not isinstance(entry, dict) or entry.get("magic") != _MAGIC or entry.get("key") != key or not isinstance(
+                entry.get("result"), dict):
+            self.misses += 1
+            return None
+        self.hits += 1
+        return entry["result"]
+
+    def put(self, key: str, result: dict[str, Any]) -> None:
+        """Store a result (atomically: temporary file, then rename); errors only disable the cache."""
+        if not self.usable:
+            return
+        path = self._path(key)
+        try:
+            path.parent.mkdir(parents=True, exist_ok=True)
+            ignore = self.folder / ".gitignore"
+            if not ignore.exists():
+                ignore.write_text("# rulecheck's result cache\n*\n", encoding="utf-8")
+            fd, tmp = tempfile.mkstemp(dir=path.parent, prefix=".tmp-", suffix=".json")
+            with os.fdopen(fd, "w", encoding="utf-8") as handle:
+                json.dump({"magic": _MAGIC, "key": key, "result": result}, handle, ensure_ascii=False,
+                          separators=(",", ":"))
+            os.replace(tmp, path)
+        except OSError:
+            self.usable = False
