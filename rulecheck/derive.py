@@ -43,7 +43,7 @@ DERIVED: dict[str, tuple[str | None, str]] = {
     "drive.dc_bus_voltage": ("voltage", "DC bus of a six-pulse diode front end at nominal supply, loaded"),
     "drive.dc_bus_voltage_min": ("voltage", "DC bus at the lowest supply voltage, loaded"),
     "drive.dc_bus_voltage_max": ("voltage", "DC bus at the highest supply voltage, no load (√2·V_LL)"),
-    "drive.output_voltage_max": ("voltage", "highest fundamental output voltage (SVPWM linear range)"),
+    "drive.output_voltage_max": ("voltage", "highest fundamental output voltage at nominal supply (SVPWM linear)"),
     "drive.overload_current": ("current", "short-time overload current"),
     "drive.armature_voltage_max": ("voltage", "highest armature voltage of a controlled bridge"),
     "drive.firing_angle_min": ("angle", "smallest firing angle of the bridge (default 15°)"),
@@ -219,8 +219,9 @@ def _drive(m: Model, data: dict[str, Any], base: Path | None) -> None:
            ("supply.voltage_min",), "3√2/π × lowest supply voltage")
         _d(m, "drive.dc_bus_voltage_max", pe.dc_bus_voltage_no_load(vmax), "dc_bus_voltage_no_load",
            ("supply.voltage_max",), "√2 × highest supply voltage (no load)")
-        _d(m, "drive.output_voltage_max", pe.output_voltage_max_svpwm(m.get("drive.dc_bus_voltage_min")),
-           "output_voltage_max_svpwm", ("drive.dc_bus_voltage_min",), "V_dc,min ÷ √2 (SVPWM linear range)")
+        # at nominal supply: the datasheet's output voltage, when given, replaces this estimate
+        _d(m, "drive.output_voltage_max", pe.output_voltage_max_svpwm(m.get("drive.dc_bus_voltage")),
+           "output_voltage_max_svpwm", ("drive.dc_bus_voltage",), "V_dc ÷ √2 (SVPWM linear range, nominal supply)")
     rated, share = m.get("drive.rated_current"), m.get("drive.overload.current")
     if rated is not None and share is not None:
         _d(m, "drive.overload_current", rated * share, "product", ("drive.rated_current", "drive.overload.current"),
@@ -757,7 +758,7 @@ def _cable_protection(m: Model, data: dict[str, Any], base: Path | None) -> None
     if None not in (length, area, current, pf, v):
         material = m.get("cable.material", "copper")
         drop = sp.voltage_drop_annex_g(current, length, area, pf, material=material,
-                                       reactance=m.get("cable.reactance", 0.08e-3))
+                                       reactance_per_length=m.get("cable.reactance", 0.08e-3))
         _d(m, "cable.voltage_drop", sp.relative_voltage_drop(drop, v / math.sqrt(3)), "voltage_drop_annex_g",
            ("motor.rated_current", "cable.length", "cable.conductor_area", "motor.power_factor"),
            "IEC 60364-5-52 Annex G: b·(ρ₁·L·cosφ/S + λ·L·sinφ)·I ÷ U₀")
