@@ -2,6 +2,8 @@
 
 from __future__ import annotations
 
+import copy
+import dataclasses
 import datetime as _dt
 import os
 from dataclasses import dataclass, field
@@ -9,9 +11,9 @@ from pathlib import Path
 from typing import Any
 
 from rulecheck import units
-from rulecheck.engine.run import Outcome, effective_params, evaluate_rule
 from rulecheck.engine.ruleset import RuleSet
-from rulecheck.load import Document, LoadError, Limits, load_file
+from rulecheck.engine.run import Outcome, effective_params, evaluate_rule
+from rulecheck.load import Document, Limits, LoadError, load_file
 from rulecheck.schema import check_structure, read_quantities
 
 __all__ = ["BUILTIN_RULES", "CheckContext", "check_document", "check_file", "outcome_dict"]
@@ -48,6 +50,13 @@ BUILTIN_RULES: dict[str, dict[str, Any]] = {
                        "itself a finding, so stale deviations do not pile up.",
         "basis": [{"source": "common practice", "status": "C"}],
     },
+    "internal-error": {
+        "title": "rulecheck finished checking the spec",
+        "topic": "data-integrity", "severity": "error", "safety": False,
+        "description": "A fault inside rulecheck stopped the check of one spec; the other specs of the run are still "
+                       "checked. The spec may be fine: report the fault with the spec attached.",
+        "basis": [{"source": "common practice", "status": "C"}],
+    },
     "margins-check": {
         "title": "A spec's margins name parameters that rules use",
         "topic": "data-integrity", "severity": "error", "safety": False,
@@ -74,7 +83,7 @@ class CheckContext:
 
 def _value_dict(value: float, kind_name: str | None) -> dict[str, Any]:
     if kind_name is None or kind_name not in units.KINDS:
-        return {"value": _round(value), "unit": "1", "kind": None}
+        return {"value": _round(value), "unit": "1"}  # no kind: the result schema has no null kind
     k = units.KINDS[kind_name]
     return {"value": _round(units.to_json_unit(value, kind_name)), "unit": k.json_unit, "kind": kind_name}
 
@@ -139,7 +148,45 @@ def check_file(path: Path, ctx: CheckContext) -> dict[str, Any]:
 
 
 def check_document(doc: Document, ctx: CheckContext, base_dir: Path | None = None) -> dict[str, Any]:
-    """Return the result dict of a loaded spec document."""
+    """Return the result dict of a loaded spec document (a fault of the checker becomes an ``internal-error``)."""
+    try:
+        return _check_document(doc, ctx, base_dir)
+    except Exception as exc:  # one spec that trips a bug must not stop the run or show a traceback
+        result = _empty_result(doc.file, "invalid")
+        result["sha256"] = doc.sha256
+        data = doc.data if isinstance(doc.data, dict) else {}
+        result["tag"] = data.get("tag") if isinstance(data.get("tag"), str) else None
+        reason = f"{type(exc).__name__}: {exc}"
+        reason = reason if len(reason) <= 300 else reason[:297] + "..."
+        result["outcomes"].append(outcome_dict(
+            Outcome("internal-error", "fail", "error", f"rulecheck could not finish checking this spec ({reason})",
+                    hint="this is a fault of rulecheck, not necessarily of the spec: report it with the spec"),
+            BUILTIN_RULES["internal-error"], None))
+        return _finish(result)
+
+
+def _without(data: Any, problems: list[Any]) -> Any:
+    """Return ``data`` without the values that ``problems`` name: an unusable value counts as a missing one."""
+    cuts = [p.parts for p in problems if p.severity == "error" and p.parts]
+    if not cuts:
+        return data
+    data = copy.deepcopy(data)
+    for parts in cuts:
+        node = data
+        for part in parts[:-1]:
+            try:
+                node = node[part]
+            except (KeyError, IndexError, TypeError):
+                break
+        else:
+            if isinstance(node, dict):
+                node.pop(parts[-1], None)
+            elif isinstance(node, list) and isinstance(parts[-1], int) and parts[-1] < len(node):
+                node[parts[-1]] = None
+    return data
+
+
+def _check_document(doc: Document, ctx: CheckContext, base_dir: Path | None) -> dict[str, Any]:
     from rulecheck.charts_data import chart_data
     from rulecheck.derive import build_model
 
@@ -161,7 +208,7 @@ def check_document(doc: Document, ctx: CheckContext, base_dir: Path | None = Non
         result["outcomes"].append(entry)
     if any(p.severity == "error" for p in problems):
         result["status"] = "invalid"
-    model = build_model(doc, quantities, base_dir=base_dir)
+    model = build_model(dataclasses.replace(doc, data=_without(data, problems)), quantities, base_dir=base_dir)
     for note in model.notes:
         result.setdefault("notes", []).append(note)
     margins = data.get("margins") if isinstance(data.get("margins"), dict) else {}
@@ -225,7 +272,8 @@ def _apply_waivers(waivers: Any, outcomes: dict[str, Outcome], ctx: CheckContext
         rule_id = ctx.ruleset.resolve(waiver["rule"])
         if rule_id is None:
             findings.append(Outcome("waiver-check", "fail", "warning",
-                                    f"{path}: waiver names rule '{waiver['rule']}', which does not exist", path + ".rule",
+                                    f"{path}: waiver names rule '{waiver['rule']}', which does not exist",
+                                    path + ".rule",
                                     hint="remove the waiver or correct the rule id ('rulecheck rules' lists them)"))
             continue
         try:

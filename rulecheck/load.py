@@ -164,7 +164,9 @@ class _Builder:
         try:
             value = self.constructor.construct_object(node, deep=True)
         except (ValueError, OverflowError, yaml.YAMLError) as exc:
-            raise LoadError(f"cannot read value {node.value!r}: {exc}", *self._lc(node)) from None
+            shown = node.value if len(node.value) <= 40 else node.value[:37] + "..."
+            reason = str(exc) if len(str(exc)) <= 120 else type(exc).__name__
+            raise LoadError(f"cannot read value {shown!r}: {reason}", *self._lc(node)) from None
         return value
 
     def _lc(self, node: yaml.Node) -> tuple[int, int]:

@@ -10,7 +10,8 @@ from __future__ import annotations
 
 import difflib
 import json
-from dataclasses import dataclass, field
+import math
+from dataclasses import dataclass, field, replace
 from functools import lru_cache
 from importlib import resources
 from typing import Any
@@ -33,6 +34,7 @@ class Problem:
     hint: str = ""
     severity: str = "error"
     at_key: bool = False  # position of the key rather than of its value
+    parts: tuple[Any, ...] | None = None  # key path of a value that cannot be used (left out of the model)
 
 
 @dataclass
@@ -141,8 +143,37 @@ def check_structure(doc: Document) -> list[Problem]:
             problems.extend(_unknown_keys(doc, list(parts), error))
         rest = [e for e in group if e.validator != "additionalProperties"]
         if rest:
-            problems.append(_plain(doc, list(parts), best_match(rest)))
+            problem = _plain(doc, list(parts), best_match(rest))
+            if all(e.validator != "required" for e in rest) and parts:
+                problem = replace(problem, parts=parts)
+            problems.append(problem)
+    reported = {p.path for p in problems}
+    problems.extend(p for p in _number_problems(doc, doc.data, ()) if p.path not in reported
+                    and not (_subschema(list(p.parts or ())) or {}).get("x-dimension"))  # quantities: read_quantities
     return problems
+
+
+# Plain numbers in a spec are counts and ratios; beyond this they are a slip (or a hostile file), not a design.
+_MAX_PLAIN_NUMBER = 1e15
+
+
+def _number_problems(doc: Document, data: Any, parts: tuple[Any, ...]) -> list[Problem]:
+    """Return a problem for every non-finite or absurdly large plain number (JSON Schema's bounds let NaN pass)."""
+    if isinstance(data, dict):
+        return [p for k, v in data.items() if not str(k).startswith("x-")
+                for p in _number_problems(doc, v, (*parts, k))]
+    if isinstance(data, list):
+        return [p for i, v in enumerate(data) for p in _number_problems(doc, v, (*parts, i))]
+    if isinstance(data, bool) or not isinstance(data, (int, float)):
+        return []
+    if isinstance(data, float) and math.isfinite(data) or isinstance(data, int) and abs(data) <= _MAX_PLAIN_NUMBER:
+        return []
+    path = path_text(parts)
+    written = doc.raw.get(path, (_show(data), ""))[0]
+    shown = written if len(written) <= 24 else written[:21] + "..."
+    what = "not a finite number" if isinstance(data, float) else f"larger than {_MAX_PLAIN_NUMBER:g}"
+    return [Problem("spec-schema", path, f"{path or 'the top level'}: {shown} is {what}",
+                    "give the physical value; leave the key out if it is not known", parts=parts)]
 
 
 def _unknown_keys(doc: Document, parts: list[Any], error: Any) -> list[Problem]:
@@ -157,7 +188,8 @@ def _unknown_keys(doc: Document, parts: list[Any], error: Any) -> list[Problem]:
         where = path_text(parts) or "the top level"
         hint = f"did you mean '{close[0]}'?" if close else f"known keys here: {', '.join(known)}"
         hint += " (keys starting with 'x-' are free for your own notes)"
-        out.append(Problem("spec-schema", path_text([*parts, key]), f"unknown key '{key}' in {where}", hint, at_key=True))
+        out.append(Problem("spec-schema", path_text([*parts, key]), f"unknown key '{key}' in {where}", hint,
+                           at_key=True, parts=(*parts, key)))
     return out
 
 
@@ -180,8 +212,8 @@ def _plain(doc: Document, parts: list[Any], error: Any) -> Problem:
             message = f"{where}: expected a quantity ({kind.description}), got {_show(value)}"
             example = f"write it with its unit in quotes, e.g. '{kind.example}'"
             return Problem(rule, path, message, f"{hint}; {example}" if hint else example)
-        return Problem("spec-schema", path, f"{where}: expected {_describe_type(error.validator_value)}, got {_show(value)}",
-                       hint)
+        expected = _describe_type(error.validator_value)
+        return Problem("spec-schema", path, f"{where}: expected {expected}, got {_show(value)}", hint)
     if validator in ("enum", "const"):
         options = error.validator_value if validator == "enum" else [error.validator_value]
         close = difflib.get_close_matches(str(value), [str(o) for o in options], n=1, cutoff=0.5)
@@ -199,9 +231,17 @@ def _plain(doc: Document, parts: list[Any], error: Any) -> Problem:
                  "exclusiveMaximum": "less than"}[validator]
         return Problem("spec-schema", path, f"{where}: {_show(value)} must be {words} {error.validator_value}",
                        (_subschema(parts) or {}).get("description", ""))
-    if validator in ("minItems", "maxItems", "minLength", "maxLength"):
-        return Problem("spec-schema", path, f"{where}: {error.message}")
-    return Problem("spec-schema", path, f"{where}: {error.message}")
+    if validator in ("minLength", "maxLength") and isinstance(value, str):
+        words = "shorter" if validator == "minLength" else "longer"
+        return Problem("spec-schema", path, f"{where}: {_show(value)} ({len(value)} characters) is {words} than "
+                       f"allowed ({error.validator_value})")
+    if validator in ("minItems", "maxItems") and isinstance(value, list):
+        words = "at least" if validator == "minItems" else "at most"
+        return Problem("spec-schema", path, f"{where}: the list has {len(value)} items; it needs {words} "
+                       f"{error.validator_value}")
+    # jsonschema's own messages quote the whole value, which may be megabytes long
+    message = error.message if len(error.message) <= 200 else error.message[:197] + "..."
+    return Problem("spec-schema", path, f"{where}: {message}")
 
 
 def _show(value: Any) -> str:
@@ -211,6 +251,8 @@ def _show(value: Any) -> str:
         return "an empty value"
     if isinstance(value, (dict, list)):
         return "a mapping" if isinstance(value, dict) else "a list"
+    if isinstance(value, int) and abs(value) > 10**60:
+        return f"a number of about {int(value.bit_length() * 0.30103)} digits"  # str() of a huge int is slow or refused
     text = repr(value) if isinstance(value, str) else str(value)
     return text if len(text) <= 60 else text[:57] + "..."
 
@@ -275,11 +317,11 @@ def read_quantities(doc: Document) -> tuple[Quantities, list[Problem]]:
         try:
             si = units.parse_quantity(value, kind_name)
         except units.QuantityError as exc:
-            problems.append(Problem("units-and-dimensions", path, f"{path}: {exc.message}", exc.hint))
+            problems.append(Problem("units-and-dimensions", path, f"{path}: {exc.message}", exc.hint, parts=parts))
             continue
         problem = _range_problem(path, parts, si, kind_name, value)
         if problem:
-            problems.append(problem)
+            problems.append(replace(problem, parts=parts))
             continue
         q.values[path] = si
         q.kinds[path] = kind_name
