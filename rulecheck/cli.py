@@ -115,6 +115,7 @@ def _parser() -> _Parser:
 
     schema = sub.add_parser("schema", help="print a JSON Schema", description="Print a JSON Schema.")
     schema.add_argument("which", nargs="?", choices=("spec", "result", "rule"), default="spec")
+    schema.add_argument("--markdown", action="store_true", help="the spec format as a Markdown reference")
     return parser
 
 
@@ -362,6 +363,11 @@ def _cmd_rules(args: argparse.Namespace) -> int:
 def _cmd_schema(args: argparse.Namespace) -> int:
     import json
 
+    if args.markdown:
+        from rulecheck.docs import spec_format_markdown
+
+        sys.stdout.write(spec_format_markdown())
+        return 0
     if args.which == "spec":
         from rulecheck.schema import schema_json
 
