@@ -323,7 +323,8 @@ def _starting_voltage(m: Model) -> None:
     if None in (s_sc, i_lr, v_n) or s_sc <= 0 or i_lr <= 0:
         return
     v_supply = m.get("supply.voltage", v_n)
-    phi = math.acos(LOCKED_ROTOR_POWER_FACTOR)
+    pf = m.get("motor.locked_rotor_power_factor", LOCKED_ROTOR_POWER_FACTOR)
+    phi = math.acos(min(max(pf, 0.0), 1.0))
     z_motor = cmath.rect(v_n / (math.sqrt(3.0) * i_lr), phi)  # per phase, star equivalent
     z_source = complex(0.0, v_supply**2 / s_sc)  # source taken as a pure reactance (larger dip: conservative)
     z_cable = 0j
@@ -334,6 +335,6 @@ def _starting_voltage(m: Model) -> None:
     u = abs(z_motor) / abs(z_motor + z_source + z_cable) * v_supply / v_n
     _d(m, "train.starting_voltage", u, "voltage_divider",
        ("supply.voltage", "supply.fault_level", "motor.locked_rotor_current", "motor.rated_voltage", "cable.length",
-        "cable.conductor_area"),
-       f"|Z_m| ÷ |Z_m + Z_supply + Z_cable| × V_supply ÷ V_N, Z_supply = jV²/S_sc, cosφ_LR "
-       f"{LOCKED_ROTOR_POWER_FACTOR} (common practice)")
+        "cable.conductor_area", "motor.locked_rotor_power_factor"),
+       f"|Z_m| ÷ |Z_m + Z_supply + Z_cable| × V_supply ÷ V_N, Z_supply = jV²/S_sc, cosφ_LR {pf:.2f}"
+       + ("" if m.has("motor.locked_rotor_power_factor") else " (default, common practice)"))
