@@ -1,0 +1,201 @@
+"""The command line: exit codes, formats, baselines, changed-only runs, the cache and workers."""
+
+from __future__ import annotations
+
+import json
+import shutil
+import subprocess
+from pathlib import Path
+
+import pytest
+
+from rulecheck.report import jsonout
+
+from .conftest import DEMO, ROOT, run_cli
+
+CLEAN = DEMO / "cv-110-incline-conveyor.yaml"
+
+
+def _spec(tmp: Path, name: str, text: str) -> Path:
+    path = tmp / name
+    path.write_text(text, encoding="utf-8")
+    return path
+
+
+GOOD = "format: 1\ntag: T-1\nmotor:\n  kind: induction\n  rated_power: 7.5 kW\n  rated_speed: 1455 r/min\n"
+BAD_TORQUE = GOOD + "  rated_torque: 59 N*m\n"
+
+
+def test_version_and_help() -> None:
+    assert run_cli("--version").stdout.startswith("rulecheck ")
+    assert "check" in run_cli("--help").stdout
+
+
+def test_usage_errors_exit_2() -> None:
+    proc = run_cli("check", "--formt", "json", "x")
+    assert proc.returncode == 2 and "did you mean '--format'" in proc.stderr
+    proc = run_cli("check", "no/such/path.yaml")
+    assert proc.returncode == 2 and "no such file" in proc.stderr
+    proc = run_cli("check", str(CLEAN), "--config", "missing.yaml")
+    assert proc.returncode == 2
+
+
+def test_clean_demo_spec_exits_0(tmp_path: Path) -> None:
+    proc = run_cli("check", str(CLEAN), "--no-cache")
+    assert proc.returncode == 0, proc.stdout
+
+
+def test_demo_folder_exits_1_with_locations() -> None:
+    proc = run_cli("check", "specs_demo/", "--no-cache")
+    assert proc.returncode == 1
+    lines = [line for line in proc.stdout.splitlines() if ": error " in line]
+    assert lines and all(line.startswith("specs_demo/") and line.split(":")[1].isdigit() for line in lines)
+
+
+@pytest.mark.parametrize(
+    ("text", "words"),
+    [
+        ("format: 1\ntag: A\nmotor:\n  kind: dc\n  poles: 4\n  poles: 6\n", "duplicate key 'poles'"),
+        ("format: 1\ntag: A\nmotor:\n  kind: induction\n  rated_speed: 1455\n", "no unit"),
+        ("format: 1\ntag: A\nmotor:\n  kind: induction\n  rated_power: 9**9**9 kW\n", "arithmetic"),
+        ("format: 1\ntag: A\nmotor:\n  kind: induction\n  rated_power: 1e400 kW\n", "finite"),
+    ],
+)
+def test_one_clear_finding_at_the_right_line(tmp_path: Path, text: str, words: str) -> None:
+    spec = _spec(tmp_path, "s.yaml", text)
+    proc = run_cli("check", str(spec), "--no-cache", cwd=tmp_path)
+    assert proc.returncode == 1
+    findings = [line for line in proc.stdout.splitlines() if line.startswith("s.yaml:")]
+    matching = [line for line in findings if words in line or (words == "no unit" and "unit" in line)]
+    assert len(matching) == 1, proc.stdout
+    assert matching[0].startswith(("s.yaml:5:", "s.yaml:6:")), matching[0]
+
+
+def test_json_output_validates_and_reads_back(tmp_path: Path) -> None:
+    out = tmp_path / "r.json"
+    proc = run_cli("check", "specs_demo/", "--format", "json", "-o", str(out), "--no-cache")
+    assert proc.returncode == 1
+    result = jsonout.load(out.read_text(encoding="utf-8"))
+    assert result["summary"]["specs"] == len(list(DEMO.glob("*.yaml")))
+    assert jsonout.load(jsonout.render(result)) == result
+
+
+def test_several_reports_in_one_run(tmp_path: Path) -> None:
+    proc = run_cli("check", "specs_demo/", "--no-cache", "--report", f"sarif={tmp_path / 'o.sarif'}",
+                   "--report", f"junit={tmp_path / 'o.xml'}", "--report", f"annotations={tmp_path / 'o.txt'}")
+    assert proc.returncode == 1
+    sarif = json.loads((tmp_path / "o.sarif").read_text(encoding="utf-8"))
+    assert sarif["version"] == "2.1.0" and sarif["runs"][0]["results"]
+    import xml.etree.ElementTree as ET
+
+    assert ET.parse(tmp_path / "o.xml").getroot().tag == "testsuites"
+    assert (tmp_path / "o.txt").read_text(encoding="utf-8").startswith("::")
+
+
+def test_fail_on_threshold(tmp_path: Path) -> None:
+    spec = _spec(tmp_path, "s.yaml", GOOD + "  rated_torque: 50.3 N*m\n")  # 2.2 % off: a warning of R02
+    assert run_cli("check", str(spec), "--no-cache", cwd=tmp_path).returncode == 0
+    assert run_cli("check", str(spec), "--no-cache", "--fail-on", "warning", cwd=tmp_path).returncode == 1
+
+
+def test_baseline_survives_a_line_moving_edit(tmp_path: Path) -> None:
+    spec = _spec(tmp_path, "s.yaml", BAD_TORQUE)
+    assert run_cli("check", "s.yaml", "--no-cache", cwd=tmp_path).returncode == 1
+    assert run_cli("baseline", "s.yaml", "--no-cache", cwd=tmp_path).returncode == 0
+    base = tmp_path / ".rulecheck-baseline.json"
+    assert base.is_file()
+    # move every line down: the finding keeps its identity (rule + file + spec path)
+    spec.write_text("# a comment\n# another\n" + BAD_TORQUE.replace("format: 1\n", "format: 1\ntitle: moved\n"),
+                    encoding="utf-8")
+    proc = run_cli("check", "s.yaml", "--no-cache", "--baseline", str(base), cwd=tmp_path)
+    assert proc.returncode == 0, proc.stdout + proc.stderr
+    assert " known, 0 new, 0 fixed" in proc.stderr
+    # a new mistake fails the run again
+    spec.write_text(BAD_TORQUE + "  efficiency: 150 %\n", encoding="utf-8")
+    proc = run_cli("check", "s.yaml", "--no-cache", "--baseline", str(base), cwd=tmp_path)
+    assert proc.returncode == 1
+    # fixing the known mistake reports it as fixed
+    spec.write_text(GOOD, encoding="utf-8")
+    proc = run_cli("check", "s.yaml", "--no-cache", "--baseline", str(base), cwd=tmp_path)
+    assert proc.returncode == 0 and "1 fixed" in proc.stderr
+
+
+def _git(cwd: Path, *args: str) -> None:
+    subprocess.run(["git", *args], cwd=cwd, check=True, capture_output=True,
+                   env={"GIT_AUTHOR_NAME": "t", "GIT_AUTHOR_EMAIL": "t@t.invalid", "GIT_COMMITTER_NAME": "t",
+                        "GIT_COMMITTER_EMAIL": "t@t.invalid", "HOME": str(cwd), "PATH": "/usr/bin:/bin"})
+
+
+def test_changed_since_checks_only_changed_specs(tmp_path: Path) -> None:
+    repo = tmp_path / "repo"
+    (repo / "specs").mkdir(parents=True)
+    _spec(repo / "specs", "a.yaml", BAD_TORQUE.replace("T-1", "A-1"))
+    _spec(repo / "specs", "b.yaml", GOOD.replace("T-1", "B-1"))
+    _git(repo, "init", "-q", "-b", "main")
+    _git(repo, "add", "-A")
+    _git(repo, "commit", "-q", "-m", "specs")
+    proc = run_cli("check", "specs", "--no-cache", "--changed-since", "HEAD", "--format", "json", cwd=repo)
+    assert proc.returncode == 0 and json.loads(proc.stdout)["summary"]["specs"] == 0
+    _spec(repo / "specs", "b.yaml", GOOD.replace("T-1", "B-1") + "  poles: 4\n")
+    proc = run_cli("check", "specs", "--no-cache", "--changed-since", "HEAD", "--format", "json", cwd=repo)
+    files = [s["file"] for s in json.loads(proc.stdout)["specs"]]
+    assert files == ["specs/b.yaml"]
+    # a changed configuration re-checks everything
+    (repo / ".rulecheck.yaml").write_text("fail_on: error\n", encoding="utf-8")
+    proc = run_cli("check", "specs", "--no-cache", "--changed-since", "HEAD", "--format", "json", cwd=repo)
+    assert len(json.loads(proc.stdout)["specs"]) == 2
+    assert run_cli("check", "specs", "--changed-since", "no-such-rev", cwd=repo).returncode == 2
+
+
+def test_cache_hits_and_invalidation_by_rule_change(tmp_path: Path) -> None:
+    spec = _spec(tmp_path, "s.yaml", BAD_TORQUE)
+    rules = tmp_path / "more-rules"
+    rules.mkdir()
+    shutil.copy(ROOT / "rules" / "nameplate-power-torque-speed.yaml", rules / "copy-of-r02.yaml")
+    text = (rules / "copy-of-r02.yaml").read_text(encoding="utf-8").replace("id: nameplate-power-torque-speed",
+                                                                              "id: copy-of-r02")
+    (rules / "copy-of-r02.yaml").write_text(text, encoding="utf-8")
+    args = ("check", str(spec), "--rules", str(rules), "--format", "json", "--cache-dir", str(tmp_path / "c"))
+    first = json.loads(run_cli(*args, cwd=tmp_path).stdout)
+    second = json.loads(run_cli(*args, cwd=tmp_path).stdout)
+    assert first["summary"]["cache"] == {"hits": 0, "misses": 1}
+    assert second["summary"]["cache"] == {"hits": 1, "misses": 0}
+    assert first["specs"] == second["specs"]
+    (rules / "copy-of-r02.yaml").write_text(text.replace('default: "5 %"', 'default: "30 %"'), encoding="utf-8")
+    third = json.loads(run_cli(*args, cwd=tmp_path).stdout)
+    assert third["summary"]["cache"]["misses"] == 1
+    outcome = next(o for o in third["specs"][0]["outcomes"] if o["rule"] == "copy-of-r02")
+    assert outcome["severity"] == "warning"  # the changed threshold took effect
+
+
+def test_corrupt_cache_entries_are_ignored(tmp_path: Path) -> None:
+    spec = _spec(tmp_path, "s.yaml", BAD_TORQUE)
+    cache = tmp_path / "c"
+    args = ("check", str(spec), "--format", "json", "--cache-dir", str(cache))
+    first = json.loads(run_cli(*args, cwd=tmp_path).stdout)
+    for entry in cache.rglob("*.json"):
+        entry.write_text("{not json", encoding="utf-8")
+    second = json.loads(run_cli(*args, cwd=tmp_path).stdout)
+    assert second["summary"]["cache"]["misses"] == 1 and second["specs"] == first["specs"]
+
+
+def test_jobs_1_and_2_give_identical_results(tmp_path: Path) -> None:
+    folder = tmp_path / "many"
+    folder.mkdir()
+    for src in DEMO.glob("*.yaml"):
+        for k in range(3):
+            (folder / f"{k}-{src.name}").write_text(src.read_text(encoding="utf-8").replace("tag: HR-", f"tag: X{k}-"),
+                                                    encoding="utf-8")
+    one = json.loads(run_cli("check", str(folder), "--format", "json", "--no-cache", "-j", "1").stdout)
+    two = json.loads(run_cli("check", str(folder), "--format", "json", "--no-cache", "-j", "2").stdout)
+    for r in (one, two):
+        r.pop("generated")
+    assert one == two
+
+
+def test_spec_files_are_never_modified(tmp_path: Path) -> None:
+    folder = tmp_path / "d"
+    shutil.copytree(DEMO, folder)
+    before = {p.name: p.read_bytes() for p in folder.iterdir()}
+    run_cli("check", str(folder), "--format", "html", "-o", str(tmp_path / "r.html"), cwd=tmp_path)
+    assert {p.name: p.read_bytes() for p in folder.iterdir()} == before
