@@ -180,8 +180,16 @@ class _Builder:
         )
 
 
+def _looks_utf16(data: bytes) -> bool:
+    """Return True for UTF-16 text without a byte-order mark: every other byte zero (one NUL is binary, not text)."""
+    pairs = [data[i:i + 2] for i in range(0, min(len(data), 64) - 1, 2)]
+    if len(pairs) < 2:
+        return False
+    return all(a == 0 and b != 0 for a, b in pairs) or all(a != 0 and b == 0 for a, b in pairs)
+
+
 def _decode(data: bytes) -> str:
-    if data.startswith((b"\xff\xfe", b"\xfe\xff")) or (len(data) > 1 and (data[0] == 0) != (data[1] == 0)):
+    if data.startswith((b"\xff\xfe", b"\xfe\xff")) or _looks_utf16(data):
         raise LoadError("the file is UTF-16 encoded", 1, 1, hint="save the file as UTF-8")
     if b"\x00" in data:
         off = data.index(b"\x00")

@@ -260,6 +260,23 @@ def _wrap(fn: Callable[..., Any]) -> Callable[..., Any]:
     return call
 
 
+# Names jinja itself binds in every template: ``self`` is the template object, the others belong to loops and macros.
+JINJA_NAMES = frozenset({"self", "loop", "super", "caller", "varargs", "kwargs"})
+
+
+def check_names(env: _RuleEnvironment, source: str) -> None:
+    """Raise :class:`ExpressionError` when template ``source`` names one of jinja's own objects."""
+    from jinja2 import nodes
+
+    try:
+        tree = env.parse(source)
+    except TemplateSyntaxError as exc:
+        raise ExpressionError(f"syntax error: {exc.message}") from None
+    for node in tree.find_all(nodes.Name):
+        if node.name in JINJA_NAMES:
+            raise ExpressionError(f"'{node.name}' is not a model value; it is not allowed in rules")
+
+
 def compile_expression(env: _RuleEnvironment, text: str) -> Callable[..., Any]:
     """Compile one expression; raise :class:`ExpressionError` with the reason."""
     if not isinstance(text, str):
@@ -274,6 +291,7 @@ def compile_expression(env: _RuleEnvironment, text: str) -> Callable[..., Any]:
         raise ExpressionError(f"syntax error: {exc.message}") from None
     except Exception as exc:  # jinja raises a few types for malformed input
         raise ExpressionError(f"cannot compile: {exc}") from None
+    check_names(env, "{{ (" + text + ") }}")  # compiled as one expression, so the wrapping cannot change its meaning
     return compiled
 
 

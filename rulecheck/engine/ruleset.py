@@ -188,6 +188,10 @@ def _template(env: Any, text: str, file: str, where: str, pos: Position | None) 
     if "{%" in text or "{#" in text or "__" in text:
         raise RuleError(file, f"{where}: only {{{{ value }}}} substitutions are allowed in messages", *(_lc(pos)))
     try:
+        expr.check_names(env, text)
+    except expr.ExpressionError as exc:
+        raise RuleError(file, f"{where}: {exc}", *(_lc(pos))) from None
+    try:
         return env.from_string(text)
     except Exception as exc:
         raise RuleError(file, f"{where}: cannot compile template: {exc}", *(_lc(pos))) from None
@@ -206,7 +210,7 @@ def _compile(env: Any, text: Any, file: str, where: str, pos: Position | None) -
 
 _IDENT = re.compile(r"^[a-z][a-z0-9_]*$")
 _RESERVED = {"supply", "drive", "motor", "transmission", "load", "environment", "cable", "protection", "duty",
-             "spec", "site", "train", *expr.BUILTINS, *expr.CONSTANTS}
+             "spec", "site", "train", *expr.BUILTINS, *expr.CONSTANTS, *expr.JINJA_NAMES}
 
 
 def load_rule_file(path: Path) -> Rule:
@@ -329,6 +333,9 @@ def load_rules(folders: list[Path], disabled: set[str] | None = None) -> tuple[R
         if not folder.is_dir():
             errors.append(RuleError(str(folder), "rule folder does not exist"))
             continue
+        for path in sorted(folder.glob("*.yaml")):
+            if path.is_symlink():  # rule_files leaves links out; a link in a pull request must not pass unseen
+                errors.append(RuleError(str(path), "a rule file must be a regular file, not a symbolic link"))
         for path in rule_files(folder):
             try:
                 rule = load_rule_file(path)
