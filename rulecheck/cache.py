@@ -10,6 +10,7 @@ atomically; a corrupt, truncated or foreign entry is ignored and replaced.
 from __future__ import annotations
 
 import hashlib
+import hmac
 import json
 import os
 import re
@@ -18,7 +19,7 @@ from functools import lru_cache
 from pathlib import Path
 from typing import Any
 
-__all__ = ["ResultCache", "code_digest", "spec_key"]
+__all__ = ["ResultCache", "code_digest", "default_cache_dir", "spec_key"]
 
 _MAGIC = "rulecheck-cache-1"
 _PROFILE = re.compile(rb"^\s*duty_profile\s*:\s*['\"]?([A-Za-z0-9_./-]+\.csv)", re.MULTILINE)
@@ -55,14 +56,53 @@ def spec_key(spec_bytes: bytes, spec_path: Path, display: str, context_key: str)
     return h.hexdigest()
 
 
+def default_cache_dir() -> Path:
+    """Return the user's cache folder for rulecheck (outside any repository, so a pull request cannot plant entries)."""
+    env = os.environ.get("RULECHECK_CACHE_DIR")
+    if env:
+        return Path(env)
+    base = os.environ.get("XDG_CACHE_HOME") or os.path.join(os.path.expanduser("~"), ".cache")
+    return Path(base) / "rulecheck"
+
+
+def _secret() -> bytes:
+    """Return this user's key for signing cache entries (created on first use, readable by the user only)."""
+    path = default_cache_dir() / "signing-key"
+    try:
+        data = path.read_bytes()
+        if len(data) >= 32:
+            return data
+    except OSError:
+        pass
+    data = os.urandom(32)
+    try:
+        path.parent.mkdir(parents=True, exist_ok=True)
+        fd = os.open(path, os.O_WRONLY | os.O_CREAT | os.O_EXCL, 0o600)
+        with os.fdopen(fd, "wb") as handle:
+            handle.write(data)
+    except FileExistsError:
+        return path.read_bytes()
+    except OSError:
+        pass  # a key kept in memory only: entries are valid for this process alone
+    return data
+
+
 class ResultCache:
-    """A folder of cached spec results."""
+    """A folder of cached spec results, each entry signed with the user's key.
+
+    A signature that does not match (an entry written elsewhere, edited, truncated or planted in a
+    repository) makes the entry count as absent.
+    """
 
     def __init__(self, folder: Path) -> None:
         self.folder = folder
         self.hits = 0
         self.misses = 0
         self.usable = True
+        self._key = _secret()
+
+    def _mac(self, payload: bytes) -> str:
+        return hmac.new(self._key, payload, hashlib.sha256).hexdigest()
 
     def _path(self, key: str) -> Path:
         return self.folder / key[:2] / f"{key}.json"
@@ -70,8 +110,11 @@ class ResultCache:
     def get(self, key: str) -> dict[str, Any] | None:
         """Return the cached result for ``key``, or None (a bad entry counts as absent)."""
         try:
-            text = self._path(key).read_text(encoding="utf-8")
-            entry = json.loads(text)
+            raw = self._path(key).read_bytes()
+            mac, _sep, payload = raw.partition(b"\n")
+            if not hmac.compare_digest(mac.decode("ascii", "replace"), self._mac(payload)):
+                raise ValueError("signature")
+            entry = json.loads(payload)
         except (OSError, ValueError, UnicodeDecodeError):
             self.misses += 1
             return None
@@ -92,10 +135,11 @@ class ResultCache:
             ignore = self.folder / ".gitignore"
             if not ignore.exists():
                 ignore.write_text("# rulecheck's result cache\n*\n", encoding="utf-8")
+            payload = json.dumps({"magic": _MAGIC, "key": key, "result": result}, ensure_ascii=False,
+                                 separators=(",", ":")).encode("utf-8")
             fd, tmp = tempfile.mkstemp(dir=path.parent, prefix=".tmp-", suffix=".json")
-            with os.fdopen(fd, "w", encoding="utf-8") as handle:
-                json.dump({"magic": _MAGIC, "key": key, "result": result}, handle, ensure_ascii=False,
-                          separators=(",", ":"))
+            with os.fdopen(fd, "wb") as handle:
+                handle.write(self._mac(payload).encode("ascii") + b"\n" + payload)
             os.replace(tmp, path)
         except OSError:
             self.usable = False

@@ -122,8 +122,9 @@ def _parser() -> _Parser:
 def _speed_options(parser: argparse.ArgumentParser) -> None:
     parser.add_argument("--jobs", "-j", type=int, default=0, metavar="N",
                         help="worker processes (default 0: all cores)")
-    parser.add_argument("--cache-dir", default=".rulecheck-cache", metavar="DIR",
-                        help="result cache folder (default: .rulecheck-cache)")
+    parser.add_argument("--cache-dir", default=None, metavar="DIR",
+                        help="result cache folder (default: RULECHECK_CACHE_DIR, or rulecheck/ in the user's "
+                             "cache folder, ~/.cache)")
     parser.add_argument("--no-cache", action="store_true", help="neither read nor write the result cache")
     parser.add_argument("--no-progress", action="store_true", help="never show a progress bar")
 
@@ -164,6 +165,9 @@ def _write(path: str | None, text: str | bytes) -> None:
     try:
         with os.fdopen(fd, "wb") as handle:
             handle.write(data)
+        umask = os.umask(0)
+        os.umask(umask)
+        os.chmod(tmp, 0o666 & ~umask)  # mkstemp makes the file private; a report is an ordinary file
         os.replace(tmp, target)
     except BaseException:
         try:
@@ -240,12 +244,18 @@ def _run(args: argparse.Namespace, paths: list[str]) -> dict[str, Any]:
         raise _Usage("--jobs must be 0 (all cores) or more")
     options = RunOptions(paths=paths, config=args.config, rule_paths=args.rule_paths,
                          fail_on=getattr(args, "fail_on", None), units=getattr(args, "units", None),
-                         today=_today(args), jobs=args.jobs, cache_dir=None if args.no_cache else args.cache_dir,
+                         today=_today(args), jobs=args.jobs, cache_dir=None if args.no_cache else _cache_dir(args),
                          changed_since=getattr(args, "changed_since", None))
     try:
         return run(options, progress=_progress(args))
     except UsageError as exc:
         raise _Usage(str(exc)) from None
+
+
+def _cache_dir(args: argparse.Namespace) -> str:
+    from rulecheck.cache import default_cache_dir
+
+    return args.cache_dir or str(default_cache_dir() / "results")
 
 
 def _cmd_check(args: argparse.Namespace) -> int:

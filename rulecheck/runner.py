@@ -166,6 +166,22 @@ def prepare(cfg: Config, extra_rule_paths: list[Path], today: _dt.date, units_sy
     return Prepared(cfg, ruleset, ctx)
 
 
+def _prepare_cached(cfg: Config, extra: list[Path], today: _dt.date, units_system: str, base_dir: Path,
+                    cache: ResultCache | None, digest: str) -> Prepared:
+    """Prepare a configuration's rules, reusing a cached lint of the same rule files and code."""
+    if cache is None:
+        return prepare(cfg, extra, today, units_system, base_dir)
+    key = "lint-" + hashlib.sha256((code_digest() + digest).encode()).hexdigest()
+    entry = cache.get(key)
+    cache.hits -= entry is not None
+    cache.misses -= entry is None
+    if entry is not None and isinstance(entry.get("kinds"), dict):
+        return prepare(cfg, extra, today, units_system, base_dir, value_kinds=entry["kinds"])
+    prepared = prepare(cfg, extra, today, units_system, base_dir)
+    cache.put(key, {"kinds": prepared.context.value_kinds})
+    return prepared
+
+
 # --- configuration discovery ---------------------------------------------------------------------------
 
 
@@ -389,7 +405,8 @@ def run(options: RunOptions, progress: Callable[[int, int], None] | None = None)
     prepared: dict[str | None, Prepared] = {}
     for _k, cfg_file, spec, _shown in todo:
         if cfg_file not in prepared:
-            prepared[cfg_file] = prepare(configs.for_spec(spec), extra, today, units_system, base_dir)
+            prepared[cfg_file] = _prepare_cached(configs.for_spec(spec), extra, today, units_system, base_dir,
+                                                 cache, digests[cfg_file])
     jobs = options.jobs if options.jobs > 0 else (os.cpu_count() or 1)
     jobs = min(jobs, max(1, len(todo) // 8))  # small runs are faster in one process
     if jobs <= 1:

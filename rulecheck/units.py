@@ -265,9 +265,65 @@ def _normalise_speed_text(unit: str) -> str:
     return u
 
 
+_PI = math.pi
+_LB = 0.45359237  # kg, exact (NIST SP 811 B.9)
+_FT = 0.3048  # m, exact
+_IN = 0.0254  # m, exact
+_LBF = _LB * 9.80665  # N, exact from the standard gravity
+
+# Common unit spellings by kind, converted without building the pint registry (start-up costs ~0.3 s).
+# Every entry is checked against pint's definitions in tests/foundation/test_units.py.
+FAST_UNITS: dict[str, dict[str, float]] = {
+    "power": {"W": 1.0, "kW": 1e3, "MW": 1e6, "hp": 550 * _FT * _LBF, "hp_mech": 550 * _FT * _LBF,
+              "hp_metric": 75 * 9.80665, "hp_elec": 746.0},
+    "torque": {"N*m": 1.0, "N·m": 1.0, "Nm": 1.0, "kN*m": 1e3, "kN·m": 1e3, "kNm": 1e3, "lbf*ft": _LBF * _FT,
+               "lbf*in": _LBF * _IN, "ft*lbf": _LBF * _FT},
+    "energy": {"J": 1.0, "kJ": 1e3, "MJ": 1e6, "Wh": 3600.0, "kWh": 3.6e6},
+    "rotational_speed": {"rpm": 2 * _PI / 60, "krpm": 2 * _PI / 60 * 1000, "rps": 2 * _PI, "rad/s": 1.0,
+                         "deg/s": _PI / 180},
+    "frequency": {"Hz": 1.0, "kHz": 1e3, "MHz": 1e6},
+    "voltage": {"V": 1.0, "kV": 1e3, "mV": 1e-3},
+    "current": {"A": 1.0, "kA": 1e3, "mA": 1e-3},
+    "resistance": {"ohm": 1.0, "Ω": 1.0, "mohm": 1e-3, "mΩ": 1e-3, "kohm": 1e3, "kΩ": 1e3},
+    "inductance": {"H": 1.0, "mH": 1e-3, "uH": 1e-6, "µH": 1e-6},
+    "capacitance": {"F": 1.0, "mF": 1e-3, "uF": 1e-6, "µF": 1e-6},
+    "inertia": {"kg*m^2": 1.0, "kg·m^2": 1.0, "kg*m**2": 1.0, "lb*ft^2": _LB * _FT**2,
+                "lb*in^2": _LB * _IN**2},
+    "mass": {"kg": 1.0, "g": 1e-3, "t": 1e3, "lb": _LB},
+    "length": {"m": 1.0, "mm": 1e-3, "cm": 1e-2, "km": 1e3, "in": _IN, "ft": _FT},
+    "area": {"mm^2": 1e-6, "m^2": 1.0, "cm^2": 1e-4, "in^2": _IN**2},
+    "velocity": {"m/s": 1.0, "m/min": 1 / 60, "km/h": 1 / 3.6, "ft/min": _FT / 60, "ft/s": _FT},
+    "acceleration": {"m/s^2": 1.0, "ft/s^2": _FT},
+    "force": {"N": 1.0, "kN": 1e3, "MN": 1e6, "lbf": _LBF},
+    "time": {"s": 1.0, "ms": 1e-3, "min": 60.0, "h": 3600.0, "us": 1e-6, "µs": 1e-6},
+    "temperature_difference": {"K": 1.0, "delta_degC": 1.0, "delta_degF": 5 / 9},
+    "angle": {"rad": 1.0, "deg": _PI / 180, "°": _PI / 180},
+    "back_emf_constant": {"V/krpm": 60 / (2 * _PI * 1000), "V/rpm": 60 / (2 * _PI), "mV/rpm": 60e-3 / (2 * _PI),
+                          "V*s/rad": 1.0, "V·s/rad": 1.0, "V/(rad/s)": 1.0},
+    "torque_constant": {"N*m/A": 1.0, "N·m/A": 1.0, "Nm/A": 1.0, "lbf*in/A": _LBF * _IN},
+    "resistance_per_length": {"ohm/m": 1.0, "mohm/m": 1e-3, "ohm/km": 1e-3, "mΩ/m": 1e-3, "Ω/km": 1e-3},
+    "density": {"kg/m^3": 1.0, "t/m^3": 1e3, "g/cm^3": 1e3},
+}
+_FAST_TEMPERATURE = {"degC": (1.0, 0.0), "°C": (1.0, 0.0), "K": (1.0, -273.15), "degF": (5 / 9, -32 * 5 / 9),
+                     "°F": (5 / 9, -32 * 5 / 9)}
+
+
 @lru_cache(maxsize=4096)
 def _conversion(unit_text: str, kind_name: str) -> tuple[float, float]:
     """Return (scale, offset) so that SI = value*scale + offset; raise QuantityError."""
+    unit_text = unit_text.replace("²", "^2").replace("³", "^3")
+    if kind_name == "temperature" and unit_text in _FAST_TEMPERATURE:
+        return _FAST_TEMPERATURE[unit_text]
+    table = FAST_UNITS.get(kind_name)
+    if table is not None:
+        key = _SPEED_FORMS.get(unit_text.replace(" ", ""), "") if kind_name == "rotational_speed" else unit_text
+        if key in table:
+            return table[key], 0.0
+    return _pint_conversion(unit_text, kind_name)
+
+
+def _pint_conversion(unit_text: str, kind_name: str) -> tuple[float, float]:
+    """Return (scale, offset) for a unit spelling outside the fast table, through pint."""
     k = KINDS[kind_name]
     text = unit_text.strip()
     if text == "%" or text == "percent":

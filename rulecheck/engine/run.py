@@ -204,8 +204,17 @@ def evaluate_rule(rule: Rule, model: Model, namespace: dict[str, Any], params: d
 
 
 def _not_checked_message(rule: Rule, missing: list[str]) -> str:
+    from rulecheck.derive import DERIVED
+
     lead = "safety-relevant check could not be evaluated" if rule.safety else "could not be evaluated"
-    return f"{lead}: give {', '.join(missing)}"
+    given = [p for p in missing if p not in DERIVED]
+    derived = [p for p in missing if p in DERIVED]
+    parts = []
+    if given:
+        parts.append("give " + ", ".join(given))
+    if derived:
+        parts.append("could not derive " + "; ".join(f"{p} ({DERIVED[p][1]})" for p in derived))
+    return f"{lead}: {'; '.join(parts)}"
 
 
 def _rule_error(rule: Rule, where: str, text: str, exc: Exception) -> Outcome:

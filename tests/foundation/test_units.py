@@ -154,3 +154,19 @@ def test_same_torque_from_si_and_customary(kw: float, rpm: float) -> None:
     hp = kw * 1000 / 745.69987158227022
     customary = parse_quantity(f"{hp!r} hp", "power") / parse_quantity(f"{rpm!r} rpm", "rotational_speed")
     assert customary == pytest.approx(si, rel=1e-9)
+
+
+def test_fast_unit_table_agrees_with_pint() -> None:
+    # the start-up fast path must give exactly what pint's definitions give (relative 1e-12: float rounding)
+    from rulecheck.units import _FAST_TEMPERATURE, FAST_UNITS, _pint_conversion
+
+    for kind_name, table in FAST_UNITS.items():
+        for unit, scale in table.items():
+            spelled = {"rpm": "r/min", "krpm": "krpm", "rps": "rev/s"}.get(unit, unit) \
+                if kind_name == "rotational_speed" else unit
+            ref_scale, ref_offset = _pint_conversion(spelled, kind_name)
+            assert ref_offset == 0.0
+            assert scale == pytest.approx(ref_scale, rel=1e-12), (kind_name, unit)
+    for unit, (scale, offset) in _FAST_TEMPERATURE.items():
+        ref = _pint_conversion(unit, "temperature")
+        assert scale == pytest.approx(ref[0], rel=1e-12) and offset == pytest.approx(ref[1], abs=1e-9), unit
