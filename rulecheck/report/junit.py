@@ -24,6 +24,8 @@ _SKIPPED = ("not-checked", "not-applicable", "waived")
 # Everything outside XML 1.0's Char production (W3C XML 1.0, 5th ed., section 2.2).
 _NOT_XML = re.compile("[^\t\n\r\u0020-\ud7ff\ue000-\ufffd\U00010000-\U0010ffff]")
 
+_COMMAND_LINE = re.compile(r"(?m)^([ \t]*)::")
+
 _SAFETY_NOTE = ("Safety-relevant: a fault here can hurt people. Have the design reviewed by a competent person "
                 "under the local codes before it is built or changed.")
 
@@ -158,4 +160,7 @@ def render(result: dict[str, Any]) -> str:
         root.set(key, str(value))
     root.set("time", "0")
     ET.indent(root)
-    return '<?xml version="1.0" encoding="UTF-8"?>\n' + ET.tostring(root, encoding="unicode") + "\n"
+    # A text line starting with '::' is a workflow command when the report is printed to a CI log; a character
+    # reference keeps the text the same for XML readers. Attribute values never span lines (ElementTree writes &#10;).
+    body = _COMMAND_LINE.sub(r"\1&#58;:", ET.tostring(root, encoding="unicode"))
+    return '<?xml version="1.0" encoding="UTF-8"?>\n' + body + "\n"
