@@ -297,8 +297,21 @@ def _braking(m: Model, data: dict[str, Any]) -> None:
            ("duty.regenerative_energy", "duty.cycle_time"), "E_cycle ÷ t_cycle")
         return
     jt, w = m.get("train.inertia_total"), m.get("train.speed_max")
-    if jt is None or w is None:
-        return
+    e_mech = _stopping(m, jt, w, eta, eta_inputs) if jt is not None and w is not None else None
+    lowering = m.get("load.lowering_power")
+    if lowering is not None:
+        peak = max(m.get("train.braking_power_peak", 0.0), lowering * eta)
+        m.derive("train.braking_power_peak", peak, "power", "braking_power", ("load.lowering_power", *eta_inputs),
+                 "largest of the stopping peak and steady lowering power × η_rev × η_mot")
+        _d(m, "train.braking_power_mean", lowering * eta, "hoist_lowering_power", ("load.lowering_power", *eta_inputs),
+           "continuous lowering × η_rev × η_mot (no duty cycle given: conservative)")
+    elif e_mech is not None and m.get("load.starts_per_hour"):
+        _d(m, "train.braking_power_mean", e_mech * eta * m.get("load.starts_per_hour") / 3600.0, "braking_energy",
+           ("train.braking_energy", "load.starts_per_hour"), "E_stop × stops per hour ÷ 3600 s")
+
+
+def _stopping(m: Model, jt: float, w: float, eta: float, eta_inputs: tuple[str, ...]) -> float:
+    """Derive the energy and peak power of one stop from top speed; return the mechanical energy [J]."""
     tl = abs(m.get("train.load_torque") or 0.0)
     t_dec = m.get("load.deceleration_time")
     e_mech = dyn.braking_energy(jt, w, 0.0)
@@ -313,13 +326,4 @@ def _braking(m: Model, data: dict[str, Any]) -> None:
     _d(m, "train.braking_energy", e_mech * eta, "braking_energy",
        ("train.inertia_total", "train.speed_max", "load.deceleration_time", *eta_inputs),
        "(½·J·ω² − load work during the ramp) × η_rev × η_mot")
-    lowering = m.get("load.lowering_power")
-    if lowering is not None:
-        peak = max(m.get("train.braking_power_peak", 0.0), lowering * (m.get("motor.efficiency") or 1.0))
-        m.derive("train.braking_power_peak", peak, "power", "braking_power", ("load.lowering_power",),
-                 "largest of the stopping peak and steady lowering power × η_mot")
-        _d(m, "train.braking_power_mean", lowering * (m.get("motor.efficiency") or 1.0), "hoist_lowering_power",
-           ("load.lowering_power", "motor.efficiency"), "continuous lowering (no duty cycle given: conservative)")
-    elif m.has("load.starts_per_hour") and m.get("load.starts_per_hour"):
-        _d(m, "train.braking_power_mean", e_mech * eta * m.get("load.starts_per_hour") / 3600.0, "braking_energy",
-           ("train.braking_energy", "load.starts_per_hour"), "E_stop × stops per hour ÷ 3600 s")
+    return e_mech

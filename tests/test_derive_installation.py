@@ -1,0 +1,127 @@
+"""Derived values of the installation derive step, checked against hand calculations and rulebook check values."""
+
+from __future__ import annotations
+
+import math
+
+import pytest
+import yaml
+
+from rulecheck.derive import build_model
+from rulecheck.derive_installation import ip_digits, large_frame, nema_rated
+from rulecheck.load import load_text
+from rulecheck.schema import read_quantities
+
+BASE_MOTOR = {"kind": "induction", "rated_power": "7.5 kW", "rated_speed": "1455 r/min", "rated_voltage": "400 V",
+              "rated_current": "14.6 A", "rated_frequency": "50 Hz", "poles": 4}
+
+
+def model(spec: dict):
+    doc = load_text(yaml.safe_dump({"format": 1, "tag": "T", **spec}), "t.yaml")
+    quantities, problems = read_quantities(doc)
+    assert problems == []
+    return build_model(doc, quantities, None)
+
+
+def test_ip_digits_reads_x_and_9k() -> None:
+    # IEC 60529: two numerals, X for "not specified", 9K for hot high-pressure water
+    assert ip_digits("IP55") == (5, 5)
+    assert ip_digits("IPX7") == (0, 7)
+    assert ip_digits("IP69K") == (6, 9)
+    assert ip_digits("NEMA 4X") is None
+
+
+def test_frames_and_nema_marks() -> None:
+    assert large_frame("315M") is True and large_frame("250M") is False
+    assert large_frame("5008L") is True and large_frame("449T") is False
+    assert nema_rated(None, "254T", None) and nema_rated("B", None, None) and nema_rated(None, None, 1.15)
+    assert not nema_rated("N", "132M", 1.0)
+
+
+def test_induction_current_at_rms_torque() -> None:
+    # rulebook R22: I = √(I_0² + (T/T_N)²·(I_N² − I_0²)), I_0 = 0.35·I_N (common practice)
+    # T_N = 7500 W ÷ 152.367 rad/s = 49.223 N·m; T = 40 N·m → I = √(26.112 + 0.66036·187.048) = 12.233 A
+    m = model({"drive": {"kind": "inverter"}, "motor": BASE_MOTOR,
+               "load": {"model": "constant-torque", "torque": "40 N*m", "speed_max": "1455 r/min"}})
+    assert m.get("train.continuous_torque_required") == pytest.approx(40.0)
+    assert m.get("train.motor_current_required") == pytest.approx(12.233, rel=1e-3)
+
+
+def test_pm_current_from_kt() -> None:
+    m = model({"drive": {"kind": "inverter"},
+               "motor": {"kind": "pm-synchronous", "rated_power": "4 kW", "rated_speed": "3000 r/min",
+                         "torque_constant": "1.6 N*m/A"},
+               "load": {"model": "constant-torque", "torque": "10 N*m", "speed_max": "3000 r/min"}})
+    assert m.get("train.motor_current_required") == pytest.approx(6.25)
+
+
+def test_application_service_factor_k32() -> None:
+    # rulebook K32: 10 h moderate 1.25, 24 h heavy 1.75; > 10 starts/h at 24 h heavy: 2.0
+    for hours, shock, starts, expected in ((10, "moderate", 0, 1.25), (24, "heavy", 0, 1.75), (24, "heavy", 20, 2.0)):
+        m = model({"motor": {"kind": "induction"},
+                   "transmission": {"kind": "helical", "ratio": 10, "hours_per_day": hours, "shock": shock},
+                   "load": {"model": "constant-torque", "starts_per_hour": starts}})
+        assert m.get("transmission.application_service_factor") == expected
+
+
+def test_efficiency_band_per_stage() -> None:
+    m = model({"motor": {"kind": "induction"}, "transmission": {"kind": "helical", "ratio": 10, "stages": 3},
+               "load": {"model": "constant-torque"}})
+    assert m.get("transmission.efficiency_band_low") == pytest.approx(0.97**3)
+    assert m.get("transmission.efficiency_band_high") == pytest.approx(0.99**3)
+
+
+def test_braking_energy_and_power_k39() -> None:
+    # rulebook K39: J 2 kg·m², 1500 → 0 r/min → 24.67 kJ; peak (J·ω/t)·ω over 10 s = 4935 W
+    m = model({"supply": {"voltage": "400 V"}, "drive": {"kind": "inverter"},
+               "motor": {"kind": "induction", "rated_power": "15 kW", "rated_speed": "1470 r/min",
+                         "inertia": "0.1 kg*m^2"},
+               "load": {"model": "quadratic", "torque_at_speed_max": "0 N*m", "speed_max": "1500 r/min",
+                        "inertia": "1.9 kg*m^2", "deceleration_time": "10 s", "starts_per_hour": 30}})
+    w = 1500 * 2 * math.pi / 60
+    assert m.get("train.braking_energy") == pytest.approx(0.5 * 2 * w**2, rel=1e-6)
+    assert m.get("train.braking_energy") == pytest.approx(24674, rel=1e-3)
+    assert m.get("train.braking_power_peak") == pytest.approx(4935, rel=1e-3)
+    assert m.get("train.braking_power_mean") == pytest.approx(24674 * 30 / 3600, rel=1e-3)
+    assert m.get("train.regeneration_sustained") is False
+
+
+def test_hoist_regenerates_steadily() -> None:
+    # rulebook K39: 1000 kg lowered at 0.5 m/s, η 0.85 → 4168 W returned
+    m = model({"supply": {"voltage": "400 V"}, "drive": {"kind": "inverter"}, "motor": {"kind": "induction"},
+               "load": {"model": "hoist", "mass": "1000 kg", "drum_diameter": "0.4 m", "line_speed": "0.5 m/s",
+                        "efficiency": "85 %"}})
+    assert m.get("train.regeneration_sustained") is True
+    assert m.get("train.braking_power_mean") == pytest.approx(4168, rel=1e-3)
+
+
+def test_drive_derating_uses_the_drives_ambient_limit() -> None:
+    # common-practice default: 0 above the drive's stated maximum (48 °C > 45 °C)
+    m = model({"drive": {"kind": "inverter", "ambient_max": "45 degC"}, "motor": {"kind": "induction"},
+               "environment": {"ambient_max": "48 degC"}})
+    assert m.get("site.drive_derating") == 0.0
+    assert m.get("site.drive_derating_default_used") is True
+    m = model({"drive": {"kind": "inverter", "ambient_max": "50 degC"}, "motor": {"kind": "induction"},
+               "environment": {"ambient_max": "45 degC"}})
+    assert m.get("site.drive_derating") == pytest.approx(0.95)
+
+
+def test_ingress_minimum_from_location_and_ex_class() -> None:
+    m = model({"motor": {"kind": "induction", "enclosure": "IP55", "ex_marking": "II 2G Ex db IIB T4 Gb"},
+               "environment": {"location": "washdown",
+                               "hazardous_area": {"classification": "zone-1", "temperature_class": "T3"}}})
+    assert (m.get("environment.ingress_solids_min"), m.get("environment.ingress_water_min")) == (6, 5)
+    assert m.get("environment.ingress_minimum") == "IP65"
+    assert m.get("motor.ex_temperature_class") == 4
+    assert m.get("environment.hazardous_area.temperature_class_number") == 3
+
+
+def test_peak_duration_and_gear_peak() -> None:
+    # J = 0.03 + 20/10² = 0.23 kg·m²; T_acc = 0.23 × 152.367 / 2 = 17.52 N·m; T_L/(i·η) = 400/9.6 = 41.667 N·m
+    m = model({"motor": {"kind": "induction", "rated_power": "7.5 kW", "rated_speed": "1455 r/min",
+                         "inertia": "0.03 kg*m^2"},
+               "transmission": {"kind": "helical", "ratio": 10, "efficiency": "96 %"},
+               "load": {"model": "constant-torque", "torque": "400 N*m", "speed_max": "145.5 r/min",
+                        "inertia": "20 kg*m^2", "acceleration_time": "2 s"}})
+    assert m.get("train.peak_duration") == 2.0
+    assert m.get("train.gear_output_torque_peak") == pytest.approx((400 / 9.6 + 0.23 * 152.367 / 2) * 9.6, rel=1e-4)
