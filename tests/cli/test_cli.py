@@ -199,3 +199,60 @@ def test_spec_files_are_never_modified(tmp_path: Path) -> None:
     before = {p.name: p.read_bytes() for p in folder.iterdir()}
     run_cli("check", str(folder), "--format", "html", "-o", str(tmp_path / "r.html"), cwd=tmp_path)
     assert {p.name: p.read_bytes() for p in folder.iterdir()} == before
+
+
+def test_mail_dry_run_and_eml(tmp_path: Path) -> None:
+    eml = tmp_path / "r.eml"
+    proc = run_cli("mail", str(CLEAN), "--to", "lead@example.invalid", "--eml", str(eml), "--dry-run", "--no-cache")
+    assert proc.returncode == 0, proc.stderr
+    assert "Dry run" in proc.stdout
+    from email import policy
+    from email.parser import BytesParser
+
+    message = BytesParser(policy=policy.default).parsebytes(eml.read_bytes())
+    assert message["To"] == "lead@example.invalid"
+    assert {part.get_content_type() for part in message.walk()} >= {"text/plain", "text/html"}
+
+
+def test_mail_to_a_wrong_host_is_one_clear_error_and_the_report_is_written(tmp_path: Path) -> None:
+    html = tmp_path / "r.html"
+    proc = run_cli("mail", str(CLEAN), "--to", "lead@example.invalid", "--html", str(html), "--send", "--no-cache",
+                   env={"RULECHECK_SMTP_HOST": "127.0.0.1", "RULECHECK_SMTP_PORT": "9", "RULECHECK_SMTP_SECURITY": "none",
+                        "RULECHECK_SMTP_PASSWORD": "s3cret-value"})
+    assert proc.returncode == 2
+    errors = [line for line in proc.stderr.splitlines() if line.startswith("rulecheck:") and "wrote" not in line]
+    assert len(errors) == 1, proc.stderr
+    assert "s3cret-value" not in proc.stdout + proc.stderr
+    assert html.is_file() and "<html" in html.read_text(encoding="utf-8")[:500].lower()
+
+
+def test_mail_delivers_to_a_local_smtp_server(tmp_path: Path) -> None:
+    import socket
+    import time
+
+    from aiosmtpd.controller import Controller
+
+    received = []
+
+    class Handler:
+        async def handle_DATA(self, server, session, envelope):  # noqa: N802 - aiosmtpd's hook name
+            received.append(envelope.content)
+            return "250 OK"
+
+    with socket.socket() as s:
+        s.bind(("127.0.0.1", 0))
+        port = s.getsockname()[1]
+    controller = Controller(Handler(), hostname="127.0.0.1", port=port)
+    controller.start()
+    try:
+        proc = run_cli("mail", str(CLEAN), "--to", "lead@example.invalid", "--send", "--no-cache",
+                       env={"RULECHECK_SMTP_HOST": "127.0.0.1", "RULECHECK_SMTP_PORT": str(port),
+                            "RULECHECK_SMTP_SECURITY": "none"})
+        for _ in range(50):
+            if received:
+                break
+            time.sleep(0.1)
+    finally:
+        controller.stop()
+    assert proc.returncode == 0, proc.stderr
+    assert received and b"HR-CV-110" in received[0]
