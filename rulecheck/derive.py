@@ -736,13 +736,15 @@ def _site(m: Model, data: dict[str, Any], base: Path | None) -> None:
         _d(m, "site.drive_derating", m.get("drive.derating"), "given", ("drive.derating",), "manufacturer's factor")
     else:
         try:
-            k = sp.drive_derating_factor(alt or 0.0, amb if amb is not None else 40.0)
+            k = sp.drive_derating_factor(alt or 0.0, amb if amb is not None else 40.0,
+                                         m.get("drive.ambient_max", 50.0))
         except ValueError:
             k = 0.0  # beyond the drive's stated range: no capability
         _d(m, "site.drive_derating", k, "drive_derating_factor", ("environment.altitude", "environment.ambient_max"),
            "−1 %/100 m above 1000 m × −1 %/K from 40 to 50 °C (common practice)")
     # the capability-based values depend on the site factor: recompute them now that it is known
-    for key in [k for k in list(m.values) if k.startswith("train.continuous_")]:
+    recomputed = [k for k in list(m.values) if k.startswith("train.continuous_")]
+    for key in [k for k in recomputed if k != "train.continuous_torque_required"]:
         del m.values[key]
         del m.provenance[key]
         m.kinds.pop(key, None)

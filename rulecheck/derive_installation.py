@@ -15,7 +15,6 @@ from pathlib import Path
 from typing import Any
 
 from rulecheck.model import Model
-from rulecheck.physics import dynamics as dyn
 from rulecheck.physics import machines as mc
 from rulecheck.physics import supply as sp
 from rulecheck.physics import transmission as tr
@@ -37,7 +36,7 @@ DERIVED: dict[str, tuple[str | None, str]] = {
     "transmission.efficiency_band_low": ("fraction", "lowest plausible efficiency for the kind and stages"),
     "transmission.efficiency_band_high": ("fraction", "highest plausible efficiency for the kind and stages"),
     "train.peak_duration": ("time", "how long the peak torque lasts (duty segment or acceleration time)"),
-    "train.braking_energy": ("energy", "energy one stop returns to the DC bus: E_mech·η_rev·η_mot"),
+    "train.braking_energy": ("energy", "energy one ramped stop returns to the DC bus; needs load.deceleration_time"),
     "train.braking_power_peak": ("power", "largest power returned to the DC bus"),
     "train.braking_power_mean": ("power", "mean regenerated power over the cycle (E_cycle ÷ t_cycle)"),
     "train.regeneration_sustained": ("flag", "the load regenerates at steady speed (lowering, downhill, unwinding)"),
@@ -310,20 +309,39 @@ def _braking(m: Model, data: dict[str, Any]) -> None:
            ("train.braking_energy", "load.starts_per_hour"), "E_stop × stops per hour ÷ 3600 s")
 
 
-def _stopping(m: Model, jt: float, w: float, eta: float, eta_inputs: tuple[str, ...]) -> float:
-    """Derive the energy and peak power of one stop from top speed; return the mechanical energy [J]."""
-    tl = abs(m.get("train.load_torque") or 0.0)
+def _stopping(m: Model, jt: float, w: float, eta: float, eta_inputs: tuple[str, ...]) -> float | None:
+    """Derive the energy and peak power that one ramped stop from top speed returns; return it before η [J].
+
+    Without a deceleration time the drive may coast or ramp slowly: nothing is derived, and the braking
+    rule reports what it would need.
+    """
+    if m.get("drive.stop") == "coast":
+        # the inverter stops modulating and the load coasts: nothing flows back to the DC bus
+        _d(m, "train.braking_energy", 0.0, "coast", ("drive.stop",), "coast to stop: no regeneration")
+        _d(m, "train.braking_power_peak", 0.0, "coast", ("drive.stop",), "coast to stop: no regeneration")
+        return 0.0
     t_dec = m.get("load.deceleration_time")
-    e_mech = dyn.braking_energy(jt, w, 0.0)
-    if t_dec:
-        # a constant load torque absorbs T_L·ω_mean·t_dec of it during a linear ramp (quadratic loads absorb less)
-        absorbed = tl * w / 2.0 * t_dec if m.get("load.model") not in ("quadratic", "hoist") else 0.0
-        e_mech = max(e_mech - absorbed, 0.0)
-        p_pk = max(jt * w / t_dec - (tl if m.get("load.model") != "hoist" else -tl), 0.0) * w * eta
-        _d(m, "train.braking_power_peak", p_pk, "braking_power",
-           ("train.inertia_total", "train.speed_max", "load.deceleration_time", "train.load_torque", *eta_inputs),
-           "(J·ω/t_dec − T_L)·ω·η at the start of the ramp")
-    _d(m, "train.braking_energy", e_mech * eta, "braking_energy",
+    if not t_dec:
+        return None
+    i = m.get("transmission.ratio") or 1.0
+    eff = m.get("transmission.efficiency") or 1.0
+    load_torque = m.functions.get("load_torque")
+    # a linear ramp from ω to 0 in t_dec; the motor gives T_m = T_L(ω)/(i·η) − J·ω/t_dec and regenerates while T_m < 0
+    steps = 200
+    decel_torque = jt * w / t_dec
+    energy = 0.0
+    peak = 0.0
+    dt = t_dec / steps
+    for k in range(steps + 1):
+        speed = w * (1.0 - k / steps)
+        t_load = abs(float(load_torque(speed / i))) / (i * eff) if load_torque is not None else 0.0
+        power = max(0.0, (decel_torque - t_load) * speed)
+        peak = max(peak, power)
+        energy += power * (dt if 0 < k < steps else dt / 2)
+    _d(m, "train.braking_power_peak", peak * eta, "braking_power",
+       ("train.inertia_total", "train.speed_max", "load.deceleration_time", "train.load_torque", *eta_inputs),
+       "max over the ramp of (J·ω/t_dec − T_L(ω))·ω × η_rev × η_mot")
+    _d(m, "train.braking_energy", energy * eta, "braking_energy",
        ("train.inertia_total", "train.speed_max", "load.deceleration_time", *eta_inputs),
-       "(½·J·ω² − load work during the ramp) × η_rev × η_mot")
-    return e_mech
+       "∫ max(0, (J·ω/t_dec − T_L(ω))·ω) dt over a linear ramp to rest × η_rev × η_mot")
+    return energy

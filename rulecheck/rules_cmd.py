@@ -8,7 +8,7 @@ from pathlib import Path
 
 from rulecheck.check import BUILTIN_RULES
 from rulecheck.engine.lint import lint_rule
-from rulecheck.engine.ruleset import RuleError, load_rule_file, load_rules, rule_files, shipped_rules_dir
+from rulecheck.engine.ruleset import RuleError, load_rules, rule_files, shipped_rules_dir
 
 __all__ = ["lint_folder", "list_rules", "show_rule"]
 
@@ -89,29 +89,30 @@ def show_rule(rule_id: str, extra: list[str]) -> int:
 
 
 def lint_folder(folder: str) -> int:
-    """Validate and dimension-check every rule file in ``folder``; print problems as file:line:col."""
+    """Validate and dimension-check every rule file in ``folder``; print problems as file:line:col.
+
+    A folder other than the shipped one is checked as ``check --rules`` would load it: beside the
+    shipped rules, so an id that repeats a shipped rule's is reported.
+    """
     path = Path(folder)
     if not path.is_dir():
         print(f"rulecheck: {folder}: not a folder", file=sys.stderr)
         return 2
+    shipped = shipped_rules_dir().resolve()
+    folders = [path] if path.resolve() == shipped else [shipped_rules_dir(), path]
+    ruleset, problems = load_rules(folders)
+    problems = [p for p in problems if path.resolve() == shipped or not p.file.startswith(str(shipped))]
     files = rule_files(path)
-    problems: list[RuleError] = []
-    ids: dict[str, str] = {}
-    for file in files:
-        try:
-            rule = load_rule_file(file)
-        except RuleError as exc:
-            problems.append(exc)
+    for rule in ruleset.rules.values():
+        if Path(rule.file).resolve().parent != path.resolve():
             continue
-        if rule.id in ids or rule.id in BUILTIN_RULES:
-            problems.append(RuleError(str(file), f"rule id '{rule.id}' is already used by "
-                                      f"{ids.get(rule.id, 'a built-in check')}"))
-        ids[rule.id] = str(file)
+        if rule.id in BUILTIN_RULES:
+            problems.append(RuleError(rule.file, f"rule id '{rule.id}' is the id of a built-in check"))
         _kinds, found = lint_rule(rule)
         problems.extend(found)
         outcomes = {e["outcome"] for e in rule.examples}
         if "pass" not in outcomes or "fail" not in outcomes:
-            problems.append(RuleError(str(file), "examples need at least one pass and one fail case"))
+            problems.append(RuleError(rule.file, "examples need at least one pass and one fail case"))
     for p in problems:
         print(str(p))
     print(f"{len(files)} rule files, {len(problems)} problems", file=sys.stderr)

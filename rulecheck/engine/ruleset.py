@@ -318,6 +318,9 @@ def rules_digest(folders: list[Path]) -> str:
         if folder.is_dir():
             for path in rule_files(folder):
                 try:
+                    if path.stat().st_size > MAX_RULE_FILE_BYTES:
+                        digest.update(path.name.encode() + b"\0too-large")  # refused when loaded; never read whole
+                        continue
                     digest.update(path.name.encode() + b"\0" + hashlib.sha256(path.read_bytes()).digest())
                 except OSError:
                     digest.update(path.name.encode() + b"\0unreadable")

@@ -136,9 +136,11 @@ def evaluate_rule(rule: Rule, model: Model, namespace: dict[str, Any], params: d
     ns = dict(namespace)
     ns.update(params)
     unsure = "warning" if rule.safety else "info"
+    first = rule.applies_when or (rule.values[0][1] if rule.values else rule.checks[0].when)
+    scope = expr.Scope(first, ns)
     if rule.applies_when is not None:
         try:
-            applies = expr.evaluate(rule.applies_when, ns)
+            applies = expr.evaluate(rule.applies_when, scope)
         except expr.MissingInput as exc:
             return Outcome(rule.id, "not-checked", unsure,
                            f"cannot tell whether the rule applies: needs {', '.join(exc.paths)}",
@@ -151,11 +153,12 @@ def evaluate_rule(rule: Rule, model: Model, namespace: dict[str, Any], params: d
     missing: list[str] = []
     for name, compiled, text, _kind in rule.values:
         try:
-            value = expr.evaluate(compiled, ns)
+            value = expr.evaluate(compiled, scope)
         except expr.MissingInput as exc:
             for p in exc.paths:
                 if p not in missing:
                     missing.append(p)
+            scope.set(name, expr.Missing(paths=exc.paths))
             ns[name] = expr.Missing(paths=exc.paths)
             continue
         except expr.ExpressionError as exc:
@@ -164,6 +167,7 @@ def evaluate_rule(rule: Rule, model: Model, namespace: dict[str, Any], params: d
             return _rule_error(rule, f"values.{name}", text, expr.ExpressionError("result is not a finite number"))
         computed[name] = value
         ns[name] = value
+        scope.set(name, value)
     shown_values = {n: (v, value_kinds.get(n)) for n, v in computed.items()
                     if isinstance(v, (int, float)) and not isinstance(v, bool)}
     display = dict(ns)
@@ -183,7 +187,7 @@ def evaluate_rule(rule: Rule, model: Model, namespace: dict[str, Any], params: d
             limit = shown_values[rule.limit]
     for i, check in enumerate(rule.checks):
         try:
-            failed = expr.evaluate(check.when, ns)
+            failed = expr.evaluate(check.when, scope)
         except expr.MissingInput as exc:
             for p in exc.paths:
                 if p not in missing:
@@ -196,9 +200,7 @@ def evaluate_rule(rule: Rule, model: Model, namespace: dict[str, Any], params: d
             message = _render(check.message or rule.message, display)
             return Outcome(rule.id, "fail", _severity(rule, check.severity, severity_overrides), message,
                            rule.location, fix=_render(rule.fix, display), values=shown_values, limit=limit)
-    if missing:
-        return Outcome(rule.id, "not-checked", unsure, _not_checked_message(rule, missing), rule.location,
-                       values=shown_values, missing=missing, limit=limit)
+    # every check could be decided: values that no check needed may stay missing
     return Outcome(rule.id, "pass", "info", _render(rule.pass_message, display), rule.location, values=shown_values,
                    limit=limit)
 

@@ -140,8 +140,6 @@ def test_symlinked_rule_file_is_refused_by_check(tmp_path: Path) -> None:
     assert check.returncode == 2 and "passwd.yaml" in check.stderr and "root:" not in check.stderr
 
 
-@pytest.mark.xfail(strict=True, reason="rules_cmd.lint_folder skips symlinked files and does not compare ids with "
-                   "the shipped rules; the fix belongs in rules_cmd.py (reported)")
 def test_lint_reports_symlinks_and_shipped_duplicates(tmp_path: Path) -> None:
     folder = tmp_path / "rules"
     folder.mkdir()
