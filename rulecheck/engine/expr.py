@@ -36,6 +36,8 @@ MAX_MAGNITUDE = 1e100
 __all__ = [
     "ExpressionError",
     "Scope",
+    "render_template",
+    "spec_parent",
     "Missing",
     "MissingInput",
     "Section",
@@ -299,18 +301,37 @@ def compile_expression(env: _RuleEnvironment, text: str) -> Callable[..., Any]:
 class Scope:
     """The names of one rule's evaluation on one spec, shared by its expressions in one jinja context.
 
-    Creating a jinja context costs more than evaluating a short expression; a rule's expressions
-    run one after another in the same context, each computed value added to it by name.
+    Creating a jinja context the ordinary way copies every global (each physics method) into a new
+    dict, which costs more than evaluating a short expression. A scope is built on a ``parent``
+    mapping prepared once per spec (see :func:`spec_parent`); the rule's own names (parameters,
+    computed values) go into the context's local variables.
     """
 
     __slots__ = ("ctx",)
 
-    def __init__(self, compiled: Any, namespace: dict[str, Any]) -> None:
-        self.ctx = compiled._template.new_context(dict(namespace))
+    def __init__(self, env: Any, parent: dict[str, Any], names: dict[str, Any] | None = None) -> None:
+        from jinja2.runtime import Context
+
+        self.ctx = Context(env, parent, None, {})
+        if names:
+            self.ctx.vars.update(names)
 
     def set(self, name: str, value: Any) -> None:
         """Add (or replace) a name for the expressions evaluated after this."""
         self.ctx.vars[name] = value
+
+
+def spec_parent(env: Any, namespace: dict[str, Any]) -> dict[str, Any]:
+    """Return the names every rule sees on one spec: the sandbox's globals, then the model's sections."""
+    parent = dict(env.globals)
+    parent.update(namespace)
+    return parent
+
+
+def render_template(template: Any, parent: dict[str, Any], names: dict[str, Any]) -> str:
+    """Render a message template in a scope built on ``parent`` (no copy of the globals)."""
+    scope = Scope(template.environment, parent, names)
+    return template.environment.concat(template.root_render_func(scope.ctx))
 
 
 def _run_in_scope(compiled: Any, scope: Scope) -> Any:

@@ -57,12 +57,21 @@ def _show_model_value(system: str) -> Any:
     return wrap
 
 
-def _display_sections(model: Model, system: str) -> dict[str, Any]:
-    """Return (and keep on the model) the sections as message templates show them."""
+def _spec_parent(model: Model, env: Any, namespace: dict[str, Any]) -> dict[str, Any]:
+    """Return (and keep on the model) the names every rule's expressions see on this spec."""
+    cache = model.functions.setdefault("_parents", {})
+    if id(env) not in cache:
+        cache[id(env)] = expr.spec_parent(env, namespace)
+    return cache[id(env)]
+
+
+def _display_parent(model: Model, env: Any, system: str) -> dict[str, Any]:
+    """Return (and keep on the model) the names message templates see: the sections with units."""
     cache = model.functions.setdefault("_display", {})
-    if system not in cache:
-        cache[system] = model.namespace(_show_model_value(system))
-    return cache[system]
+    key = (id(env), system)
+    if key not in cache:
+        cache[key] = expr.spec_parent(env, model.namespace(_show_model_value(system)))
+    return cache[key]
 
 
 def _param_display(param: Any, value: float, system: str) -> Shown:
@@ -117,11 +126,12 @@ def _severity(rule: Rule, level: str, overrides: dict[str, str]) -> str:
     return override
 
 
-def _render(template: Any, namespace: dict[str, Any]) -> str:
+def _render(template: Any, model: Model, system: str, names: dict[str, Any]) -> str:
     if template is None:
         return ""
     try:
-        return template.render(**namespace).strip()
+        parent = _display_parent(model, template.environment, system)
+        return expr.render_template(template, parent, names).strip()
     except expr.MissingInput as exc:
         return f"(message needs {', '.join(exc.paths)})"
     except Exception as exc:  # a template is untrusted text; its failure must not stop the run
@@ -133,11 +143,11 @@ def evaluate_rule(rule: Rule, model: Model, namespace: dict[str, Any], params: d
                   severity_overrides: dict[str, str] | None = None) -> Outcome:
     """Return the one outcome of ``rule`` on ``model``; rule errors become outcomes, never exceptions."""
     severity_overrides = severity_overrides or {}
-    ns = dict(namespace)
-    ns.update(params)
+    ns = dict(params)
     unsure = "warning" if rule.safety else "info"
-    first = rule.applies_when or (rule.values[0][1] if rule.values else rule.checks[0].when)
-    scope = expr.Scope(first, ns)
+    env = (rule.applies_when or (rule.values[0][1] if rule.values else rule.checks[0].when))._template.environment
+    parent = _spec_parent(model, env, namespace)
+    scope = expr.Scope(env, parent, ns)
     if rule.applies_when is not None:
         try:
             applies = expr.evaluate(rule.applies_when, scope)
@@ -171,7 +181,6 @@ def evaluate_rule(rule: Rule, model: Model, namespace: dict[str, Any], params: d
     shown_values = {n: (v, value_kinds.get(n)) for n, v in computed.items()
                     if isinstance(v, (int, float)) and not isinstance(v, bool)}
     display = dict(ns)
-    display.update(_display_sections(model, system))
     for n, (v, k) in shown_values.items():
         display[n] = Shown(v, k, system)
     for n, p in rule.params.items():
@@ -197,11 +206,12 @@ def evaluate_rule(rule: Rule, model: Model, namespace: dict[str, Any], params: d
         except expr.ExpressionError as exc:
             return _rule_error(rule, f"checks[{i}].when", check.when_text, exc)
         if failed:
-            message = _render(check.message or rule.message, display)
+            message = _render(check.message or rule.message, model, system, display)
             return Outcome(rule.id, "fail", _severity(rule, check.severity, severity_overrides), message,
-                           rule.location, fix=_render(rule.fix, display), values=shown_values, limit=limit)
+                           rule.location, fix=_render(rule.fix, model, system, display), values=shown_values,
+                           limit=limit)
     # every check could be decided: values that no check needed may stay missing
-    return Outcome(rule.id, "pass", "info", _render(rule.pass_message, display), rule.location, values=shown_values,
+    return Outcome(rule.id, "pass", "info", _render(rule.pass_message, model, system, display), rule.location, values=shown_values,
                    limit=limit)
 
 
