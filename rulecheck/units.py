@@ -65,6 +65,7 @@ KINDS: dict[str, Kind] = {
     k.name: k
     for k in [
         Kind("power", "W", "W", "7.5 kW", "hp", "power (W, kW, hp)"),
+        Kind("apparent_power", "V*A", "V*A", "10 MVA", "kVA", "apparent power (VA, kVA, MVA)"),
         Kind("torque", "N*m", "N*m", "49.2 N*m", "lbf*ft", "torque (N*m, kN*m, lbf*ft, lbf*in)"),
         Kind("energy", "J", "J", "24.7 kJ", "ft*lbf", "energy (J, kJ, kWh)"),
         Kind(
@@ -276,6 +277,7 @@ _LBF = _LB * 9.80665  # N, exact from the standard gravity
 FAST_UNITS: dict[str, dict[str, float]] = {
     "power": {"W": 1.0, "kW": 1e3, "MW": 1e6, "hp": 550 * _FT * _LBF, "hp_mech": 550 * _FT * _LBF,
               "hp_metric": 75 * 9.80665, "hp_elec": 746.0},
+    "apparent_power": {"VA": 1.0, "kVA": 1e3, "MVA": 1e6},
     "torque": {"N*m": 1.0, "N·m": 1.0, "Nm": 1.0, "kN*m": 1e3, "kN·m": 1e3, "kNm": 1e3, "lbf*ft": _LBF * _FT,
                "lbf*in": _LBF * _IN, "ft*lbf": _LBF * _FT},
     "energy": {"J": 1.0, "kJ": 1e3, "MJ": 1e6, "Wh": 3600.0, "kWh": 3.6e6},
@@ -472,7 +474,8 @@ def ambiguity_notes(value: Any, kind_name: str) -> list[str]:
 # --- display -----------------------------------------------------------------
 
 _DISPLAY_SI = {
-    "power": [("kW", 1e3, 1e3), ("W", 1.0, 0.0)],
+    "power": [("MW", 1e6, 1e6), ("kW", 1e3, 1e3), ("W", 1.0, 0.0)],
+    "apparent_power": [("MVA", 1e6, 1e6), ("kVA", 1e3, 1e3), ("VA", 1.0, 0.0)],
     "torque": [("kN·m", 1e3, 1e4), ("N·m", 1.0, 0.0)],
     "energy": [("kJ", 1e3, 1e3), ("J", 1.0, 0.0)],
     "voltage": [("kV", 1e3, 1e4), ("V", 1.0, 0.0)],
@@ -505,6 +508,7 @@ _PRETTY = {
     "K": "K",
     "rad": "rad",
     "V*s/rad": "V·s/rad",
+    "V*A": "VA",
     "N*m/A": "N·m/A",
     "ohm/m": "Ω/m",
     "kg/m^3": "kg/m³",

@@ -356,6 +356,8 @@ def evaluate(compiled: Callable[..., Any], namespace: dict[str, Any] | Scope) ->
     except ZeroDivisionError:
         raise ExpressionError("division by zero") from None
     except (OverflowError, ValueError, TypeError, ArithmeticError) as exc:
+        if type(exc).__name__ == "DimensionalityError":  # pint: a torque compared with a speed, and the like
+            raise ExpressionError(f"dimension mismatch: {exc}") from None
         raise ExpressionError(f"{type(exc).__name__}: {exc}") from None
     except RecursionError:
         raise ExpressionError("expression nests too deeply") from None
