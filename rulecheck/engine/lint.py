@@ -153,15 +153,51 @@ def _dimensional_method(name: str, info: Any) -> Callable[..., Any]:
     return call
 
 
-@lru_cache(maxsize=1)
-def _lint_environment() -> Any:
+def _branch_code_generator(take_first: bool) -> Any:
+    """Return a jinja code generator that evaluates every part of a conditional or a boolean operator.
+
+    At run time ``a if c else b`` evaluates one branch and ``p and q`` may skip ``q``; the linter
+    compiles them so that the test and both operands are evaluated (a tuple of them), then takes
+    the first branch in one pass and the second in another, so no branch escapes the dimension check.
+    """
+    from jinja2.compiler import CodeGenerator
+
+    class _Generator(CodeGenerator):
+        def visit_CondExpr(self, node: Any, frame: Any) -> None:
+            frame = frame.soft()
+            self.write("((")
+            self.visit(node.test, frame)
+            self.write("), (")
+            if take_first or node.expr2 is None:
+                self.visit(node.expr1, frame)
+            else:
+                self.visit(node.expr2, frame)
+            self.write("))[1]")
+
+        def _both(self, node: Any, frame: Any) -> None:
+            self.write("((")
+            self.visit(node.left, frame)
+            self.write("), (")
+            self.visit(node.right, frame)
+            self.write("))[1]")
+
+        visit_And = _both
+        visit_Or = _both
+
+    return _Generator
+
+
+@lru_cache(maxsize=2)
+def _lint_environment(take_first: bool = True) -> Any:
     from rulecheck.physics import METHODS
 
-    return expr.environment({n: _dimensional_method(n, i) for n, i in METHODS.items() if i.expose})
+    env = expr.environment({n: _dimensional_method(n, i) for n, i in METHODS.items() if i.expose})
+    env.code_generator_class = _branch_code_generator(take_first)
+    return env
 
 
-def _compile_for_lint(text: str) -> Any:
-    return expr.compile_expression(_lint_environment(), text)
+def _compile_for_lint(text: str, take_first: bool = True) -> Any:
+    return expr.compile_expression(_lint_environment(take_first), text)
 
 
 def _error(rule: Rule, where: str, message: str) -> RuleError:
@@ -171,6 +207,8 @@ def _error(rule: Rule, where: str, message: str) -> RuleError:
 
 def _run(rule: Rule, where: str, text: str, ns: dict[str, Any]) -> Any:
     try:
+        if " if " in text or " and " in text or " or " in text:
+            expr.evaluate(_compile_for_lint(text, take_first=False), ns)  # the other branches, for their dimensions
         return expr.evaluate(_compile_for_lint(text), ns)
     except expr.MissingInput as exc:
         names = sorted(catalogue())
