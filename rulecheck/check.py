@@ -4,7 +4,10 @@ from __future__ import annotations
 
 import copy
 import dataclasses
+import contextlib
 import datetime as _dt
+import signal
+import threading
 import os
 from dataclasses import dataclass, field
 from pathlib import Path
@@ -131,9 +134,49 @@ def _empty_result(file: str, status: str) -> dict[str, Any]:
             "verdict": "invalid", "counts": {}, "outcomes": [], "derived": {}, "charts": {}}
 
 
+class SpecTimeout(Exception):
+    """Checking one spec took longer than its time limit."""
+
+
+@contextlib.contextmanager
+def _time_limit(seconds: int) -> Any:
+    """Raise SpecTimeout in the block after ``seconds`` (POSIX, main thread only; elsewhere no limit)."""
+    usable = (hasattr(signal, "setitimer") and threading.current_thread() is threading.main_thread()
+              and seconds > 0)
+    if not usable:
+        yield
+        return
+
+    def expire(_signum: int, _frame: Any) -> None:
+        raise SpecTimeout()
+
+    previous = signal.signal(signal.SIGALRM, expire)
+    signal.setitimer(signal.ITIMER_REAL, seconds)
+    try:
+        yield
+    finally:
+        signal.setitimer(signal.ITIMER_REAL, 0)
+        signal.signal(signal.SIGALRM, previous)
+
+
 def check_file(path: Path, ctx: CheckContext) -> dict[str, Any]:
-    """Return the result dict of one spec file (never raises for a bad spec)."""
+    """Return the result dict of one spec file (never raises for a bad spec; bounded by the time limit)."""
     file = _display_path(path, ctx.base_dir)
+    try:
+        with _time_limit(ctx.limits.max_seconds):
+            return _check_file(path, file, ctx)
+    except SpecTimeout:
+        result = _empty_result(file, "invalid")
+        result["outcomes"].append(outcome_dict(
+            Outcome("internal-error", "fail", "error",
+                    f"checking this spec took longer than the limit of {ctx.limits.max_seconds} s and was stopped",
+                    hint="report the spec to the rulecheck maintainers; limits.max_seconds in the configuration "
+                         "sets the limit"),
+            BUILTIN_RULES["internal-error"], None))
+        return _finish(result)
+
+
+def _check_file(path: Path, file: str, ctx: CheckContext) -> dict[str, Any]:
     try:
         doc = load_file(path, ctx.limits, display_name=file)
     except LoadError as exc:

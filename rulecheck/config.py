@@ -22,7 +22,7 @@ CONFIG_NAME = ".rulecheck.yaml"
 _KEYS = {"rule_paths", "disable", "severity", "parameters", "fail_on", "units", "limits"}
 _SEVERITIES = {"error", "warning", "info"}
 # the highest a configuration may raise each loader limit: beyond these a hostile file could exhaust memory
-_LIMIT_CAPS = {"max_bytes": 16 * 1_048_576, "max_depth": 128, "max_nodes": 2_000_000}
+_LIMIT_CAPS = {"max_bytes": 16 * 1_048_576, "max_depth": 128, "max_nodes": 2_000_000, "max_seconds": 600}
 
 
 class ConfigError(Exception):

@@ -38,6 +38,7 @@ class Limits:
     max_bytes: int = 1_048_576  # 1 MiB: a drive spec is a few kB
     max_depth: int = 32
     max_nodes: int = 100_000  # counts alias expansions too
+    max_seconds: int = 60  # time to check one spec; a check is normally milliseconds
 
 
 @dataclass(frozen=True)

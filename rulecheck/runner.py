@@ -277,6 +277,9 @@ _WORKER: dict[str, Any] = {}
 
 def _worker_init(explicit: str | None, extra: list[str], today: str, units_system: str, base_dir: str,
                  value_kinds: dict[str, dict[str, dict[str, str | None]]]) -> None:
+    import signal
+
+    signal.signal(signal.SIGINT, signal.SIG_IGN)  # Ctrl-C is the parent's to handle: it stops the workers
     _WORKER.clear()
     _WORKER.update(explicit=explicit, extra=[Path(p) for p in extra], today=_dt.date.fromisoformat(today),
                    units=units_system, base=Path(base_dir), kinds=value_kinds, prepared={})
@@ -308,11 +311,22 @@ def _crash_result(file: str, detail: str) -> dict[str, Any]:
                     "derived": {}, "charts": {}})
 
 
+def _stop(pool: ProcessPoolExecutor) -> None:
+    """Stop a pool at once (Ctrl-C): cancel what is queued and end the workers."""
+    processes = list(getattr(pool, "_processes", {}).values())
+    pool.shutdown(wait=False, cancel_futures=True)
+    for process in processes:
+        process.terminate()
+    for process in processes:
+        process.join(timeout=5)
+
+
 def _parallel(todo: list[tuple[int, str | None, Path, str]], jobs: int, init_args: tuple[Any, ...],
               results: dict[int, dict[str, Any]], progress: Callable[[], None] | None) -> None:
     """Check ``todo`` in worker processes; a crashed worker's files are retried alone, then reported."""
     retry: list[tuple[int, str | None, Path, str]] = []
-    with ProcessPoolExecutor(max_workers=jobs, initializer=_worker_init, initargs=init_args) as pool:
+    pool = ProcessPoolExecutor(max_workers=jobs, initializer=_worker_init, initargs=init_args)
+    try:
         futures = {pool.submit(_worker_check, cfg, str(spec)): (k, cfg, spec, shown) for k, cfg, spec, shown in todo}
         for future, item in futures.items():
             try:
@@ -321,6 +335,10 @@ def _parallel(todo: list[tuple[int, str | None, Path, str]], jobs: int, init_arg
                     progress()
             except BrokenProcessPool:
                 retry.append(item)
+    except BaseException:
+        _stop(pool)
+        raise
+    pool.shutdown()
     for item in retry:
         k, cfg, spec, shown = item
         try:

@@ -1,0 +1,92 @@
+"""Nothing lost: a crashed worker, a spec that takes too long, and Ctrl-C each end cleanly."""
+
+from __future__ import annotations
+
+import os
+import signal
+import subprocess
+import sys
+import time
+from pathlib import Path
+
+import pytest
+
+from rulecheck import runner
+from rulecheck.check import CheckContext, check_file
+from rulecheck.load import Limits
+from rulecheck.report import jsonout
+
+from .conftest import DEMO, ROOT
+
+
+def _copies(folder: Path, count: int) -> list[Path]:
+    folder.mkdir(parents=True, exist_ok=True)
+    out = []
+    for k in range(count):
+        for src in sorted(DEMO.glob("*.yaml")):
+            path = folder / f"{k:03d}-{src.name}"
+            path.write_text(src.read_text(encoding="utf-8").replace("tag: HR-", f"tag: C{k}-"), encoding="utf-8")
+            out.append(path)
+    return out
+
+
+_VICTIM: dict[str, str] = {}
+_REAL_WORKER_CHECK = runner._worker_check
+
+
+def _crash_on_victim(config_file, spec):
+    if spec.endswith(_VICTIM["name"]):
+        os._exit(3)  # the worker dies as if killed
+    return _REAL_WORKER_CHECK(config_file, spec)
+
+
+def test_a_crashing_worker_becomes_a_finding_and_the_run_completes(tmp_path: Path, monkeypatch) -> None:
+    files = _copies(tmp_path / "specs", 3)
+    victim = files[5].name
+    _VICTIM["name"] = victim
+    monkeypatch.setattr(runner, "_worker_check", _crash_on_victim)  # forked workers inherit the patch
+    result = runner.run(runner.RunOptions(paths=[str(tmp_path / "specs")], jobs=2))
+    assert result["summary"]["specs"] == len(files)
+    by_file = {Path(s["file"]).name: s for s in result["specs"]}
+    crashed = by_file[victim]
+    assert crashed["status"] == "unreadable" and "worker process" in crashed["outcomes"][0]["message"]
+    others = [s for name, s in by_file.items() if name != victim]
+    assert all(s["status"] == "checked" for s in others)
+    assert result["summary"]["exit_code"] == 1
+    jsonout.load(jsonout.render(result))
+
+
+def test_a_spec_over_its_time_limit_is_stopped_with_a_finding(tmp_path: Path, monkeypatch) -> None:
+    from rulecheck import check as check_module
+
+    ctx = runner.prepare(runner.Config(), [], runner._dt.date(2026, 12, 1), "si", None).context
+    ctx = CheckContext(**{**ctx.__dict__, "limits": Limits(max_seconds=1)})
+
+    def slow(*_args, **_kwargs):
+        time.sleep(5)
+
+    monkeypatch.setattr(check_module, "_check_file", slow)
+    start = time.perf_counter()
+    result = check_file(DEMO / "cv-110-incline-conveyor.yaml", ctx)
+    assert time.perf_counter() - start < 3
+    assert result["outcomes"][0]["rule"] == "internal-error" and "longer than the limit of 1 s" in \
+        result["outcomes"][0]["message"]
+
+
+@pytest.mark.skipif(not hasattr(signal, "SIGINT"), reason="needs POSIX signals")
+def test_ctrl_c_exits_130_with_no_partial_report(tmp_path: Path) -> None:
+    _copies(tmp_path / "specs", 40)
+    out = tmp_path / "report.json"
+    env = {**os.environ, "PYTHONPATH": str(ROOT), "NO_COLOR": "1"}
+    proc = subprocess.Popen([sys.executable, "-m", "rulecheck", "check", str(tmp_path / "specs"), "--no-cache",
+                             "-j", "2", "--format", "json", "-o", str(out)], cwd=tmp_path, env=env,
+                            stdout=subprocess.PIPE, stderr=subprocess.PIPE, text=True)
+    time.sleep(2.5)
+    proc.send_signal(signal.SIGINT)
+    stdout, stderr = proc.communicate(timeout=60)
+    if proc.returncode == 1:
+        pytest.skip("the run finished before the interrupt on this machine")
+    assert proc.returncode == 130, stderr
+    assert "Traceback" not in stdout + stderr
+    assert not out.exists()
+    assert not list(tmp_path.glob(".report.json.*"))
