@@ -20,9 +20,9 @@ import math
 import random
 import re
 import sys
+from collections.abc import Callable
 from dataclasses import dataclass, field
 from pathlib import Path
-from collections.abc import Callable
 from typing import Any
 
 G = 9.80665  # standard gravity [m/s^2] (CGPM 1901)
@@ -480,7 +480,8 @@ def _drive(a: Archetype, u: Units, rng: random.Random, motor: dict[str, Any], cu
         r = chopper ** 2 / (1.6 * p_n) * rng.uniform(0.8, 0.95)
         d["braking"] = {"kind": "resistor", "resistance": q(r, "ohm", 2),
                         "power": u.power(p_n * rng.uniform(0.2, 0.5)),
-                        "chopper_threshold": f"{chopper:.0f} V", "resistance_min": q(r * rng.uniform(0.4, 0.8), "ohm", 2)}
+                        "chopper_threshold": f"{chopper:.0f} V",
+                        "resistance_min": q(r * rng.uniform(0.4, 0.8), "ohm", 2)}
     elif rng.random() < 0.5:
         d["braking"] = {"kind": "none"}
     d["motor_overload"] = {"kind": "electronic", "setting": q(current, "A")}
