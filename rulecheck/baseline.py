@@ -60,24 +60,41 @@ def load(text: str, name: str = "baseline") -> Counter[tuple[str, str, str]]:
     return out
 
 
-def apply(result: dict[str, Any], known: Counter[tuple[str, str, str]], name: str) -> None:
-    """Mark the findings of ``result`` that the baseline knows; record new and fixed ones in the summary."""
-    from rulecheck.runner import summarise
+class Matcher:
+    """Marks the findings a baseline knows, one spec at a time; what is left over has been fixed."""
 
-    remaining = Counter(known)
-    new = 0
-    matched = 0
-    for spec in result["specs"]:
+    def __init__(self, known: Counter[tuple[str, str, str]], name: str) -> None:
+        self.remaining = Counter(known)
+        self.name = name
+        self.new = 0
+        self.matched = 0
+
+    def mark(self, spec: dict[str, Any]) -> None:
+        """Mark the known findings of one spec (``baseline: true``); count the new ones."""
         for o in spec["outcomes"]:
             if not _is_finding(o):
                 continue
             key = identity(spec, o)
-            if remaining[key] > 0:
-                remaining[key] -= 1
+            if self.remaining[key] > 0:
+                self.remaining[key] -= 1
                 o["baseline"] = True
-                matched += 1
+                self.matched += 1
             else:
-                new += 1
-    fixed = [{"rule": r, "file": f, "path": p} for (r, f, p), n in sorted(remaining.items()) for _ in range(n)]
-    result.setdefault("summary", {})["baseline"] = {"file": name, "matched": matched, "new": new, "fixed": fixed}
+                self.new += 1
+
+    def summary(self) -> dict[str, Any]:
+        """Return the baseline's part of the run summary."""
+        fixed = [{"rule": r, "file": f, "path": p} for (r, f, p), n in sorted(self.remaining.items())
+                 for _ in range(n)]
+        return {"file": self.name, "matched": self.matched, "new": self.new, "fixed": fixed}
+
+
+def apply(result: dict[str, Any], known: Counter[tuple[str, str, str]], name: str) -> None:
+    """Mark the findings of ``result`` that the baseline knows; record new and fixed ones in the summary."""
+    from rulecheck.runner import summarise
+
+    matcher = Matcher(known, name)
+    for spec in result["specs"]:
+        matcher.mark(spec)
+    result.setdefault("summary", {})["baseline"] = matcher.summary()
     summarise(result)

@@ -107,6 +107,10 @@ class ResultCache:
     def _path(self, key: str) -> Path:
         return self.folder / key[:2] / f"{key}.json"
 
+    def has(self, key: str) -> bool:
+        """Return whether an entry exists for ``key`` (it is verified when read)."""
+        return self._path(key).is_file()
+
     def get(self, key: str) -> dict[str, Any] | None:
         """Return the cached result for ``key``, or None (a bad entry counts as absent)."""
         try:

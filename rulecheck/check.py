@@ -82,6 +82,7 @@ class CheckContext:
     today: _dt.date = field(default_factory=_dt.date.today)
     system: str = "si"
     base_dir: Path | None = None  # paths in results are relative to this
+    charts: bool = True  # compute chart data (for the HTML report and the e-mail)
 
 
 def _value_dict(value: float, kind_name: str | None) -> dict[str, Any]:
@@ -276,7 +277,7 @@ def _check_document(doc: Document, ctx: CheckContext, base_dir: Path | None) -> 
         for p, v, k, d in model.derived_items()
         if isinstance(v, (int, float)) and not isinstance(v, bool)
     }
-    result["charts"] = chart_data(model)
+    result["charts"] = chart_data(model) if ctx.charts else {}
     return _finish(result)
 
 

@@ -161,6 +161,11 @@ def _write(path: str | None, text: str | bytes) -> None:
     target = Path(path)
     folder = target.parent if str(target.parent) else Path(".")
     data = text.encode("utf-8") if isinstance(text, str) else text
+    if target.exists() and not target.is_file():
+        # a device or pipe (/dev/null, a FIFO): write to it; never rename a temporary file over it
+        with open(target, "wb") as handle:
+            handle.write(data)
+        return
     fd, tmp = tempfile.mkstemp(prefix=f".{target.name}.", suffix=".tmp", dir=folder)
     try:
         with os.fdopen(fd, "wb") as handle:
@@ -237,17 +242,23 @@ class _Usage(Exception):
     pass
 
 
-def _run(args: argparse.Namespace, paths: list[str]) -> dict[str, Any]:
-    from rulecheck.runner import RunOptions, UsageError, run
+def _options(args: argparse.Namespace, paths: list[str]) -> Any:
+    from rulecheck.runner import RunOptions
 
     if args.jobs < 0:
         raise _Usage("--jobs must be 0 (all cores) or more")
-    options = RunOptions(paths=paths, config=args.config, rule_paths=args.rule_paths,
-                         fail_on=getattr(args, "fail_on", None), units=getattr(args, "units", None),
-                         today=_today(args), jobs=args.jobs, cache_dir=None if args.no_cache else _cache_dir(args),
-                         changed_since=getattr(args, "changed_since", None))
+    return RunOptions(paths=paths, config=args.config, rule_paths=args.rule_paths,
+                      fail_on=getattr(args, "fail_on", None), units=getattr(args, "units", None),
+                      today=_today(args), jobs=args.jobs, cache_dir=None if args.no_cache else _cache_dir(args),
+                      changed_since=getattr(args, "changed_since", None),
+                      charts=getattr(args, "_charts", True))
+
+
+def _run(args: argparse.Namespace, paths: list[str]) -> dict[str, Any]:
+    from rulecheck.runner import UsageError, run
+
     try:
-        return run(options, progress=_progress(args))
+        return run(_options(args, paths), progress=_progress(args))
     except UsageError as exc:
         raise _Usage(str(exc)) from None
 
@@ -256,6 +267,108 @@ def _cache_dir(args: argparse.Namespace) -> str:
     from rulecheck.cache import default_cache_dir
 
     return args.cache_dir or str(default_cache_dir() / "results")
+
+
+STREAMED = ("text", "json", "annotations")  # formats written spec by spec: memory stays flat on large repositories
+
+
+class _Sink:
+    """One report being written as the specs arrive; a file is written to a temporary name, then renamed."""
+
+    def __init__(self, fmt: str, file: str | None, args: argparse.Namespace, header: dict[str, Any]) -> None:
+        self.fmt, self.file, self.tmp = fmt, file, None
+        self.to_stdout = file in (None, "-")
+        target = Path(file) if file and not self.to_stdout else None
+        if target is not None and target.exists() and not target.is_file():
+            self.handle: Any = open(target, "w", encoding="utf-8")  # a device or pipe: write straight to it
+        elif target is not None:
+            fd, self.tmp = tempfile.mkstemp(prefix=f".{target.name}.", suffix=".tmp",
+                                            dir=target.parent if str(target.parent) else ".")
+            self.handle = os.fdopen(fd, "w", encoding="utf-8")
+        else:
+            self.handle = sys.stdout
+        if fmt == "json":
+            from rulecheck.report import jsonout
+
+            self.json = jsonout.StreamWriter(self.handle.write)
+            self.json.begin(header)
+        elif fmt == "text":
+            from rulecheck.report.text import TextReport
+
+            self.text = TextReport(colour=_colour(args) and self.to_stdout, verbose=args.verbose,
+                                   show_derived=args.show_derived, units=header["settings"]["units"])
+
+    def spec(self, spec: dict[str, Any]) -> None:
+        if self.fmt == "json":
+            self.json.spec(spec)
+        elif self.fmt == "text":
+            self.handle.write(self.text.spec(spec))
+        else:
+            from rulecheck.report import annotations
+
+            self.handle.write(annotations.render({"specs": [spec]}, min_severity="warning"))
+
+    def finish(self, summary: dict[str, Any]) -> None:
+        if self.fmt == "json":
+            self.json.end(summary)
+        elif self.fmt == "text":
+            self.handle.write(self.text.footer(summary))
+        self.handle.flush()
+        if not self.to_stdout:
+            self.handle.close()
+        if self.tmp:
+            umask = os.umask(0)
+            os.umask(umask)
+            os.chmod(self.tmp, 0o666 & ~umask)
+            os.replace(self.tmp, self.file)
+            self.tmp = None
+
+    def abort(self) -> None:
+        if not self.to_stdout:
+            self.handle.close()
+        if self.tmp:
+            try:
+                os.unlink(self.tmp)
+            except OSError:
+                pass
+
+
+def _stream_check(args: argparse.Namespace, outputs: list[tuple[str, str | None]], known: Any) -> dict[str, Any]:
+    """Check and write the streamed formats spec by spec; return the summary."""
+    from rulecheck import baseline
+    from rulecheck.runner import Tally, UsageError, run_stream
+
+    try:
+        stream = run_stream(_options(args, args.paths), progress=_progress(args))
+    except UsageError as exc:
+        raise _Usage(str(exc)) from None
+    matcher = baseline.Matcher(known, args.baseline) if known is not None else None
+    tally = Tally(stream.header["settings"]["fail_on"])
+    sinks: list[_Sink] = []
+    try:
+        for fmt, file in outputs:
+            sinks.append(_Sink(fmt, file, args, stream.header))
+        for spec in stream.specs:
+            if matcher is not None:
+                matcher.mark(spec)
+            tally.add(spec)
+            for sink in sinks:
+                sink.spec(spec)
+        summary = tally.result()
+        if matcher is not None:
+            summary["baseline"] = matcher.summary()
+        stream.add_cache_counts(summary)
+        for sink in sinks:
+            sink.finish(summary)
+    except OSError as exc:
+        for sink in sinks:
+            sink.abort()
+        raise _Usage(f"cannot write a report: {exc.strerror or exc}") from None
+    except BaseException:
+        for sink in sinks:
+            sink.abort()
+        raise
+    return summary
 
 
 def _cmd_check(args: argparse.Namespace) -> int:
@@ -270,7 +383,9 @@ def _cmd_check(args: argparse.Namespace) -> int:
         from rulecheck.report.annotations import detect_ci_annotations
 
         fmt = "annotations" if detect_ci_annotations(os.environ) and not args.output else "text"
-    result = _run(args, args.paths)
+    outputs: list[tuple[str, str | None]] = [(fmt, args.output), *reports]
+    args._charts = any(f == "html" for f, _file in outputs)
+    known = None
     if args.baseline:
         from rulecheck import baseline
 
@@ -280,29 +395,37 @@ def _cmd_check(args: argparse.Namespace) -> int:
             raise _Usage(f"--baseline {args.baseline}: {exc.strerror or exc}") from None
         except baseline.BaselineError as exc:
             raise _Usage(str(exc)) from None
-        baseline.apply(result, known, args.baseline)
-    outputs = [(fmt, args.output), *reports]
-    rendered = [(f, file, render(result, f, args)) for f, file in outputs]
-    for _f, file, text in rendered:  # every report is rendered before any is written: no partial set of outputs
-        try:
-            _write(file, text)
-        except OSError as exc:
-            raise _Usage(f"cannot write {file}: {exc.strerror or exc}") from None
-    if (args.output and fmt != "text") or reports:
-        s = result["summary"]
-        print(f"rulecheck: {s['specs']} specs, {s['fail']['error']} errors, {s['fail']['warning']} warnings, "
-              f"{s['not-checked']} not checked; wrote " + ", ".join(f for _fmt, f, _t in rendered if f),
-              file=sys.stderr)
+    if all(f in STREAMED for f, _file in outputs):
+        summary = _stream_check(args, outputs, known)
+    else:
+        result = _run(args, args.paths)
+        if known is not None:
+            from rulecheck import baseline
+
+            baseline.apply(result, known, args.baseline)
+        rendered = [(f, file, render(result, f, args)) for f, file in outputs]
+        for _f, file, text in rendered:  # every report is rendered before any is written: no partial set
+            try:
+                _write(file, text)
+            except OSError as exc:
+                raise _Usage(f"cannot write {file}: {exc.strerror or exc}") from None
+        summary = result["summary"]
+    written = [file for _f, file in outputs if file not in (None, "-")]
+    if written and (fmt != "text" or reports):
+        print(f"rulecheck: {summary['specs']} spec{'s' if summary['specs'] != 1 else ''}, "
+              f"{summary['fail']['error']} errors, {summary['fail']['warning']} warnings, "
+              f"{summary['not-checked']} not checked; wrote " + ", ".join(written), file=sys.stderr)
     if args.baseline:
-        b = result["summary"]["baseline"]
+        b = summary["baseline"]
         print(f"rulecheck: baseline {args.baseline}: {b['matched']} known, {b['new']} new, "
               f"{len(b['fixed'])} fixed", file=sys.stderr)
-    return int(result["summary"]["exit_code"])
+    return int(summary["exit_code"])
 
 
 def _cmd_baseline(args: argparse.Namespace) -> int:
     from rulecheck import baseline
 
+    args._charts = False
     result = _run(args, args.paths)
     text = baseline.render(result)
     try:

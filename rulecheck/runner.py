@@ -16,11 +16,12 @@ import hashlib
 import json
 import os
 import subprocess
+from collections.abc import Callable, Iterator
 from concurrent.futures import ProcessPoolExecutor
 from concurrent.futures.process import BrokenProcessPool
 from dataclasses import dataclass, field
 from pathlib import Path
-from typing import Any, Callable
+from typing import Any
 
 from rulecheck import __version__
 from rulecheck.cache import ResultCache, code_digest, spec_key
@@ -28,7 +29,8 @@ from rulecheck.check import BUILTIN_RULES, CheckContext, check_file
 from rulecheck.config import CONFIG_NAME, Config, ConfigError, discover, read_config
 from rulecheck.engine.ruleset import RuleSet, load_rules, rules_digest, shipped_rules_dir
 
-__all__ = ["RunOptions", "UsageError", "assemble", "collect_specs", "counts_toward_failure", "prepare", "run"]
+__all__ = ["RunOptions", "Stream", "Tally", "UsageError", "assemble", "collect_specs", "counts_toward_failure", "prepare", "run",
+           "run_stream", "summarise"]
 
 SPEC_SUFFIXES = (".yaml", ".yml")
 SEVERITY_RANK = {"info": 1, "warning": 2, "error": 3}
@@ -52,6 +54,7 @@ class RunOptions:
     jobs: int = 1  # 0 = all cores
     cache_dir: str | None = None  # None = no cache
     changed_since: str | None = None
+    charts: bool = True  # chart data is only needed by the HTML report and the e-mail
 
 
 def collect_specs(paths: list[str]) -> list[Path]:
@@ -276,13 +279,13 @@ _WORKER: dict[str, Any] = {}
 
 
 def _worker_init(explicit: str | None, extra: list[str], today: str, units_system: str, base_dir: str,
-                 value_kinds: dict[str, dict[str, dict[str, str | None]]]) -> None:
+                 value_kinds: dict[str, dict[str, dict[str, str | None]]], charts: bool = True) -> None:
     import signal
 
     signal.signal(signal.SIGINT, signal.SIG_IGN)  # Ctrl-C is the parent's to handle: it stops the workers
     _WORKER.clear()
     _WORKER.update(explicit=explicit, extra=[Path(p) for p in extra], today=_dt.date.fromisoformat(today),
-                   units=units_system, base=Path(base_dir), kinds=value_kinds, prepared={})
+                   units=units_system, base=Path(base_dir), kinds=value_kinds, prepared={}, charts=charts)
 
 
 def _worker_check(config_file: str | None, spec: str) -> dict[str, Any]:
@@ -291,6 +294,7 @@ def _worker_check(config_file: str | None, spec: str) -> dict[str, Any]:
         cfg = read_config(Path(config_file)) if config_file else Config()
         prepared[config_file] = prepare(cfg, _WORKER["extra"], _WORKER["today"], _WORKER["units"], _WORKER["base"],
                                         value_kinds=_WORKER["kinds"].get(config_file or ""))
+        prepared[config_file].context.charts = _WORKER["charts"]
     return check_file(Path(spec), prepared[config_file].context)
 
 
@@ -321,40 +325,14 @@ def _stop(pool: ProcessPoolExecutor) -> None:
         process.join(timeout=5)
 
 
-def _parallel(todo: list[tuple[int, str | None, Path, str]], jobs: int, init_args: tuple[Any, ...],
-              results: dict[int, dict[str, Any]], progress: Callable[[], None] | None) -> None:
-    """Check ``todo`` in worker processes; a crashed worker's files are retried alone, then reported."""
-    retry: list[tuple[int, str | None, Path, str]] = []
-    pool = ProcessPoolExecutor(max_workers=jobs, initializer=_worker_init, initargs=init_args)
-    try:
-        futures = {pool.submit(_worker_check, cfg, str(spec)): (k, cfg, spec, shown) for k, cfg, spec, shown in todo}
-        for future, item in futures.items():
-            try:
-                results[item[0]] = future.result()
-                if progress:
-                    progress()
-            except BrokenProcessPool:
-                retry.append(item)
-    except BaseException:
-        _stop(pool)
-        raise
-    pool.shutdown()
-    for item in retry:
-        k, cfg, spec, shown = item
-        try:
-            with ProcessPoolExecutor(max_workers=1, initializer=_worker_init, initargs=init_args) as pool:
-                results[k] = pool.submit(_worker_check, cfg, str(spec)).result()
-        except BrokenProcessPool:
-            results[k] = _crash_result(shown, "the worker process ended unexpectedly")
-        if progress:
-            progress()
-
-
 # --- the run -------------------------------------------------------------------------------------------
 
 
-def run(options: RunOptions, progress: Callable[[int, int], None] | None = None) -> dict[str, Any]:
-    """Return the JSON result of a run; raise UsageError for bad paths, rules or configuration."""
+def run_stream(options: RunOptions, progress: Callable[[int, int], None] | None = None) -> Stream:
+    """Return a run whose spec results are produced in order as they are consumed.
+
+    Paths, configuration and rules are checked first: UsageError is raised before any spec is reported.
+    """
     from rulecheck.check import _display_path
 
     today = options.today or _dt.date.today()
@@ -393,7 +371,7 @@ def run(options: RunOptions, progress: Callable[[int, int], None] | None = None)
             digests[cfg.file] = rules_digest(rule_folders(cfg, extra))
             keys[cfg.file] = hashlib.sha256(json.dumps(
                 [__version__, code_digest(), digests[cfg.file], _config_digest(cfg), today.isoformat(), units_system,
-                 [str(p) for p in extra]]).encode()).hexdigest()
+                 [str(p) for p in extra], options.charts]).encode()).hexdigest()
         shown = _display_path(spec, base_dir)
         key = None
         if cache is not None:
@@ -403,7 +381,6 @@ def run(options: RunOptions, progress: Callable[[int, int], None] | None = None)
                 key = None
         plan.append((k, cfg.file, spec, shown, key))
 
-    results: dict[int, dict[str, Any]] = {}
     done = 0
 
     def tick() -> None:
@@ -412,43 +389,152 @@ def run(options: RunOptions, progress: Callable[[int, int], None] | None = None)
         if progress:
             progress(done, len(specs))
 
-    todo = []
-    for k, cfg_file, spec, shown, key in plan:
-        hit = cache.get(key) if cache is not None and key else None
-        if hit is not None:
-            results[k] = hit
-            tick()
-        else:
-            todo.append((k, cfg_file, spec, shown))
+    # entries that exist are read when their turn comes; only the others need the rules compiled
+    todo = [(k, cfg_file, spec, shown) for k, cfg_file, spec, shown, key in plan
+            if not (cache is not None and key and cache.has(key))]
     prepared: dict[str | None, Prepared] = {}
-    for _k, cfg_file, spec, _shown in todo:
+
+    def prepared_for(cfg_file: str | None, spec: Path) -> Prepared:
         if cfg_file not in prepared:
             prepared[cfg_file] = _prepare_cached(configs.for_spec(spec), extra, today, units_system, base_dir,
                                                  cache, digests[cfg_file])
+            prepared[cfg_file].context.charts = options.charts
+        return prepared[cfg_file]
+
+    for _k, cfg_file, spec, _shown in todo:
+        prepared_for(cfg_file, spec)  # rule or configuration errors stop the run before any spec is reported
     jobs = options.jobs if options.jobs > 0 else (os.cpu_count() or 1)
     jobs = min(jobs, max(1, len(todo) // 8))  # small runs are faster in one process
-    if jobs <= 1:
-        for k, cfg_file, spec, _shown in todo:
-            results[k] = check_file(spec, prepared[cfg_file].context)
-            tick()
-    else:
+    pool = None
+    if jobs > 1:
         kinds = {cfg or "": p.context.value_kinds for cfg, p in prepared.items()}
         init = (explicit.file if explicit else None, [str(p) for p in extra], today.isoformat(), units_system,
-                str(base_dir), kinds)
-        _parallel(todo, jobs, init, results, tick)
-    if cache is not None:
-        for k, _cfg, _spec, _shown, key in plan:
-            if key and k in {t[0] for t in todo} and results[k].get("status") != "unreadable":
-                cache.put(key, results[k])
-    ordered = [results[k] for k in range(len(specs))]
+                str(base_dir), kinds, options.charts)
+        pool = _Workers(jobs, init, window=jobs * 16)
+
+    def results() -> Iterator[dict[str, Any]]:
+        queue = list(todo)
+        queued = 0
+        finished = False
+        try:
+            for k, cfg_file, spec, _shown, key in plan:
+                if pool is not None:
+                    while queued < len(queue) and queue[queued][0] <= k + pool.window:
+                        pool.submit(queue[queued])  # keep a bounded number of specs in flight
+                        queued += 1
+                result = cache.get(key) if cache is not None and key else None
+                if result is None:
+                    if pool is not None and pool.has(k):
+                        result = pool.take(k)
+                    else:
+                        result = check_file(spec, prepared_for(cfg_file, spec).context)
+                    if cache is not None and key and result.get("status") != "unreadable":
+                        cache.put(key, result)
+                tick()
+                yield result
+            finished = True
+        finally:
+            if pool is not None:
+                pool.close(finished)
+
     digest = next(iter(digests.values()), rules_digest(rule_folders(first_cfg, extra)))
     rule_count = len(next(iter(prepared.values())).ruleset.rules) if prepared else None
     if rule_count is None:
         rule_count = len(load_rules(rule_folders(first_cfg, extra))[0].rules)
-    result = assemble(ordered, fail_on, units_system, digest, rule_count)
-    if cache is not None:
-        result["summary"]["cache"] = {"hits": cache.hits, "misses": cache.misses}
+    header = header_of(fail_on, units_system, digest, rule_count)
+    return Stream(header, results(), cache)
+
+
+def run(options: RunOptions, progress: Callable[[int, int], None] | None = None) -> dict[str, Any]:
+    """Return the JSON result of a run, every spec in memory; raise UsageError for bad paths, rules or configuration."""
+    stream = run_stream(options, progress)
+    specs = list(stream.specs)
+    result = {**stream.header, "specs": specs, "summary": {}}
+    summarise(result)
+    stream.add_cache_counts(result["summary"])
     return result
+
+
+@dataclass
+class Stream:
+    """A run whose spec results arrive one at a time, in order (memory does not grow with the repository)."""
+
+    header: dict[str, Any]
+    specs: Iterator[dict[str, Any]]
+    cache: ResultCache | None = None
+
+    def add_cache_counts(self, summary: dict[str, Any]) -> None:
+        """Record the cache's hits and misses in a summary."""
+        if self.cache is not None:
+            summary["cache"] = {"hits": self.cache.hits, "misses": self.cache.misses}
+
+
+class _Workers:
+    """Worker processes that check specs; a crashed worker's spec is retried alone, then reported."""
+
+    def __init__(self, jobs: int, init_args: tuple[Any, ...], window: int) -> None:
+        self.init_args = init_args
+        self.window = window
+        self.pool = ProcessPoolExecutor(max_workers=jobs, initializer=_worker_init, initargs=init_args)
+        self.futures: dict[int, tuple[Any, tuple[int, str | None, Path, str]]] = {}
+
+    def submit(self, item: tuple[int, str | None, Path, str]) -> None:
+        k, cfg, spec, _shown = item
+        try:
+            future = self.pool.submit(_worker_check, cfg, str(spec))
+        except BrokenProcessPool:
+            self._renew()
+            future = self.pool.submit(_worker_check, cfg, str(spec))
+        self.futures[k] = (future, item)
+
+    def has(self, k: int) -> bool:
+        return k in self.futures
+
+    def take(self, k: int) -> dict[str, Any]:
+        future, item = self.futures.pop(k)
+        try:
+            return future.result()
+        except BrokenProcessPool:
+            self._renew()
+            return _retry_alone(item, self.init_args)
+
+    def _renew(self) -> None:
+        """Replace a broken pool, resubmitting what was in flight."""
+        old = self.pool
+        old.shutdown(wait=False, cancel_futures=True)
+        self.pool = ProcessPoolExecutor(max_workers=old._max_workers, initializer=_worker_init,
+                                        initargs=self.init_args)
+        for k, (future, item) in list(self.futures.items()):
+            if future.done() and future.exception() is None:
+                continue
+            self.futures[k] = (None, item)
+            _k, cfg, spec, _shown = item
+            self.futures[k] = (self.pool.submit(_worker_check, cfg, str(spec)), item)
+
+    def close(self, finished: bool) -> None:
+        if finished:
+            self.pool.shutdown()
+        else:
+            _stop(self.pool)  # interrupted: end the workers at once
+
+
+def _retry_alone(item: tuple[int, str | None, Path, str], init_args: tuple[Any, ...]) -> dict[str, Any]:
+    _k, cfg, spec, shown = item
+    try:
+        with ProcessPoolExecutor(max_workers=1, initializer=_worker_init, initargs=init_args) as pool:
+            return pool.submit(_worker_check, cfg, str(spec)).result()
+    except BrokenProcessPool:
+        return _crash_result(shown, "the worker process ended unexpectedly")
+
+
+def header_of(fail_on: str, units_system: str, digest: str, rule_count: int) -> dict[str, Any]:
+    """Return the result document's fields that come before its specs."""
+    return {
+        "format_version": 1,
+        "tool": {"name": "rulecheck", "version": __version__, "rules_digest": digest, "rule_count": rule_count},
+        "generated": _dt.datetime.now(_dt.UTC).replace(microsecond=0).isoformat().replace("+00:00", "Z"),
+        "settings": {"fail_on": fail_on, "units": units_system},
+    }
 
 
 def counts_toward_failure(outcome: dict[str, Any], fail_on: str) -> bool:
@@ -471,45 +557,51 @@ def counts_toward_failure(outcome: dict[str, Any], fail_on: str) -> bool:
 def assemble(results: list[dict[str, Any]], fail_on: str, units_system: str, digest: str,
              rule_count: int) -> dict[str, Any]:
     """Return the complete result document for a list of spec results."""
-    result = {
-        "format_version": 1,
-        "tool": {"name": "rulecheck", "version": __version__, "rules_digest": digest, "rule_count": rule_count},
-        "generated": _dt.datetime.now(_dt.timezone.utc).replace(microsecond=0).isoformat().replace("+00:00", "Z"),
-        "settings": {"fail_on": fail_on, "units": units_system},
-        "specs": results,
-        "summary": {},
-    }
+    result = {**header_of(fail_on, units_system, digest, rule_count), "specs": results, "summary": {}}
     summarise(result)
     return result
 
 
+class Tally:
+    """The summary of a run, built one spec at a time."""
+
+    def __init__(self, fail_on: str) -> None:
+        self.fail_on = fail_on
+        self.summary: dict[str, Any] = {
+            "specs": 0, "checked": 0, "invalid": 0, "unreadable": 0, "fail": {"error": 0, "warning": 0, "info": 0},
+            "not-checked": 0, "waived": 0, "fail_on": fail_on,
+        }
+        self.failing = False
+
+    def add(self, spec: dict[str, Any]) -> None:
+        """Count one spec's outcomes."""
+        s = self.summary
+        s["specs"] += 1
+        if spec["status"] in ("checked", "invalid", "unreadable"):
+            s[spec["status"]] += 1
+        if spec["status"] != "checked" and not all(o.get("baseline") for o in spec["outcomes"]
+                                                   if o["outcome"] == "fail"):
+            self.failing = True
+        for o in spec["outcomes"]:
+            if o["outcome"] == "fail":
+                s["fail"][o["severity"]] += 1
+            elif o["outcome"] in ("not-checked", "waived"):
+                s[o["outcome"]] += 1
+            if counts_toward_failure(o, self.fail_on):
+                self.failing = True
+
+    def result(self) -> dict[str, Any]:
+        """Return the summary with its exit code."""
+        return {**self.summary, "exit_code": 1 if self.failing else 0}
+
+
 def summarise(result: dict[str, Any]) -> None:
     """Recompute the result's summary and exit code from its specs (after a baseline is applied, too)."""
-    results = result["specs"]
-    fail_on = result["settings"]["fail_on"]
-    summary: dict[str, Any] = {
-        "specs": len(results),
-        "checked": sum(r["status"] == "checked" for r in results),
-        "invalid": sum(r["status"] == "invalid" for r in results),
-        "unreadable": sum(r["status"] == "unreadable" for r in results),
-        "fail": {"error": 0, "warning": 0, "info": 0},
-        "not-checked": 0,
-        "waived": 0,
-        "fail_on": fail_on,
-    }
-    failing = False
-    for r in results:
-        if r["status"] != "checked" and not all(o.get("baseline") for o in r["outcomes"] if o["outcome"] == "fail"):
-            failing = True
-        for o in r["outcomes"]:
-            if o["outcome"] == "fail":
-                summary["fail"][o["severity"]] += 1
-            elif o["outcome"] in ("not-checked", "waived"):
-                summary[o["outcome"]] += 1
-            if counts_toward_failure(o, fail_on):
-                failing = True
+    tally = Tally(result["settings"]["fail_on"])
+    for spec in result["specs"]:
+        tally.add(spec)
+    summary = tally.result()
     for key in ("cache", "baseline"):
         if key in result.get("summary", {}):
             summary[key] = result["summary"][key]
-    summary["exit_code"] = 1 if failing else 0
     result["summary"] = summary

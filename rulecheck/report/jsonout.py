@@ -18,7 +18,7 @@ from typing import Any
 from jsonschema import Draft202012Validator
 from jsonschema.exceptions import ValidationError, best_match
 
-__all__ = ["load", "render", "schema"]
+__all__ = ["StreamWriter", "load", "render", "schema"]
 
 # Key order of the objects the contract defines; fields not named here follow, sorted.
 _ORDER: dict[str, tuple[str, ...]] = {
@@ -111,6 +111,41 @@ def render(result: dict[str, Any]) -> str:
     """Return the result as JSON text (UTF-8 characters kept, indent 2, stable key order, final newline)."""
     arranged = _arrange(result, "result", [])
     return json.dumps(arranged, indent=2, ensure_ascii=False, allow_nan=False) + "\n"
+
+
+class StreamWriter:
+    """Writes a result document spec by spec, so a run's memory does not grow with the repository.
+
+    The header and summary are laid out as :func:`render` lays them out; each spec is one compact
+    line of the ``specs`` array. The text reads back with :func:`load` like any other result.
+    """
+
+    def __init__(self, write: Any) -> None:
+        self.write = write
+        self.count = 0
+
+    def begin(self, header: dict[str, Any]) -> None:
+        """Write the fields before the specs."""
+        head = render({**header, "specs": [], "summary": {}})
+        self.write(head[: head.index('"specs": []') + len('"specs": [')])
+
+    def spec(self, spec: dict[str, Any]) -> None:
+        """Write one spec result."""
+        try:
+            text = json.dumps(spec, ensure_ascii=False, allow_nan=False, separators=(",", ":"))
+            text.encode("utf-8")
+        except UnicodeEncodeError:
+            text = json.dumps(spec, ensure_ascii=True, allow_nan=False, separators=(",", ":"))
+        except ValueError:
+            text = json.dumps(_arrange(spec, "spec", ["specs", self.count]), ensure_ascii=False,
+                              separators=(",", ":"))
+        self.write(("," if self.count else "") + "\n    " + text)
+        self.count += 1
+
+    def end(self, summary: dict[str, Any]) -> None:
+        """Write the summary and close the document."""
+        tail = json.dumps(_arrange(summary, "summary", ["summary"]), indent=2, ensure_ascii=False)
+        self.write(("\n  " if self.count else "") + '],\n  "summary": ' + tail.replace("\n", "\n  ") + "\n}\n")
 
 
 @lru_cache(maxsize=1)

@@ -10,7 +10,7 @@ from typing import Any
 
 from rulecheck.report.cautions import select_hazards
 
-__all__ = ["render"]
+__all__ = ["TextReport", "render"]
 
 _COLOURS = {"error": "\033[31;1m", "warning": "\033[33;1m", "info": "\033[36m", "not-checked": "\033[35m",
             "waived": "\033[2m", "pass": "\033[32m"}
@@ -32,56 +32,81 @@ def _where(spec: dict[str, Any], o: dict[str, Any]) -> str:
     return where
 
 
-def render(result: dict[str, Any], *, colour: bool = False, verbose: bool = False,
-           show_derived: bool = False) -> str:
-    """Return the terminal report of a result."""
-    out: list[str] = []
+class TextReport:
+    """The terminal report, written spec by spec."""
 
-    def paint(key: str, text: str) -> str:
-        return f"{_COLOURS[key]}{text}{_RESET}" if colour and key in _COLOURS else text
+    def __init__(self, *, colour: bool = False, verbose: bool = False, show_derived: bool = False,
+                 units: str = "si") -> None:
+        self.colour = colour
+        self.verbose = verbose
+        self.show_derived = show_derived
+        self.units = units
+        self.verdicts: dict[str, int] = {}
+        self.hazards: dict[str, Any] = {}
 
-    for spec in result["specs"]:
+    def _paint(self, key: str, text: str) -> str:
+        return f"{_COLOURS[key]}{text}{_RESET}" if self.colour and key in _COLOURS else text
+
+    def spec(self, spec: dict[str, Any]) -> str:
+        """Return the lines of one spec (empty when it has nothing to report)."""
+        out: list[str] = []
         for o in spec["outcomes"]:
             kind = o["outcome"]
             if kind == "fail" or (kind == "not-checked" and (o.get("safety") or o["severity"] == "error")):
                 level = o["severity"] if kind == "fail" else ("error" if o["severity"] == "error" else "warning")
-                label = paint(level, level) + (" (not checked)" if kind == "not-checked" else "")
-                line = f"{_where(spec, o)}: {label} {o['rule']}: {_clean(o['message'])}"
-                if o.get("fix") and (verbose or kind == "fail"):
+                label = self._paint(level, level) + (" (not checked)" if kind == "not-checked" else "")
+                known = " (in baseline)" if o.get("baseline") else ""
+                line = f"{_where(spec, o)}: {label}{known} {o['rule']}: {_clean(o['message'])}"
+                if o.get("fix") and (self.verbose or kind == "fail"):
                     line += f"\n    fix: {_clean(o['fix'])}"
                 if o.get("safety") and kind == "fail":
                     line += "\n    safety-relevant: review by a qualified engineer before purchase"
                 out.append(line)
-            elif verbose and kind in ("not-checked", "waived", "pass"):
+            elif self.verbose and kind in ("not-checked", "waived", "pass"):
                 detail = _clean(o["message"])
                 if kind == "waived" and o.get("waiver"):
                     w = o["waiver"]
                     detail = (f"waived by {_clean(w.get('approved_by'))} until {w.get('expires')}: "
                               f"{_clean(w.get('reason'))} — {detail}")
-                out.append(f"{_where(spec, o)}: {paint(kind, kind)} {o['rule']}: {detail}")
-        if show_derived and spec.get("derived"):
-            out.append(f"{_clean(spec['file'])}: derived values of {_clean(spec.get('tag') or '?')}:")
+                out.append(f"{_where(spec, o)}: {self._paint(kind, kind)} {o['rule']}: {detail}")
+        if self.show_derived and spec.get("derived"):
             from rulecheck.report.common import display
 
+            out.append(f"{_clean(spec['file'])}: derived values of {_clean(spec.get('tag') or '?')}:")
             for path, value in spec["derived"].items():
-                out.append(f"    {path} = {display(value, result.get('settings', {}).get('units', 'si'))}"
-                           f"  ({_clean(value.get('from'))})")
+                out.append(f"    {path} = {display(value, self.units)}  ({_clean(value.get('from'))})")
         for note in spec.get("notes", []):
             out.append(f"{_clean(spec['file'])}: note: {_clean(note)}")
-    s = result["summary"]
-    fails = s["fail"]
-    verdicts: dict[str, int] = {}
-    for spec in result["specs"]:
-        verdicts[spec["verdict"]] = verdicts.get(spec["verdict"], 0) + 1
-    parts = [f"{s['specs']} spec{'s' if s['specs'] != 1 else ''} checked"]
-    parts += [f"{n} {v}" for v, n in sorted(verdicts.items())]
-    out.append("")
-    out.append(", ".join(parts) + f"; findings: {fails['error']} error, {fails['warning']} warning, "
-               f"{fails['info']} info; {s['not-checked']} not checked, {s['waived']} waived "
-               f"(failing at {s['fail_on']} and above)")
-    hazards = select_hazards([spec for spec in result["specs"] if spec["verdict"] != "pass"])
-    if hazards:
-        out.append("Cautions: " + "; ".join(h.hazard.title for h in hazards) + ".")
-    out.append("Screening aid only: local codes and the authority having jurisdiction govern; "
-               "safety-relevant designs need licensed review.")
-    return "\n".join(out) + "\n"
+        self.verdicts[spec["verdict"]] = self.verdicts.get(spec["verdict"], 0) + 1
+        if spec["verdict"] != "pass":
+            for h in select_hazards([spec]):
+                self.hazards.setdefault(h.hazard.key, h.hazard)
+        return "".join(line + "\n" for line in out)
+
+    def footer(self, summary: dict[str, Any]) -> str:
+        """Return the closing summary lines."""
+        from rulecheck.report.cautions import HAZARDS
+
+        fails = summary["fail"]
+        parts = [f"{summary['specs']} spec{'s' if summary['specs'] != 1 else ''} checked"]
+        parts += [f"{n} {v}" for v, n in sorted(self.verdicts.items())]
+        out = ["", ", ".join(parts) + f"; findings: {fails['error']} error, {fails['warning']} warning, "
+               f"{fails['info']} info; {summary['not-checked']} not checked, {summary['waived']} waived "
+               f"(failing at {summary['fail_on']} and above)"]
+        if "baseline" in summary:
+            b = summary["baseline"]
+            out.append(f"baseline {b['file']}: {b['matched']} known, {b['new']} new, {len(b['fixed'])} fixed")
+        titles = [h.title for h in HAZARDS if h.key in self.hazards]
+        if titles:
+            out.append("Cautions: " + "; ".join(titles) + ".")
+        out.append("Screening aid only: local codes and the authority having jurisdiction govern; "
+                   "safety-relevant designs need licensed review.")
+        return "\n".join(out) + "\n"
+
+
+def render(result: dict[str, Any], *, colour: bool = False, verbose: bool = False,
+           show_derived: bool = False) -> str:
+    """Return the terminal report of a whole result."""
+    report = TextReport(colour=colour, verbose=verbose, show_derived=show_derived,
+                        units=result.get("settings", {}).get("units", "si"))
+    return "".join(report.spec(spec) for spec in result["specs"]) + report.footer(result["summary"])
