@@ -2,13 +2,12 @@
 
 from __future__ import annotations
 
-import copy
-import dataclasses
 import contextlib
+import copy
 import datetime as _dt
+import os
 import signal
 import threading
-import os
 from dataclasses import dataclass, field
 from pathlib import Path
 from typing import Any
@@ -252,7 +251,7 @@ def _check_document(doc: Document, ctx: CheckContext, base_dir: Path | None) -> 
         result["outcomes"].append(entry)
     if any(p.severity == "error" for p in problems):
         result["status"] = "invalid"
-    model = build_model(dataclasses.replace(doc, data=_without(data, problems)), quantities, base_dir=base_dir)
+    model = build_model(doc.with_data(_without(data, problems)), quantities, base_dir=base_dir)
     for note in model.notes:
         result.setdefault("notes", []).append(note)
     margins = data.get("margins") if isinstance(data.get("margins"), dict) else {}

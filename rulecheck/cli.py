@@ -360,6 +360,10 @@ def _stream_check(args: argparse.Namespace, outputs: list[tuple[str, str | None]
         stream.add_cache_counts(summary)
         for sink in sinks:
             sink.finish(summary)
+    except BrokenPipeError:
+        for sink in sinks:
+            sink.abort()
+        raise
     except OSError as exc:
         for sink in sinks:
             sink.abort()
@@ -537,7 +541,13 @@ def main(argv: Sequence[str] | None = None) -> int:
         print("rulecheck: interrupted", file=sys.stderr)
         return 130
     except BrokenPipeError:
-        return 1
+        # the reader (head, less) has gone: stop quietly, as command-line tools do
+        try:
+            devnull = os.open(os.devnull, os.O_WRONLY)
+            os.dup2(devnull, sys.stdout.fileno())
+        except OSError:
+            pass
+        return 141
 
 
 def entry() -> None:

@@ -466,6 +466,17 @@ def _load_torque_function(m: Model, data: dict[str, Any]) -> Any:
     return None
 
 
+def _cooling_factors(ratio: Any, inverter_rated: bool, ct_limit: float | None) -> Any:
+    """Return k_cool for an array of speed ratios n/n_b, as mc.self_ventilated_cooling_factor does for one."""
+    table = mc._COOLING_SPEED_RATIO
+    top = 1.0 if inverter_rated else mc._COOLING_FACTOR_NOT_INVERTER_RATED
+    cool = np.interp(ratio, table, (*mc._COOLING_FACTOR[:-1], top))
+    cool = np.where(ratio < table[0], mc._COOLING_NEAR_STANDSTILL, cool)
+    if ct_limit is not None:
+        cool = np.where(ratio >= ct_limit, 1.0, cool)
+    return cool
+
+
 def _capability(m: Model) -> Any:
     """Return T_cont(ω) [N*m] of the motor (cooling, field weakening, site derating), or None."""
     tn, nb = m.get("motor.rated_torque"), m.get("motor.base_speed")
@@ -490,7 +501,7 @@ def _capability(m: Model) -> Any:
                 base = stall + (tn - stall) * np.minimum(ratio, 1.0)
                 return np.where(ratio <= 1.0, base, tn / np.maximum(ratio, 1e-9)) * k_env
         else:
-            cool = np.vectorize(lambda r: mc.self_ventilated_cooling_factor(r, inverter_rated, ct_limit))(ratio)
+            cool = _cooling_factors(ratio, inverter_rated, ct_limit)
         fw = np.where(ratio > 1.0, 1.0 / np.maximum(ratio, 1e-9), 1.0)
         return tn * cool * fw * k_env
 

@@ -18,7 +18,7 @@ from __future__ import annotations
 
 import hashlib
 import os
-from dataclasses import dataclass, field
+from dataclasses import dataclass
 from typing import Any
 
 import yaml
@@ -62,26 +62,119 @@ class LoadError(Exception):
         self.hint = hint
 
 
-@dataclass
 class Document:
-    """A loaded spec: its data, where each key path sits, and the raw text of scalars."""
+    """A loaded spec: its data, where each key path sits, and the raw text of scalars.
 
-    file: str
-    data: Any
-    sha256: str
-    positions: dict[str, Position] = field(default_factory=dict)  # key path → position of the value
-    key_positions: dict[str, Position] = field(default_factory=dict)  # key path → position of the key
-    raw: dict[str, tuple[str, str]] = field(default_factory=dict)  # key path → (plain scalar text, resolved tag)
+    Positions are looked up in the composed YAML nodes when a finding needs one, not recorded for
+    every value while loading: most values of a spec never need a line number.
+    """
+
+    def __init__(self, file: str, data: Any, sha256: str, root: Any = None) -> None:
+        self.file = file
+        self.data = data
+        self.sha256 = sha256
+        self.root = root
+        self._maps: tuple[dict[str, Position], dict[str, Position], dict[str, tuple[str, str]]] | None = None
+        self._memo: dict[str, Position | None] = {}
+
+    def with_data(self, data: Any) -> Document:
+        """Return the same document with other data (positions and raw text are shared)."""
+        other = Document(self.file, data, self.sha256, self.root)
+        other._maps, other._memo = self._maps, self._memo
+        return other
+
+    def _all(self) -> tuple[dict[str, Position], dict[str, Position], dict[str, tuple[str, str]]]:
+        if self._maps is None:
+            positions: dict[str, Position] = {}
+            keys: dict[str, Position] = {}
+            raw: dict[str, tuple[str, str]] = {}
+            if self.root is not None:
+                _index(self.root, (), positions, keys, raw, 0)
+            self._maps = (positions, keys, raw)
+        return self._maps
+
+    @property
+    def positions(self) -> dict[str, Position]:
+        """Key path → position of the value (every path; built on first use)."""
+        return self._all()[0]
+
+    @property
+    def key_positions(self) -> dict[str, Position]:
+        """Key path → position of the key (built on first use)."""
+        return self._all()[1]
+
+    @property
+    def raw(self) -> dict[str, tuple[str, str]]:
+        """Key path → (plain scalar text, resolved tag) (built on first use)."""
+        return self._all()[2]
+
+    def _node(self, parts: list[Any]) -> Any:
+        node = self.root
+        for part in parts:
+            if isinstance(node, yaml.MappingNode) and isinstance(part, str):
+                node = next((v for k, v in node.value if isinstance(k, yaml.ScalarNode) and k.value == part), None)
+            elif isinstance(node, yaml.SequenceNode) and isinstance(part, int) and 0 <= part < len(node.value):
+                node = node.value[part]
+            else:
+                return None
+            if node is None:
+                return None
+        return node
 
     def position(self, path: str) -> Position | None:
         """Return the position of ``path``, or of its nearest parent that has one."""
-        while True:
-            if path in self.positions:
-                return self.positions[path]
-            if not path:
-                return None
-            cut = max(path.rfind("."), path.rfind("["))
-            path = path[:cut] if cut > 0 else ""
+        if path in self._memo:
+            return self._memo[path]
+        found = None
+        probe = path
+        while found is None:
+            node = self._node(_split(probe)) if self.root is not None else None
+            if node is not None:
+                found = Position(node.start_mark.line + 1, node.start_mark.column + 1)
+            elif not probe:
+                break
+            else:
+                cut = max(probe.rfind("."), probe.rfind("["))
+                probe = probe[:cut] if cut > 0 else ""
+        self._memo[path] = found
+        return found
+
+
+def _split(path: str) -> list[Any]:
+    """Return the keys and indices of a key path: ``load.duty[2].duration`` → ['load', 'duty', 2, 'duration']."""
+    parts: list[Any] = []
+    for piece in path.split(".") if path else []:
+        while "[" in piece and piece.endswith("]"):
+            head, _, rest = piece.partition("[")
+            if head:
+                parts.append(head)
+            index = rest.split("]", 1)[0]
+            parts.append(int(index) if index.isdigit() else index)
+            piece = rest.split("]", 1)[1] if "]" in rest else ""
+            piece = piece.lstrip(".")
+        if piece:
+            parts.append(piece)
+    return parts
+
+
+def _index(node: Any, parts: tuple[Any, ...], positions: dict[str, Position], keys: dict[str, Position],
+           raw: dict[str, tuple[str, str]], depth: int) -> None:
+    if depth > 200:
+        return
+    path = path_text(parts)
+    positions.setdefault(path, Position(node.start_mark.line + 1, node.start_mark.column + 1))
+    if isinstance(node, yaml.MappingNode):
+        for key_node, value_node in node.value:
+            if isinstance(key_node, yaml.ScalarNode):
+                child = (*parts, key_node.value)
+                keys.setdefault(path_text(child), Position(key_node.start_mark.line + 1,
+                                                           key_node.start_mark.column + 1))
+                _index(value_node, child, positions, keys, raw, depth + 1)
+    elif isinstance(node, yaml.SequenceNode):
+        for i, item in enumerate(node.value):
+            _index(item, (*parts, i), positions, keys, raw, depth + 1)
+    elif isinstance(node, yaml.ScalarNode):
+        raw.setdefault(path, (node.value, node.tag))
 
 
 def path_text(parts: tuple[Any, ...] | list[Any]) -> str:
@@ -128,8 +221,6 @@ class _Builder:
             )
         if depth > self.limits.max_depth:
             raise LoadError(f"nesting is deeper than {self.limits.max_depth} levels", *self._lc(node))
-        path = path_text(parts)
-        self.doc.positions.setdefault(path, self._pos(node))
         if isinstance(node, yaml.MappingNode):
             if node.tag != _MAP_TAG:
                 raise self._tag_error(node)
@@ -142,16 +233,14 @@ class _Builder:
                     raise LoadError("a key must be a plain word", *self._lc(key_node))
                 key = key_node.value
                 if key in result:
-                    first = self.doc.key_positions.get(path_text((*parts, key)))
-                    where = f" (first given at line {first.line})" if first else ""
+                    first_node = next(k for k, _v in node.value if isinstance(k, yaml.ScalarNode) and k.value == key)
+                    where = f" (first given at line {first_node.start_mark.line + 1})"
                     raise LoadError(
                         f"duplicate key '{key}'{where}",
                         *self._lc(key_node),
                         hint="a key may appear once in a mapping; remove one of them",
                     )
-                child = (*parts, key)
-                self.doc.key_positions[path_text(child)] = self._pos(key_node)
-                result[key] = self.build(value_node, child, depth + 1)
+                result[key] = self.build(value_node, (*parts, key), depth + 1)
             return result
         if isinstance(node, yaml.SequenceNode):
             if node.tag != _SEQ_TAG:
@@ -159,7 +248,8 @@ class _Builder:
             return [self.build(item, (*parts, i), depth + 1) for i, item in enumerate(node.value)]
         if node.tag not in _SCALAR_TAGS:
             raise self._tag_error(node)
-        self.doc.raw[path] = (node.value, node.tag)
+        if node.tag == "tag:yaml.org,2002:str":
+            return node.value
         if node.tag == "tag:yaml.org,2002:timestamp":
             return node.value  # dates stay text; the schema checks their form
         try:
@@ -244,6 +334,7 @@ def load_text(text: str | bytes, file: str = "<string>", limits: Limits | None =
         kind = "a list" if isinstance(root, yaml.SequenceNode) else "a single value"
         raise LoadError(f"the top level is {kind}, not a mapping of sections", root.start_mark.line + 1,
                         root.start_mark.column + 1, hint="a spec is a mapping: 'format: 1', 'tag: ...', 'motor: ...'")
+    doc.root = root
     try:
         doc.data = _Builder(doc, limits).build(root, (), 0)
     except RecursionError:

@@ -35,6 +35,7 @@ __all__ = ["RunOptions", "Stream", "Tally", "UsageError", "assemble", "collect_s
 SPEC_SUFFIXES = (".yaml", ".yml")
 SEVERITY_RANK = {"info": 1, "warning": 2, "error": 3}
 DEFAULT_CACHE_DIR = ".rulecheck-cache"
+FAST_VALIDATOR_FROM = 50  # specs to check before compiling the fast validator pays for itself
 
 
 class UsageError(Exception):
@@ -282,7 +283,10 @@ def _worker_init(explicit: str | None, extra: list[str], today: str, units_syste
                  value_kinds: dict[str, dict[str, dict[str, str | None]]], charts: bool = True) -> None:
     import signal
 
+    from rulecheck.schema import use_fast_validator
+
     signal.signal(signal.SIGINT, signal.SIG_IGN)  # Ctrl-C is the parent's to handle: it stops the workers
+    use_fast_validator()
     _WORKER.clear()
     _WORKER.update(explicit=explicit, extra=[Path(p) for p in extra], today=_dt.date.fromisoformat(today),
                    units=units_system, base=Path(base_dir), kinds=value_kinds, prepared={}, charts=charts)
@@ -405,6 +409,10 @@ def run_stream(options: RunOptions, progress: Callable[[int, int], None] | None 
         prepared_for(cfg_file, spec)  # rule or configuration errors stop the run before any spec is reported
     jobs = options.jobs if options.jobs > 0 else (os.cpu_count() or 1)
     jobs = min(jobs, max(1, len(todo) // 8))  # small runs are faster in one process
+    if len(todo) >= FAST_VALIDATOR_FROM:
+        from rulecheck.schema import use_fast_validator
+
+        use_fast_validator()
     pool = None
     if jobs > 1:
         kinds = {cfg or "": p.context.value_kinds for cfg, p in prepared.items()}

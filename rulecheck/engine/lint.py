@@ -76,6 +76,7 @@ def _quantity(kind_name: str) -> Any:
     return ureg.Quantity(1.0, k.si_unit.replace("^", "**"))
 
 
+@lru_cache(maxsize=1)
 def _dimension_namespace() -> dict[str, expr.Section]:
     tree: dict[str, Any] = {}
     for path, (typ, info) in catalogue().items():

@@ -60,9 +60,38 @@ def _show_model_value(system: str) -> Any:
 def _spec_parent(model: Model, env: Any, namespace: dict[str, Any]) -> dict[str, Any]:
     """Return (and keep on the model) the names every rule's expressions see on this spec."""
     cache = model.functions.setdefault("_parents", {})
+    model.functions["_sections"] = namespace
     if id(env) not in cache:
         cache[id(env)] = expr.spec_parent(env, namespace)
     return cache[id(env)]
+
+
+class _ShownSection(expr.Section):
+    """A model section as message templates see it: every quantity shown with its unit, wrapped on access."""
+
+    __slots__ = ("_inner", "_kinds", "_system")
+
+    def __init__(self, inner: expr.Section, kinds: dict[str, str], system: str) -> None:
+        object.__setattr__(self, "_name", object.__getattribute__(inner, "_name"))
+        object.__setattr__(self, "_values", {})
+        object.__setattr__(self, "_children", {})
+        object.__setattr__(self, "_inner", inner)
+        object.__setattr__(self, "_kinds", kinds)
+        object.__setattr__(self, "_system", system)
+
+    def __getattr__(self, key: str) -> Any:
+        if key.startswith("_"):
+            raise AttributeError(key)
+        inner = object.__getattribute__(self, "_inner")
+        value = getattr(inner, key)
+        kinds = object.__getattribute__(self, "_kinds")
+        system = object.__getattribute__(self, "_system")
+        if isinstance(value, expr.Section):
+            return _ShownSection(value, kinds, system)
+        name = object.__getattribute__(self, "_name")
+        return _show_model_value(system)(value, kinds.get(f"{name}.{key}" if name else key))
+
+    __getitem__ = __getattr__
 
 
 def _display_parent(model: Model, env: Any, system: str) -> dict[str, Any]:
@@ -70,7 +99,9 @@ def _display_parent(model: Model, env: Any, system: str) -> dict[str, Any]:
     cache = model.functions.setdefault("_display", {})
     key = (id(env), system)
     if key not in cache:
-        cache[key] = expr.spec_parent(env, model.namespace(_show_model_value(system)))
+        sections = model.functions.get("_sections") or model.namespace()
+        cache[key] = expr.spec_parent(env, {k: _ShownSection(v, model.kinds, system) if isinstance(v, expr.Section)
+                                            else v for k, v in sections.items()})
     return cache[key]
 
 

@@ -335,3 +335,18 @@ def test_efficiency_limits_unknown_and_unverified():
     assert machines.efficiency_class_limit("IE2", 9000, 4) is None
     with pytest.raises(ValueError):
         machines.efficiency_class_limit("IE7", 7500, 4)
+
+
+def test_array_cooling_factors_match_the_scalar_method() -> None:
+    # the derive stage's vectorised k_cool must give exactly what the documented scalar method gives
+    import numpy as np
+
+    from rulecheck.derive import _cooling_factors
+    from rulecheck.physics.machines import self_ventilated_cooling_factor
+
+    ratios = np.linspace(0.0, 1.6, 161)
+    for inverter_rated in (True, False):
+        for ct_limit in (None, 0.1, 0.5, 0.0):
+            got = _cooling_factors(ratios, inverter_rated, ct_limit)
+            want = [self_ventilated_cooling_factor(r, inverter_rated, ct_limit) for r in ratios]
+            assert np.allclose(got, want, rtol=0, atol=1e-12), (inverter_rated, ct_limit)

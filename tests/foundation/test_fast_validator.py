@@ -1,0 +1,88 @@
+"""The compiled validator that large runs ask first must agree with jsonschema on every spec."""
+
+from __future__ import annotations
+
+from pathlib import Path
+
+import pytest
+import yaml
+from hypothesis import HealthCheck, given, settings
+from hypothesis import strategies as st
+
+from rulecheck.schema import _fast_validator, _validator
+
+ROOT = Path(__file__).resolve().parents[2]
+SPECS = sorted((ROOT / "specs_demo").glob("*.yaml")) + sorted((ROOT / "tests").rglob("*.yaml"))
+
+
+def _fast(data: object) -> bool:
+    try:
+        _fast_validator()(data)
+    except Exception:
+        return False
+    return True
+
+
+def _docs() -> list[object]:
+    out = []
+    for path in SPECS:
+        try:
+            data = yaml.safe_load(path.read_text(encoding="utf-8"))
+        except Exception:
+            continue
+        if isinstance(data, dict) and "format" in data:
+            out.append(data)
+    return out
+
+
+DOCS = _docs()
+
+
+def test_there_are_specs_to_compare() -> None:
+    assert len(DOCS) >= 8
+
+
+@pytest.mark.parametrize("index", range(len(DOCS)))
+def test_agrees_on_every_spec_in_the_repository(index: int) -> None:
+    data = DOCS[index]
+    assert _fast(data) == _validator().is_valid(data)
+
+
+_values = st.one_of(st.none(), st.booleans(), st.integers(-10**6, 10**6), st.floats(allow_nan=True),
+                    st.text(max_size=12), st.sampled_from(["7.5 kW", "1455 r/min", "induction", "IP55", "50 %"]))
+
+
+@settings(max_examples=300, deadline=None, suppress_health_check=[HealthCheck.too_slow])
+@given(st.sampled_from(DOCS), st.lists(st.tuples(st.integers(0, 40), _values), max_size=4), st.data())
+def test_agrees_on_mutated_specs(base: dict, edits: list, data: st.DataObject) -> None:
+    import copy
+
+    doc = copy.deepcopy(base)
+    for pick, value in edits:
+        section = doc
+        keys = [k for k, v in section.items()]
+        key = keys[pick % len(keys)]
+        if isinstance(section[key], dict) and section[key] and data.draw(st.booleans()):
+            inner = section[key]
+            inner_keys = list(inner)
+            inner[inner_keys[pick % len(inner_keys)]] = value
+        else:
+            section[key] = value
+    assert _fast(doc) == _validator().is_valid(doc)
+
+
+def test_agrees_on_a_generated_corpus(tmp_path: Path) -> None:
+    import subprocess
+    import sys
+
+    subprocess.run([sys.executable, str(ROOT / "bench" / "generate.py"), str(tmp_path), "--count", "150", "--seed", "3"],
+                   check=True, capture_output=True)
+    compared = 0
+    for path in sorted(tmp_path.rglob("*.yaml")):
+        try:
+            data = yaml.safe_load(path.read_text(encoding="utf-8"))
+        except Exception:
+            continue  # files that do not load never reach a validator
+        assert _fast(data) == _validator().is_valid(data), path.name
+        compared += 1
+    assert compared > 100
