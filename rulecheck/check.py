@@ -99,10 +99,12 @@ def _round(value: float) -> float:
 
 def outcome_dict(o: Outcome, meta: dict[str, Any], doc: Document | None) -> dict[str, Any]:
     """Return one outcome in the JSON-result form."""
-    pos = doc.position(o.path) if doc is not None and o.path else None
-    if doc is not None and o.path and o.path in doc.key_positions and o.rule in ("spec-schema",) and pos is None:
+    # a pass or a rule that does not apply points at nothing a reviewer must find: no line is looked up
+    located = doc is not None and o.path and o.outcome not in ("pass", "not-applicable")
+    pos = doc.position(o.path) if located else None
+    if located and pos is None and o.rule == "spec-schema" and o.path in doc.key_positions:
         pos = doc.key_positions[o.path]
-    return {
+    entry = {
         "rule": o.rule,
         "title": meta.get("title", ""),
         "topic": meta.get("topic", ""),
@@ -119,6 +121,11 @@ def outcome_dict(o: Outcome, meta: dict[str, Any], doc: Document | None) -> dict
         "missing": list(o.missing),
         "waiver": o.waiver,
     }
+    if o.outcome in ("pass", "not-applicable"):
+        # the basis and formula of a rule that found nothing are in the rule's own description
+        # ('rulecheck rules show', the SARIF driver); repeating them per spec only fattens the result
+        del entry["formula"], entry["basis"]
+    return entry
 
 
 def _display_path(path: Path, base: Path | None) -> str:
@@ -268,7 +275,7 @@ def _check_document(doc: Document, ctx: CheckContext, base_dir: Path | None) -> 
     waiver_outcomes = _apply_waivers(data.get("waivers"), rule_outcomes, ctx)
     for rule_id, outcome in rule_outcomes.items():
         rule = ctx.ruleset.rules[rule_id]
-        result["outcomes"].append(outcome_dict(outcome, {**rule.metadata(), "formula": rule.formula}, doc))
+        result["outcomes"].append(outcome_dict(outcome, rule.metadata(), doc))
     for o in waiver_outcomes:
         result["outcomes"].append(outcome_dict(o, BUILTIN_RULES["waiver-check"], doc))
     result["derived"] = {

@@ -277,6 +277,8 @@ def _filter_changed(specs: list[Path], rev: str, configs: _Configs, extra: list[
 # --- workers -------------------------------------------------------------------------------------------
 
 _WORKER: dict[str, Any] = {}
+# Set by the parent just before it starts workers: a forked worker starts with the compiled rules in memory.
+_INHERITED: dict[str | None, Any] = {}
 
 
 def _worker_init(explicit: str | None, extra: list[str], today: str, units_system: str, base_dir: str,
@@ -289,7 +291,8 @@ def _worker_init(explicit: str | None, extra: list[str], today: str, units_syste
     use_fast_validator()
     _WORKER.clear()
     _WORKER.update(explicit=explicit, extra=[Path(p) for p in extra], today=_dt.date.fromisoformat(today),
-                   units=units_system, base=Path(base_dir), kinds=value_kinds, prepared={}, charts=charts)
+                   units=units_system, base=Path(base_dir), kinds=value_kinds, charts=charts,
+                   prepared=dict(_INHERITED))  # rules compiled in the parent, when the worker was forked from it
 
 
 def _worker_check(config_file: str | None, spec: str) -> dict[str, Any]:
@@ -415,6 +418,8 @@ def run_stream(options: RunOptions, progress: Callable[[int, int], None] | None 
         use_fast_validator()
     pool = None
     if jobs > 1:
+        _INHERITED.clear()
+        _INHERITED.update(prepared)
         kinds = {cfg or "": p.context.value_kinds for cfg, p in prepared.items()}
         init = (explicit.file if explicit else None, [str(p) for p in extra], today.isoformat(), units_system,
                 str(base_dir), kinds, options.charts)

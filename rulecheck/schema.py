@@ -67,8 +67,21 @@ def _validator() -> Any:
     return Draft202012Validator(schema)
 
 
+_RESOLVED: dict[int, dict[str, Any]] = {}
+
+
 def _resolve(node: dict[str, Any]) -> dict[str, Any]:
-    """Follow local ``$ref``s, merging sibling keywords (description) over the target."""
+    """Follow local ``$ref``s, merging sibling keywords (description) over the target; memoised, the schema is fixed."""
+    if "$ref" not in node:
+        return node
+    key = id(node)
+    found = _RESOLVED.get(key)
+    if found is None:
+        found = _RESOLVED[key] = _resolve_uncached(node)
+    return found
+
+
+def _resolve_uncached(node: dict[str, Any]) -> dict[str, Any]:
     seen = 0
     while "$ref" in node and seen < 10:
         ref = node["$ref"]

@@ -118,7 +118,15 @@ class Rule:
     builtin: bool = False
 
     def metadata(self) -> dict[str, Any]:
-        """Return the rule's description for reports and SARIF (no compiled parts)."""
+        """Return the rule's description for reports and SARIF (no compiled parts; built once)."""
+        cached = self.raw.get("__metadata__") if isinstance(self.raw, dict) else None
+        if cached is not None:
+            return cached
+        meta = self._metadata()
+        self.raw["__metadata__"] = meta
+        return meta
+
+    def _metadata(self) -> dict[str, Any]:
         return {
             "id": self.id,
             "title": self.title,
