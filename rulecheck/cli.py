@@ -251,7 +251,7 @@ def _options(args: argparse.Namespace, paths: list[str]) -> Any:
                       fail_on=getattr(args, "fail_on", None), units=getattr(args, "units", None),
                       today=_today(args), jobs=args.jobs, cache_dir=None if args.no_cache else _cache_dir(args),
                       changed_since=getattr(args, "changed_since", None),
-                      charts=getattr(args, "_charts", True))
+                      charts=getattr(args, "_charts", True), code_cache_dir=_code_cache_dir(args))
 
 
 def _run(args: argparse.Namespace, paths: list[str]) -> dict[str, Any]:
@@ -261,6 +261,15 @@ def _run(args: argparse.Namespace, paths: list[str]) -> dict[str, Any]:
         return run(_options(args, paths), progress=_progress(args))
     except UsageError as exc:
         raise _Usage(str(exc)) from None
+
+
+def _code_cache_dir(args: argparse.Namespace) -> str | None:
+    """Return where compiled rules are kept: the cache folder, unless RULECHECK_NO_CODE_CACHE is set."""
+    from rulecheck.cache import default_cache_dir
+
+    if os.environ.get("RULECHECK_NO_CODE_CACHE"):
+        return None
+    return str(Path(args.cache_dir) / "code") if args.cache_dir else str(default_cache_dir() / "code")
 
 
 def _cache_dir(args: argparse.Namespace) -> str:

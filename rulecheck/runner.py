@@ -56,6 +56,7 @@ class RunOptions:
     cache_dir: str | None = None  # None = no cache
     changed_since: str | None = None
     charts: bool = True  # chart data is only needed by the HTML report and the e-mail
+    code_cache_dir: str | None = None  # compiled rules and lint results, kept even when results are not cached
 
 
 def collect_specs(paths: list[str]) -> list[Path]:
@@ -143,7 +144,8 @@ def prepare(cfg: Config, extra_rule_paths: list[Path], today: _dt.date, units_sy
     """
     from rulecheck.engine.lint import lint_ruleset
 
-    ruleset, errors = load_rules(rule_folders(cfg, extra_rule_paths))
+    # rule files already linted (their digest matched a cached lint) need no second schema check
+    ruleset, errors = load_rules(rule_folders(cfg, extra_rule_paths), validate=value_kinds is None)
     for rule_id in (*cfg.disable, *cfg.severity):
         if ruleset.resolve(rule_id) is None and rule_id not in BUILTIN_RULES:
             where = "disable" if rule_id in cfg.disable else f"severity.{rule_id}"
@@ -170,11 +172,46 @@ def prepare(cfg: Config, extra_rule_paths: list[Path], today: _dt.date, units_sy
     return Prepared(cfg, ruleset, ctx)
 
 
+def _sources_key() -> str:
+    import jinja2
+
+    return "sources-" + hashlib.sha256((code_digest() + jinja2.__version__).encode()).hexdigest()
+
+
+def _load_sources(cache: ResultCache) -> None:
+    """Load the compiled rule sources kept by earlier runs (signed entries only)."""
+    from rulecheck.engine import expr
+
+    entry = cache.get(_sources_key())
+    cache.hits -= entry is not None
+    cache.misses -= entry is None
+    if entry is not None and isinstance(entry.get("sources"), dict):
+        expr.SOURCES.update({k: v for k, v in entry["sources"].items() if isinstance(v, str)})
+    expr.SOURCES_STATE["dirty"] = False
+
+
+def _save_sources(cache: ResultCache) -> None:
+    from rulecheck.engine import expr
+
+    if expr.SOURCES_STATE["dirty"]:
+        cache.put(_sources_key(), {"sources": dict(expr.SOURCES)})
+        expr.SOURCES_STATE["dirty"] = False
+
+
 def _prepare_cached(cfg: Config, extra: list[Path], today: _dt.date, units_system: str, base_dir: Path,
                     cache: ResultCache | None, digest: str) -> Prepared:
-    """Prepare a configuration's rules, reusing a cached lint of the same rule files and code."""
+    """Prepare a configuration's rules, reusing cached compiled sources and lint of the same rules and code."""
     if cache is None:
         return prepare(cfg, extra, today, units_system, base_dir)
+    _load_sources(cache)
+    try:
+        return _prepare_with_lint_cache(cfg, extra, today, units_system, base_dir, cache, digest)
+    finally:
+        _save_sources(cache)
+
+
+def _prepare_with_lint_cache(cfg: Config, extra: list[Path], today: _dt.date, units_system: str, base_dir: Path,
+                             cache: ResultCache, digest: str) -> Prepared:
     key = "lint-" + hashlib.sha256((code_digest() + digest).encode()).hexdigest()
     entry = cache.get(key)
     cache.hits -= entry is not None
@@ -367,6 +404,8 @@ def run_stream(options: RunOptions, progress: Callable[[int, int], None] | None 
     fail_on = options.fail_on or first_cfg.fail_on or "error"
     units_system = options.units or first_cfg.units or "si"
     cache = ResultCache(Path(options.cache_dir)) if options.cache_dir else None
+    code_cache = cache if cache is not None else (ResultCache(Path(options.code_cache_dir)) if options.code_cache_dir
+                                                  else None)
 
     # group by configuration; a context key covers everything but the spec itself
     keys: dict[str | None, str] = {}
@@ -404,7 +443,7 @@ def run_stream(options: RunOptions, progress: Callable[[int, int], None] | None 
     def prepared_for(cfg_file: str | None, spec: Path) -> Prepared:
         if cfg_file not in prepared:
             prepared[cfg_file] = _prepare_cached(configs.for_spec(spec), extra, today, units_system, base_dir,
-                                                 cache, digests[cfg_file])
+                                                 code_cache, digests[cfg_file])
             prepared[cfg_file].context.charts = options.charts
         return prepared[cfg_file]
 

@@ -288,14 +288,80 @@ def compile_expression(env: _RuleEnvironment, text: str) -> Callable[..., Any]:
         raise ExpressionError(f"expression is longer than {MAX_EXPRESSION_LENGTH} characters")
     if "__" in text:
         raise ExpressionError("names with double underscores are not allowed in rule expressions")
+    cached = _from_source(env, "expr", text)
+    if cached is not None:
+        return cached
     try:
-        compiled = env.compile_expression(text, undefined_to_none=False)
+        from jinja2 import nodes
+        from jinja2.environment import TemplateExpression
+        from jinja2.parser import Parser
+
+        parser = Parser(env, text, state="variable")
+        tree = parser.parse_expression()
+        if not parser.stream.eos:
+            raise TemplateSyntaxError("chunk after expression", parser.stream.current.lineno, None, None)
+        tree.set_environment(env)
+        body = [nodes.Assign(nodes.Name("result", "store"), tree, lineno=1)]
+        source = env.compile(nodes.Template(body, lineno=1), raw=True)
+        compiled = TemplateExpression(_template_from_source(env, source), False)
     except TemplateSyntaxError as exc:
         raise ExpressionError(f"syntax error: {exc.message}") from None
     except Exception as exc:  # jinja raises a few types for malformed input
         raise ExpressionError(f"cannot compile: {exc}") from None
     check_names(env, "{{ (" + text + ") }}")  # compiled as one expression, so the wrapping cannot change its meaning
+    _remember_source(env, "expr", text, source)
     return compiled
+
+
+def compile_template(env: _RuleEnvironment, text: str) -> Any:
+    """Compile a message template (the caller has checked its form); raise jinja's errors."""
+    cached = _from_source(env, "template", text)
+    if cached is not None:
+        return cached
+    source = env.compile(text, raw=True)
+    template = _template_from_source(env, source)
+    _remember_source(env, "template", text, source)
+    return template
+
+
+# --- compiled sources, kept between runs ------------------------------------------------------------
+# Compiling an expression with jinja (lexing, parsing, code generation) costs about a millisecond; a
+# rule set has several hundred. The Python source jinja generates is kept in the user's cache, signed
+# with the user's key (rulecheck.cache), so a later run only hands it to Python's compile().
+
+SOURCES: dict[str, str] = {}
+SOURCES_STATE = {"dirty": False}
+
+
+def _source_key(env: Any, kind: str, text: str) -> str:
+    import hashlib
+
+    return hashlib.sha256(f"{getattr(env, 'cache_tag', 'run')}\0{kind}\0{text}".encode()).hexdigest()
+
+
+def _template_from_source(env: Any, source: str) -> Any:
+    code = compile(source, "<rule>", "exec")
+    return env.template_class.from_code(env, code, env.make_globals(None))
+
+
+def _from_source(env: Any, kind: str, text: str) -> Any:
+    source = SOURCES.get(_source_key(env, kind, text))
+    if source is None:
+        return None
+    try:
+        template = _template_from_source(env, source)
+    except Exception:
+        return None
+    if kind == "expr":
+        from jinja2.environment import TemplateExpression
+
+        return TemplateExpression(template, False)
+    return template
+
+
+def _remember_source(env: Any, kind: str, text: str, source: str) -> None:
+    SOURCES[_source_key(env, kind, text)] = source
+    SOURCES_STATE["dirty"] = True
 
 
 class Scope:

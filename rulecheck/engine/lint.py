@@ -194,6 +194,7 @@ def _lint_environment(take_first: bool = True) -> Any:
 
     env = expr.environment({n: _dimensional_method(n, i) for n, i in METHODS.items() if i.expose})
     env.code_generator_class = _branch_code_generator(take_first)
+    env.cache_tag = f"lint-{take_first}"  # its generated code differs from the run environment's
     return env
 
 

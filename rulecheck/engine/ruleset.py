@@ -200,7 +200,7 @@ def _template(env: Any, text: str, file: str, where: str, pos: Position | None) 
     except expr.ExpressionError as exc:
         raise RuleError(file, f"{where}: {exc}", *(_lc(pos))) from None
     try:
-        return env.from_string(text)
+        return expr.compile_template(env, text)
     except Exception as exc:
         raise RuleError(file, f"{where}: cannot compile template: {exc}", *(_lc(pos))) from None
 
@@ -221,8 +221,12 @@ _RESERVED = {"supply", "drive", "motor", "transmission", "load", "environment", 
              "spec", "site", "train", *expr.BUILTINS, *expr.CONSTANTS, *expr.JINJA_NAMES}
 
 
-def load_rule_file(path: Path) -> Rule:
-    """Return the compiled rule in ``path``; raise :class:`RuleError` naming file and line."""
+def load_rule_file(path: Path, validate: bool = True) -> Rule:
+    """Return the compiled rule in ``path``; raise :class:`RuleError` naming file and line.
+
+    ``validate=False`` skips the rule-schema check for files whose exact bytes were validated and
+    linted before (the caller matched their digest); everything else is still checked.
+    """
     file = str(path)
     try:
         doc = load_file(path, display_name=file)
@@ -232,7 +236,8 @@ def load_rule_file(path: Path) -> Rule:
         raise RuleError(file, "a rule file is a mapping", 1, 1)
     if path.stat().st_size > MAX_RULE_FILE_BYTES:
         raise RuleError(file, f"rule file is larger than {MAX_RULE_FILE_BYTES} bytes", 1, 1)
-    errors = sorted(_rule_validator().iter_errors(doc.data), key=lambda e: list(map(str, e.absolute_path)))
+    errors = sorted(_rule_validator().iter_errors(doc.data), key=lambda e: list(map(str, e.absolute_path))) \
+        if validate else []
     if errors:
         error = errors[0]
         key = path_text(list(error.absolute_path))
@@ -335,7 +340,8 @@ def rules_digest(folders: list[Path]) -> str:
     return "sha256:" + digest.hexdigest()
 
 
-def load_rules(folders: list[Path], disabled: set[str] | None = None) -> tuple[RuleSet, list[RuleError]]:
+def load_rules(folders: list[Path], disabled: set[str] | None = None,
+               validate: bool = True) -> tuple[RuleSet, list[RuleError]]:
     """Return the rules of ``folders`` (errors collected, not raised) with ids unique across folders."""
     rules: dict[str, Rule] = {}
     aliases: dict[str, str] = {}
@@ -349,7 +355,7 @@ def load_rules(folders: list[Path], disabled: set[str] | None = None) -> tuple[R
                 errors.append(RuleError(str(path), "a rule file must be a regular file, not a symbolic link"))
         for path in rule_files(folder):
             try:
-                rule = load_rule_file(path)
+                rule = load_rule_file(path, validate)
             except RuleError as exc:
                 errors.append(exc)
                 continue

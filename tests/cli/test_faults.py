@@ -75,13 +75,13 @@ def test_a_spec_over_its_time_limit_is_stopped_with_a_finding(tmp_path: Path, mo
 
 @pytest.mark.skipif(not hasattr(signal, "SIGINT"), reason="needs POSIX signals")
 def test_ctrl_c_exits_130_with_no_partial_report(tmp_path: Path) -> None:
-    _copies(tmp_path / "specs", 40)
+    _copies(tmp_path / "specs", 150)
     out = tmp_path / "report.json"
     env = {**os.environ, "PYTHONPATH": str(ROOT), "NO_COLOR": "1"}
     proc = subprocess.Popen([sys.executable, "-m", "rulecheck", "check", str(tmp_path / "specs"), "--no-cache",
                              "-j", "2", "--format", "json", "-o", str(out)], cwd=tmp_path, env=env,
                             stdout=subprocess.PIPE, stderr=subprocess.PIPE, text=True)
-    time.sleep(2.5)
+    time.sleep(1.5)
     proc.send_signal(signal.SIGINT)
     stdout, stderr = proc.communicate(timeout=240)  # generous: a loaded CI machine is slow, not hung
     if proc.returncode == 1:
