@@ -39,6 +39,7 @@ DERIVED: dict[str, tuple[str | None, str]] = {
     "supply.voltage_max": ("voltage", "highest supply voltage: nominal × (1 + tolerance)"),
     "supply.voltage_tolerance": ("fraction", "declared voltage band (default ±10 %, IEC 60038 from memory)"),
     "supply.frequency_tolerance": ("fraction", "declared frequency band (default ±2 %, common practice)"),
+    "supply.band_declared": ("flag", "the spec declares its supply voltage band (rather than the default)"),
     "supply.unbalance": ("fraction", "voltage unbalance, NEMA definition"),
     "drive.dc_bus_voltage": ("voltage", "DC bus of a six-pulse diode front end at nominal supply, loaded"),
     "drive.dc_bus_voltage_min": ("voltage", "DC bus at the lowest supply voltage, loaded"),
@@ -188,6 +189,8 @@ def build_model(doc: Document, q: Quantities, base_dir: Path | None = None) -> M
 
 
 def _supply(m: Model, data: dict[str, Any], base: Path | None) -> None:
+    _d(m, "supply.band_declared", m.has("supply.voltage_tolerance"), "given", ("supply.voltage_tolerance",),
+       "the spec gives supply.voltage_tolerance")
     _default(m, "supply.voltage_tolerance", 0.10, "±10 % (IEC 60038 supply tolerance, from memory)")
     _default(m, "supply.frequency_tolerance", 0.02, "±2 % (common practice for public grids)")
     v = m.get("supply.voltage")
