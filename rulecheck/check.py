@@ -125,6 +125,9 @@ def outcome_dict(o: Outcome, meta: dict[str, Any], doc: Document | None) -> dict
         # the basis and formula of a rule that found nothing are in the rule's own description
         # ('rulecheck rules show', the SARIF driver); repeating them per spec only fattens the result
         del entry["formula"], entry["basis"]
+    if o.outcome == "not-applicable":
+        for key in ("fix", "values", "limit", "missing", "waiver"):
+            del entry[key]
     return entry
 
 

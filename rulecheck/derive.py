@@ -26,7 +26,7 @@ from rulecheck.physics import machines as mc
 from rulecheck.physics import power_electronics as pe
 from rulecheck.physics import supply as sp
 from rulecheck.physics import transmission as tr
-from rulecheck.schema import Quantities, walk_fields
+from rulecheck.schema import Quantities, fields
 
 __all__ = ["DERIVED", "build_model"]
 
@@ -152,7 +152,7 @@ for _module in _extensions():
 
 
 def _given(model: Model, doc: Document, q: Quantities) -> None:
-    for parts, value, node in walk_fields(doc.data):
+    for parts, value, node in fields(doc.data):
         path = path_text(parts)
         if not parts or any(isinstance(p, int) for p in parts):
             continue

@@ -305,6 +305,22 @@ def _show(value: Any) -> str:
     return text if len(text) <= 60 else text[:57] + "..."
 
 
+_FIELDS: dict[int, tuple[Any, list[Any]]] = {}
+
+
+def fields(data: Any) -> list[Any]:
+    """Return :func:`walk_fields` of a spec's data as a list, computed once per data object."""
+    key = id(data)
+    found = _FIELDS.get(key)
+    if found is not None and found[0] is data:
+        return found[1]
+    items = list(walk_fields(data))
+    if len(_FIELDS) > 8:
+        _FIELDS.clear()  # only the spec being checked matters
+    _FIELDS[key] = (data, items)
+    return items
+
+
 def walk_fields(data: Any, node: dict[str, Any] | None = None, parts: tuple[Any, ...] = ()) -> Any:
     """Yield (path parts, value, resolved subschema) for every value of ``data`` that the schema describes."""
     node = _resolve(node if node is not None else spec_schema())
@@ -355,7 +371,7 @@ def read_quantities(doc: Document) -> tuple[Quantities, list[Problem]]:
     """Return every ``x-dimension`` field of ``doc`` parsed to SI, and the unit problems found."""
     q = Quantities()
     problems: list[Problem] = []
-    for parts, value, node in walk_fields(doc.data):
+    for parts, value, node in fields(doc.data):
         kind_name = node.get("x-dimension")
         if not kind_name or isinstance(value, (dict, list)):
             continue

@@ -409,6 +409,18 @@ def _pint_conversion(unit_text: str, kind_name: str) -> tuple[float, float]:
 
 
 def parse_quantity(value: Any, kind_name: str) -> float:
+    """Return the magnitude of ``value`` in the internal SI unit of ``kind_name`` (see :func:`_parse_quantity`)."""
+    if isinstance(value, str):
+        return _parse_text(value, kind_name)  # spec repositories repeat the same few hundred strings
+    return _parse_quantity(value, kind_name)
+
+
+@lru_cache(maxsize=65536)
+def _parse_text(value: str, kind_name: str) -> float:
+    return _parse_quantity(value, kind_name)
+
+
+def _parse_quantity(value: Any, kind_name: str) -> float:
     """Return the magnitude of ``value`` in the internal SI unit of ``kind_name``.
 
     ``value`` is a spec string such as ``"7.5 kW"``; for the ``fraction`` kind a
