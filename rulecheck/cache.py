@@ -21,7 +21,7 @@ from typing import Any
 
 __all__ = ["ResultCache", "code_digest", "default_cache_dir", "spec_key"]
 
-_MAGIC = "rulecheck-cache-1"
+_MAGIC = "rulecheck-cache-2"
 _PROFILE = re.compile(rb"^\s*duty_profile\s*:\s*['\"]?([A-Za-z0-9_./-]+\.csv)", re.MULTILINE)
 
 
@@ -54,6 +54,45 @@ def spec_key(spec_bytes: bytes, spec_path: Path, display: str, context_key: str)
         except OSError:
             h.update(b"missing")
     return h.hexdigest()
+
+
+class CachedResult(dict):  # type: ignore[type-arg]
+    """A result read from the cache, with the JSON text it was read from (None once it is changed)."""
+
+    def __init__(self, result: dict[str, Any], text: str | None) -> None:
+        super().__init__(result)
+        self.text = text
+
+
+class CachedEntry:
+    """A cached spec result left unparsed: its JSON text and the counts of its outcomes."""
+
+    __slots__ = ("text", "tally")
+
+    def __init__(self, text: str, tally: dict[str, Any]) -> None:
+        self.text = text
+        self.tally = tally
+
+    def load(self) -> dict[str, Any]:
+        """Return the result itself."""
+        return CachedResult(json.loads(self.text), self.text)
+
+
+def tally_of(result: dict[str, Any]) -> dict[str, Any]:
+    """Return what a run summary counts of one spec result, for every fail level."""
+    from rulecheck.runner import counts_toward_failure
+
+    fails = {"error": 0, "warning": 0, "info": 0}
+    other = {"not-checked": 0, "waived": 0}
+    failing = {level: result.get("status") != "checked" for level in ("error", "warning", "info")}
+    for o in result.get("outcomes", []):
+        if o["outcome"] == "fail":
+            fails[o["severity"]] += 1
+        elif o["outcome"] in other:
+            other[o["outcome"]] += 1
+        for level in failing:
+            failing[level] = failing[level] or counts_toward_failure(o, level)
+    return {"status": result.get("status"), "fail": fails, **other, "failing": failing}
 
 
 def default_cache_dir() -> Path:
@@ -111,23 +150,37 @@ class ResultCache:
         """Return whether an entry exists for ``key`` (it is verified when read)."""
         return self._path(key).is_file()
 
-    def get(self, key: str) -> dict[str, Any] | None:
-        """Return the cached result for ``key``, or None (a bad entry counts as absent)."""
+    def get(self, key: str, lazy: bool = False) -> Any:
+        """Return the cached result for ``key``, or None (a bad entry counts as absent).
+
+        With ``lazy`` the result is not parsed: a :class:`CachedEntry` carries its JSON text and the
+        counts a run summary needs (enough for a JSON report).
+
+        A spec result comes back as a :class:`CachedResult`: a dict that also keeps the JSON text it
+        was read from, so a JSON report can copy it instead of encoding it again.
+        """
         try:
             raw = self._path(key).read_bytes()
             mac, _sep, payload = raw.partition(b"\n")
             if not hmac.compare_digest(mac.decode("ascii", "replace"), self._mac(payload)):
                 raise ValueError("signature")
-            entry = json.loads(payload)
+            head, _sep, body = payload.partition(b"\n")
+            if not head.startswith(f"{_MAGIC} {key} ".encode()):
+                raise ValueError("foreign entry")
+            text = body.decode("utf-8")
+            if lazy:
+                tally = json.loads(head.split(b" ", 2)[2])
+                self.hits += 1
+                return CachedEntry(text, tally)
+            result = json.loads(text)
         except (OSError, ValueError, UnicodeDecodeError):
             self.misses += 1
             return None
-        if not isinstance(entry, dict) or entry.get("magic") != _MAGIC or entry.get("key") != key or not isinstance(
-                entry.get("result"), dict):
+        if not isinstance(result, dict):
             self.misses += 1
             return None
         self.hits += 1
-        return entry["result"]
+        return CachedResult(result, text)
 
     def put(self, key: str, result: dict[str, Any]) -> None:
         """Store a result (atomically: temporary file, then rename); errors only disable the cache."""
@@ -139,8 +192,9 @@ class ResultCache:
             ignore = self.folder / ".gitignore"
             if not ignore.exists():
                 ignore.write_text("# rulecheck's result cache\n*\n", encoding="utf-8")
-            payload = json.dumps({"magic": _MAGIC, "key": key, "result": result}, ensure_ascii=False,
-                                 separators=(",", ":")).encode("utf-8")
+            body = json.dumps(result, ensure_ascii=False, separators=(",", ":"), allow_nan=False)
+            tally = json.dumps(tally_of(result), separators=(",", ":"))
+            payload = f"{_MAGIC} {key} {tally}\n".encode() + body.encode("utf-8")
             fd, tmp = tempfile.mkstemp(dir=path.parent, prefix=".tmp-", suffix=".json")
             with os.fdopen(fd, "wb") as handle:
                 handle.write(self._mac(payload).encode("ascii") + b"\n" + payload)

@@ -347,8 +347,11 @@ def _stream_check(args: argparse.Namespace, outputs: list[tuple[str, str | None]
     from rulecheck import baseline
     from rulecheck.runner import Tally, UsageError, run_stream
 
+    options = _options(args, args.paths)
+    # a JSON report copies cached results as they are: they need not be parsed
+    options.lazy_cached = known is None and all(fmt == "json" for fmt, _file in outputs)
     try:
-        stream = run_stream(_options(args, args.paths), progress=_progress(args))
+        stream = run_stream(options, progress=_progress(args))
     except UsageError as exc:
         raise _Usage(str(exc)) from None
     matcher = baseline.Matcher(known, args.baseline) if known is not None else None

@@ -27,7 +27,7 @@ from rulecheck import __version__
 from rulecheck.cache import ResultCache, code_digest, spec_key
 from rulecheck.check import BUILTIN_RULES, CheckContext, check_file
 from rulecheck.config import CONFIG_NAME, Config, ConfigError, discover, read_config
-from rulecheck.engine.ruleset import RuleSet, load_rules, rules_digest, shipped_rules_dir
+from rulecheck.engine.ruleset import RuleSet, load_rules, rule_files, rules_digest, shipped_rules_dir
 
 __all__ = ["RunOptions", "Stream", "Tally", "UsageError", "assemble", "collect_specs", "counts_toward_failure", "prepare", "run",
            "run_stream", "summarise"]
@@ -57,6 +57,7 @@ class RunOptions:
     changed_since: str | None = None
     charts: bool = True  # chart data is only needed by the HTML report and the e-mail
     code_cache_dir: str | None = None  # compiled rules and lint results, kept even when results are not cached
+    lazy_cached: bool = False  # yield cached results unparsed (CachedEntry): enough for a JSON report
 
 
 def collect_specs(paths: list[str]) -> list[Path]:
@@ -474,7 +475,7 @@ def run_stream(options: RunOptions, progress: Callable[[int, int], None] | None 
                     while queued < len(queue) and queue[queued][0] <= k + pool.window:
                         pool.submit(queue[queued])  # keep a bounded number of specs in flight
                         queued += 1
-                result = cache.get(key) if cache is not None and key else None
+                result = cache.get(key, lazy=options.lazy_cached) if cache is not None and key else None
                 if result is None:
                     if pool is not None and pool.has(k):
                         result = pool.take(k)
@@ -491,8 +492,9 @@ def run_stream(options: RunOptions, progress: Callable[[int, int], None] | None 
 
     digest = next(iter(digests.values()), rules_digest(rule_folders(first_cfg, extra)))
     rule_count = len(next(iter(prepared.values())).ruleset.rules) if prepared else None
-    if rule_count is None:
-        rule_count = len(load_rules(rule_folders(first_cfg, extra))[0].rules)
+    if rule_count is None:  # every result came from the cache: count the rule files, compile nothing
+        names = {p.stem for f in rule_folders(first_cfg, extra) if f.is_dir() for p in rule_files(f)}
+        rule_count = len(names - set(first_cfg.disable))
     header = header_of(fail_on, units_system, digest, rule_count)
     return Stream(header, results(), cache)
 
@@ -625,9 +627,20 @@ class Tally:
         }
         self.failing = False
 
-    def add(self, spec: dict[str, Any]) -> None:
-        """Count one spec's outcomes."""
+    def add(self, spec: Any) -> None:
+        """Count one spec's outcomes (from a result, or the counts kept with a cached one)."""
         s = self.summary
+        tally = getattr(spec, "tally", None)
+        if tally is not None:
+            s["specs"] += 1
+            if tally["status"] in ("checked", "invalid", "unreadable"):
+                s[tally["status"]] += 1
+            for level, n in tally["fail"].items():
+                s["fail"][level] += n
+            s["not-checked"] += tally["not-checked"]
+            s["waived"] += tally["waived"]
+            self.failing = self.failing or tally["failing"][self.fail_on]
+            return
         s["specs"] += 1
         if spec["status"] in ("checked", "invalid", "unreadable"):
             s[spec["status"]] += 1

@@ -130,7 +130,12 @@ class StreamWriter:
         self.write(head[: head.index('"specs": []') + len('"specs": [')])
 
     def spec(self, spec: dict[str, Any]) -> None:
-        """Write one spec result."""
+        """Write one spec result (a cached result's own JSON text is copied as it is)."""
+        text = getattr(spec, "text", None)
+        if text is not None:
+            self.write(("," if self.count else "") + "\n    " + text)
+            self.count += 1
+            return
         try:
             text = json.dumps(spec, ensure_ascii=False, allow_nan=False, separators=(",", ":"))
             text.encode("utf-8")
