@@ -256,3 +256,29 @@ def test_mail_delivers_to_a_local_smtp_server(tmp_path: Path) -> None:
         controller.stop()
     assert proc.returncode == 0, proc.stderr
     assert received and b"HR-CV-110" in received[0]
+
+
+def test_sarif_of_the_demo_validates_against_the_oasis_schema(tmp_path: Path) -> None:
+    import jsonschema
+
+    out = tmp_path / "demo.sarif"
+    run_cli("check", "specs_demo/", "--no-cache", "--format", "sarif", "-o", str(out))
+    schema = json.loads((ROOT / "tests" / "ci_formats" / "data" / "sarif-schema-2.1.0.json").read_text(encoding="utf-8"))
+    log = json.loads(out.read_text(encoding="utf-8"))
+    jsonschema.Draft7Validator(schema).validate(log)
+    rules = {r["id"] for r in log["runs"][0]["tool"]["driver"]["rules"]}
+    assert {"torque-margin-continuous", "pm-uncontrolled-generation", "yaml-syntax"} <= rules
+    assert all(r["locations"][0]["physicalLocation"]["region"]["startLine"] >= 1 for r in log["runs"][0]["results"]
+               if "region" in r["locations"][0]["physicalLocation"])
+
+
+def test_configuration_from_pyproject_is_found_by_walking_up(tmp_path: Path) -> None:
+    (tmp_path / "pyproject.toml").write_text('[tool.rulecheck]\nfail_on = "warning"\n', encoding="utf-8")
+    sub = tmp_path / "plant" / "area"
+    sub.mkdir(parents=True)
+    _spec(sub, "s.yaml", GOOD + "  rated_torque: 50.3 N*m\n")  # a warning only
+    proc = run_cli("check", str(sub), "--no-cache", cwd=tmp_path)
+    assert proc.returncode == 1 and "failing at warning" in proc.stdout
+    (tmp_path / "pyproject.toml").write_text('[tool.rulecheck]\nfail_on = "sometimes"\n', encoding="utf-8")
+    bad = run_cli("check", str(sub), "--no-cache", cwd=tmp_path)
+    assert bad.returncode == 2 and "pyproject.toml" in bad.stderr and "fail_on" in bad.stderr
