@@ -78,6 +78,12 @@ class CachedEntry:
         return CachedResult(json.loads(self.text), self.text)
 
 
+def entry_of(result: dict[str, Any]) -> CachedEntry:
+    """Return a spec result as its compact JSON text and counts."""
+    return CachedEntry(json.dumps(result, ensure_ascii=False, separators=(",", ":"), allow_nan=False),
+                       tally_of(result))
+
+
 def tally_of(result: dict[str, Any]) -> dict[str, Any]:
     """Return what a run summary counts of one spec result, for every fail level."""
     from rulecheck.runner import counts_toward_failure
@@ -182,9 +188,21 @@ class ResultCache:
         self.hits += 1
         return CachedResult(result, text)
 
-    def put(self, key: str, result: dict[str, Any]) -> None:
-        """Store a result (atomically: temporary file, then rename); errors only disable the cache."""
+    def put(self, key: str, result: Any) -> None:
+        """Store a result or a :class:`CachedEntry` (atomically: temporary file, then rename).
+
+        A result that could not be read (an OS error) is not stored: it may read next time. Errors only
+        disable the cache.
+        """
         if not self.usable:
+            return
+        if isinstance(result, CachedEntry):
+            body, tally_data = result.text, result.tally
+        else:
+            body, tally_data = None, None
+            if result.get("status") == "unreadable":
+                return
+        if tally_data is not None and tally_data.get("status") == "unreadable":
             return
         path = self._path(key)
         try:
@@ -192,8 +210,10 @@ class ResultCache:
             ignore = self.folder / ".gitignore"
             if not ignore.exists():
                 ignore.write_text("# rulecheck's result cache\n*\n", encoding="utf-8")
-            body = json.dumps(result, ensure_ascii=False, separators=(",", ":"), allow_nan=False)
-            tally = json.dumps(tally_of(result), separators=(",", ":"))
+            if body is None:
+                body = json.dumps(result, ensure_ascii=False, separators=(",", ":"), allow_nan=False)
+                tally_data = tally_of(result)
+            tally = json.dumps(tally_data, separators=(",", ":"))
             payload = f"{_MAGIC} {key} {tally}\n".encode() + body.encode("utf-8")
             fd, tmp = tempfile.mkstemp(dir=path.parent, prefix=".tmp-", suffix=".json")
             with os.fdopen(fd, "wb") as handle:

@@ -320,7 +320,8 @@ _INHERITED: dict[str | None, Any] = {}
 
 
 def _worker_init(explicit: str | None, extra: list[str], today: str, units_system: str, base_dir: str,
-                 value_kinds: dict[str, dict[str, dict[str, str | None]]], charts: bool = True) -> None:
+                 value_kinds: dict[str, dict[str, dict[str, str | None]]], charts: bool = True,
+                 lazy: bool = False) -> None:
     import signal
 
     from rulecheck.schema import use_fast_validator
@@ -330,7 +331,7 @@ def _worker_init(explicit: str | None, extra: list[str], today: str, units_syste
     _WORKER.clear()
     _WORKER.update(explicit=explicit, extra=[Path(p) for p in extra], today=_dt.date.fromisoformat(today),
                    units=units_system, base=Path(base_dir), kinds=value_kinds, charts=charts,
-                   prepared=dict(_INHERITED))  # rules compiled in the parent, when the worker was forked from it
+                   prepared=dict(_INHERITED), lazy=lazy)  # rules compiled in the parent, when the worker was forked from it
 
 
 def _worker_check(config_file: str | None, spec: str) -> dict[str, Any]:
@@ -340,7 +341,13 @@ def _worker_check(config_file: str | None, spec: str) -> dict[str, Any]:
         prepared[config_file] = prepare(cfg, _WORKER["extra"], _WORKER["today"], _WORKER["units"], _WORKER["base"],
                                         value_kinds=_WORKER["kinds"].get(config_file or ""))
         prepared[config_file].context.charts = _WORKER["charts"]
-    return check_file(Path(spec), prepared[config_file].context)
+    result = check_file(Path(spec), prepared[config_file].context)
+    if _WORKER.get("lazy"):
+        # the parent only writes JSON: send the text and the counts, not a dict to rebuild and encode again
+        from rulecheck.cache import entry_of
+
+        return entry_of(result)
+    return result
 
 
 def _crash_result(file: str, detail: str) -> dict[str, Any]:
@@ -462,7 +469,7 @@ def run_stream(options: RunOptions, progress: Callable[[int, int], None] | None 
         _INHERITED.update(prepared)
         kinds = {cfg or "": p.context.value_kinds for cfg, p in prepared.items()}
         init = (explicit.file if explicit else None, [str(p) for p in extra], today.isoformat(), units_system,
-                str(base_dir), kinds, options.charts)
+                str(base_dir), kinds, options.charts, options.lazy_cached)
         pool = _Workers(jobs, init, window=jobs * 16)
 
     def results() -> Iterator[dict[str, Any]]:
@@ -481,7 +488,7 @@ def run_stream(options: RunOptions, progress: Callable[[int, int], None] | None 
                         result = pool.take(k)
                     else:
                         result = check_file(spec, prepared_for(cfg_file, spec).context)
-                    if cache is not None and key and result.get("status") != "unreadable":
+                    if cache is not None and key:
                         cache.put(key, result)
                 tick()
                 yield result
