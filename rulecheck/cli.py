@@ -13,6 +13,7 @@ import difflib
 import os
 import sys
 import tempfile
+import threading
 from pathlib import Path
 from typing import Any, NoReturn, Sequence
 
@@ -551,6 +552,10 @@ def main(argv: Sequence[str] | None = None) -> int:
         return 2
     except KeyboardInterrupt:
         print("rulecheck: interrupted", file=sys.stderr)
+        sys.stderr.flush()
+        if any(type(t).__name__ == "_ExecutorManagerThread" for t in threading.enumerate()):
+            # worker processes were stopped; leave at once rather than wait in the pool's exit handler
+            os._exit(130)
         return 130
     except BrokenPipeError:
         # the reader (head, less) has gone: stop quietly, as command-line tools do
