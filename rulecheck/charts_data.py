@@ -76,8 +76,8 @@ def _torque_speed(m: Model) -> dict[str, Any] | None:
             if n is not None:
                 points.append({"speed": _r(n * i * RPM), "torque": _r(abs(float(fn(n))) / (i * eff)), "label": label})
     if m.has("train.speed_at_peak", "train.peak_torque_required"):
-        points.append({"speed": _r(m.get("train.speed_at_peak") * RPM), "torque": _r(m.get("train.peak_torque_required")),
-                       "label": "peak"})
+        points.append({"speed": _r(m.get("train.speed_at_peak") * RPM),
+                       "torque": _r(m.get("train.peak_torque_required")), "label": "peak"})
     if m.has("train.continuous_torque_required", "train.speed_max"):
         points.append({"speed": _r(m.get("train.speed_max") * RPM),
                        "torque": _r(m.get("train.continuous_torque_required")), "label": "RMS"})

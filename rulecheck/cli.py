@@ -14,8 +14,9 @@ import os
 import sys
 import tempfile
 import threading
+from collections.abc import Sequence
 from pathlib import Path
-from typing import Any, NoReturn, Sequence
+from typing import Any, NoReturn
 
 from rulecheck import __version__
 

@@ -411,8 +411,8 @@ def _load(m: Model, data: dict[str, Any], base: Path | None) -> None:
     elif model == "lead-screw" and m.get("load.vertical") and m.get("load.thrust") and m.get("load.lead"):
         _d(m, "load.holding_torque", m.get("load.thrust") * m.get("load.lead") / TWO_PI, "lead_screw_torque",
            ("load.thrust", "load.lead"), "F·L/2π (without friction, conservative)")
-    overhauling = model == "hoist" or any((seg.get("torque") or "").strip().startswith("-")
-                                          for seg in (data.get("load") or {}).get("duty") or [] if isinstance(seg, dict))
+    segments = [seg for seg in (data.get("load") or {}).get("duty") or [] if isinstance(seg, dict)]
+    overhauling = model == "hoist" or any(str(seg.get("torque") or "").strip().startswith("-") for seg in segments)
     _d(m, "load.overhauling", overhauling, "load model", ("load.model", "load.duty"),
        "hoist lowering or negative load torque in the duty cycle")
 

@@ -29,8 +29,8 @@ from rulecheck.check import BUILTIN_RULES, CheckContext, check_file
 from rulecheck.config import CONFIG_NAME, Config, ConfigError, discover, read_config
 from rulecheck.engine.ruleset import RuleSet, load_rules, rule_files, rules_digest, shipped_rules_dir
 
-__all__ = ["RunOptions", "Stream", "Tally", "UsageError", "assemble", "collect_specs", "counts_toward_failure", "prepare", "run",
-           "run_stream", "summarise"]
+__all__ = ["RunOptions", "Stream", "Tally", "UsageError", "assemble", "collect_specs", "counts_toward_failure",
+           "prepare", "run", "run_stream", "summarise"]
 
 SPEC_SUFFIXES = (".yaml", ".yml")
 SEVERITY_RANK = {"info": 1, "warning": 2, "error": 3}
@@ -73,7 +73,8 @@ def collect_specs(paths: list[str]) -> list[Path]:
         if path.is_dir():
             candidates = []
             for folder, dirs, files in os.walk(path):
-                dirs[:] = sorted(d for d in dirs if not d.startswith(".") and not os.path.islink(os.path.join(folder, d)))
+                dirs[:] = sorted(d for d in dirs
+                                 if not d.startswith(".") and not os.path.islink(os.path.join(folder, d)))
                 for name in sorted(files):
                     full = Path(folder) / name
                     if (name.endswith(SPEC_SUFFIXES) and not name.startswith(".") and name != CONFIG_NAME
@@ -331,7 +332,7 @@ def _worker_init(explicit: str | None, extra: list[str], today: str, units_syste
     _WORKER.clear()
     _WORKER.update(explicit=explicit, extra=[Path(p) for p in extra], today=_dt.date.fromisoformat(today),
                    units=units_system, base=Path(base_dir), kinds=value_kinds, charts=charts,
-                   prepared=dict(_INHERITED), lazy=lazy)  # rules compiled in the parent, when the worker was forked from it
+                   prepared=dict(_INHERITED), lazy=lazy)  # rules compiled in the parent, inherited by a fork
 
 
 def _worker_check(config_file: str | None, spec: str) -> dict[str, Any]:

@@ -23,7 +23,8 @@ naming the inputs that would allow the check. ``x is defined`` tests it.
 from __future__ import annotations
 
 import math
-from typing import Any, Callable
+from collections.abc import Callable
+from typing import Any
 
 from jinja2 import StrictUndefined, TemplateSyntaxError
 from jinja2.exceptions import SecurityError, UndefinedError
@@ -201,12 +202,12 @@ def _tan(x: Any) -> Any:
 
 def _interp(x: Any, xs: Any, ys: Any) -> Any:
     """Linear interpolation in a table (clamped at both ends)."""
-    points = list(zip(xs, ys))
+    points = list(zip(xs, ys, strict=True))
     if not points:
         raise ExpressionError("interp needs a table")
     if x <= points[0][0]:
         return points[0][1]
-    for (x0, y0), (x1, y1) in zip(points, points[1:]):
+    for (x0, y0), (x1, y1) in zip(points, points[1:], strict=False):
         if x <= x1:
             return y0 + (y1 - y0) * (x - x0) / (x1 - x0)
     return points[-1][1]

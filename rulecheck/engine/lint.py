@@ -12,8 +12,9 @@ The same pass finds the kind of every named value, so messages show units.
 from __future__ import annotations
 
 import difflib
+from collections.abc import Callable
 from functools import lru_cache
-from typing import Any, Callable
+from typing import Any
 
 from rulecheck import units
 from rulecheck.engine import expr

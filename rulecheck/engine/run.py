@@ -242,8 +242,8 @@ def evaluate_rule(rule: Rule, model: Model, namespace: dict[str, Any], params: d
                            rule.location, fix=_render(rule.fix, model, system, display), values=shown_values,
                            limit=limit)
     # every check could be decided: values that no check needed may stay missing
-    return Outcome(rule.id, "pass", "info", _render(rule.pass_message, model, system, display), rule.location, values=shown_values,
-                   limit=limit)
+    return Outcome(rule.id, "pass", "info", _render(rule.pass_message, model, system, display), rule.location,
+                   values=shown_values, limit=limit)
 
 
 def _not_checked_message(rule: Rule, missing: list[str]) -> str:

@@ -217,8 +217,8 @@ def test_mail_dry_run_and_eml(tmp_path: Path) -> None:
 def test_mail_to_a_wrong_host_is_one_clear_error_and_the_report_is_written(tmp_path: Path) -> None:
     html = tmp_path / "r.html"
     proc = run_cli("mail", str(CLEAN), "--to", "lead@example.invalid", "--html", str(html), "--send", "--no-cache",
-                   env={"RULECHECK_SMTP_HOST": "127.0.0.1", "RULECHECK_SMTP_PORT": "9", "RULECHECK_SMTP_SECURITY": "none",
-                        "RULECHECK_SMTP_PASSWORD": "s3cret-value"})
+                   env={"RULECHECK_SMTP_HOST": "127.0.0.1", "RULECHECK_SMTP_PORT": "9",
+                        "RULECHECK_SMTP_SECURITY": "none", "RULECHECK_SMTP_PASSWORD": "s3cret-value"})
     assert proc.returncode == 2
     errors = [line for line in proc.stderr.splitlines() if line.startswith("rulecheck:") and "wrote" not in line]
     assert len(errors) == 1, proc.stderr
@@ -263,7 +263,8 @@ def test_sarif_of_the_demo_validates_against_the_oasis_schema(tmp_path: Path) ->
 
     out = tmp_path / "demo.sarif"
     run_cli("check", "specs_demo/", "--no-cache", "--format", "sarif", "-o", str(out))
-    schema = json.loads((ROOT / "tests" / "ci_formats" / "data" / "sarif-schema-2.1.0.json").read_text(encoding="utf-8"))
+    schema_file = ROOT / "tests" / "ci_formats" / "data" / "sarif-schema-2.1.0.json"
+    schema = json.loads(schema_file.read_text(encoding="utf-8"))
     log = json.loads(out.read_text(encoding="utf-8"))
     jsonschema.Draft7Validator(schema).validate(log)
     rules = {r["id"] for r in log["runs"][0]["tool"]["driver"]["rules"]}

@@ -75,8 +75,9 @@ def test_agrees_on_a_generated_corpus(tmp_path: Path) -> None:
     import subprocess
     import sys
 
-    subprocess.run([sys.executable, str(ROOT / "bench" / "generate.py"), str(tmp_path), "--count", "150", "--seed", "3"],
-                   check=True, capture_output=True)
+    generator = str(ROOT / "bench" / "generate.py")
+    subprocess.run([sys.executable, generator, str(tmp_path), "--count", "150", "--seed", "3"], check=True,
+                   capture_output=True)
     compared = 0
     for path in sorted(tmp_path.rglob("*.yaml")):
         try:

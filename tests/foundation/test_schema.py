@@ -111,7 +111,8 @@ def test_efficiency_above_one_hundred_percent() -> None:
 def test_values_that_cannot_be(field: str, value: object) -> None:
     import yaml
 
-    _doc, problems = problems_of(yaml.safe_dump({"format": 1, "tag": "A", "motor": {"kind": "induction", field: value}}))
+    spec = {"format": 1, "tag": "A", "motor": {"kind": "induction", field: value}}
+    _doc, problems = problems_of(yaml.safe_dump(spec))
     assert problems, f"{field}={value!r} accepted"
 
 
