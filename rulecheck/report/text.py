@@ -59,7 +59,7 @@ class TextReport:
                 line = f"{_where(spec, o)}: {label}{known} {o['rule']}: {_clean(o['message'])}"
                 if o.get("fix") and (self.verbose or kind == "fail"):
                     line += f"\n    fix: {_clean(o['fix'])}"
-                if o.get("safety") and kind == "fail":
+                if o.get("safety") and kind == "fail" and level != "info":
                     line += "\n    safety-relevant: review by a qualified engineer before purchase"
                 out.append(line)
             elif self.verbose and kind in ("not-checked", "waived", "pass"):
