@@ -532,27 +532,35 @@ class Stream:
 
 
 class _Workers:
-    """Worker processes that check specs; a crashed worker's spec is retried alone, then reported."""
+    """Worker processes that check specs. When one dies, every spec that was in flight is checked again
+    alone in a fresh process (so the one that kills its worker is found and reported), and a new pool
+    takes the specs that follow."""
 
     def __init__(self, jobs: int, init_args: tuple[Any, ...], window: int) -> None:
+        self.jobs = jobs
         self.init_args = init_args
         self.window = window
-        self.pool = ProcessPoolExecutor(max_workers=jobs, initializer=_worker_init, initargs=init_args)
+        self.pool = self._new_pool()
         self.futures: dict[int, tuple[Any, tuple[int, str | None, Path, str]]] = {}
+        self.orphans: dict[int, tuple[int, str | None, Path, str]] = {}
+
+    def _new_pool(self) -> ProcessPoolExecutor:
+        return ProcessPoolExecutor(max_workers=self.jobs, initializer=_worker_init, initargs=self.init_args)
 
     def submit(self, item: tuple[int, str | None, Path, str]) -> None:
         k, cfg, spec, _shown = item
         try:
-            future = self.pool.submit(_worker_check, cfg, str(spec))
+            self.futures[k] = (self.pool.submit(_worker_check, cfg, str(spec)), item)
         except BrokenProcessPool:
             self._renew()
-            future = self.pool.submit(_worker_check, cfg, str(spec))
-        self.futures[k] = (future, item)
+            self.orphans[k] = item
 
     def has(self, k: int) -> bool:
-        return k in self.futures
+        return k in self.futures or k in self.orphans
 
-    def take(self, k: int) -> dict[str, Any]:
+    def take(self, k: int) -> Any:
+        if k in self.orphans:
+            return _retry_alone(self.orphans.pop(k), self.init_args)
         future, item = self.futures.pop(k)
         try:
             return future.result()
@@ -561,17 +569,14 @@ class _Workers:
             return _retry_alone(item, self.init_args)
 
     def _renew(self) -> None:
-        """Replace a broken pool, resubmitting what was in flight."""
+        """Replace a broken pool; what was in flight and not finished is checked alone later."""
         old = self.pool
-        old.shutdown(wait=False, cancel_futures=True)
-        self.pool = ProcessPoolExecutor(max_workers=old._max_workers, initializer=_worker_init,
-                                        initargs=self.init_args)
         for k, (future, item) in list(self.futures.items()):
-            if future.done() and future.exception() is None:
-                continue
-            self.futures[k] = (None, item)
-            _k, cfg, spec, _shown = item
-            self.futures[k] = (self.pool.submit(_worker_check, cfg, str(spec)), item)
+            if not (future.done() and not future.cancelled() and future.exception() is None):
+                self.orphans[k] = item
+                del self.futures[k]
+        old.shutdown(wait=False, cancel_futures=True)
+        self.pool = self._new_pool()
 
     def close(self, finished: bool) -> None:
         if finished:
