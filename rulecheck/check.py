@@ -5,7 +5,6 @@ from __future__ import annotations
 import contextlib
 import copy
 import datetime as _dt
-import math
 import os
 import signal
 import threading
@@ -95,10 +94,7 @@ def _value_dict(value: float, kind_name: str | None) -> dict[str, Any]:
 def _round(value: float) -> float:
     if isinstance(value, bool) or not isinstance(value, (int, float)):
         return value
-    if value == 0 or not math.isfinite(value):
-        return float(value)
-    # six significant figures, as the values are shown; round() is several times faster than formatting
-    return round(value, 5 - math.floor(math.log10(abs(value))))
+    return float(f"{value:.6g}")  # six significant figures, as the values are shown
 
 
 def outcome_dict(o: Outcome, meta: dict[str, Any], doc: Document | None) -> dict[str, Any]:
