@@ -84,11 +84,18 @@ class CheckContext:
     charts: bool = True  # compute chart data (for the HTML report and the e-mail)
 
 
+_JSON_UNITS = {name: k.json_unit for name, k in units.KINDS.items()}
+_RPM = 60.0 / (2.0 * 3.141592653589793)  # rad/s → r/min, for shaft speeds in machine outputs
+
+
 def _value_dict(value: float, kind_name: str | None) -> dict[str, Any]:
-    if kind_name is None or kind_name not in units.KINDS:
+    unit = _JSON_UNITS.get(kind_name) if kind_name else None  # type: ignore[arg-type]
+    if unit is None:
         return {"value": _round(value), "unit": "1"}  # no kind: the result schema has no null kind
-    k = units.KINDS[kind_name]
-    return {"value": _round(units.to_json_unit(value, kind_name)), "unit": k.json_unit, "kind": kind_name}
+    if kind_name == "rotational_speed":
+        value = value * _RPM
+    return {"value": float(f"{value:.6g}") if type(value) is float else _round(value), "unit": unit,
+            "kind": kind_name}
 
 
 def _round(value: float) -> float:
