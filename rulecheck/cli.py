@@ -555,7 +555,14 @@ def main(argv: Sequence[str] | None = None) -> int:
         print("rulecheck: interrupted", file=sys.stderr)
         sys.stderr.flush()
         if any(type(t).__name__ == "_ExecutorManagerThread" for t in threading.enumerate()):
-            # worker processes were stopped; leave at once rather than wait in the pool's exit handler
+            # end any worker still alive (it would hold our output pipes open), then leave at once
+            # rather than wait in the pool's exit handler
+            import multiprocessing
+
+            for child in multiprocessing.active_children():
+                child.terminate()
+            for child in multiprocessing.active_children():
+                child.join(timeout=2)
             os._exit(130)
         return 130
     except BrokenPipeError:

@@ -579,10 +579,14 @@ class _Workers:
         self.pool = self._new_pool()
 
     def close(self, finished: bool) -> None:
-        if finished:
-            self.pool.shutdown()
-        else:
+        if not finished:
             _stop(self.pool)  # interrupted: end the workers at once
+            return
+        try:
+            self.pool.shutdown()
+        except BaseException:  # Ctrl-C while waiting for the workers to leave
+            _stop(self.pool)
+            raise
 
 
 def _retry_alone(item: tuple[int, str | None, Path, str], init_args: tuple[Any, ...]) -> dict[str, Any]:
