@@ -15,7 +15,9 @@ import datetime as _dt
 import hashlib
 import json
 import os
+import signal
 import subprocess
+import sys
 from collections.abc import Callable, Iterator
 from concurrent.futures import ProcessPoolExecutor
 from concurrent.futures.process import BrokenProcessPool
@@ -320,14 +322,26 @@ _WORKER: dict[str, Any] = {}
 _INHERITED: dict[str | None, Any] = {}
 
 
+def _end_with_parent() -> None:
+    """Ask Linux to end this worker if the parent process dies (killed outright, it cannot stop us itself)."""
+    if not sys.platform.startswith("linux"):
+        return
+    try:
+        import ctypes
+
+        libc = ctypes.CDLL(None, use_errno=True)
+        libc.prctl(1, signal.SIGTERM)  # PR_SET_PDEATHSIG
+    except (OSError, AttributeError):
+        pass
+
+
 def _worker_init(explicit: str | None, extra: list[str], today: str, units_system: str, base_dir: str,
                  value_kinds: dict[str, dict[str, dict[str, str | None]]], charts: bool = True,
                  lazy: bool = False) -> None:
-    import signal
-
     from rulecheck.schema import use_fast_validator
 
     signal.signal(signal.SIGINT, signal.SIG_IGN)  # Ctrl-C is the parent's to handle: it stops the workers
+    _end_with_parent()
     use_fast_validator()
     _WORKER.clear()
     _WORKER.update(explicit=explicit, extra=[Path(p) for p in extra], today=_dt.date.fromisoformat(today),
