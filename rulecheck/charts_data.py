@@ -5,17 +5,17 @@ All at the motor shaft: speeds in r/min, torques in N*m, voltages in V, times in
 
 from __future__ import annotations
 
-import math
 from typing import Any
 
 import numpy as np
 
+from rulecheck import units
 from rulecheck.model import Model
 from rulecheck.physics import machines as mc
 
 __all__ = ["chart_data"]
 
-RPM = 60.0 / (2.0 * math.pi)  # rad/s → r/min
+RPM = units.RPM_PER_RAD_S
 
 
 def _r(x: float) -> float:

@@ -85,7 +85,6 @@ class CheckContext:
 
 
 _JSON_UNITS = {name: k.json_unit for name, k in units.KINDS.items()}
-_RPM = 60.0 / (2.0 * 3.141592653589793)  # rad/s → r/min, for shaft speeds in machine outputs
 
 
 def _value_dict(value: float, kind_name: str | None) -> dict[str, Any]:
@@ -93,7 +92,7 @@ def _value_dict(value: float, kind_name: str | None) -> dict[str, Any]:
     if unit is None:
         return {"value": _round(value), "unit": "1"}  # no kind: the result schema has no null kind
     if kind_name == "rotational_speed":
-        value = value * _RPM
+        value = value * units.RPM_PER_RAD_S
     return {"value": float(f"{value:.6g}") if type(value) is float else _round(value), "unit": unit,
             "kind": kind_name}
 
@@ -176,6 +175,16 @@ def _time_limit(seconds: int) -> Any:
         signal.signal(signal.SIGALRM, previous)
 
 
+def failed_result(file: str, status: str, rule: str, message: str, hint: str, line: int | None = None,
+                  column: int | None = None) -> dict[str, Any]:
+    """Return the result of a spec that could not be checked: one failing built-in check, at a position if known."""
+    result = _empty_result(file, status)
+    outcome = outcome_dict(Outcome(rule, "fail", "error", message, "", hint=hint), BUILTIN_RULES[rule], None)
+    outcome["location"] = {"path": "", "line": line, "column": column}
+    result["outcomes"].append(outcome)
+    return _finish(result)
+
+
 def check_file(path: Path, ctx: CheckContext) -> dict[str, Any]:
     """Return the result dict of one spec file (never raises for a bad spec; bounded by the time limit)."""
     file = _display_path(path, ctx.base_dir)
@@ -183,27 +192,18 @@ def check_file(path: Path, ctx: CheckContext) -> dict[str, Any]:
         with _time_limit(ctx.limits.max_seconds):
             return _check_file(path, file, ctx)
     except SpecTimeout:
-        result = _empty_result(file, "invalid")
-        result["outcomes"].append(outcome_dict(
-            Outcome("internal-error", "fail", "error",
-                    f"checking this spec took longer than the limit of {ctx.limits.max_seconds} s and was stopped",
-                    hint="report the spec to the rulecheck maintainers; limits.max_seconds in the configuration "
-                         "sets the limit"),
-            BUILTIN_RULES["internal-error"], None))
-        return _finish(result)
+        return failed_result(file, "invalid", "internal-error",
+                             f"checking this spec took longer than the limit of {ctx.limits.max_seconds} s and was "
+                             "stopped", "report the spec to the rulecheck maintainers; limits.max_seconds in the "
+                             "configuration sets the limit")
 
 
 def _check_file(path: Path, file: str, ctx: CheckContext) -> dict[str, Any]:
     try:
         doc = load_file(path, ctx.limits, display_name=file)
     except LoadError as exc:
-        result = _empty_result(file, "unreadable" if exc.rule == "unreadable" else "invalid")
-        result["outcomes"].append({
-            **outcome_dict(Outcome("yaml-syntax", "fail", "error", exc.message, "", hint=exc.hint),
-                           BUILTIN_RULES["yaml-syntax"], None),
-            "location": {"path": "", "line": exc.line, "column": exc.column},
-        })
-        return _finish(result)
+        return failed_result(file, "unreadable" if exc.rule == "unreadable" else "invalid", "yaml-syntax",
+                             exc.message, exc.hint, exc.line, exc.column)
     return check_document(doc, ctx, path.parent)
 
 
@@ -212,17 +212,15 @@ def check_document(doc: Document, ctx: CheckContext, base_dir: Path | None = Non
     try:
         return _check_document(doc, ctx, base_dir)
     except Exception as exc:  # one spec that trips a bug must not stop the run or show a traceback
-        result = _empty_result(doc.file, "invalid")
-        result["sha256"] = doc.sha256
-        data = doc.data if isinstance(doc.data, dict) else {}
-        result["tag"] = data.get("tag") if isinstance(data.get("tag"), str) else None
         reason = f"{type(exc).__name__}: {exc}"
         reason = reason if len(reason) <= 300 else reason[:297] + "..."
-        result["outcomes"].append(outcome_dict(
-            Outcome("internal-error", "fail", "error", f"rulecheck could not finish checking this spec ({reason})",
-                    hint="this is a fault of rulecheck, not necessarily of the spec: report it with the spec"),
-            BUILTIN_RULES["internal-error"], None))
-        return _finish(result)
+        result = failed_result(doc.file, "invalid", "internal-error",
+                               f"rulecheck could not finish checking this spec ({reason})",
+                               "this is a fault of rulecheck, not necessarily of the spec: report it with the spec")
+        data = doc.data if isinstance(doc.data, dict) else {}
+        result["sha256"] = doc.sha256
+        result["tag"] = data.get("tag") if isinstance(data.get("tag"), str) else None
+        return result
 
 
 def _without(data: Any, problems: list[Any]) -> Any:

@@ -151,6 +151,14 @@ def _progress(args: argparse.Namespace) -> Any:
     return show
 
 
+def _publish(tmp: str, target: str | Path) -> None:
+    """Give a finished temporary report ordinary permissions and rename it onto its target (atomic)."""
+    umask = os.umask(0)
+    os.umask(umask)
+    os.chmod(tmp, 0o666 & ~umask)  # mkstemp makes the file private; a report is an ordinary file
+    os.replace(tmp, target)
+
+
 def _write(path: str | None, text: str | bytes) -> None:
     """Write a report to ``path`` atomically (temporary file, then rename), or to standard output."""
     if path is None or path == "-":
@@ -172,10 +180,7 @@ def _write(path: str | None, text: str | bytes) -> None:
     try:
         with os.fdopen(fd, "wb") as handle:
             handle.write(data)
-        umask = os.umask(0)
-        os.umask(umask)
-        os.chmod(tmp, 0o666 & ~umask)  # mkstemp makes the file private; a report is an ordinary file
-        os.replace(tmp, target)
+        _publish(tmp, target)
     except BaseException:
         try:
             os.unlink(tmp)
@@ -328,10 +333,7 @@ class _Sink:
         if not self.to_stdout:
             self.handle.close()
         if self.tmp:
-            umask = os.umask(0)
-            os.umask(umask)
-            os.chmod(self.tmp, 0o666 & ~umask)
-            os.replace(self.tmp, self.file)
+            _publish(self.tmp, self.file)
             self.tmp = None
 
     def abort(self) -> None:

@@ -177,7 +177,8 @@ def build_model(doc: Document, q: Quantities, base_dir: Path | None = None) -> M
     model = Model()
     _given(model, doc, q)
     data = doc.data if isinstance(doc.data, dict) else {}
-    steps = [_supply, _drive, _motor, _transmission, _load, _train, _duty, _site, _cable_protection]
+    # the site factors come before the train and duty cycle: the motor's capability depends on them
+    steps = [_supply, _drive, _motor, _transmission, _load, _site, _train, _duty, _cable_protection]
     steps += [module.derive for module in _extensions()]
     for step in steps:
         try:
@@ -756,15 +757,6 @@ def _site(m: Model, data: dict[str, Any], base: Path | None) -> None:
             k = 0.0  # beyond the drive's stated range: no capability
         _d(m, "site.drive_derating", k, "drive_derating_factor", ("environment.altitude", "environment.ambient_max"),
            "−1 %/100 m above 1000 m × −1 %/K from 40 to 50 °C (common practice)")
-    # the capability-based values depend on the site factor: recompute them now that it is known
-    recomputed = [k for k in list(m.values) if k.startswith("train.continuous_")]
-    for key in [k for k in recomputed if k != "train.continuous_torque_required"]:
-        del m.values[key]
-        del m.provenance[key]
-        m.kinds.pop(key, None)
-    _continuous(m)
-    if "duty.utilisation" in m.values and m.get("site.motor_derating", 1.0) != 1.0:
-        m.values["duty.utilisation"] /= m.get("site.motor_derating")
 
 
 def _cable_protection(m: Model, data: dict[str, Any], base: Path | None) -> None:

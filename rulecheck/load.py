@@ -207,10 +207,6 @@ class _Builder:
         self.nodes = 0
         self.constructor = yaml.constructor.SafeConstructor()
 
-    @staticmethod
-    def _pos(node: yaml.Node) -> Position:
-        return Position(node.start_mark.line + 1, node.start_mark.column + 1)
-
     def build(self, node: yaml.Node, parts: tuple[Any, ...], depth: int) -> Any:
         self.nodes += 1
         if self.nodes > self.limits.max_nodes:

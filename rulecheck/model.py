@@ -9,10 +9,11 @@ power and rated speed".
 
 from __future__ import annotations
 
+import itertools
 from dataclasses import dataclass, field
 from typing import Any
 
-from rulecheck.engine.expr import Section
+from rulecheck.engine.expr import Section, sections_from
 
 __all__ = ["Derivation", "Model"]
 
@@ -86,34 +87,8 @@ class Model:
 
         ``wrap(value, kind)``, when given, turns each value into what a message template shows.
         """
-        tree: dict[str, Any] = {}
-        for path, value in self.values.items():
-            if wrap is not None:
-                value = wrap(value, self.kinds.get(path))
-            parts = path.split(".")
-            node = tree
-            for part in parts[:-1]:
-                child = node.setdefault(part, {})
-                if not isinstance(child, dict):
-                    break
-                node = child
-            else:
-                if not isinstance(node.get(parts[-1]), dict):
-                    node[parts[-1]] = value
-        for path, items in self.lists.items():
-            parts = path.split(".")
-            node = tree
-            for part in parts[:-1]:
-                node = node.setdefault(part, {})
-            node[parts[-1]] = items
-
-        def build(name: str, mapping: dict[str, Any]) -> Section:
-            values = {k: v for k, v in mapping.items() if not isinstance(v, dict)}
-            children = {k: build(f"{name}.{k}" if name else k, v) for k, v in mapping.items() if isinstance(v, dict)}
-            return Section(name, values, children)
-
-        sections = {k: build(k, v) for k, v in tree.items() if isinstance(v, dict)}
-        for name in ("supply", "drive", "motor", "transmission", "load", "environment", "cable", "protection",
-                     "duty", "spec", "site", "train"):
-            sections.setdefault(name, Section(name, {}))
-        return sections
+        if wrap is None:
+            values = self.values.items()
+        else:
+            values = ((path, wrap(value, self.kinds.get(path))) for path, value in self.values.items())
+        return sections_from(itertools.chain(values, self.lists.items()))

@@ -36,7 +36,6 @@ __all__ = ["RunOptions", "Stream", "Tally", "UsageError", "assemble", "collect_s
 
 SPEC_SUFFIXES = (".yaml", ".yml")
 SEVERITY_RANK = {"info": 1, "warning": 2, "error": 3}
-DEFAULT_CACHE_DIR = ".rulecheck-cache"
 FAST_VALIDATOR_FROM = 50  # specs to check before compiling the fast validator pays for itself
 
 
@@ -366,20 +365,11 @@ def _worker_check(config_file: str | None, spec: str) -> dict[str, Any]:
 
 
 def _crash_result(file: str, detail: str) -> dict[str, Any]:
-    from rulecheck.check import _finish
+    from rulecheck.check import failed_result
 
-    outcome = {
-        "rule": "yaml-syntax", "title": BUILTIN_RULES["yaml-syntax"]["title"], "topic": "data-integrity",
-        "outcome": "fail", "severity": "error", "safety": False,
-        "message": f"checking this file stopped the worker process ({detail}); the file was not checked",
-        "fix": "report the file to the rulecheck maintainers; check it alone with --jobs 1 to see more",
-        "formula": "", "basis": BUILTIN_RULES["yaml-syntax"]["basis"],
-        "location": {"path": "", "line": None, "column": None}, "values": {}, "limit": None, "missing": [],
-        "waiver": None,
-    }
-    return _finish({"file": file, "tag": None, "title": None, "spec_status": None, "sha256": None,
-                    "status": "unreadable", "verdict": "invalid", "counts": {}, "outcomes": [outcome],
-                    "derived": {}, "charts": {}})
+    return failed_result(file, "unreadable", "yaml-syntax",
+                         f"checking this file stopped the worker process ({detail}); the file was not checked",
+                         "report the file to the rulecheck maintainers; check it alone with --jobs 1 to see more")
 
 
 def _stop(pool: ProcessPoolExecutor) -> None:

@@ -57,61 +57,40 @@ class Kind:
     si_unit: str  # internal unit: every float in the model is in this unit
     json_unit: str  # unit written to machine outputs (JSON, SARIF values)
     example: str  # a correct value, shown in error messages
-    customary_unit: str | None = None  # display unit with ``--units customary``
     description: str = ""
 
 
 KINDS: dict[str, Kind] = {
     k.name: k
     for k in [
-        Kind("power", "W", "W", "7.5 kW", "hp", "power (W, kW, hp)"),
-        Kind("apparent_power", "V*A", "V*A", "10 MVA", "kVA", "apparent power (VA, kVA, MVA)"),
-        Kind("torque", "N*m", "N*m", "49.2 N*m", "lbf*ft", "torque (N*m, kN*m, lbf*ft, lbf*in)"),
-        Kind("energy", "J", "J", "24.7 kJ", "ft*lbf", "energy (J, kJ, kWh)"),
-        Kind(
-            "rotational_speed",
-            "rad/s",
-            "r/min",
-            "1455 r/min",
-            "r/min",
-            "shaft speed (r/min, rpm, min^-1, 1/min, rev/s, rad/s); revolutions are meant",
-        ),
-        Kind("frequency", "Hz", "Hz", "50 Hz", "Hz", "electrical frequency (Hz)"),
-        Kind("voltage", "V", "V", "400 V", "V", "voltage (V, kV)"),
-        Kind("current", "A", "A", "14.8 A", "A", "current (A)"),
-        Kind("resistance", "ohm", "ohm", "0.4 ohm", "ohm", "resistance (ohm, mohm)"),
-        Kind("inductance", "H", "H", "12 mH", "H", "inductance (H, mH)"),
-        Kind("capacitance", "F", "F", "2 mF", "F", "capacitance (F, mF, uF)"),
-        Kind("inertia", "kg*m^2", "kg*m^2", "0.029 kg*m^2", "lb*ft^2", "moment of inertia (kg*m^2, lb*ft^2)"),
-        Kind("mass", "kg", "kg", "2500 kg", "lb", "mass (kg, t, lb)"),
-        Kind("length", "m", "m", "0.5 m", "in", "length (m, mm, in, ft)"),
-        Kind("area", "m^2", "m^2", "4 mm^2", "in^2", "cross-section area (mm^2)"),
-        Kind("velocity", "m/s", "m/s", "1.6 m/s", "ft/min", "linear speed (m/s, m/min, ft/min)"),
-        Kind("acceleration", "m/s^2", "m/s^2", "0.5 m/s^2", "ft/s^2", "linear acceleration (m/s^2)"),
-        Kind("force", "N", "N", "12 kN", "lbf", "force (N, kN, lbf)"),
-        Kind("time", "s", "s", "60 s", "s", "time (s, min, h)"),
-        Kind("temperature", "degC", "degC", "45 degC", "degF", "temperature (degC, degF, K)"),
-        Kind(
-            "temperature_difference",
-            "K",
-            "K",
-            "80 K",
-            "delta_degF",
-            "temperature difference (K, delta_degC, delta_degF)",
-        ),
-        Kind("angle", "rad", "rad", "8 deg", "deg", "angle (deg, rad)"),
-        Kind(
-            "back_emf_constant",
-            "V*s/rad",
-            "V*s/rad",
-            "98 V/krpm",
-            "V/krpm",
-            "back-EMF constant (V/krpm, V/rpm, V*s/rad)",
-        ),
-        Kind("torque_constant", "N*m/A", "N*m/A", "1.6 N*m/A", "lbf*in/A", "torque constant (N*m/A)"),
-        Kind("resistance_per_length", "ohm/m", "ohm/m", "0.08 mohm/m", "ohm/m", "impedance per length (mohm/m)"),
-        Kind("density", "kg/m^3", "kg/m^3", "920 kg/m^3", "lb/ft^3", "density (kg/m^3)"),
-        Kind("fraction", "1", "1", "89.6 %", None, "a fraction: a percentage ('12 %') or a plain number (0.12)"),
+        Kind("power", "W", "W", "7.5 kW", "power (W, kW, hp)"),
+        Kind("apparent_power", "V*A", "V*A", "10 MVA", "apparent power (VA, kVA, MVA)"),
+        Kind("torque", "N*m", "N*m", "49.2 N*m", "torque (N*m, kN*m, lbf*ft, lbf*in)"),
+        Kind("energy", "J", "J", "24.7 kJ", "energy (J, kJ, kWh)"),
+        Kind("rotational_speed", "rad/s", "r/min", "1455 r/min",
+             "shaft speed (r/min, rpm, min^-1, 1/min, rev/s, rad/s); revolutions are meant"),
+        Kind("frequency", "Hz", "Hz", "50 Hz", "electrical frequency (Hz)"),
+        Kind("voltage", "V", "V", "400 V", "voltage (V, kV)"),
+        Kind("current", "A", "A", "14.8 A", "current (A)"),
+        Kind("resistance", "ohm", "ohm", "0.4 ohm", "resistance (ohm, mohm)"),
+        Kind("inductance", "H", "H", "12 mH", "inductance (H, mH)"),
+        Kind("capacitance", "F", "F", "2 mF", "capacitance (F, mF, uF)"),
+        Kind("inertia", "kg*m^2", "kg*m^2", "0.029 kg*m^2", "moment of inertia (kg*m^2, lb*ft^2)"),
+        Kind("mass", "kg", "kg", "2500 kg", "mass (kg, t, lb)"),
+        Kind("length", "m", "m", "0.5 m", "length (m, mm, in, ft)"),
+        Kind("area", "m^2", "m^2", "4 mm^2", "cross-section area (mm^2)"),
+        Kind("velocity", "m/s", "m/s", "1.6 m/s", "linear speed (m/s, m/min, ft/min)"),
+        Kind("acceleration", "m/s^2", "m/s^2", "0.5 m/s^2", "linear acceleration (m/s^2)"),
+        Kind("force", "N", "N", "12 kN", "force (N, kN, lbf)"),
+        Kind("time", "s", "s", "60 s", "time (s, min, h)"),
+        Kind("temperature", "degC", "degC", "45 degC", "temperature (degC, degF, K)"),
+        Kind("temperature_difference", "K", "K", "80 K", "temperature difference (K, delta_degC, delta_degF)"),
+        Kind("angle", "rad", "rad", "8 deg", "angle (deg, rad)"),
+        Kind("back_emf_constant", "V*s/rad", "V*s/rad", "98 V/krpm", "back-EMF constant (V/krpm, V/rpm, V*s/rad)"),
+        Kind("torque_constant", "N*m/A", "N*m/A", "1.6 N*m/A", "torque constant (N*m/A)"),
+        Kind("resistance_per_length", "ohm/m", "ohm/m", "0.08 mohm/m", "impedance per length (mohm/m)"),
+        Kind("density", "kg/m^3", "kg/m^3", "920 kg/m^3", "density (kg/m^3)"),
+        Kind("fraction", "1", "1", "89.6 %", "a fraction: a percentage ('12 %') or a plain number (0.12)"),
     ]
 }
 
@@ -527,27 +506,24 @@ _PRETTY = {
     "1": "",
 }
 
+# display unit and factor (SI value × factor) per kind, from the same exact definitions as FAST_UNITS
 _CUSTOMARY = {
-    "power": ("hp", 1 / 745.69987158227022),
-    "torque": ("lbf·ft", 1 / 1.3558179483314004),
-    "energy": ("ft·lbf", 1 / 1.3558179483314004),
-    "inertia": ("lb·ft²", 1 / 0.0421401100938048),
-    "mass": ("lb", 1 / 0.45359237),
-    "length": ("in", 1 / 0.0254),
-    "area": ("in²", 1 / 0.00064516),
-    "velocity": ("ft/min", 60 / 0.3048),
-    "acceleration": ("ft/s²", 1 / 0.3048),
-    "force": ("lbf", 1 / 4.4482216152605),
-    "torque_constant": ("lbf·in/A", 1 / 0.1129848290276167),
-    "density": ("lb/ft³", 1 / 16.018463373960138),
+    "power": ("hp", 1 / FAST_UNITS["power"]["hp"]),
+    "torque": ("lbf·ft", 1 / FAST_UNITS["torque"]["lbf*ft"]),
+    "energy": ("ft·lbf", 1 / FAST_UNITS["torque"]["lbf*ft"]),
+    "inertia": ("lb·ft²", 1 / FAST_UNITS["inertia"]["lb*ft^2"]),
+    "mass": ("lb", 1 / _LB),
+    "length": ("in", 1 / _IN),
+    "area": ("in²", 1 / _IN**2),
+    "velocity": ("ft/min", 60 / _FT),
+    "acceleration": ("ft/s²", 1 / _FT),
+    "force": ("lbf", 1 / _LBF),
+    "torque_constant": ("lbf·in/A", 1 / FAST_UNITS["torque_constant"]["lbf*in/A"]),
+    "density": ("lb/ft³", _FT**3 / _LB),
 }
 
 
-def to_json_unit(value_si: float, kind_name: str) -> float:
-    """Return ``value_si`` expressed in the kind's machine-output unit (speed in r/min)."""
-    if kind_name == "rotational_speed":
-        return value_si * 60.0 / (2.0 * math.pi)
-    return value_si
+RPM_PER_RAD_S = 60.0 / (2.0 * math.pi)  # shaft speeds are r/min in machine outputs and displays
 
 
 def _sig(value: float, digits: int = 4) -> str:

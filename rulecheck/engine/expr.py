@@ -121,6 +121,37 @@ class Section:
         return f"<section {object.__getattribute__(self, '_name')}>"
 
 
+# The sections every expression can name, present (perhaps empty) on every spec.
+SECTION_NAMES = ("supply", "drive", "motor", "transmission", "load", "environment", "cable", "protection",
+                 "duty", "spec", "site", "train")
+
+
+def sections_from(items: Any) -> dict[str, Section]:
+    """Return nested sections for (key path, value) pairs: ``motor.brake.static_torque`` → motor → brake."""
+    tree: dict[str, Any] = {}
+    for path, value in items:
+        parts = path.split(".")
+        node = tree
+        for part in parts[:-1]:
+            child = node.setdefault(part, {})
+            if not isinstance(child, dict):
+                break
+            node = child
+        else:
+            if not isinstance(node.get(parts[-1]), dict):
+                node[parts[-1]] = value
+
+    def build(name: str, mapping: dict[str, Any]) -> Section:
+        values = {k: v for k, v in mapping.items() if not isinstance(v, dict)}
+        children = {k: build(f"{name}.{k}" if name else k, v) for k, v in mapping.items() if isinstance(v, dict)}
+        return Section(name, values, children)
+
+    sections = {k: build(k, v) for k, v in tree.items() if isinstance(v, dict)}
+    for name in SECTION_NAMES:
+        sections.setdefault(name, Section(name, {}))
+    return sections
+
+
 def _magnitude(value: Any) -> float | None:
     if isinstance(value, bool):
         return None

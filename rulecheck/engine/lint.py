@@ -79,42 +79,21 @@ def _quantity(kind_name: str) -> Any:
 
 @lru_cache(maxsize=1)
 def _dimension_namespace() -> dict[str, expr.Section]:
-    tree: dict[str, Any] = {}
-    for path, (typ, info) in catalogue().items():
-        if "[" in path:
-            continue
+    def sample(typ: str, info: Any) -> Any:
         if typ == "quantity":
-            value: Any = _quantity(info)
-        elif typ == "choice":
-            value = info[0]
-        elif typ == "flag":
-            value = True
-        elif typ == "number":
-            value = 4 if info == "integer" else 2.0
-        elif typ == "list":
-            value = [{}]
-        else:
-            value = "text"
-        node = tree
-        parts = path.split(".")
-        for part in parts[:-1]:
-            nxt = node.setdefault(part, {})
-            if not isinstance(nxt, dict):
-                break
-            node = nxt
-        else:
-            node[parts[-1]] = value
+            return _quantity(info)
+        if typ == "choice":
+            return info[0]
+        if typ == "flag":
+            return True
+        if typ == "number":
+            return 4 if info == "integer" else 2.0
+        if typ == "list":
+            return [{}]
+        return "text"
 
-    def build(name: str, mapping: dict[str, Any]) -> expr.Section:
-        values = {k: v for k, v in mapping.items() if not isinstance(v, dict)}
-        children = {k: build(f"{name}.{k}", v) for k, v in mapping.items() if isinstance(v, dict)}
-        return expr.Section(name, values, children)
-
-    sections = {k: build(k, v) for k, v in tree.items() if isinstance(v, dict)}
-    for name in ("supply", "drive", "motor", "transmission", "load", "environment", "cable", "protection",
-                 "duty", "spec", "site", "train"):
-        sections.setdefault(name, expr.Section(name, {}))
-    return sections
+    return expr.sections_from((path, sample(typ, info)) for path, (typ, info) in catalogue().items()
+                              if "[" not in path)
 
 
 class _LintError(Exception):

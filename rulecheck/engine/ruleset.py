@@ -116,7 +116,6 @@ class Rule:
     examples: list[dict[str, Any]]
     raw: dict[str, Any] = field(repr=False, default_factory=dict)
     doc: Document | None = field(repr=False, default=None)
-    builtin: bool = False
 
     def metadata(self) -> dict[str, Any]:
         """Return the rule's description for reports and SARIF (no compiled parts; built once)."""
@@ -218,8 +217,7 @@ def _compile(env: Any, text: Any, file: str, where: str, pos: Position | None) -
 
 
 _IDENT = re.compile(r"^[a-z][a-z0-9_]*$")
-_RESERVED = {"supply", "drive", "motor", "transmission", "load", "environment", "cable", "protection", "duty",
-             "spec", "site", "train", *expr.BUILTINS, *expr.CONSTANTS, *expr.JINJA_NAMES}
+_RESERVED = {*expr.SECTION_NAMES, *expr.BUILTINS, *expr.CONSTANTS, *expr.JINJA_NAMES}
 
 
 def load_rule_file(path: Path, validate: bool = True) -> Rule:

@@ -8,13 +8,10 @@ from typing import Any
 
 from rulecheck import units
 from rulecheck.engine import expr
-from rulecheck.engine.ruleset import Rule, RuleSet
+from rulecheck.engine.ruleset import Rule
 from rulecheck.model import Model
 
 __all__ = ["Outcome", "Shown", "evaluate_rule", "kind_of_result"]
-
-SEVERITY_ORDER = {"error": 3, "warning": 2, "info": 1}
-
 
 @dataclass
 class Outcome:
@@ -30,7 +27,6 @@ class Outcome:
     limit: tuple[float, str] | None = None
     missing: list[str] = field(default_factory=list)
     waiver: dict[str, Any] | None = None
-    rule_error: bool = False
     hint: str = ""
 
 
@@ -263,8 +259,7 @@ def _not_checked_message(rule: Rule, missing: list[str]) -> str:
 def _rule_error(rule: Rule, where: str, text: str, exc: Exception) -> Outcome:
     pos = rule.doc.position(where) if rule.doc else None
     loc = f"{rule.file}:{pos.line}:{pos.column}" if pos else rule.file
-    return Outcome(rule.id, "not-checked", "error", f"rule error in {loc} ({where}: {text!r}): {exc}", "",
-                   rule_error=True)
+    return Outcome(rule.id, "not-checked", "error", f"rule error in {loc} ({where}: {text!r}): {exc}", "")
 
 
 def effective_params(rule: Rule, project: dict[str, Any], spec_margins: dict[str, Any]) -> dict[str, Any]:
@@ -275,8 +270,3 @@ def effective_params(rule: Rule, project: dict[str, Any], spec_margins: dict[str
             if name in rule.params:
                 out[name] = value
     return out
-
-
-def ruleset_value_kinds(ruleset: RuleSet) -> dict[str, dict[str, str | None]]:
-    """Return, per rule, the declared kinds of its named values (lint fills in the rest)."""
-    return {r.id: {name: kind for name, _c, _t, kind in r.values} for r in ruleset.rules.values()}
