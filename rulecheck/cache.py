@@ -14,14 +14,16 @@ import hmac
 import json
 import os
 import re
-import tempfile
 from functools import lru_cache
 from pathlib import Path
 from typing import Any
 
+import orjson as _orjson
+
 __all__ = ["ResultCache", "code_digest", "default_cache_dir", "spec_key"]
 
 _MAGIC = "rulecheck-cache-2"
+_NEW_FILE = os.O_WRONLY | os.O_CREAT | os.O_EXCL | getattr(os, "O_BINARY", 0)
 _PROFILE = re.compile(rb"^\s*duty_profile\s*:\s*['\"]?([A-Za-z0-9_./-]+\.csv)", re.MULTILINE)
 
 
@@ -56,6 +58,25 @@ def spec_key(spec_bytes: bytes, spec_path: Path, display: str, context_key: str)
     return h.hexdigest()
 
 
+def encode(result: Any) -> str:
+    """Return a spec result as compact JSON text (UTF-8 characters kept, key order kept).
+
+    orjson writes the same JSON as the standard library, about ten times faster; the standard encoder
+    takes what orjson refuses (text with a lone surrogate, integers beyond 64 bits). orjson would write a
+    non-finite number as null; results hold none (the engine turns a non-finite value into a rule error,
+    and charts leave such points out).
+    """
+    try:
+        return _orjson.dumps(result).decode("utf-8")
+    except (TypeError, _orjson.JSONEncodeError):
+        return json.dumps(result, ensure_ascii=True, separators=(",", ":"), allow_nan=False)
+
+
+def decode(text: str | bytes) -> Any:
+    """Return the value of JSON text written by :func:`encode`; raise ValueError when it is not JSON."""
+    return _orjson.loads(text)
+
+
 class CachedResult(dict):  # type: ignore[type-arg]
     """A result read from the cache, with the JSON text it was read from (None once it is changed)."""
 
@@ -75,13 +96,12 @@ class CachedEntry:
 
     def load(self) -> dict[str, Any]:
         """Return the result itself."""
-        return CachedResult(json.loads(self.text), self.text)
+        return CachedResult(decode(self.text), self.text)
 
 
 def entry_of(result: dict[str, Any]) -> CachedEntry:
     """Return a spec result as its compact JSON text and counts."""
-    return CachedEntry(json.dumps(result, ensure_ascii=False, separators=(",", ":"), allow_nan=False),
-                       tally_of(result))
+    return CachedEntry(encode(result), tally_of(result))
 
 
 def tally_of(result: dict[str, Any]) -> dict[str, Any]:
@@ -145,6 +165,7 @@ class ResultCache:
         self.misses = 0
         self.usable = True
         self._key = _secret()
+        self._folders: set[Path] = set()  # subfolders known to exist
 
     def _mac(self, payload: bytes) -> str:
         return hmac.new(self._key, payload, hashlib.sha256).hexdigest()
@@ -178,7 +199,7 @@ class ResultCache:
                 tally = json.loads(head.split(b" ", 2)[2])
                 self.hits += 1
                 return CachedEntry(text, tally)
-            result = json.loads(text)
+            result = decode(text)
         except (OSError, ValueError, UnicodeDecodeError):
             self.misses += 1
             return None
@@ -206,18 +227,27 @@ class ResultCache:
             return
         path = self._path(key)
         try:
-            path.parent.mkdir(parents=True, exist_ok=True)
-            ignore = self.folder / ".gitignore"
-            if not ignore.exists():
-                ignore.write_text("# rulecheck's result cache\n*\n", encoding="utf-8")
+            if path.parent not in self._folders:
+                path.parent.mkdir(parents=True, exist_ok=True)
+                ignore = self.folder / ".gitignore"
+                if not ignore.exists():
+                    ignore.write_text("# rulecheck's result cache\n*\n", encoding="utf-8")
+                self._folders.add(path.parent)
             if body is None:
-                body = json.dumps(result, ensure_ascii=False, separators=(",", ":"), allow_nan=False)
+                body = encode(result)
                 tally_data = tally_of(result)
             tally = json.dumps(tally_data, separators=(",", ":"))
             payload = f"{_MAGIC} {key} {tally}\n".encode() + body.encode("utf-8")
-            fd, tmp = tempfile.mkstemp(dir=path.parent, prefix=".tmp-", suffix=".json")
-            with os.fdopen(fd, "wb") as handle:
-                handle.write(self._mac(payload).encode("ascii") + b"\n" + payload)
+            # a name of this process's own (several workers may write the same entry), created exclusively
+            tmp = path.parent / f".tmp-{os.getpid()}-{key[:16]}.json"
+            data = self._mac(payload).encode("ascii") + b"\n" + payload
+            try:
+                fd = os.open(tmp, _NEW_FILE, 0o600)
+            except FileExistsError:  # left by an earlier process of the same number that was killed
+                os.unlink(tmp)
+                fd = os.open(tmp, _NEW_FILE, 0o600)
+            with open(fd, "wb") as handle:
+                handle.write(data)
             os.replace(tmp, path)
         except OSError:
             self.usable = False

@@ -26,7 +26,7 @@ from pathlib import Path
 from typing import Any
 
 from rulecheck import __version__
-from rulecheck.cache import ResultCache, code_digest, spec_key
+from rulecheck.cache import CachedEntry, CachedResult, ResultCache, code_digest, entry_of, spec_key
 from rulecheck.check import BUILTIN_RULES, CheckContext, check_file
 from rulecheck.config import CONFIG_NAME, Config, ConfigError, discover, read_config
 from rulecheck.engine.ruleset import RuleSet, load_rules, rule_files, rules_digest, shipped_rules_dir
@@ -336,7 +336,7 @@ def _end_with_parent() -> None:
 
 def _worker_init(explicit: str | None, extra: list[str], today: str, units_system: str, base_dir: str,
                  value_kinds: dict[str, dict[str, dict[str, str | None]]], charts: bool = True,
-                 lazy: bool = False) -> None:
+                 cache_dir: str | None = None) -> None:
     from rulecheck.schema import use_fast_validator
 
     signal.signal(signal.SIGINT, signal.SIG_IGN)  # Ctrl-C is the parent's to handle: it stops the workers
@@ -345,23 +345,27 @@ def _worker_init(explicit: str | None, extra: list[str], today: str, units_syste
     _WORKER.clear()
     _WORKER.update(explicit=explicit, extra=[Path(p) for p in extra], today=_dt.date.fromisoformat(today),
                    units=units_system, base=Path(base_dir), kinds=value_kinds, charts=charts,
-                   prepared=dict(_INHERITED), lazy=lazy)  # rules compiled in the parent, inherited by a fork
+                   prepared=dict(_INHERITED),  # rules compiled in the parent, inherited by a fork
+                   cache=ResultCache(Path(cache_dir)) if cache_dir else None)
 
 
-def _worker_check(config_file: str | None, spec: str) -> dict[str, Any]:
+def _worker_check(config_file: str | None, spec: str, key: str | None = None) -> CachedEntry:
+    """Check one spec; store its result in the cache (under ``key``) and return it encoded with its counts.
+
+    The parent only copies the text into a JSON report, or decodes it for the other formats: encoding
+    and storing here keeps that work off the parent, which would otherwise share a core with a worker.
+    """
     prepared = _WORKER["prepared"]
     if config_file not in prepared:
         cfg = read_config(Path(config_file)) if config_file else Config()
         prepared[config_file] = prepare(cfg, _WORKER["extra"], _WORKER["today"], _WORKER["units"], _WORKER["base"],
                                         value_kinds=_WORKER["kinds"].get(config_file or ""))
         prepared[config_file].context.charts = _WORKER["charts"]
-    result = check_file(Path(spec), prepared[config_file].context)
-    if _WORKER.get("lazy"):
-        # the parent only writes JSON: send the text and the counts, not a dict to rebuild and encode again
-        from rulecheck.cache import entry_of
-
-        return entry_of(result)
-    return result
+    entry = entry_of(check_file(Path(spec), prepared[config_file].context))
+    cache = _WORKER.get("cache")
+    if cache is not None and key:
+        cache.put(key, entry)
+    return entry
 
 
 def _crash_result(file: str, detail: str) -> dict[str, Any]:
@@ -474,11 +478,13 @@ def run_stream(options: RunOptions, progress: Callable[[int, int], None] | None 
         _INHERITED.update(prepared)
         kinds = {cfg or "": p.context.value_kinds for cfg, p in prepared.items()}
         init = (explicit.file if explicit else None, [str(p) for p in extra], today.isoformat(), units_system,
-                str(base_dir), kinds, options.charts, options.lazy_cached)
+                str(base_dir), kinds, options.charts, str(cache.folder) if cache is not None else None)
         pool = _Workers(jobs, init, window=jobs * 16)
 
+    missing = {k for k, _cfg, _spec, _shown in todo}
+
     def results() -> Iterator[dict[str, Any]]:
-        queue = list(todo)
+        queue = [(k, cfg_file, spec, shown, plan[k][4]) for k, cfg_file, spec, shown in todo]
         queued = 0
         finished = False
         try:
@@ -487,14 +493,24 @@ def run_stream(options: RunOptions, progress: Callable[[int, int], None] | None 
                     while queued < len(queue) and queue[queued][0] <= k + pool.window:
                         pool.submit(queue[queued])  # keep a bounded number of specs in flight
                         queued += 1
-                result = cache.get(key, lazy=options.lazy_cached) if cache is not None and key else None
+                result = None
+                if cache is not None and key:
+                    if k in missing:
+                        cache.misses += 1  # known absent when the run was planned
+                    else:
+                        result = cache.get(key, lazy=options.lazy_cached)
                 if result is None:
                     if pool is not None and pool.has(k):
-                        result = pool.take(k)
+                        entry = pool.take(k)  # the worker has stored it in the cache
+                        result = entry if options.lazy_cached or not isinstance(entry, CachedEntry) else entry.load()
                     else:
                         result = check_file(spec, prepared_for(cfg_file, spec).context)
-                    if cache is not None and key:
-                        cache.put(key, result)
+                        if cache is not None and key or options.lazy_cached:
+                            # encoded once: the cache entry and a JSON report share the text
+                            entry = entry_of(result)
+                            if cache is not None and key:
+                                cache.put(key, entry)
+                            result = entry if options.lazy_cached else CachedResult(result, entry.text)
                 tick()
                 yield result
             finished = True
@@ -545,16 +561,16 @@ class _Workers:
         self.init_args = init_args
         self.window = window
         self.pool = self._new_pool()
-        self.futures: dict[int, tuple[Any, tuple[int, str | None, Path, str]]] = {}
-        self.orphans: dict[int, tuple[int, str | None, Path, str]] = {}
+        self.futures: dict[int, tuple[Any, tuple[int, str | None, Path, str, str | None]]] = {}
+        self.orphans: dict[int, tuple[int, str | None, Path, str, str | None]] = {}
 
     def _new_pool(self) -> ProcessPoolExecutor:
         return ProcessPoolExecutor(max_workers=self.jobs, initializer=_worker_init, initargs=self.init_args)
 
-    def submit(self, item: tuple[int, str | None, Path, str]) -> None:
-        k, cfg, spec, _shown = item
+    def submit(self, item: tuple[int, str | None, Path, str, str | None]) -> None:
+        k, cfg, spec, _shown, key = item
         try:
-            self.futures[k] = (self.pool.submit(_worker_check, cfg, str(spec)), item)
+            self.futures[k] = (self.pool.submit(_worker_check, cfg, str(spec), key), item)
         except BrokenProcessPool:
             self._renew()
             self.orphans[k] = item
@@ -593,11 +609,11 @@ class _Workers:
             raise
 
 
-def _retry_alone(item: tuple[int, str | None, Path, str], init_args: tuple[Any, ...]) -> dict[str, Any]:
-    _k, cfg, spec, shown = item
+def _retry_alone(item: tuple[int, str | None, Path, str, str | None], init_args: tuple[Any, ...]) -> Any:
+    _k, cfg, spec, shown, key = item
     try:
         with ProcessPoolExecutor(max_workers=1, initializer=_worker_init, initargs=init_args) as pool:
-            return pool.submit(_worker_check, cfg, str(spec)).result()
+            return pool.submit(_worker_check, cfg, str(spec), key).result()
     except BrokenProcessPool:
         return _crash_result(shown, "the worker process ended unexpectedly")
 

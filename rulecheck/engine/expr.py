@@ -299,20 +299,108 @@ def _wrap(fn: Callable[..., Any]) -> Callable[..., Any]:
 JINJA_NAMES = frozenset({"self", "loop", "super", "caller", "varargs", "kwargs"})
 
 
-def check_names(env: _RuleEnvironment, source: str) -> None:
-    """Raise :class:`ExpressionError` when template ``source`` names one of jinja's own objects."""
-    from jinja2 import nodes
+class Names(dict):  # type: ignore[type-arg]
+    """The names of a spec (sections, methods, constants): an unknown one is undefined, an error when used."""
 
+    def __missing__(self, key: str) -> Any:
+        return Missing(name=key)
+
+
+class Compiled:
+    """A compiled expression: a plain Python function of the rule's names and the spec's names."""
+
+    __slots__ = ("fn", "environment", "text")
+
+    def __init__(self, fn: Callable[[dict[str, Any], dict[str, Any]], Any], env: Any, text: str) -> None:
+        self.fn = fn
+        self.environment = env
+        self.text = text
+
+    def __call__(self, **names: Any) -> Any:
+        """Evaluate with ``names`` and the sandbox's globals (no model sections unless given)."""
+        return self.fn(names, global_names(self.environment))
+
+
+class CompiledTemplate(Compiled):
+    """A compiled message template."""
+
+    __slots__ = ()
+
+    def render(self, **names: Any) -> str:
+        """Return the text with ``names`` substituted."""
+        return self.fn(names, global_names(self.environment))
+
+
+def global_names(env: Any) -> Names:
+    """Return (and keep on ``env``) the sandbox's globals as a mapping of names."""
+    names = env.__dict__.get("rule_names")
+    if names is None:
+        names = env.rule_names = Names(env.globals)
+    return names
+
+
+def _runtime(env: Any) -> dict[str, Any]:
+    rt = env.__dict__.get("rule_runtime")
+    if rt is None:
+        from rulecheck.engine.compiler import runtime
+
+        rt = env.rule_runtime = runtime(env, Section, Missing, _magnitude, MAX_EXPONENT, MAX_MAGNITUDE)
+    return rt
+
+
+def _parse(env: Any, text: str, template: bool) -> Any:
+    from jinja2.parser import Parser
+
+    if template:
+        return env.parse(text)
+    parser = Parser(env, text, state="variable")
+    tree = parser.parse_expression()
+    if not parser.stream.eos:
+        raise TemplateSyntaxError("chunk after expression", parser.stream.current.lineno, None, None)
+    return tree
+
+
+def _build(env: Any, kind: str, text: str) -> Compiled:
+    """Translate (or take from the kept sources), compile and wrap one expression or template."""
+    from rulecheck.engine.compiler import TranslationError, translate
+
+    key = _source_key(env, kind, text)
+    source = SOURCES.get(key)
+    if source is None:
+        try:
+            tree = _parse(env, text, kind == "template")
+        except TemplateSyntaxError as exc:
+            raise ExpressionError(f"syntax error: {exc.message}") from None
+        except RecursionError:
+            raise ExpressionError("expression nests too deeply") from None
+        except Exception as exc:  # jinja raises a few types for malformed input
+            raise ExpressionError(f"cannot compile: {exc}") from None
+        try:
+            source = translate(tree, env, template=kind == "template", branches=getattr(env, "rule_branches", None),
+                               reserved=JINJA_NAMES)
+        except TranslationError as exc:
+            raise ExpressionError(str(exc)) from None
+        except RecursionError:
+            raise ExpressionError("expression nests too deeply") from None
+        fresh = True
+    else:
+        fresh = False
     try:
-        tree = env.parse(source)
-    except TemplateSyntaxError as exc:
-        raise ExpressionError(f"syntax error: {exc.message}") from None
-    for node in tree.find_all(nodes.Name):
-        if node.name in JINJA_NAMES:
-            raise ExpressionError(f"'{node.name}' is not a model value; it is not allowed in rules")
+        namespace = dict(_runtime(env))
+        exec(compile(source, "<rule>", "exec"), namespace)  # noqa: S102 - our own translation, no builtins
+    except (SyntaxError, RecursionError, ValueError, MemoryError) as exc:
+        if not fresh:  # a kept source that no longer compiles: translate anew
+            SOURCES.pop(key, None)
+            return _build(env, kind, text)
+        raise ExpressionError(f"cannot compile: {type(exc).__name__}") from None
+    if fresh:
+        SOURCES[key] = source
+        SOURCES_STATE["dirty"] = True
+    cls = CompiledTemplate if kind == "template" else Compiled
+    return cls(namespace["_compiled"], env, text)
 
 
-def compile_expression(env: _RuleEnvironment, text: str) -> Callable[..., Any]:
+def compile_expression(env: _RuleEnvironment, text: str) -> Compiled:
     """Compile one expression; raise :class:`ExpressionError` with the reason."""
     if not isinstance(text, str):
         text = str(text)
@@ -320,46 +408,18 @@ def compile_expression(env: _RuleEnvironment, text: str) -> Callable[..., Any]:
         raise ExpressionError(f"expression is longer than {MAX_EXPRESSION_LENGTH} characters")
     if "__" in text:
         raise ExpressionError("names with double underscores are not allowed in rule expressions")
-    cached = _from_source(env, "expr", text)
-    if cached is not None:
-        return cached
-    try:
-        from jinja2 import nodes
-        from jinja2.environment import TemplateExpression
-        from jinja2.parser import Parser
-
-        parser = Parser(env, text, state="variable")
-        tree = parser.parse_expression()
-        if not parser.stream.eos:
-            raise TemplateSyntaxError("chunk after expression", parser.stream.current.lineno, None, None)
-        tree.set_environment(env)
-        body = [nodes.Assign(nodes.Name("result", "store"), tree, lineno=1)]
-        source = env.compile(nodes.Template(body, lineno=1), raw=True)
-        compiled = TemplateExpression(_template_from_source(env, source), False)
-    except TemplateSyntaxError as exc:
-        raise ExpressionError(f"syntax error: {exc.message}") from None
-    except Exception as exc:  # jinja raises a few types for malformed input
-        raise ExpressionError(f"cannot compile: {exc}") from None
-    check_names(env, "{{ (" + text + ") }}")  # compiled as one expression, so the wrapping cannot change its meaning
-    _remember_source(env, "expr", text, source)
-    return compiled
+    return _build(env, "expr", text)
 
 
-def compile_template(env: _RuleEnvironment, text: str) -> Any:
-    """Compile a message template (the caller has checked its form); raise jinja's errors."""
-    cached = _from_source(env, "template", text)
-    if cached is not None:
-        return cached
-    source = env.compile(text, raw=True)
-    template = _template_from_source(env, source)
-    _remember_source(env, "template", text, source)
-    return template
+def compile_template(env: _RuleEnvironment, text: str) -> CompiledTemplate:
+    """Compile a message template (the caller has checked its form); raise :class:`ExpressionError`."""
+    return _build(env, "template", text)  # type: ignore[return-value]
 
 
-# --- compiled sources, kept between runs ------------------------------------------------------------
-# Compiling an expression with jinja (lexing, parsing, code generation) costs about a millisecond; a
-# rule set has several hundred. The Python source jinja generates is kept in the user's cache, signed
-# with the user's key (rulecheck.cache), so a later run only hands it to Python's compile().
+# --- translated sources, kept between runs ----------------------------------------------------------
+# Parsing an expression with jinja costs a fraction of a millisecond; a rule set has several hundred.
+# The Python source of each translation is kept in the user's cache, signed with the user's key
+# (rulecheck.cache), so a later run only hands it to Python's compile().
 
 SOURCES: dict[str, str] = {}
 SOURCES_STATE = {"dirty": False}
@@ -368,80 +428,45 @@ SOURCES_STATE = {"dirty": False}
 def _source_key(env: Any, kind: str, text: str) -> str:
     import hashlib
 
-    return hashlib.sha256(f"{getattr(env, 'cache_tag', 'run')}\0{kind}\0{text}".encode()).hexdigest()
-
-
-def _template_from_source(env: Any, source: str) -> Any:
-    code = compile(source, "<rule>", "exec")
-    return env.template_class.from_code(env, code, env.make_globals(None))
-
-
-def _from_source(env: Any, kind: str, text: str) -> Any:
-    source = SOURCES.get(_source_key(env, kind, text))
-    if source is None:
-        return None
-    try:
-        template = _template_from_source(env, source)
-    except Exception:
-        return None
-    if kind == "expr":
-        from jinja2.environment import TemplateExpression
-
-        return TemplateExpression(template, False)
-    return template
-
-
-def _remember_source(env: Any, kind: str, text: str, source: str) -> None:
-    SOURCES[_source_key(env, kind, text)] = source
-    SOURCES_STATE["dirty"] = True
+    tag = f"{getattr(env, 'cache_tag', 'run')}/{getattr(env, 'rule_branches', None)}"
+    return hashlib.sha256(f"{tag}\0{kind}\0{text}".encode()).hexdigest()
 
 
 class Scope:
-    """The names of one rule's evaluation on one spec, shared by its expressions in one jinja context.
+    """The names of one rule's evaluation on one spec: the rule's own (parameters, computed values)
+    in a dict of their own, the spec's in a ``parent`` mapping prepared once per spec (see
+    :func:`spec_parent`)."""
 
-    Creating a jinja context the ordinary way copies every global (each physics method) into a new
-    dict, which costs more than evaluating a short expression. A scope is built on a ``parent``
-    mapping prepared once per spec (see :func:`spec_parent`); the rule's own names (parameters,
-    computed values) go into the context's local variables.
-    """
-
-    __slots__ = ("ctx",)
+    __slots__ = ("names", "parent")
 
     def __init__(self, env: Any, parent: dict[str, Any], names: dict[str, Any] | None = None) -> None:
-        from jinja2.runtime import Context
-
-        self.ctx = Context(env, parent, None, {})
-        if names:
-            self.ctx.vars.update(names)
+        self.names = dict(names) if names else {}
+        self.parent = parent
 
     def set(self, name: str, value: Any) -> None:
         """Add (or replace) a name for the expressions evaluated after this."""
-        self.ctx.vars[name] = value
+        self.names[name] = value
 
 
-def spec_parent(env: Any, namespace: dict[str, Any]) -> dict[str, Any]:
+def spec_parent(env: Any, namespace: dict[str, Any]) -> Names:
     """Return the names every rule sees on one spec: the sandbox's globals, then the model's sections."""
-    parent = dict(env.globals)
+    parent = Names(env.globals)
     parent.update(namespace)
     return parent
 
 
-def render_template(template: Any, parent: dict[str, Any], names: dict[str, Any]) -> str:
-    """Render a message template in a scope built on ``parent`` (no copy of the globals)."""
-    scope = Scope(template.environment, parent, names)
-    return template.environment.concat(template.root_render_func(scope.ctx))
-
-
-def _run_in_scope(compiled: Any, scope: Scope) -> Any:
-    for _ in compiled._template.root_render_func(scope.ctx):
-        pass
-    return scope.ctx.vars.pop("result", None)
+def render_template(template: CompiledTemplate, parent: dict[str, Any], names: dict[str, Any]) -> str:
+    """Render a message template with the rule's ``names`` and a spec's ``parent`` names."""
+    return template.fn(names, parent)
 
 
 def evaluate(compiled: Callable[..., Any], namespace: dict[str, Any] | Scope) -> Any:
     """Evaluate a compiled expression; raise MissingInput, or ExpressionError for anything else."""
     try:
-        result = _run_in_scope(compiled, namespace) if isinstance(namespace, Scope) else compiled(**namespace)
+        if isinstance(namespace, Scope):
+            result = compiled.fn(namespace.names, namespace.parent)
+        else:
+            result = compiled.fn(namespace, global_names(compiled.environment))
         if isinstance(result, Missing):
             result._fail_with_undefined_error()
         return result

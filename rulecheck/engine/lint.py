@@ -134,47 +134,15 @@ def _dimensional_method(name: str, info: Any) -> Callable[..., Any]:
     return call
 
 
-def _branch_code_generator(take_first: bool) -> Any:
-    """Return a jinja code generator that evaluates every part of a conditional or a boolean operator.
-
-    At run time ``a if c else b`` evaluates one branch and ``p and q`` may skip ``q``; the linter
-    compiles them so that the test and both operands are evaluated (a tuple of them), then takes
-    the first branch in one pass and the second in another, so no branch escapes the dimension check.
-    """
-    from jinja2.compiler import CodeGenerator
-
-    class _Generator(CodeGenerator):
-        def visit_CondExpr(self, node: Any, frame: Any) -> None:
-            frame = frame.soft()
-            self.write("((")
-            self.visit(node.test, frame)
-            self.write("), (")
-            if take_first or node.expr2 is None:
-                self.visit(node.expr1, frame)
-            else:
-                self.visit(node.expr2, frame)
-            self.write("))[1]")
-
-        def _both(self, node: Any, frame: Any) -> None:
-            self.write("((")
-            self.visit(node.left, frame)
-            self.write("), (")
-            self.visit(node.right, frame)
-            self.write("))[1]")
-
-        visit_And = _both
-        visit_Or = _both
-
-    return _Generator
-
-
 @lru_cache(maxsize=2)
 def _lint_environment(take_first: bool = True) -> Any:
     from rulecheck.physics import METHODS
 
     env = expr.environment({n: _dimensional_method(n, i) for n, i in METHODS.items() if i.expose})
-    env.code_generator_class = _branch_code_generator(take_first)
-    env.cache_tag = f"lint-{take_first}"  # its generated code differs from the run environment's
+    # every part of a conditional or of and/or is evaluated, so no branch escapes the dimension check: the
+    # test and the first arm in one pass, the second arm in the other (compiler.translate)
+    env.rule_branches = "first" if take_first else "second"
+    env.cache_tag = "lint"  # its translations differ from the run environment's
     return env
 
 

@@ -196,11 +196,11 @@ def _template(env: Any, text: str, file: str, where: str, pos: Position | None) 
     if "{%" in text or "{#" in text or "__" in text:
         raise RuleError(file, f"{where}: only {{{{ value }}}} substitutions are allowed in messages", *(_lc(pos)))
     try:
-        expr.check_names(env, text)
-    except expr.ExpressionError as exc:
-        raise RuleError(file, f"{where}: {exc}", *(_lc(pos))) from None
-    try:
         return expr.compile_template(env, text)
+    except expr.ExpressionError as exc:
+        if str(exc).startswith(("syntax error", "cannot compile")):
+            raise RuleError(file, f"{where}: cannot compile template: {exc}", *(_lc(pos))) from None
+        raise RuleError(file, f"{where}: {exc}", *(_lc(pos))) from None
     except Exception as exc:
         raise RuleError(file, f"{where}: cannot compile template: {exc}", *(_lc(pos))) from None
 

@@ -172,7 +172,7 @@ def evaluate_rule(rule: Rule, model: Model, namespace: dict[str, Any], params: d
     severity_overrides = severity_overrides or {}
     ns = dict(params)
     unsure = "warning" if rule.safety else "info"
-    env = (rule.applies_when or (rule.values[0][1] if rule.values else rule.checks[0].when))._template.environment
+    env = (rule.applies_when or (rule.values[0][1] if rule.values else rule.checks[0].when)).environment
     parent = _spec_parent(model, env, namespace)
     scope = expr.Scope(env, parent, ns)
     if rule.applies_when is not None:

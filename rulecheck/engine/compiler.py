@@ -1,0 +1,279 @@
+"""Rule expressions and message templates translated to plain Python functions.
+
+jinja parses the text (its expression grammar is what rule authors write); this module then
+writes Python source for the parsed tree itself, node by node, from a short list of allowed
+node types, and compiles it with no builtins. Every operation that the sandbox guards goes
+through a helper here:
+
+* a name is looked up in the rule's own names, then in the spec's (sections, methods,
+  constants); an unknown name is an undefined value, an error when used;
+* ``a.b`` and ``a[b]`` read model sections only (no name starting with ``_``), or an element
+  of a list by integer index;
+* a call is made only to a function marked as a rule callable (the physics methods and the
+  rule builtins);
+* ``*``, ``**``, ``%`` and ``//`` refuse text and lists and bound the exponent;
+* filters and tests are the sandbox environment's own (a short allowed list).
+
+Any other node (slices, ``*args``, attribute stores...) is refused when the rule is compiled.
+A compiled expression is a function of two mappings, the rule's names and the spec's names,
+so evaluating one costs a few dictionary look-ups rather than a jinja context.
+
+For the dimensional lint the same translation can evaluate *every* branch: the test and both
+arms of ``a if c else b`` and both operands of ``and``/``or`` (see :func:`translate`).
+"""
+
+from __future__ import annotations
+
+import keyword
+import math
+from typing import Any
+
+from jinja2 import nodes
+from jinja2.exceptions import SecurityError
+
+__all__ = ["TranslationError", "runtime", "translate"]
+
+_BINARY = {"Add": "+", "Sub": "-", "Div": "/"}  # plain Python operators (jinja's sandbox leaves them alone)
+_GUARDED = {"Mul": "_mul", "Pow": "_pow", "Mod": "_mod", "FloorDiv": "_floordiv"}
+_COMPARE = {"eq": "==", "ne": "!=", "gt": ">", "gteq": ">=", "lt": "<", "lteq": "<=", "in": "in",
+            "notin": "not in"}
+
+
+class TranslationError(Exception):
+    """A construct that rule expressions may not use; the message says which."""
+
+
+def translate(tree: nodes.Node, env: Any, template: bool = False, branches: str | None = None,
+              reserved: frozenset[str] = frozenset()) -> str:
+    """Return Python source defining ``_compiled(L, G)`` for a parsed expression (or template).
+
+    ``branches`` is None at run time; "first" or "second" evaluates every part of conditionals and
+    of ``and``/``or`` and takes the first or the second arm (the lint's two passes). ``reserved``
+    names may not appear in the text.
+    """
+    writer = _Writer(env, branches, reserved)
+    if template:
+        body = writer.template(tree)
+    else:
+        body = writer.visit(tree)
+    return f"def _compiled(L, G):\n    return {body}\n"
+
+
+class _Writer:
+    def __init__(self, env: Any, branches: str | None, reserved: frozenset[str]) -> None:
+        self.env = env
+        self.branches = branches
+        self.reserved = reserved
+
+    @staticmethod
+    def constant(value: Any) -> str:
+        """Return a Python literal for a constant of the text (repr of str, int, float, bool, None)."""
+        if isinstance(value, float) and not math.isfinite(value):
+            raise TranslationError(f"constant {value!r} is not a finite number")
+        return repr(value)
+
+    def template(self, tree: nodes.Node) -> str:
+        parts: list[str] = []
+        for node in tree.body if isinstance(tree, nodes.Template) else [tree]:
+            if not isinstance(node, nodes.Output):
+                raise TranslationError("only {{ value }} substitutions are allowed in messages")
+            for child in node.nodes:
+                if isinstance(child, nodes.TemplateData):
+                    parts.append(self.constant(child.data))
+                else:
+                    parts.append(f"_text({self.visit(child)})")
+        return "''.join((" + "".join(p + ", " for p in parts) + "))"
+
+    def visit(self, node: nodes.Node) -> str:
+        method = getattr(self, "visit_" + type(node).__name__, None)
+        if method is None:
+            raise TranslationError(f"{type(node).__name__.lower()} is not allowed in a rule expression")
+        return method(node)
+
+    # --- names and values ---------------------------------------------------------------------------
+
+    def visit_Name(self, node: nodes.Name) -> str:
+        if node.ctx != "load":
+            raise TranslationError("assignment is not allowed in a rule expression")
+        if node.name in self.reserved:
+            raise TranslationError(f"'{node.name}' is not a model value; it is not allowed in rules")
+        key = repr(node.name)
+        return f"(L[{key}] if {key} in L else G[{key}])"
+
+    def visit_Const(self, node: nodes.Const) -> str:
+        value = node.value
+        if value is None or isinstance(value, bool | int | float | str):
+            return self.constant(value)
+        raise TranslationError(f"constant {value!r} is not allowed in a rule expression")
+
+    def visit_List(self, node: nodes.List) -> str:
+        return "[" + "".join(self.visit(i) + ", " for i in node.items) + "]"
+
+    def visit_Tuple(self, node: nodes.Tuple) -> str:
+        if node.ctx != "load":
+            raise TranslationError("assignment is not allowed in a rule expression")
+        return "(" + "".join(self.visit(i) + ", " for i in node.items) + ")"
+
+    def visit_Dict(self, node: nodes.Dict) -> str:
+        return "{" + "".join(f"{self.visit(p.key)}: {self.visit(p.value)}, " for p in node.items) + "}"
+
+    def visit_Getattr(self, node: nodes.Getattr) -> str:
+        if node.ctx != "load":
+            raise TranslationError("assignment is not allowed in a rule expression")
+        return f"_getattr({self.visit(node.node)}, {self.constant(node.attr)})"
+
+    def visit_Getitem(self, node: nodes.Getitem) -> str:
+        if node.ctx != "load":
+            raise TranslationError("assignment is not allowed in a rule expression")
+        if isinstance(node.arg, nodes.Slice):
+            raise TranslationError("slices are not allowed in a rule expression")
+        return f"_getitem({self.visit(node.node)}, {self.visit(node.arg)})"
+
+    # --- operators ------------------------------------------------------------------------------------
+
+    def _binary(self, node: Any) -> str:
+        name = type(node).__name__
+        left, right = self.visit(node.left), self.visit(node.right)
+        if name in _BINARY:
+            return f"({left} {_BINARY[name]} {right})"
+        return f"{_GUARDED[name]}({left}, {right})"
+
+    visit_Add = visit_Sub = visit_Div = visit_Mul = visit_Pow = visit_Mod = visit_FloorDiv = _binary
+
+    def visit_Concat(self, node: nodes.Concat) -> str:
+        return "''.join((" + "".join(f"_text({self.visit(n)}), " for n in node.nodes) + "))"
+
+    def visit_Neg(self, node: nodes.Neg) -> str:
+        return f"(-{self.visit(node.node)})"
+
+    def visit_Pos(self, node: nodes.Pos) -> str:
+        return f"(+{self.visit(node.node)})"
+
+    def visit_Not(self, node: nodes.Not) -> str:
+        return f"(not {self.visit(node.node)})"
+
+    def visit_Compare(self, node: nodes.Compare) -> str:
+        text = self.visit(node.expr)
+        for operand in node.ops:
+            if operand.op not in _COMPARE:
+                raise TranslationError(f"operator {operand.op!r} is not allowed in a rule expression")
+            text += f" {_COMPARE[operand.op]} {self.visit(operand.expr)}"
+        return f"({text})"
+
+    def _boolean(self, node: Any) -> str:
+        left, right = self.visit(node.left), self.visit(node.right)
+        if self.branches is not None:  # lint: both operands, for their dimensions
+            return f"(({left}), ({right}))[1]"
+        return f"({left} {'and' if isinstance(node, nodes.And) else 'or'} {right})"
+
+    visit_And = visit_Or = _boolean
+
+    def visit_CondExpr(self, node: nodes.CondExpr) -> str:
+        test, first = self.visit(node.test), self.visit(node.expr1)
+        second = self.visit(node.expr2) if node.expr2 is not None else "_no_else()"
+        if self.branches is not None:  # lint: the test and one arm, chosen by the pass
+            chosen = first if self.branches == "first" or node.expr2 is None else second
+            return f"(({test}), ({chosen}))[1]"
+        return f"({first} if {test} else {second})"
+
+    # --- calls, filters, tests ------------------------------------------------------------------------
+
+    def _arguments(self, node: Any) -> str:
+        if getattr(node, "dyn_args", None) is not None or getattr(node, "dyn_kwargs", None) is not None:
+            raise TranslationError("*args and **kwargs are not allowed in a rule expression")
+        if not all(k.key.isidentifier() and not keyword.iskeyword(k.key) for k in node.kwargs):
+            raise TranslationError("keyword arguments must be plain names")
+        return "".join(self.visit(a) + ", " for a in node.args) + "".join(
+            f"{k.key}={self.visit(k.value)}, " for k in node.kwargs)
+
+    def visit_Call(self, node: nodes.Call) -> str:
+        return f"_call({self.visit(node.node)}, {self._arguments(node)})"
+
+    def visit_Filter(self, node: nodes.Filter) -> str:
+        if node.node is None:
+            raise TranslationError("filter blocks are not allowed")
+        if node.name not in self.env.filters:
+            raise TranslationError(f"no filter named '{node.name}'")
+        return f"_filter({self.constant(node.name)}, {self.visit(node.node)}, {self._arguments(node)})"
+
+    def visit_Test(self, node: nodes.Test) -> str:
+        if node.name not in self.env.tests:
+            raise TranslationError(f"no test named '{node.name}'")
+        return f"_test({self.constant(node.name)}, {self.visit(node.node)}, {self._arguments(node)})"
+
+
+# --- the helpers the generated code calls --------------------------------------------------------------
+
+
+def runtime(env: Any, section_type: type, missing_type: type, magnitude: Any, max_exponent: float,
+            max_magnitude: float) -> dict[str, Any]:
+    """Return the globals of compiled expressions for ``env`` (no builtins: only these helpers)."""
+
+    def unsafe(obj: Any, attr: str) -> Any:
+        return missing_type(f"access to attribute {attr!r} of {type(obj).__name__!r} object is unsafe.", obj, attr,
+                            SecurityError)
+
+    def _getattr(obj: Any, attr: str) -> Any:
+        if isinstance(obj, section_type):
+            if attr.startswith("_"):
+                return unsafe(obj, attr)
+            return type(obj).__getattr__(obj, attr)
+        if isinstance(obj, missing_type):
+            return obj  # a part of a missing thing is missing too
+        return unsafe(obj, attr)
+
+    def _getitem(obj: Any, argument: Any) -> Any:
+        if isinstance(obj, section_type) and isinstance(argument, str):
+            return _getattr(obj, argument)
+        if isinstance(obj, list | tuple) and isinstance(argument, int) and not isinstance(argument, bool):
+            try:
+                return obj[argument]
+            except IndexError:
+                return missing_type(paths=(f"[{argument}]",))
+        if isinstance(obj, missing_type):
+            return obj
+        return missing_type(obj=obj, name=str(argument))
+
+    def refuse_sequences(operator: str, left: Any, right: Any) -> None:
+        if isinstance(left, str | list | tuple | dict) or isinstance(right, str | list | tuple | dict):
+            raise SecurityError(f"operator {operator!r} is not allowed on text or lists in a rule expression")
+
+    def _mul(left: Any, right: Any) -> Any:
+        refuse_sequences("*", left, right)
+        return left * right
+
+    def _mod(left: Any, right: Any) -> Any:
+        refuse_sequences("%", left, right)
+        return left % right
+
+    def _floordiv(left: Any, right: Any) -> Any:
+        refuse_sequences("//", left, right)
+        return left // right
+
+    def _pow(left: Any, right: Any) -> Any:
+        refuse_sequences("**", left, right)
+        exponent = magnitude(right)
+        base = magnitude(left)
+        if exponent is None or abs(exponent) > max_exponent:
+            raise SecurityError(f"exponent {right!r} is outside ±{max_exponent:g} in a rule expression")
+        if base is not None and abs(base) > max_magnitude ** (1 / max(abs(exponent), 1)):
+            raise SecurityError("power too large in a rule expression")
+        return left**right
+
+    def _call(fn: Any, *args: Any, **kwargs: Any) -> Any:
+        if getattr(fn, "_rule_callable", False) is not True:
+            raise SecurityError(f"{fn!r} is not safely callable")
+        return fn(*args, **kwargs)
+
+    def _filter(name: str, value: Any, *args: Any, **kwargs: Any) -> Any:
+        return env.call_filter(name, value, args, kwargs)
+
+    def _test(name: str, value: Any, *args: Any, **kwargs: Any) -> Any:
+        return env.call_test(name, value, args, kwargs)
+
+    def _no_else() -> Any:
+        return missing_type("the inline if-expression evaluated to false and no else section was defined.")
+
+    return {"__builtins__": {}, "_getattr": _getattr, "_getitem": _getitem, "_mul": _mul, "_mod": _mod,
+            "_floordiv": _floordiv, "_pow": _pow, "_call": _call, "_filter": _filter, "_test": _test,
+            "_no_else": _no_else, "_text": str}
