@@ -105,6 +105,11 @@ def _round(value: float) -> float:
 
 def outcome_dict(o: Outcome, meta: dict[str, Any], doc: Document | None) -> dict[str, Any]:
     """Return one outcome in the JSON-result form."""
+    if o.outcome == "not-applicable":
+        # a rule that does not apply points at nothing: its fields that say what was found are left out
+        return {"rule": o.rule, "title": meta.get("title", ""), "topic": meta.get("topic", ""), "outcome": o.outcome,
+                "severity": o.severity, "safety": bool(meta.get("safety", False)), "message": o.message,
+                "location": {"path": o.path, "line": None, "column": None}}
     # a pass or a rule that does not apply points at nothing a reviewer must find: no line is looked up
     located = doc is not None and o.path and o.outcome not in ("pass", "not-applicable")
     pos = doc.position(o.path) if located else None
@@ -127,13 +132,10 @@ def outcome_dict(o: Outcome, meta: dict[str, Any], doc: Document | None) -> dict
         "missing": list(o.missing),
         "waiver": o.waiver,
     }
-    if o.outcome in ("pass", "not-applicable"):
+    if o.outcome == "pass":
         # the basis and formula of a rule that found nothing are in the rule's own description
         # ('rulecheck rules show', the SARIF driver); repeating them per spec only fattens the result
         del entry["formula"], entry["basis"]
-    if o.outcome == "not-applicable":
-        for key in ("fix", "values", "limit", "missing", "waiver"):
-            del entry[key]
     return entry
 
 
@@ -295,11 +297,22 @@ def _check_document(doc: Document, ctx: CheckContext, base_dir: Path | None) -> 
     return _finish(result)
 
 
+def _margin_parameters(ruleset: RuleSet) -> dict[str, Any]:
+    """Return the first declaration of every rule parameter, by name (kept with the rule set)."""
+    known = ruleset.__dict__.get("margin_parameters")
+    if known is None:
+        known = {}
+        for rule in ruleset.rules.values():
+            for name, param in rule.params.items():
+                known.setdefault(name, param)
+        ruleset.__dict__["margin_parameters"] = known
+    return known
+
+
 def _read_margins(margins: dict[str, Any], ruleset: RuleSet) -> tuple[dict[str, Any], list[Outcome]]:
-    known: dict[str, Any] = {}
-    for rule in ruleset.rules.values():
-        for name, param in rule.params.items():
-            known.setdefault(name, param)
+    if not margins:
+        return {}, []
+    known = _margin_parameters(ruleset)
     values: dict[str, Any] = {}
     problems: list[Outcome] = []
     for name, raw in margins.items():

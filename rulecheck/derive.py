@@ -18,7 +18,7 @@ from typing import Any
 
 import numpy as np
 
-from rulecheck.load import Document, path_text
+from rulecheck.load import Document
 from rulecheck.model import Model
 from rulecheck.physics import dynamics as dyn
 from rulecheck.physics import loads as ld
@@ -152,13 +152,13 @@ for _module in _extensions():
 
 
 def _given(model: Model, doc: Document, q: Quantities) -> None:
-    for parts, value, node in fields(doc.data):
-        path = path_text(parts)
-        if not parts or any(isinstance(p, int) for p in parts):
+    values, kinds = q.values, q.kinds
+    for parts, value, node, path in fields(doc.data):
+        if not parts or "[" in path:
             continue
-        if path in q.values:
-            model.given(path, q.values[path], q.kinds[path])
-        elif isinstance(value, (bool, int, float, str)) and not node.get("x-dimension") and "properties" not in node:
+        if path in values:
+            model.given(path, values[path], kinds[path])
+        elif isinstance(value, (bool, int, float, str)) and "x-dimension" not in node and "properties" not in node:
             model.given(path, value)
 
 

@@ -11,15 +11,14 @@ from __future__ import annotations
 
 import itertools
 from dataclasses import dataclass, field
-from typing import Any
+from typing import Any, NamedTuple
 
 from rulecheck.engine.expr import Section, sections_from
 
 __all__ = ["Derivation", "Model"]
 
 
-@dataclass(frozen=True)
-class Derivation:
+class Derivation(NamedTuple):
     """How a value was obtained: ``given``, ``derived`` by a method from inputs, or a ``default``."""
 
     source: str  # given | derived | default
@@ -35,6 +34,9 @@ class Derivation:
         if self.source == "default":
             return f"default: {text}" if text else "default"
         return text or self.method
+
+
+GIVEN = Derivation("given")
 
 
 @dataclass
@@ -53,12 +55,12 @@ class Model:
         self.values[path] = value
         if kind_name:
             self.kinds[path] = kind_name
-        self.provenance[path] = Derivation("given")
+        self.provenance[path] = GIVEN
 
     def derive(self, path: str, value: Any, kind_name: str | None, method: str, inputs: tuple[str, ...] = (),
                note: str = "", source: str = "derived") -> None:
         """Record a derived (or defaulted) value; a given value at ``path`` is never overwritten."""
-        if path in self.values and self.provenance.get(path, Derivation("given")).source == "given":
+        if path in self.values and self.provenance.get(path, GIVEN).source == "given":
             return
         if value is None:
             return

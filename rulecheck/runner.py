@@ -368,6 +368,11 @@ def _worker_check(config_file: str | None, spec: str, key: str | None = None) ->
     return entry
 
 
+def _worker_check_many(work: list[tuple[str | None, str, str | None]]) -> list[CachedEntry]:
+    """Check a few specs in order (one task); see :func:`_worker_check`."""
+    return [_worker_check(cfg, spec, key) for cfg, spec, key in work]
+
+
 def _crash_result(file: str, detail: str) -> dict[str, Any]:
     from rulecheck.check import failed_result
 
@@ -479,7 +484,10 @@ def run_stream(options: RunOptions, progress: Callable[[int, int], None] | None 
         kinds = {cfg or "": p.context.value_kinds for cfg, p in prepared.items()}
         init = (explicit.file if explicit else None, [str(p) for p in extra], today.isoformat(), units_system,
                 str(base_dir), kinds, options.charts, str(cache.folder) if cache is not None else None)
-        pool = _Workers(jobs, init, window=jobs * 16)
+        from rulecheck.schema import _fast_validator
+
+        _fast_validator()  # compiled once here: the forked workers inherit it
+        pool = _Workers(jobs, init, window=jobs * _Workers.CHUNK * 3)
 
     missing = {k for k, _cfg, _spec, _shown in todo}
 
@@ -552,38 +560,57 @@ class Stream:
 
 
 class _Workers:
-    """Worker processes that check specs. When one dies, every spec that was in flight is checked again
-    alone in a fresh process (so the one that kills its worker is found and reported), and a new pool
-    takes the specs that follow."""
+    """Worker processes that check specs, a few at a time per task (fewer round trips between processes).
+
+    When one dies, every spec that was in flight is checked again alone in a fresh process (so the one
+    that kills its worker is found and reported), and a new pool takes the specs that follow."""
+
+    CHUNK = 8  # specs per task: each task costs the parent a round trip, so specs travel in small batches
 
     def __init__(self, jobs: int, init_args: tuple[Any, ...], window: int) -> None:
         self.jobs = jobs
         self.init_args = init_args
         self.window = window
         self.pool = self._new_pool()
-        self.futures: dict[int, tuple[Any, tuple[int, str | None, Path, str, str | None]]] = {}
+        self.futures: dict[int, tuple[Any, int, tuple[int, str | None, Path, str, str | None]]] = {}
         self.orphans: dict[int, tuple[int, str | None, Path, str, str | None]] = {}
+        self.batch: list[tuple[int, str | None, Path, str, str | None]] = []
 
     def _new_pool(self) -> ProcessPoolExecutor:
         return ProcessPoolExecutor(max_workers=self.jobs, initializer=_worker_init, initargs=self.init_args)
 
     def submit(self, item: tuple[int, str | None, Path, str, str | None]) -> None:
-        k, cfg, spec, _shown, key = item
+        self.batch.append(item)
+        if len(self.batch) >= self.CHUNK:
+            self.flush()
+
+    def flush(self) -> None:
+        """Send the specs collected so far as one task."""
+        batch, self.batch = self.batch, []
+        if not batch:
+            return
+        work = [(cfg, str(spec), key) for _k, cfg, spec, _shown, key in batch]
         try:
-            self.futures[k] = (self.pool.submit(_worker_check, cfg, str(spec), key), item)
+            future = self.pool.submit(_worker_check_many, work)
         except BrokenProcessPool:
             self._renew()
-            self.orphans[k] = item
+            for item in batch:
+                self.orphans[item[0]] = item
+            return
+        for index, item in enumerate(batch):
+            self.futures[item[0]] = (future, index, item)
 
     def has(self, k: int) -> bool:
-        return k in self.futures or k in self.orphans
+        return k in self.futures or k in self.orphans or any(item[0] == k for item in self.batch)
 
     def take(self, k: int) -> Any:
+        if any(item[0] == k for item in self.batch):
+            self.flush()
         if k in self.orphans:
             return _retry_alone(self.orphans.pop(k), self.init_args)
-        future, item = self.futures.pop(k)
+        future, index, item = self.futures.pop(k)
         try:
-            return future.result()
+            return future.result()[index]
         except BrokenProcessPool:
             self._renew()
             return _retry_alone(item, self.init_args)
@@ -591,7 +618,7 @@ class _Workers:
     def _renew(self) -> None:
         """Replace a broken pool; what was in flight and not finished is checked alone later."""
         old = self.pool
-        for k, (future, item) in list(self.futures.items()):
+        for k, (future, _index, item) in list(self.futures.items()):
             if not (future.done() and not future.cancelled() and future.exception() is None):
                 self.orphans[k] = item
                 del self.futures[k]

@@ -321,18 +321,19 @@ def fields(data: Any) -> list[Any]:
     return items
 
 
-def walk_fields(data: Any, node: dict[str, Any] | None = None, parts: tuple[Any, ...] = ()) -> Any:
-    """Yield (path parts, value, resolved subschema) for every value of ``data`` that the schema describes."""
+def walk_fields(data: Any, node: dict[str, Any] | None = None, parts: tuple[Any, ...] = (),
+                path: str = "") -> Any:
+    """Yield (path parts, value, resolved subschema, dotted path) for every value of ``data`` the schema describes."""
     node = _resolve(node if node is not None else spec_schema())
-    yield parts, data, node
+    yield parts, data, node, path
     if isinstance(data, dict):
         props = node.get("properties", {})
         for key, value in data.items():
             if key in props:
-                yield from walk_fields(value, props[key], (*parts, key))
+                yield from walk_fields(value, props[key], (*parts, key), f"{path}.{key}" if path else str(key))
     elif isinstance(data, list) and "items" in node:
         for i, item in enumerate(data):
-            yield from walk_fields(item, node["items"], (*parts, i))
+            yield from walk_fields(item, node["items"], (*parts, i), f"{path}[{i}]")
 
 
 # Kinds whose values are magnitudes of physical things and so must be above zero.
@@ -371,11 +372,10 @@ def read_quantities(doc: Document) -> tuple[Quantities, list[Problem]]:
     """Return every ``x-dimension`` field of ``doc`` parsed to SI, and the unit problems found."""
     q = Quantities()
     problems: list[Problem] = []
-    for parts, value, node in fields(doc.data):
+    for parts, value, node, path in fields(doc.data):
         kind_name = node.get("x-dimension")
         if not kind_name or isinstance(value, (dict, list)):
             continue
-        path = path_text(parts)
         if value is None or isinstance(value, bool) or (kind_name != "fraction" and not isinstance(value, str)):
             continue  # the structure check reports the wrong type, with the YAML 1.1 hint
         try:

@@ -265,10 +265,25 @@ def runtime(env: Any, section_type: type, missing_type: type, magnitude: Any, ma
             raise SecurityError(f"{fn!r} is not safely callable")
         return fn(*args, **kwargs)
 
+    # filters and tests that take no jinja context are called directly; the others through jinja
+    try:
+        from jinja2.utils import _PassArg
+
+        plain_filters = {n: f for n, f in env.filters.items() if _PassArg.from_obj(f) is None}
+        plain_tests = {n: f for n, f in env.tests.items() if _PassArg.from_obj(f) is None}
+    except ImportError:  # another jinja version: every call goes through jinja
+        plain_filters, plain_tests = {}, {}
+
     def _filter(name: str, value: Any, *args: Any, **kwargs: Any) -> Any:
+        fn = plain_filters.get(name)
+        if fn is not None:
+            return fn(value, *args, **kwargs)
         return env.call_filter(name, value, args, kwargs)
 
     def _test(name: str, value: Any, *args: Any, **kwargs: Any) -> Any:
+        fn = plain_tests.get(name)
+        if fn is not None:
+            return fn(value, *args, **kwargs)
         return env.call_test(name, value, args, kwargs)
 
     def _no_else() -> Any:

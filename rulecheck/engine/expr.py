@@ -90,6 +90,10 @@ for _op in (
     setattr(Missing, _op, Missing._fail_with_undefined_error)
 
 
+# The undefined value of each absent model path, made once (it holds nothing but its path).
+_ABSENT: dict[tuple[str, str], Missing] = {}
+
+
 class Section:
     """A read-only view of one part of the model (``motor``, ``load``...) for expressions."""
 
@@ -107,10 +111,15 @@ class Section:
         if key in children:
             return children[key]
         values = object.__getattribute__(self, "_values")
-        name = object.__getattribute__(self, "_name")
         if key in values:
             return values[key]
-        return Missing(paths=(f"{name}.{key}" if name else key,))
+        name = object.__getattribute__(self, "_name")
+        missing = _ABSENT.get((name, key))
+        if missing is None:
+            if len(_ABSENT) > 4096:
+                _ABSENT.clear()
+            missing = _ABSENT[(name, key)] = Missing(paths=(f"{name}.{key}" if name else key,))
+        return missing
 
     __getitem__ = __getattr__
 
@@ -440,7 +449,7 @@ class Scope:
     __slots__ = ("names", "parent")
 
     def __init__(self, env: Any, parent: dict[str, Any], names: dict[str, Any] | None = None) -> None:
-        self.names = dict(names) if names else {}
+        self.names = names if names is not None else {}  # the caller's dict, not a copy: set() adds to it
         self.parent = parent
 
     def set(self, name: str, value: Any) -> None:

@@ -195,8 +195,7 @@ def evaluate_rule(rule: Rule, model: Model, namespace: dict[str, Any], params: d
             for p in exc.paths:
                 if p not in missing:
                     missing.append(p)
-            scope.set(name, expr.Missing(paths=exc.paths))
-            ns[name] = expr.Missing(paths=exc.paths)
+            ns[name] = expr.Missing(paths=exc.paths)  # ns is the scope's own names
             continue
         except expr.ExpressionError as exc:
             return _rule_error(rule, f"values.{name}", text, exc)
@@ -204,7 +203,6 @@ def evaluate_rule(rule: Rule, model: Model, namespace: dict[str, Any], params: d
             return _rule_error(rule, f"values.{name}", text, expr.ExpressionError("result is not a finite number"))
         computed[name] = value
         ns[name] = value
-        scope.set(name, value)
     shown_values = {n: (v, value_kinds.get(n)) for n, v in computed.items()
                     if isinstance(v, (int, float)) and not isinstance(v, bool)}
     display = dict(ns)
