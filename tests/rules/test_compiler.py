@@ -1,0 +1,137 @@
+"""Rule expressions translated to Python (rulecheck.engine.compiler) evaluate as jinja's own sandbox does.
+
+The reference is jinja2's ``ImmutableSandboxedEnvironment.compile_expression`` on the same environment
+(same globals, filters, tests and attribute rules), so the translation keeps the language rule authors
+write. Both are run on the same names; results, missing inputs and refusals must agree.
+"""
+
+from __future__ import annotations
+
+from typing import Any
+
+import pytest
+
+from rulecheck.engine import expr
+from rulecheck.engine.ruleset import environment
+
+ENV = environment()
+
+
+def _names() -> dict[str, Any]:
+    sections = expr.sections_from([
+        ("motor.rated_power", 7500.0), ("motor.rated_speed", 152.37), ("motor.kind", "induction"),
+        ("motor.brake.static_torque", 80.0), ("load.torque", 40.0), ("load.speeds", [1.0, 2.0, 3.0]),
+        ("drive.kind", "inverter"),
+    ])
+    return {**sections, "margin": 1.1, "count": 3, "flag": True, "label": "S1", "empty": None, "zero": 0.0}
+
+
+def _outcome(run: Any) -> tuple[str, Any]:
+    try:
+        value = run()
+        if isinstance(value, expr.Missing):
+            value._fail_with_undefined_error()
+        return "value", value
+    except expr.MissingInput as exc:
+        return "missing", exc.paths
+    except Exception as exc:  # refusals and errors: the kind is what must agree
+        return "error", _family(exc)
+
+
+def _family(exc: Exception) -> str:
+    if isinstance(exc, expr.ExpressionError):
+        text = str(exc)
+        if text.startswith("not allowed"):
+            return "refused"
+        if text.startswith("unknown name"):
+            return "undefined"
+        return "failed"
+    name = type(exc).__name__
+    if name == "SecurityError":
+        return "refused"
+    if name == "UndefinedError":
+        return "undefined"
+    return "failed"
+
+
+def _ours(text: str, names: dict[str, Any]) -> tuple[str, Any]:
+    compiled = expr.compile_expression(ENV, text)
+    scope = expr.Scope(ENV, expr.spec_parent(ENV, {k: v for k, v in names.items() if isinstance(v, expr.Section)}),
+                       {k: v for k, v in names.items() if not isinstance(v, expr.Section)})
+    return _outcome(lambda: expr.evaluate(compiled, scope))
+
+
+def _jinja(text: str, names: dict[str, Any]) -> tuple[str, Any]:
+    compiled = ENV.compile_expression(text, undefined_to_none=False)
+    return _outcome(lambda: compiled(**names))
+
+
+CASES = [
+    # arithmetic and precedence
+    "motor.rated_power / motor.rated_speed", "load.torque * margin + 2 - 1", "-load.torque", "+count",
+    "2 ** 3", "count // 2", "count % 2", "(1 + 2) * 3 / 4", "load.torque ** 0.5",
+    # comparisons, chained, membership
+    "margin > 1", "1 < margin < 2", "1 < margin > 5", "motor.kind == 'induction'", "drive.kind != 'dol'",
+    "motor.kind in ['induction', 'pm-synchronous']", "motor.kind not in ['dc']", "2.0 in load.speeds",
+    # and / or return an operand; not
+    "flag and margin", "zero or margin", "empty or label", "not flag", "not (margin > 1 and zero)",
+    # conditionals
+    "margin if flag else 0", "margin if zero else count", "margin if flag",
+    # tests
+    "motor.rated_power is defined", "motor.nameplate_current is defined", "motor.nameplate_current is undefined",
+    "empty is none", "label is string", "margin is number", "motor.brake.static_torque is defined",
+    # filters
+    "margin | round(1)", "-load.torque | abs", "motor.nameplate_current | default(5)", "load.speeds | length",
+    "load.speeds | max", "load.speeds | min", "load.speeds | sum", "load.speeds | first", "load.speeds | last",
+    "label | lower", "label ~ '/' ~ count",
+    # literals and indexing
+    "[1, 2, 3][1]", "load.speeds[0]", "load.speeds[7]", "motor['rated_power']", "(1, 2)[0]", "true", "none",
+    # calls of rule functions and constants
+    "sqrt(load.torque)", "min(margin, count)", "max(1, 2, 3)", "abs(-2)", "interp(1.5, [1, 2], [10, 20])",
+    "pi * 2", "sqrt3 * 400", "g_n",
+    # missing inputs propagate
+    "motor.nameplate_current * 2", "motor.nameplate_current > 1", "margin > motor.nameplate_current",
+    "motor.brake.holding_torque + 1", "sqrt(motor.nameplate_current)",
+    # refusals
+    "label * 3", "[1] * 3", "10 ** 99", "2 ** count ** count", "load.torque.real", "label.upper",
+    "unknown_name + 1", "margin(1)",
+]
+
+
+@pytest.mark.parametrize("text", CASES)
+def test_translation_agrees_with_jinja(text: str) -> None:
+    names = _names()
+    assert _ours(text, names) == _jinja(text, names)
+
+
+@pytest.mark.parametrize("text", ["load.speeds[1:2]", "self", "loop", "{1: 2} | list", "x.__class__"])
+def test_constructs_outside_the_language_are_refused_when_compiled(text: str) -> None:
+    with pytest.raises(expr.ExpressionError):
+        expr.compile_expression(ENV, text)
+
+
+def test_templates_agree_with_jinja() -> None:
+    names = _names()
+    text = "margin {{ margin | round(2) }} at {{ motor.rated_speed }} ({{ label }}, {{ empty }})"
+    ours = expr.compile_template(ENV, text).render(**names)
+    assert ours == ENV.from_string(text).render(**names)
+    assert ours == "margin 1.1 at 152.37 (S1, None)"
+
+
+def test_generated_code_reaches_no_builtins() -> None:
+    compiled = expr.compile_expression(ENV, "margin + 1")
+    assert compiled.fn.__globals__["__builtins__"] == {}
+    assert expr.evaluate(compiled, expr.Scope(ENV, expr.spec_parent(ENV, {}), {"margin": 1.0})) == 2.0
+
+
+def test_lint_passes_evaluate_every_branch() -> None:
+    """The linter's translations evaluate the test and one arm of a conditional, and both sides of and/or."""
+    from rulecheck.engine.lint import _compile_for_lint
+
+    names = {"a": 1.0, "b": expr.Missing(paths=("b",))}
+    run = expr.compile_expression(ENV, "a if a > 0 else b")
+    assert expr.evaluate(run, names) == 1.0  # at run time the unused arm is never evaluated
+    with pytest.raises(expr.MissingInput):
+        expr.evaluate(_compile_for_lint("a if a > 0 else b", take_first=False), names)
+    with pytest.raises(expr.MissingInput):
+        expr.evaluate(_compile_for_lint("a > 0 or b > 0"), names)
