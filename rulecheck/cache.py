@@ -3,17 +3,19 @@
 The key of a spec's result is a hash of everything the result depends on: the
 spec's bytes (and those of a duty profile it names), its displayed path, the
 rule set's digest, the configuration's content, the tool version, the date
-(waivers expire) and the display units. Entries are JSON files written
-atomically; a corrupt, truncated or foreign entry is ignored and replaced.
+(waivers expire) and the display units. Entries are appended to pack files,
+one per writing process; a corrupt, truncated or foreign entry is ignored.
 """
 
 from __future__ import annotations
 
+import contextlib
 import hashlib
 import hmac
 import json
 import os
 import re
+import time
 from functools import lru_cache
 from pathlib import Path
 from typing import Any
@@ -152,8 +154,20 @@ def _secret() -> bytes:
     return data
 
 
+# packs beyond these (oldest first) are removed when a cache is opened: it is a cache, not an archive
+PACK_LIMIT_BYTES = 1 << 30
+PACK_LIMIT_COUNT = 512
+_RECORD = b"RCP"
+
+
 class ResultCache:
     """A folder of cached spec results, each entry signed with the user's key.
+
+    Spec results are appended to pack files, one per writing process (``packs/*.pack``): creating a
+    file per entry costs the file system far more than the entry's bytes. Each record is a header
+    line ``RCP <key> <length>`` and the signed entry. A cache opened for reading scans the packs'
+    headers once. The compiled rule sources and lint results are files of their own
+    (:meth:`get_file`, :meth:`put_file`).
 
     A signature that does not match (an entry written elsewhere, edited, truncated or planted in a
     repository) makes the entry count as absent.
@@ -166,16 +180,56 @@ class ResultCache:
         self.usable = True
         self._key = _secret()
         self._folders: set[Path] = set()  # subfolders known to exist
+        self._index: dict[str, tuple[str, int, int]] | None = None  # key → (pack, offset, length)
+        self._readers: dict[str, int] = {}  # pack → open descriptor
+        self._pack: int | None = None  # this process's pack, opened on the first put
+        self._pack_pid = 0
 
     def _mac(self, payload: bytes) -> str:
         return hmac.new(self._key, payload, hashlib.sha256).hexdigest()
 
-    def _path(self, key: str) -> Path:
-        return self.folder / key[:2] / f"{key}.json"
+    # --- spec results, in packs ----------------------------------------------------------------------
+
+    def _packs(self) -> Path:
+        return self.folder / "packs"
+
+    def _load_index(self) -> dict[str, tuple[str, int, int]]:
+        if self._index is not None:
+            return self._index
+        index: dict[str, tuple[str, int, int]] = {}
+        try:
+            with os.scandir(self._packs()) as found:
+                packs = sorted((e for e in found if e.name.endswith(".pack") and e.is_file()),
+                               key=lambda e: e.stat().st_mtime, reverse=True)
+        except OSError:
+            packs = []
+        total = 0
+        for n, entry in enumerate(packs):
+            total += entry.stat().st_size
+            if total > PACK_LIMIT_BYTES or n >= PACK_LIMIT_COUNT:
+                with contextlib.suppress(OSError):
+                    os.unlink(entry.path)
+                continue
+            _scan_pack(entry.path, index)
+        self._index = index
+        return index
 
     def has(self, key: str) -> bool:
         """Return whether an entry exists for ``key`` (it is verified when read)."""
-        return self._path(key).is_file()
+        return key in self._load_index()
+
+    def _read_record(self, key: str) -> bytes:
+        where = self._load_index().get(key)
+        if where is None:
+            raise FileNotFoundError(key)
+        pack, offset, length = where
+        fd = self._readers.get(pack)
+        if fd is None:
+            fd = self._readers[pack] = os.open(pack, os.O_RDONLY | getattr(os, "O_BINARY", 0))
+        raw = os.pread(fd, length, offset)
+        if len(raw) != length:
+            raise ValueError("truncated")
+        return raw
 
     def get(self, key: str, lazy: bool = False) -> Any:
         """Return the cached result for ``key``, or None (a bad entry counts as absent).
@@ -187,60 +241,105 @@ class ResultCache:
         was read from, so a JSON report can copy it instead of encoding it again.
         """
         try:
-            raw = self._path(key).read_bytes()
-            mac, _sep, payload = raw.partition(b"\n")
-            if not hmac.compare_digest(mac.decode("ascii", "replace"), self._mac(payload)):
-                raise ValueError("signature")
-            head, _sep, body = payload.partition(b"\n")
-            if not head.startswith(f"{_MAGIC} {key} ".encode()):
-                raise ValueError("foreign entry")
-            text = body.decode("utf-8")
-            if lazy:
-                tally = json.loads(head.split(b" ", 2)[2])
-                self.hits += 1
-                return CachedEntry(text, tally)
-            result = decode(text)
+            return self._open_entry(key, self._read_record(key), lazy)
         except (OSError, ValueError, UnicodeDecodeError):
             self.misses += 1
             return None
+
+    def _open_entry(self, key: str, raw: bytes, lazy: bool) -> Any:
+        mac, _sep, payload = raw.partition(b"\n")
+        if not hmac.compare_digest(mac.decode("ascii", "replace"), self._mac(payload)):
+            raise ValueError("signature")
+        head, _sep, body = payload.partition(b"\n")
+        if not head.startswith(f"{_MAGIC} {key} ".encode()):
+            raise ValueError("foreign entry")
+        text = body.decode("utf-8")
+        if lazy:
+            tally = json.loads(head.split(b" ", 2)[2])
+            self.hits += 1
+            return CachedEntry(text, tally)
+        result = decode(text)
         if not isinstance(result, dict):
-            self.misses += 1
-            return None
+            raise ValueError("not a result")
         self.hits += 1
         return CachedResult(result, text)
 
+    def _entry_bytes(self, key: str, result: Any) -> bytes | None:
+        if isinstance(result, CachedEntry):
+            body, tally_data = result.text, result.tally
+        else:
+            if result.get("status") == "unreadable":
+                return None
+            body, tally_data = encode(result), tally_of(result)
+        if tally_data.get("status") == "unreadable":
+            return None  # a file that could not be read may read next time
+        tally = json.dumps(tally_data, separators=(",", ":"))
+        payload = f"{_MAGIC} {key} {tally}\n".encode() + body.encode("utf-8")
+        return self._mac(payload).encode("ascii") + b"\n" + payload
+
     def put(self, key: str, result: Any) -> None:
-        """Store a result or a :class:`CachedEntry` (atomically: temporary file, then rename).
+        """Store a spec result or a :class:`CachedEntry` at the end of this process's pack.
 
         A result that could not be read (an OS error) is not stored: it may read next time. Errors only
         disable the cache.
         """
         if not self.usable:
             return
-        if isinstance(result, CachedEntry):
-            body, tally_data = result.text, result.tally
-        else:
-            body, tally_data = None, None
-            if result.get("status") == "unreadable":
-                return
-        if tally_data is not None and tally_data.get("status") == "unreadable":
+        entry = self._entry_bytes(key, result)
+        if entry is None:
+            return
+        try:
+            if self._pack is None or self._pack_pid != os.getpid():  # a forked worker writes a pack of its own
+                self._open_pack()
+            record = b"%s %s %d\n" % (_RECORD, key.encode("ascii"), len(entry)) + entry + b"\n"
+            view = memoryview(record)
+            while view:  # one write of a whole record (a reader never sees half a header)
+                written = os.write(self._pack, view)  # type: ignore[arg-type]
+                view = view[written:]
+        except OSError:
+            self.usable = False
+
+    def _open_pack(self) -> None:
+        folder = self._packs()
+        folder.mkdir(parents=True, exist_ok=True)
+        self._ignore_file()
+        name = f"{int(time.time() * 1000):013d}-{os.getpid()}-{os.urandom(4).hex()}.pack"
+        self._pack = os.open(folder / name, _NEW_FILE | os.O_APPEND, 0o600)
+        self._pack_pid = os.getpid()
+
+    def _ignore_file(self) -> None:
+        ignore = self.folder / ".gitignore"
+        if not ignore.exists():
+            ignore.write_text("# rulecheck's result cache\n*\n", encoding="utf-8")
+
+    # --- single entries (compiled rule sources, lint results) ---------------------------------------
+
+    def _path(self, key: str) -> Path:
+        return self.folder / key[:2] / f"{key}.json"
+
+    def get_file(self, key: str) -> Any:
+        """Return the value stored under ``key`` by :meth:`put_file`, or None."""
+        try:
+            return self._open_entry(key, self._path(key).read_bytes(), lazy=False)
+        except (OSError, ValueError, UnicodeDecodeError):
+            self.misses += 1
+            return None
+
+    def put_file(self, key: str, value: dict[str, Any]) -> None:
+        """Store a value in a file of its own (atomically: a temporary file, then rename); it replaces any older."""
+        if not self.usable:
+            return
+        data = self._entry_bytes(key, value)
+        if data is None:
             return
         path = self._path(key)
         try:
             if path.parent not in self._folders:
                 path.parent.mkdir(parents=True, exist_ok=True)
-                ignore = self.folder / ".gitignore"
-                if not ignore.exists():
-                    ignore.write_text("# rulecheck's result cache\n*\n", encoding="utf-8")
+                self._ignore_file()
                 self._folders.add(path.parent)
-            if body is None:
-                body = encode(result)
-                tally_data = tally_of(result)
-            tally = json.dumps(tally_data, separators=(",", ":"))
-            payload = f"{_MAGIC} {key} {tally}\n".encode() + body.encode("utf-8")
-            # a name of this process's own (several workers may write the same entry), created exclusively
+            # a name of this process's own (several processes may write the same entry), created exclusively
             tmp = path.parent / f".tmp-{os.getpid()}-{key[:16]}.json"
-            data = self._mac(payload).encode("ascii") + b"\n" + payload
             try:
                 fd = os.open(tmp, _NEW_FILE, 0o600)
             except FileExistsError:  # left by an earlier process of the same number that was killed
@@ -251,3 +350,25 @@ class ResultCache:
             os.replace(tmp, path)
         except OSError:
             self.usable = False
+
+
+def _scan_pack(path: str, index: dict[str, tuple[str, int, int]]) -> None:
+    """Add the records of one pack to ``index`` (the first of a key wins; a damaged tail ends the scan)."""
+    try:
+        with open(path, "rb") as handle:
+            size = os.fstat(handle.fileno()).st_size
+            offset = 0
+            while offset < size:
+                handle.seek(offset)
+                head = handle.readline(128)
+                parts = head.split()
+                if not head.endswith(b"\n") or len(parts) != 3 or parts[0] != _RECORD or not parts[2].isdigit():
+                    return
+                length = int(parts[2])
+                start = offset + len(head)
+                if start + length + 1 > size:
+                    return
+                index.setdefault(parts[1].decode("ascii", "replace"), (path, start, length))
+                offset = start + length + 1
+    except OSError:
+        return

@@ -24,9 +24,27 @@ from typing import Any
 import yaml
 
 try:  # the C composer is several times faster; both give the same nodes
-    from yaml import CSafeLoader as _Loader
+    from yaml import CSafeLoader as _BaseLoader
 except ImportError:  # pragma: no cover - depends on how PyYAML was built
-    from yaml import SafeLoader as _Loader  # type: ignore[assignment]
+    from yaml import SafeLoader as _BaseLoader  # type: ignore[assignment]
+
+# The tag of a plain scalar depends only on its text (the safe loader has no path resolvers), and the
+# same texts come back spec after spec ("400 V", "induction", true): each is resolved once.
+_RESOLVED: dict[tuple[str, Any], str] = {}
+_RESOLVED_MAX = 65536
+
+
+class _Loader(_BaseLoader):  # type: ignore[misc,valid-type]
+    def resolve(self, kind: Any, value: Any, implicit: Any) -> Any:
+        if kind is not yaml.ScalarNode or len(value) > 64:
+            return super().resolve(kind, value, implicit)
+        key = (value, implicit)
+        tag = _RESOLVED.get(key)
+        if tag is None:
+            tag = super().resolve(kind, value, implicit)
+            if len(_RESOLVED) < _RESOLVED_MAX:
+                _RESOLVED[key] = tag
+        return tag
 
 __all__ = ["Document", "LoadError", "Limits", "Position", "load_file", "load_text", "path_text"]
 

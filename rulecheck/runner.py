@@ -185,7 +185,7 @@ def _load_sources(cache: ResultCache) -> None:
     """Load the compiled rule sources kept by earlier runs (signed entries only)."""
     from rulecheck.engine import expr
 
-    entry = cache.get(_sources_key())
+    entry = cache.get_file(_sources_key())
     cache.hits -= entry is not None
     cache.misses -= entry is None
     if entry is not None and isinstance(entry.get("sources"), dict):
@@ -197,7 +197,7 @@ def _save_sources(cache: ResultCache) -> None:
     from rulecheck.engine import expr
 
     if expr.SOURCES_STATE["dirty"]:
-        cache.put(_sources_key(), {"sources": dict(expr.SOURCES)})
+        cache.put_file(_sources_key(), {"sources": dict(expr.SOURCES)})
         expr.SOURCES_STATE["dirty"] = False
 
 
@@ -216,13 +216,13 @@ def _prepare_cached(cfg: Config, extra: list[Path], today: _dt.date, units_syste
 def _prepare_with_lint_cache(cfg: Config, extra: list[Path], today: _dt.date, units_system: str, base_dir: Path,
                              cache: ResultCache, digest: str) -> Prepared:
     key = "lint-" + hashlib.sha256((code_digest() + digest).encode()).hexdigest()
-    entry = cache.get(key)
+    entry = cache.get_file(key)
     cache.hits -= entry is not None
     cache.misses -= entry is None
     if entry is not None and isinstance(entry.get("kinds"), dict):
         return prepare(cfg, extra, today, units_system, base_dir, value_kinds=entry["kinds"])
     prepared = prepare(cfg, extra, today, units_system, base_dir)
-    cache.put(key, {"kinds": prepared.context.value_kinds})
+    cache.put_file(key, {"kinds": prepared.context.value_kinds})
     return prepared
 
 

@@ -205,8 +205,28 @@ def check_structure(doc: Document) -> list[Problem]:
 _MAX_PLAIN_NUMBER = 1e15
 
 
+def _has_odd_number(data: Any) -> bool:
+    """Return whether ``data`` holds a non-finite or absurdly large plain number (a quick scan, no paths)."""
+    stack = [data]
+    while stack:
+        value = stack.pop()
+        kind = type(value)
+        if kind is dict:
+            stack.extend(v for k, v in value.items() if not str(k).startswith("x-"))
+        elif kind is list:
+            stack.extend(value)
+        elif kind is float:
+            if not math.isfinite(value):
+                return True
+        elif kind is int and abs(value) > _MAX_PLAIN_NUMBER:
+            return True
+    return False
+
+
 def _number_problems(doc: Document, data: Any, parts: tuple[Any, ...]) -> list[Problem]:
     """Return a problem for every non-finite or absurdly large plain number (JSON Schema's bounds let NaN pass)."""
+    if not parts and not _has_odd_number(data):
+        return []
     if isinstance(data, dict):
         return [p for k, v in data.items() if not str(k).startswith("x-")
                 for p in _number_problems(doc, v, (*parts, k))]
@@ -314,26 +334,32 @@ def fields(data: Any) -> list[Any]:
     found = _FIELDS.get(key)
     if found is not None and found[0] is data:
         return found[1]
-    items = list(walk_fields(data))
+    items = walk_fields(data)
     if len(_FIELDS) > 8:
         _FIELDS.clear()  # only the spec being checked matters
     _FIELDS[key] = (data, items)
     return items
 
 
-def walk_fields(data: Any, node: dict[str, Any] | None = None, parts: tuple[Any, ...] = (),
-                path: str = "") -> Any:
-    """Yield (path parts, value, resolved subschema, dotted path) for every value of ``data`` the schema describes."""
-    node = _resolve(node if node is not None else spec_schema())
-    yield parts, data, node, path
-    if isinstance(data, dict):
-        props = node.get("properties", {})
-        for key, value in data.items():
-            if key in props:
-                yield from walk_fields(value, props[key], (*parts, key), f"{path}.{key}" if path else str(key))
-    elif isinstance(data, list) and "items" in node:
-        for i, item in enumerate(data):
-            yield from walk_fields(item, node["items"], (*parts, i), f"{path}[{i}]")
+def walk_fields(data: Any) -> list[tuple[tuple[Any, ...], Any, dict[str, Any], str]]:
+    """Return (path parts, value, resolved subschema, dotted path) for every value of ``data`` the schema
+    describes, parents before their children, in the order of the file."""
+    out: list[tuple[tuple[Any, ...], Any, dict[str, Any], str]] = []
+    stack: list[tuple[Any, dict[str, Any], tuple[Any, ...], str]] = [(data, spec_schema(), (), "")]
+    while stack:
+        value, node, parts, path = stack.pop()
+        node = _resolve(node)
+        out.append((parts, value, node, path))
+        if isinstance(value, dict):
+            props = node.get("properties")
+            if props:
+                children = [(v, props[k], (*parts, k), f"{path}.{k}" if path else str(k))
+                            for k, v in value.items() if k in props]
+                stack.extend(reversed(children))
+        elif isinstance(value, list) and "items" in node:
+            items = node["items"]
+            stack.extend(reversed([(v, items, (*parts, i), f"{path}[{i}]") for i, v in enumerate(value)]))
+    return out
 
 
 # Kinds whose values are magnitudes of physical things and so must be above zero.

@@ -173,7 +173,9 @@ def test_corrupt_cache_entries_are_ignored(tmp_path: Path) -> None:
     cache = tmp_path / "c"
     args = ("check", str(spec), "--format", "json", "--cache-dir", str(cache))
     first = json.loads(run_cli(*args, cwd=tmp_path).stdout)
-    for entry in cache.rglob("*.json"):
+    damaged = [*cache.rglob("*.json"), *cache.rglob("*.pack")]
+    assert any(p.suffix == ".pack" for p in damaged)  # spec results live in packs
+    for entry in damaged:
         entry.write_text("{not json", encoding="utf-8")
     second = json.loads(run_cli(*args, cwd=tmp_path).stdout)
     assert second["summary"]["cache"]["misses"] == 1 and second["specs"] == first["specs"]

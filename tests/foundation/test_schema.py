@@ -132,5 +132,7 @@ def test_quantities_are_read_once_into_si() -> None:
 def test_walk_fields_reaches_list_items() -> None:
     doc = load_text("format: 1\ntag: A\nmotor: {kind: dc}\nload:\n  model: points\n  points:\n"
                     "    - {speed: 10 r/min, torque: 5 N*m}\n")
-    kinds = {tuple(p): n.get("x-dimension") for p, _v, n in walk_fields(doc.data)}
+    kinds = {tuple(p): n.get("x-dimension") for p, _v, n, _path in walk_fields(doc.data)}
     assert kinds[("load", "points", 0, "speed")] == "rotational_speed"
+    paths = {path for _p, _v, _n, path in walk_fields(doc.data)}
+    assert "load.points[0].speed" in paths and "motor.kind" in paths
