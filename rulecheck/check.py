@@ -187,9 +187,12 @@ def failed_result(file: str, status: str, rule: str, message: str, hint: str, li
     return _finish(result)
 
 
-def check_file(path: Path, ctx: CheckContext) -> dict[str, Any]:
-    """Return the result dict of one spec file (never raises for a bad spec; bounded by the time limit)."""
-    file = _display_path(path, ctx.base_dir)
+def check_file(path: Path, ctx: CheckContext, display: str | None = None) -> dict[str, Any]:
+    """Return the result dict of one spec file (never raises for a bad spec; bounded by the time limit).
+
+    ``display`` is the path shown in the result, when the caller has it already (relative to ``ctx.base_dir``).
+    """
+    file = display if display is not None else _display_path(path, ctx.base_dir)
     try:
         with _time_limit(ctx.limits.max_seconds):
             return _check_file(path, file, ctx)

@@ -465,8 +465,7 @@ def _load_torque_function(m: Model, data: dict[str, Any]) -> Any:
     if model == "points":
         pts = _points(data)
         if pts:
-            speeds, torques = [s for s, _ in pts], [t for _, t in pts]
-            return lambda n: ld.torque_from_points(speeds, torques, n)
+            return ld.points_interpolator([s for s, _ in pts], [t for _, t in pts])
     return None
 
 

@@ -31,12 +31,12 @@ except ImportError:  # pragma: no cover - depends on how PyYAML was built
 # The tag of a plain scalar depends only on its text (the safe loader has no path resolvers), and the
 # same texts come back spec after spec ("400 V", "induction", true): each is resolved once.
 _RESOLVED: dict[tuple[str, Any], str] = {}
-_RESOLVED_MAX = 65536
+_RESOLVED_MAX = 4096  # the common texts come early; a cap keeps memory flat however many specs
 
 
 class _Loader(_BaseLoader):  # type: ignore[misc,valid-type]
     def resolve(self, kind: Any, value: Any, implicit: Any) -> Any:
-        if kind is not yaml.ScalarNode or len(value) > 64:
+        if kind is not yaml.ScalarNode or len(value) > 32:
             return super().resolve(kind, value, implicit)
         key = (value, implicit)
         tag = _RESOLVED.get(key)

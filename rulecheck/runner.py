@@ -236,11 +236,14 @@ class _Configs:
         self.explicit = explicit
         self.by_file: dict[str | None, Config] = {}
         self.by_folder: dict[Path, str | None] = {}
+        self.resolved: dict[Path, Path] = {}  # a spec's folder as given → resolved
 
     def for_spec(self, spec: Path) -> Config:
         if self.explicit is not None:
             return self.explicit
-        folder = spec.parent.resolve()
+        folder = self.resolved.get(spec.parent)
+        if folder is None:
+            folder = self.resolved[spec.parent] = spec.parent.resolve()
         if folder not in self.by_folder:
             found = discover(folder)
             self.by_folder[folder] = str(found) if found else None
@@ -349,7 +352,7 @@ def _worker_init(explicit: str | None, extra: list[str], today: str, units_syste
                    cache=ResultCache(Path(cache_dir)) if cache_dir else None)
 
 
-def _worker_check(config_file: str | None, spec: str, key: str | None = None) -> CachedEntry:
+def _worker_check(config_file: str | None, spec: str, key: str | None = None, shown: str | None = None) -> CachedEntry:
     """Check one spec; store its result in the cache (under ``key``) and return it encoded with its counts.
 
     The parent only copies the text into a JSON report, or decodes it for the other formats: encoding
@@ -361,16 +364,16 @@ def _worker_check(config_file: str | None, spec: str, key: str | None = None) ->
         prepared[config_file] = prepare(cfg, _WORKER["extra"], _WORKER["today"], _WORKER["units"], _WORKER["base"],
                                         value_kinds=_WORKER["kinds"].get(config_file or ""))
         prepared[config_file].context.charts = _WORKER["charts"]
-    entry = entry_of(check_file(Path(spec), prepared[config_file].context))
+    entry = entry_of(check_file(Path(spec), prepared[config_file].context, shown))
     cache = _WORKER.get("cache")
     if cache is not None and key:
         cache.put(key, entry)
     return entry
 
 
-def _worker_check_many(work: list[tuple[str | None, str, str | None]]) -> list[CachedEntry]:
+def _worker_check_many(work: list[tuple[str | None, str, str | None, str]]) -> list[CachedEntry]:
     """Check a few specs in order (one task); see :func:`_worker_check`."""
-    return [_worker_check(cfg, spec, key) for cfg, spec, key in work]
+    return [_worker_check(cfg, spec, key, shown) for cfg, spec, key, shown in work]
 
 
 def _crash_result(file: str, detail: str) -> dict[str, Any]:
@@ -471,6 +474,15 @@ def run_stream(options: RunOptions, progress: Callable[[int, int], None] | None 
 
     for _k, cfg_file, spec, _shown in todo:
         prepared_for(cfg_file, spec)  # rule or configuration errors stop the run before any spec is reported
+    if len(todo) >= FAST_VALIDATOR_FROM:
+        import gc
+
+        # the rules, schemas and libraries live as long as the run: the collector need not walk them again
+        # (and forked workers keep sharing their memory pages); checking a spec makes few reference cycles, so
+        # collecting after fifty thousand new objects rather than seven hundred holds little memory back
+        gc.collect()
+        gc.freeze()
+        gc.set_threshold(50_000, 50, 50)
     jobs = options.jobs if options.jobs > 0 else (os.cpu_count() or 1)
     jobs = min(jobs, max(1, len(todo) // 8))  # small runs are faster in one process
     if len(todo) >= FAST_VALIDATOR_FROM:
@@ -496,7 +508,7 @@ def run_stream(options: RunOptions, progress: Callable[[int, int], None] | None 
         queued = 0
         finished = False
         try:
-            for k, cfg_file, spec, _shown, key in plan:
+            for k, cfg_file, spec, shown, key in plan:
                 if pool is not None:
                     while queued < len(queue) and queue[queued][0] <= k + pool.window:
                         pool.submit(queue[queued])  # keep a bounded number of specs in flight
@@ -512,7 +524,7 @@ def run_stream(options: RunOptions, progress: Callable[[int, int], None] | None 
                         entry = pool.take(k)  # the worker has stored it in the cache
                         result = entry if options.lazy_cached or not isinstance(entry, CachedEntry) else entry.load()
                     else:
-                        result = check_file(spec, prepared_for(cfg_file, spec).context)
+                        result = check_file(spec, prepared_for(cfg_file, spec).context, shown)
                         if cache is not None and key or options.lazy_cached:
                             # encoded once: the cache entry and a JSON report share the text
                             entry = entry_of(result)
@@ -589,7 +601,7 @@ class _Workers:
         batch, self.batch = self.batch, []
         if not batch:
             return
-        work = [(cfg, str(spec), key) for _k, cfg, spec, _shown, key in batch]
+        work = [(cfg, str(spec), key, shown) for _k, cfg, spec, shown, key in batch]
         try:
             future = self.pool.submit(_worker_check_many, work)
         except BrokenProcessPool:
@@ -640,7 +652,7 @@ def _retry_alone(item: tuple[int, str | None, Path, str, str | None], init_args:
     _k, cfg, spec, shown, key = item
     try:
         with ProcessPoolExecutor(max_workers=1, initializer=_worker_init, initargs=init_args) as pool:
-            return pool.submit(_worker_check, cfg, str(spec), key).result()
+            return pool.submit(_worker_check, cfg, str(spec), key, shown).result()
     except BrokenProcessPool:
         return _crash_result(shown, "the worker process ended unexpectedly")
 
