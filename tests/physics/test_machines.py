@@ -175,10 +175,11 @@ def test_induction_torque_below_magnetising_current_is_zero():
 
 @given(st.floats(min_value=0.0, max_value=3.0), st.floats(min_value=0.1, max_value=0.6))
 def test_property_induction_current_torque_round_trip(torque_pu, i0_share):
-    # identity: T → I → T at constant flux
+    # identity: T → I → T at constant flux. Near no load I ≈ I0 and I² − I0² loses digits: a rounding of
+    # I² (ε·I² ≈ 1e-13 A²) becomes T_N·√(1e-13/(I_N² − I0²)) ≈ 2e-6 N·m, so the round trip holds to 1e-5 N·m
     i = machines.induction_current_at_torque(torque_pu * 100.0, 100.0, 20.0, i0_share * 20.0)
     assert machines.induction_torque_at_current(i, 100.0, 20.0, i0_share * 20.0) == pytest.approx(
-        torque_pu * 100.0, abs=1e-6
+        torque_pu * 100.0, abs=1e-5
     )
 
 
