@@ -394,7 +394,7 @@ def parse_quantity(value: Any, kind_name: str) -> float:
     return _parse_quantity(value, kind_name)
 
 
-@lru_cache(maxsize=65536)
+@lru_cache(maxsize=8192)  # repeated spellings ("400 V") hit; a bound keeps memory flat on large runs
 def _parse_text(value: str, kind_name: str) -> float:
     return _parse_quantity(value, kind_name)
 
