@@ -78,8 +78,8 @@ class Matcher:
             if self.remaining[key] > 0:
                 self.remaining[key] -= 1
                 o["baseline"] = True
-                if getattr(spec, "text", None) is not None:
-                    spec.text = None  # the cached JSON text no longer matches the marked result
+                if getattr(spec, "data", None) is not None:
+                    spec.data = None  # the cached JSON no longer matches the marked result
                 self.matched += 1
             else:
                 self.new += 1

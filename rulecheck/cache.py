@@ -60,8 +60,8 @@ def spec_key(spec_bytes: bytes, spec_path: Path, display: str, context_key: str)
     return h.hexdigest()
 
 
-def encode(result: Any) -> str:
-    """Return a spec result as compact JSON text (UTF-8 characters kept, key order kept).
+def encode(result: Any) -> bytes:
+    """Return a spec result as compact JSON in UTF-8 (characters kept, key order kept).
 
     orjson writes the same JSON as the standard library, about ten times faster; the standard encoder
     takes what orjson refuses (text with a lone surrogate, integers beyond 64 bits). orjson would write a
@@ -69,9 +69,9 @@ def encode(result: Any) -> str:
     and charts leave such points out).
     """
     try:
-        return _orjson.dumps(result).decode("utf-8")
+        return _orjson.dumps(result)
     except (TypeError, _orjson.JSONEncodeError):
-        return json.dumps(result, ensure_ascii=True, separators=(",", ":"), allow_nan=False)
+        return json.dumps(result, ensure_ascii=True, separators=(",", ":"), allow_nan=False).encode("ascii")
 
 
 def decode(text: str | bytes) -> Any:
@@ -80,29 +80,32 @@ def decode(text: str | bytes) -> Any:
 
 
 class CachedResult(dict):  # type: ignore[type-arg]
-    """A result read from the cache, with the JSON text it was read from (None once it is changed)."""
+    """A result with the compact JSON (UTF-8 bytes) it was encoded as or read from (None once it is changed)."""
 
-    def __init__(self, result: dict[str, Any], text: str | None) -> None:
+    def __init__(self, result: dict[str, Any], data: bytes | None) -> None:
         super().__init__(result)
-        self.text = text
+        self.data = data
 
 
 class CachedEntry:
-    """A cached spec result left unparsed: its JSON text and the counts of its outcomes."""
+    """A spec result left unparsed: its compact JSON (UTF-8 bytes) and the counts of its outcomes.
 
-    __slots__ = ("text", "tally")
+    The bytes travel from a worker to the report file as they are: nothing decodes or encodes them again.
+    """
 
-    def __init__(self, text: str, tally: dict[str, Any]) -> None:
-        self.text = text
+    __slots__ = ("data", "tally")
+
+    def __init__(self, data: bytes, tally: dict[str, Any]) -> None:
+        self.data = data
         self.tally = tally
 
     def load(self) -> dict[str, Any]:
         """Return the result itself."""
-        return CachedResult(decode(self.text), self.text)
+        return CachedResult(decode(self.data), self.data)
 
 
 def entry_of(result: dict[str, Any]) -> CachedEntry:
-    """Return a spec result as its compact JSON text and counts."""
+    """Return a spec result as its compact JSON and counts."""
     return CachedEntry(encode(result), tally_of(result))
 
 
@@ -214,6 +217,10 @@ class ResultCache:
         self._index = index
         return index
 
+    def has_any(self) -> bool:
+        """Return whether any spec result is stored."""
+        return bool(self._load_index())
+
     def has(self, key: str) -> bool:
         """Return whether an entry exists for ``key`` (it is verified when read)."""
         return key in self._load_index()
@@ -253,20 +260,19 @@ class ResultCache:
         head, _sep, body = payload.partition(b"\n")
         if not head.startswith(f"{_MAGIC} {key} ".encode()):
             raise ValueError("foreign entry")
-        text = body.decode("utf-8")
-        if lazy:
+        if lazy:  # signed by this user, written by encode(): copied into a JSON report as it is
             tally = json.loads(head.split(b" ", 2)[2])
             self.hits += 1
-            return CachedEntry(text, tally)
-        result = decode(text)
+            return CachedEntry(body, tally)
+        result = decode(body)
         if not isinstance(result, dict):
             raise ValueError("not a result")
         self.hits += 1
-        return CachedResult(result, text)
+        return CachedResult(result, body)
 
     def _entry_bytes(self, key: str, result: Any) -> bytes | None:
         if isinstance(result, CachedEntry):
-            body, tally_data = result.text, result.tally
+            body, tally_data = result.data, result.tally
         else:
             if result.get("status") == "unreadable":
                 return None
@@ -274,7 +280,7 @@ class ResultCache:
         if tally_data.get("status") == "unreadable":
             return None  # a file that could not be read may read next time
         tally = json.dumps(tally_data, separators=(",", ":"))
-        payload = f"{_MAGIC} {key} {tally}\n".encode() + body.encode("utf-8")
+        payload = f"{_MAGIC} {key} {tally}\n".encode() + body
         return self._mac(payload).encode("ascii") + b"\n" + payload
 
     def put(self, key: str, result: Any) -> None:

@@ -306,13 +306,21 @@ class _Sink:
         if fmt == "json":
             from rulecheck.report import jsonout
 
-            self.json = jsonout.StreamWriter(self.handle.write)
+            self.json = jsonout.StreamWriter(self._bytes_writer())
             self.json.begin(header)
         elif fmt == "text":
             from rulecheck.report.text import TextReport
 
             self.text = TextReport(colour=_colour(args) and self.to_stdout, verbose=args.verbose,
                                    show_derived=args.show_derived, units=header["settings"]["units"])
+
+    def _bytes_writer(self) -> Any:
+        """Return a function writing UTF-8 bytes to the handle (its binary buffer when it has one)."""
+        buffer = getattr(self.handle, "buffer", None)
+        if buffer is not None:
+            self.handle.flush()  # nothing written as text may come after bytes written past it
+            return buffer.write
+        return lambda data: self.handle.write(data.decode("utf-8"))
 
     def spec(self, spec: dict[str, Any]) -> None:
         if self.fmt == "json":

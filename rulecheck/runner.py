@@ -68,29 +68,47 @@ def collect_specs(paths: list[str]) -> list[Path]:
     files and links are skipped there (a file named directly is always taken).
     """
     found: list[Path] = []
-    seen: set[Path] = set()
+    seen: set[str] = set()
     for raw in paths:
         path = Path(raw)
         if path.is_dir():
-            candidates = []
-            for folder, dirs, files in os.walk(path):
-                dirs[:] = sorted(d for d in dirs
-                                 if not d.startswith(".") and not os.path.islink(os.path.join(folder, d)))
-                for name in sorted(files):
-                    full = Path(folder) / name
-                    if (name.endswith(SPEC_SUFFIXES) and not name.startswith(".") and name != CONFIG_NAME
-                            and not full.is_symlink()):
-                        candidates.append(full)
+            candidates = _walk(str(path), os.path.realpath(path))
         elif path.exists():
-            candidates = [path]
+            candidates = [(str(path), os.path.realpath(path))]
         else:
             raise UsageError(f"{raw}: no such file or directory")
-        for p in candidates:
-            key = p.resolve()
-            if key not in seen:
-                seen.add(key)
-                found.append(p)
+        for shown, real in candidates:
+            if real not in seen:
+                seen.add(real)
+                found.append(Path(shown))
     return found
+
+
+def _walk(folder: str, real: str) -> list[tuple[str, str]]:
+    """Return (path, resolved path) of the spec files below ``folder``: its own files in name order, then
+    each subfolder's in name order; hidden names and links are skipped (so no path below is a link, and
+    the resolved path is the resolved folder's joined with the same names)."""
+    try:
+        with os.scandir(folder) as found:
+            entries = sorted(found, key=lambda e: e.name)
+    except OSError:
+        return []
+    files: list[tuple[str, str]] = []
+    subfolders: list[tuple[str, str]] = []
+    for entry in entries:
+        name = entry.name
+        try:
+            if name.startswith(".") or entry.is_symlink():
+                continue
+            if entry.is_dir(follow_symlinks=False):
+                subfolders.append((entry.path, os.path.join(real, name)))
+            elif name.endswith(SPEC_SUFFIXES) and name != CONFIG_NAME and entry.is_file(follow_symlinks=False):
+                files.append((entry.path, os.path.join(real, name)))
+        except OSError:
+            continue
+    for sub, sub_real in subfolders:
+        files.extend(_walk(sub, sub_real))
+    return files
 
 
 # --- preparing rules for one configuration ------------------------------------------------------------
@@ -352,8 +370,10 @@ def _worker_init(explicit: str | None, extra: list[str], today: str, units_syste
                    cache=ResultCache(Path(cache_dir)) if cache_dir else None)
 
 
-def _worker_check(config_file: str | None, spec: str, key: str | None = None, shown: str | None = None) -> CachedEntry:
-    """Check one spec; store its result in the cache (under ``key``) and return it encoded with its counts.
+def _worker_check(config_file: str | None, spec: str, key: str | None = None, shown: str | None = None,
+                  context: str | None = None) -> CachedEntry:
+    """Check one spec; store its result in the cache (under ``key``, or the key made from the spec and the
+    run's ``context`` key) and return it encoded with its counts.
 
     The parent only copies the text into a JSON report, or decodes it for the other formats: encoding
     and storing here keeps that work off the parent, which would otherwise share a core with a worker.
@@ -366,14 +386,24 @@ def _worker_check(config_file: str | None, spec: str, key: str | None = None, sh
         prepared[config_file].context.charts = _WORKER["charts"]
     entry = entry_of(check_file(Path(spec), prepared[config_file].context, shown))
     cache = _WORKER.get("cache")
+    if cache is not None and key is None and context is not None and shown is not None:
+        key = _key_now(Path(spec), shown, context)
     if cache is not None and key:
         cache.put(key, entry)
     return entry
 
 
-def _worker_check_many(work: list[tuple[str | None, str, str | None, str]]) -> list[CachedEntry]:
+def _worker_check_many(work: list[tuple[str | None, str, str | None, str, str | None]]) -> list[CachedEntry]:
     """Check a few specs in order (one task); see :func:`_worker_check`."""
-    return [_worker_check(cfg, spec, key, shown) for cfg, spec, key, shown in work]
+    return [_worker_check(cfg, spec, key, shown, context) for cfg, spec, key, shown, context in work]
+
+
+def _key_now(spec: Path, shown: str, context: str) -> str | None:
+    """Return the cache key of a spec from its bytes as they are now (None when it cannot be read)."""
+    try:
+        return spec_key(spec.read_bytes(), spec, shown, context)
+    except OSError:
+        return None
 
 
 def _crash_result(file: str, detail: str) -> dict[str, Any]:
@@ -436,6 +466,9 @@ def run_stream(options: RunOptions, progress: Callable[[int, int], None] | None 
     keys: dict[str | None, str] = {}
     digests: dict[str | None, str] = {}
     plan: list[tuple[int, str | None, Path, str, str | None]] = []
+    # with nothing cached yet (a first run, a cleared cache) every spec is checked: its key is computed where
+    # it is checked (by a worker, in parallel), not here before any checking can start
+    keyed_later = cache is not None and not cache.has_any()
     for k, spec in enumerate(specs):
         cfg = configs.for_spec(spec)
         if cfg.file not in keys:
@@ -445,7 +478,7 @@ def run_stream(options: RunOptions, progress: Callable[[int, int], None] | None 
                  [str(p) for p in extra], options.charts]).encode()).hexdigest()
         shown = _display_path(spec, base_dir)
         key = None
-        if cache is not None:
+        if cache is not None and not keyed_later:
             try:
                 key = spec_key(spec.read_bytes(), spec, shown, keys[cfg.file])
             except OSError:
@@ -504,7 +537,8 @@ def run_stream(options: RunOptions, progress: Callable[[int, int], None] | None 
     missing = {k for k, _cfg, _spec, _shown in todo}
 
     def results() -> Iterator[dict[str, Any]]:
-        queue = [(k, cfg_file, spec, shown, plan[k][4]) for k, cfg_file, spec, shown in todo]
+        queue = [(k, cfg_file, spec, shown, plan[k][4], keys[cfg_file] if keyed_later else None)
+                 for k, cfg_file, spec, shown in todo]
         queued = 0
         finished = False
         try:
@@ -514,10 +548,10 @@ def run_stream(options: RunOptions, progress: Callable[[int, int], None] | None 
                         pool.submit(queue[queued])  # keep a bounded number of specs in flight
                         queued += 1
                 result = None
-                if cache is not None and key:
+                if cache is not None:
                     if k in missing:
                         cache.misses += 1  # known absent when the run was planned
-                    else:
+                    elif key:
                         result = cache.get(key, lazy=options.lazy_cached)
                 if result is None:
                     if pool is not None and pool.has(k):
@@ -525,12 +559,14 @@ def run_stream(options: RunOptions, progress: Callable[[int, int], None] | None 
                         result = entry if options.lazy_cached or not isinstance(entry, CachedEntry) else entry.load()
                     else:
                         result = check_file(spec, prepared_for(cfg_file, spec).context, shown)
+                        if keyed_later:
+                            key = _key_now(spec, shown, keys[cfg_file])
                         if cache is not None and key or options.lazy_cached:
                             # encoded once: the cache entry and a JSON report share the text
                             entry = entry_of(result)
                             if cache is not None and key:
                                 cache.put(key, entry)
-                            result = entry if options.lazy_cached else CachedResult(result, entry.text)
+                            result = entry if options.lazy_cached else CachedResult(result, entry.data)
                 tick()
                 yield result
             finished = True
@@ -571,6 +607,10 @@ class Stream:
             summary["cache"] = {"hits": self.cache.hits, "misses": self.cache.misses}
 
 
+# a spec for a worker: position in the run, configuration file, path, displayed path, cache key, context key
+_Item = tuple[int, str | None, Path, str, str | None, str | None]
+
+
 class _Workers:
     """Worker processes that check specs, a few at a time per task (fewer round trips between processes).
 
@@ -584,14 +624,14 @@ class _Workers:
         self.init_args = init_args
         self.window = window
         self.pool = self._new_pool()
-        self.futures: dict[int, tuple[Any, int, tuple[int, str | None, Path, str, str | None]]] = {}
-        self.orphans: dict[int, tuple[int, str | None, Path, str, str | None]] = {}
-        self.batch: list[tuple[int, str | None, Path, str, str | None]] = []
+        self.futures: dict[int, tuple[Any, int, _Item]] = {}
+        self.orphans: dict[int, _Item] = {}
+        self.batch: list[_Item] = []
 
     def _new_pool(self) -> ProcessPoolExecutor:
         return ProcessPoolExecutor(max_workers=self.jobs, initializer=_worker_init, initargs=self.init_args)
 
-    def submit(self, item: tuple[int, str | None, Path, str, str | None]) -> None:
+    def submit(self, item: _Item) -> None:
         self.batch.append(item)
         if len(self.batch) >= self.CHUNK:
             self.flush()
@@ -601,7 +641,7 @@ class _Workers:
         batch, self.batch = self.batch, []
         if not batch:
             return
-        work = [(cfg, str(spec), key, shown) for _k, cfg, spec, shown, key in batch]
+        work = [(cfg, str(spec), key, shown, context) for _k, cfg, spec, shown, key, context in batch]
         try:
             future = self.pool.submit(_worker_check_many, work)
         except BrokenProcessPool:
@@ -648,11 +688,11 @@ class _Workers:
             raise
 
 
-def _retry_alone(item: tuple[int, str | None, Path, str, str | None], init_args: tuple[Any, ...]) -> Any:
-    _k, cfg, spec, shown, key = item
+def _retry_alone(item: _Item, init_args: tuple[Any, ...]) -> Any:
+    _k, cfg, spec, shown, key, context = item
     try:
         with ProcessPoolExecutor(max_workers=1, initializer=_worker_init, initargs=init_args) as pool:
-            return pool.submit(_worker_check, cfg, str(spec), key, shown).result()
+            return pool.submit(_worker_check, cfg, str(spec), key, shown, context).result()
     except BrokenProcessPool:
         return _crash_result(shown, "the worker process ended unexpectedly")
 

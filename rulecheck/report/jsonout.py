@@ -118,6 +118,8 @@ class StreamWriter:
 
     The header and summary are laid out as :func:`render` lays them out; each spec is one compact
     line of the ``specs`` array. The text reads back with :func:`load` like any other result.
+    ``write`` takes UTF-8 bytes: a spec that arrives encoded (a worker's or the cache's bytes) is
+    copied as it is.
     """
 
     def __init__(self, write: Any) -> None:
@@ -127,30 +129,28 @@ class StreamWriter:
     def begin(self, header: dict[str, Any]) -> None:
         """Write the fields before the specs."""
         head = render({**header, "specs": [], "summary": {}})
-        self.write(head[: head.index('"specs": []') + len('"specs": [')])
+        self.write(head[: head.index('"specs": []') + len('"specs": [')].encode("utf-8"))
 
     def spec(self, spec: dict[str, Any]) -> None:
-        """Write one spec result (a cached result's own JSON text is copied as it is)."""
-        text = getattr(spec, "text", None)
-        if text is not None:
-            self.write(("," if self.count else "") + "\n    " + text)
-            self.count += 1
-            return
-        try:
-            text = json.dumps(spec, ensure_ascii=False, allow_nan=False, separators=(",", ":"))
-            text.encode("utf-8")
-        except UnicodeEncodeError:
-            text = json.dumps(spec, ensure_ascii=True, allow_nan=False, separators=(",", ":"))
-        except ValueError:
-            text = json.dumps(_arrange(spec, "spec", ["specs", self.count]), ensure_ascii=False,
-                              separators=(",", ":"))
-        self.write(("," if self.count else "") + "\n    " + text)
+        """Write one spec result."""
+        data = getattr(spec, "data", None)
+        if data is None:
+            try:
+                data = json.dumps(spec, ensure_ascii=False, allow_nan=False, separators=(",", ":")).encode("utf-8")
+            except UnicodeEncodeError:
+                data = json.dumps(spec, ensure_ascii=True, allow_nan=False, separators=(",", ":")).encode("ascii")
+            except ValueError:
+                data = json.dumps(_arrange(spec, "spec", ["specs", self.count]), ensure_ascii=False,
+                                  separators=(",", ":")).encode("utf-8")
+        self.write(b",\n    " if self.count else b"\n    ")
+        self.write(data)
         self.count += 1
 
     def end(self, summary: dict[str, Any]) -> None:
         """Write the summary and close the document."""
         tail = json.dumps(_arrange(summary, "summary", ["summary"]), indent=2, ensure_ascii=False)
-        self.write(("\n  " if self.count else "") + '],\n  "summary": ' + tail.replace("\n", "\n  ") + "\n}\n")
+        self.write((("\n  " if self.count else "") + '],\n  "summary": ' + tail.replace("\n", "\n  ") + "\n}\n")
+                   .encode("utf-8"))
 
 
 @lru_cache(maxsize=1)

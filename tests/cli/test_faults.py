@@ -34,10 +34,10 @@ _VICTIM: dict[str, str] = {}
 _REAL_WORKER_CHECK = runner._worker_check
 
 
-def _crash_on_victim(config_file, spec, key=None, shown=None):
+def _crash_on_victim(config_file, spec, *rest):
     if spec.endswith(_VICTIM["name"]):
         os._exit(3)  # the worker dies as if killed
-    return _REAL_WORKER_CHECK(config_file, spec, key, shown)
+    return _REAL_WORKER_CHECK(config_file, spec, *rest)
 
 
 def test_a_crashing_worker_becomes_a_finding_and_the_run_completes(tmp_path: Path, monkeypatch) -> None:
