@@ -291,11 +291,11 @@ def _check_document(doc: Document, ctx: CheckContext, base_dir: Path | None) -> 
         result["outcomes"].append(outcome_dict(outcome, rule.metadata(), doc))
     for o in waiver_outcomes:
         result["outcomes"].append(outcome_dict(o, BUILTIN_RULES["waiver-check"], doc))
-    result["derived"] = {
-        p: {**_value_dict(v, k), "from": d.describe(), "method": d.method, "source": d.source}
-        for p, v, k, d in model.derived_items()
-        if isinstance(v, (int, float)) and not isinstance(v, bool)
-    }
+    derived = result["derived"] = {}
+    for p, v, k, d in model.derived_items():
+        if isinstance(v, (int, float)) and not isinstance(v, bool):
+            entry = derived[p] = _value_dict(v, k)
+            entry["from"], entry["method"], entry["source"] = d.describe(), d.method, d.source
     result["charts"] = chart_data(model) if ctx.charts else {}
     return _finish(result)
 

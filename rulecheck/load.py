@@ -17,8 +17,10 @@ Limits (size, depth, nodes) are arguments with sane defaults.
 from __future__ import annotations
 
 import hashlib
+import math
 import os
 from dataclasses import dataclass
+from functools import lru_cache
 from typing import Any
 
 import yaml
@@ -28,23 +30,16 @@ try:  # the C composer is several times faster; both give the same nodes
 except ImportError:  # pragma: no cover - depends on how PyYAML was built
     from yaml import SafeLoader as _BaseLoader  # type: ignore[assignment]
 
-# The tag of a plain scalar depends only on its text (the safe loader has no path resolvers), and the
-# same texts come back spec after spec ("400 V", "induction", true): each is resolved once.
-_RESOLVED: dict[tuple[str, Any], str] = {}
-_RESOLVED_MAX = 4096  # the common texts come early; a cap keeps memory flat however many specs
+# The tag of a node depends only on its kind, text and implicit flags (the safe loader has no path
+# resolvers), and the same texts come back spec after spec ("400 V", "induction", true). The composer
+# calls ``resolve`` for every node: a C-level memo answers a text seen before without a Python frame.
+_RESOLVER = yaml.resolver.Resolver()
+_resolve_tag = lru_cache(maxsize=4096)(_RESOLVER.resolve)  # bounded: memory stays flat however many specs
 
 
 class _Loader(_BaseLoader):  # type: ignore[misc,valid-type]
-    def resolve(self, kind: Any, value: Any, implicit: Any) -> Any:
-        if kind is not yaml.ScalarNode or len(value) > 32:
-            return super().resolve(kind, value, implicit)
-        key = (value, implicit)
-        tag = _RESOLVED.get(key)
-        if tag is None:
-            tag = super().resolve(kind, value, implicit)
-            if len(_RESOLVED) < _RESOLVED_MAX:
-                _RESOLVED[key] = tag
-        return tag
+    resolve = staticmethod(_resolve_tag)
+
 
 __all__ = ["Document", "LoadError", "Limits", "Position", "load_file", "load_text", "path_text"]
 
@@ -94,11 +89,14 @@ class Document:
         self.root = root
         self._maps: tuple[dict[str, Position], dict[str, Position], dict[str, tuple[str, str]]] | None = None
         self._memo: dict[str, Position | None] = {}
+        # whether a plain number is non-finite or beyond 1e15 (set by the loader; None: not known)
+        self.odd_numbers: bool | None = None
 
     def with_data(self, data: Any) -> Document:
         """Return the same document with other data (positions and raw text are shared)."""
         other = Document(self.file, data, self.sha256, self.root)
         other._maps, other._memo = self._maps, self._memo
+        other.odd_numbers = self.odd_numbers  # data taken from this document holds no odd number this one lacks
         return other
 
     def _all(self) -> tuple[dict[str, Position], dict[str, Position], dict[str, tuple[str, str]]]:
@@ -218,6 +216,10 @@ _MAP_TAG = "tag:yaml.org,2002:map"
 _SEQ_TAG = "tag:yaml.org,2002:seq"
 
 
+_CONSTRUCTORS = yaml.constructor.SafeConstructor.yaml_constructors
+ODD_NUMBER = 1e15  # plain numbers beyond this are a slip (or a hostile file), not a design: see schema.py
+
+
 class _Builder:
     def __init__(self, doc: Document, limits: Limits) -> None:
         self.doc = doc
@@ -267,11 +269,14 @@ class _Builder:
         if node.tag == "tag:yaml.org,2002:timestamp":
             return node.value  # dates stay text; the schema checks their form
         try:
-            value = self.constructor.construct_object(node, deep=True)
+            # the safe constructor's own function for the tag (what construct_object would pick)
+            value = _CONSTRUCTORS[node.tag](self.constructor, node)
         except (ValueError, OverflowError, yaml.YAMLError) as exc:
             shown = node.value if len(node.value) <= 40 else node.value[:37] + "..."
             reason = str(exc) if len(str(exc)) <= 120 else type(exc).__name__
             raise LoadError(f"cannot read value {shown!r}: {reason}", *self._lc(node)) from None
+        if (type(value) is float and not math.isfinite(value)) or (type(value) is int and abs(value) > ODD_NUMBER):
+            self.doc.odd_numbers = True
         return value
 
     def _lc(self, node: yaml.Node) -> tuple[int, int]:
@@ -349,6 +354,7 @@ def load_text(text: str | bytes, file: str = "<string>", limits: Limits | None =
         raise LoadError(f"the top level is {kind}, not a mapping of sections", root.start_mark.line + 1,
                         root.start_mark.column + 1, hint="a spec is a mapping: 'format: 1', 'tag: ...', 'motor: ...'")
     doc.root = root
+    doc.odd_numbers = False  # the builder sets it on the first odd number it constructs
     try:
         doc.data = _Builder(doc, limits).build(root, (), 0)
     except RecursionError:

@@ -19,7 +19,7 @@ from typing import Any
 import yaml
 
 from rulecheck import units
-from rulecheck.load import Document, path_text
+from rulecheck.load import ODD_NUMBER, Document, path_text
 
 __all__ = ["Problem", "Quantities", "check_structure", "read_quantities", "spec_schema", "walk_fields"]
 
@@ -202,7 +202,7 @@ def check_structure(doc: Document) -> list[Problem]:
 
 
 # Plain numbers in a spec are counts and ratios; beyond this they are a slip (or a hostile file), not a design.
-_MAX_PLAIN_NUMBER = 1e15
+_MAX_PLAIN_NUMBER = ODD_NUMBER
 
 
 def _has_odd_number(data: Any) -> bool:
@@ -225,8 +225,8 @@ def _has_odd_number(data: Any) -> bool:
 
 def _number_problems(doc: Document, data: Any, parts: tuple[Any, ...]) -> list[Problem]:
     """Return a problem for every non-finite or absurdly large plain number (JSON Schema's bounds let NaN pass)."""
-    if not parts and not _has_odd_number(data):
-        return []
+    if not parts and (doc.odd_numbers is False or (doc.odd_numbers is None and not _has_odd_number(data))):
+        return []  # the loader saw none (or a quick scan finds none): no walk with paths
     if isinstance(data, dict):
         return [p for k, v in data.items() if not str(k).startswith("x-")
                 for p in _number_problems(doc, v, (*parts, k))]

@@ -114,7 +114,8 @@ def dol_acceleration_time(
     if speed_to <= speed_from:
         raise ValueError("the end speed must be above the start speed")
     grid = np.linspace(speed_from, speed_to, steps + 1)
-    net = np.array([float(motor_torque(w)) - float(load_torque(w)) for w in grid])
+    # the curves are evaluated on plain floats (the same values as the grid's): a numpy scalar per call is slower
+    net = np.array([float(motor_torque(w)) - float(load_torque(w)) for w in grid.tolist()])
     if not np.all(net > 0):
         return math.inf
     weights = np.ones(steps + 1)
