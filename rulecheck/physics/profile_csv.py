@@ -134,6 +134,9 @@ def read_profile_csv(path: str | os.PathLike[str], max_bytes: int = MAX_FILE_BYT
         raise ProfileError(name, None, "file is not UTF-8 text") from None
     except OSError as exc:
         raise ProfileError(name, None, f"cannot read file: {exc.strerror or exc}") from None
+    data = _plain_rows(name, text)
+    if data is not None:  # the usual file: no comments or blank lines among the rows, no failures
+        return data
     lines = _content_lines(text)
     if not lines:
         raise ProfileError(name, None, "file has no header", _HEADER_HINT)
@@ -146,14 +149,56 @@ def read_profile_csv(path: str | os.PathLike[str], max_bytes: int = MAX_FILE_BYT
         data = np.loadtxt(io.StringIO("\n".join(line for _, line in rows)), delimiter=",", dtype=float, ndmin=2)
     except ValueError:
         raise _first_bad_row(name, rows, len(columns)) from None
+    return _checked(name, data, rows, columns, scales)
+
+
+_BLANK_LINE = re.compile(r"\n[ \t\f\v]*(?:\n|$)")
+
+
+def _plain_rows(name: str, text: str) -> DutyProfile | None:
+    """Return the profile of a file whose rows follow the header with no comment, blank line or carriage
+    return among them, read in one pass; None for any other file, or any problem (the line-by-line
+    path then reads it and names the line)."""
+    offset = 0
+    while True:  # comments and blank lines before the header
+        end = text.find("\n", offset)
+        if end < 0:
+            return None
+        stripped = text[offset:end].strip()
+        if stripped and not stripped.startswith("#"):
+            break
+        offset = end + 1
+    body = text[end + 1:]
+    if not body.strip() or "#" in body or "\r" in text or _BLANK_LINE.search("\n" + body.rstrip("\n")):
+        return None
+    try:
+        columns, scales = _parse_header(name, 0, text[offset:end])
+        data = np.loadtxt(io.StringIO(body), delimiter=",", dtype=float, ndmin=2)
+        if data.shape[0] < 2 or data.shape[1] != len(columns):
+            return None
+        return _checked(name, data, None, columns, scales)
+    except (ValueError, ProfileError):
+        return None
+
+
+def _checked(name: str, data: np.ndarray, rows: list[tuple[int, str]] | None, columns: list[str],
+             scales: list[float]) -> DutyProfile:
+    """Scale the columns to SI and check them; raise ProfileError naming the line (``rows`` None: the
+    caller reads the file again line by line to name it)."""
     if data.shape[1] != len(columns):
+        if rows is None:
+            raise ValueError("width")
         raise _first_bad_row(name, rows, len(columns))
     data = data * np.asarray(scales)
     bad = np.flatnonzero(~np.all(np.isfinite(data), axis=1))
     if bad.size:
+        if rows is None:
+            raise ValueError("not finite")
         raise ProfileError(name, rows[bad[0]][0], "value is not a finite number (inf, nan or too large)")
     by_name = {column: data[:, k] for k, column in enumerate(columns)}
     steps = np.flatnonzero(np.diff(by_name["time"]) <= 0)
     if steps.size:
+        if rows is None:
+            raise ValueError("time")
         raise ProfileError(name, rows[steps[0] + 1][0], "time does not increase from the previous row")
     return DutyProfile(by_name["time"], by_name["speed"], by_name["torque"], name)

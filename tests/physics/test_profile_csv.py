@@ -99,3 +99,41 @@ def test_large_file_round_trip(tmp_path):
     p = read_profile_csv(path)
     assert p.time.size == n
     assert np.allclose(p.torque, data[:, 2], rtol=1e-8)
+
+
+def test_one_pass_reading_agrees_with_line_by_line_reading(tmp_path, monkeypatch) -> None:
+    """Files read in one pass give what the line-by-line reader gives: the same arrays, or the same error."""
+    import random
+
+    from rulecheck.physics import profile_csv as pc
+
+    rng = random.Random(11)
+    pieces = ["# note", "", "   ", "1.5,10,2", "0.5,10,2", "x,1,2", "3,4", "2.0,5,inf", "0,1,2 # tail"]
+    texts = []
+    for n in range(150):
+        rows = [f"{0.1 * k:.3f},{rng.uniform(0, 1500):.1f},{rng.uniform(-50, 90):.2f}"
+                for k in range(rng.randint(0, 6))]
+        if n % 3:
+            rows.insert(rng.randint(0, len(rows)), rng.choice(pieces))
+        head = ["# measured", ""] if n % 5 == 0 else []
+        newline = "\r\n" if n % 7 == 0 else "\n"
+        texts.append(newline.join([*head, "time [s],speed [r/min],torque [N*m]", *rows]) + ("\n" if n % 2 else ""))
+
+    def read(path):
+        try:
+            p = pc.read_profile_csv(path)
+            return ("ok", p.time.tolist(), p.speed.tolist(), p.torque.tolist())
+        except pc.ProfileError as exc:
+            return ("error", exc.line, exc.message)
+
+    kinds = set()
+    for k, text in enumerate(texts):
+        path = tmp_path / f"p{k}.csv"
+        path.write_text(text, encoding="utf-8", newline="")
+        fast = read(path)
+        with monkeypatch.context() as m:
+            m.setattr(pc, "_plain_rows", lambda name, text: None)
+            slow = read(path)
+        assert fast == slow, text
+        kinds.add(fast[0])
+    assert kinds == {"ok", "error"}  # both paths were compared on good and on bad files
