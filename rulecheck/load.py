@@ -371,4 +371,15 @@ def load_file(path: str | os.PathLike[str], limits: Limits | None = None, displa
             data = handle.read(limits.max_bytes + 1)
     except OSError as exc:
         raise LoadError(f"cannot read the file: {exc.strerror or exc}", rule="unreadable") from None
+    whole = len(data) <= limits.max_bytes  # a file past the limit was read only in part
+    _LAST_READ["path"], _LAST_READ["data"] = (os.fspath(path), data) if whole else (None, None)
     return load_text(data, name, limits)
+
+
+# The bytes of the file read last: the cache key of a spec is made from the very bytes that were checked.
+_LAST_READ: dict[str, Any] = {"path": None, "data": None}
+
+
+def last_read(path: str | os.PathLike[str]) -> bytes | None:
+    """Return the bytes :func:`load_file` read last if they were read from ``path``, else None."""
+    return _LAST_READ["data"] if _LAST_READ["path"] == os.fspath(path) else None

@@ -400,8 +400,11 @@ def _worker_check_many(work: list[tuple[str | None, str, str | None, str, str | 
 
 def _key_now(spec: Path, shown: str, context: str) -> str | None:
     """Return the cache key of a spec from its bytes as they are now (None when it cannot be read)."""
+    from rulecheck.load import last_read
+
     try:
-        return spec_key(spec.read_bytes(), spec, shown, context)
+        data = last_read(spec)
+        return spec_key(data if data is not None else spec.read_bytes(), spec, shown, context)
     except OSError:
         return None
 

@@ -44,14 +44,16 @@ class TranslationError(Exception):
 
 
 def translate(tree: nodes.Node, env: Any, template: bool = False, branches: str | None = None,
-              reserved: frozenset[str] = frozenset()) -> str:
+              reserved: frozenset[str] = frozenset(), sections: frozenset[str] = frozenset()) -> str:
     """Return Python source defining ``_compiled(L, G)`` for a parsed expression (or template).
 
     ``branches`` is None at run time; "first" or "second" evaluates every part of conditionals and
     of ``and``/``or`` and takes the first or the second arm (the lint's two passes). ``reserved``
-    names may not appear in the text.
+    names may not appear in the text. ``sections`` are the names of model sections, always present
+    among the spec's names and never a rule's own: they are read there directly, and their attributes
+    without the general guard (a section is known to be one).
     """
-    writer = _Writer(env, branches, reserved)
+    writer = _Writer(env, branches, reserved, sections)
     if template:
         body = writer.template(tree)
     else:
@@ -60,10 +62,11 @@ def translate(tree: nodes.Node, env: Any, template: bool = False, branches: str 
 
 
 class _Writer:
-    def __init__(self, env: Any, branches: str | None, reserved: frozenset[str]) -> None:
+    def __init__(self, env: Any, branches: str | None, reserved: frozenset[str], sections: frozenset[str]) -> None:
         self.env = env
         self.branches = branches
         self.reserved = reserved
+        self.sections = sections
 
     @staticmethod
     def constant(value: Any) -> str:
@@ -98,6 +101,8 @@ class _Writer:
         if node.name in self.reserved:
             raise TranslationError(f"'{node.name}' is not a model value; it is not allowed in rules")
         key = repr(node.name)
+        if node.name in self.sections:
+            return f"G[{key}]"
         return f"(L[{key}] if {key} in L else G[{key}])"
 
     def visit_Const(self, node: nodes.Const) -> str:
@@ -120,6 +125,8 @@ class _Writer:
     def visit_Getattr(self, node: nodes.Getattr) -> str:
         if node.ctx != "load":
             raise TranslationError("assignment is not allowed in a rule expression")
+        if isinstance(node.node, nodes.Name) and node.node.name in self.sections and not node.attr.startswith("_"):
+            return f"G[{node.node.name!r}].__getattr__({self.constant(node.attr)})"
         return f"_getattr({self.visit(node.node)}, {self.constant(node.attr)})"
 
     def visit_Getitem(self, node: nodes.Getitem) -> str:

@@ -317,7 +317,7 @@ class Compiled:
 
     def __call__(self, **names: Any) -> Any:
         """Evaluate with ``names`` and the sandbox's globals (no model sections unless given)."""
-        return self.fn(names, global_names(self.environment))
+        return self.fn(*_split_names(self.environment, names))
 
 
 class CompiledTemplate(Compiled):
@@ -327,7 +327,7 @@ class CompiledTemplate(Compiled):
 
     def render(self, **names: Any) -> str:
         """Return the text with ``names`` substituted."""
-        return self.fn(names, global_names(self.environment))
+        return self.fn(*_split_names(self.environment, names))
 
 
 def global_names(env: Any) -> Names:
@@ -336,6 +336,17 @@ def global_names(env: Any) -> Names:
     if names is None:
         names = env.rule_names = Names(env.globals)
     return names
+
+
+def _split_names(env: Any, names: dict[str, Any]) -> tuple[dict[str, Any], Names]:
+    """Return (rule names, spec names) for one mapping of names: its sections go with the spec's names,
+    where translated code reads them (a rule cannot name a value like a section)."""
+    sections = {k: v for k, v in names.items() if k in SECTION_NAMES}
+    if not sections:
+        return names, global_names(env)
+    spec = Names(env.globals)
+    spec.update(sections)
+    return {k: v for k, v in names.items() if k not in sections}, spec
 
 
 def _runtime(env: Any) -> dict[str, Any]:
@@ -376,7 +387,7 @@ def _build(env: Any, kind: str, text: str) -> Compiled:
             raise ExpressionError(f"cannot compile: {exc}") from None
         try:
             source = translate(tree, env, template=kind == "template", branches=getattr(env, "rule_branches", None),
-                               reserved=JINJA_NAMES)
+                               reserved=JINJA_NAMES, sections=frozenset(SECTION_NAMES))
         except TranslationError as exc:
             raise ExpressionError(str(exc)) from None
         except RecursionError:
@@ -465,7 +476,7 @@ def evaluate(compiled: Callable[..., Any], namespace: dict[str, Any] | Scope) ->
         if isinstance(namespace, Scope):
             result = compiled.fn(namespace.names, namespace.parent)
         else:
-            result = compiled.fn(namespace, global_names(compiled.environment))
+            result = compiled.fn(*_split_names(compiled.environment, namespace))
         if isinstance(result, Missing):
             result._fail_with_undefined_error()
         return result
