@@ -281,7 +281,8 @@ def _check_document(doc: Document, ctx: CheckContext, base_dir: Path | None) -> 
     namespace = model.namespace()
     rule_outcomes: dict[str, Outcome] = {}
     for rule in ctx.ruleset.rules.values():
-        params = effective_params(rule, ctx.project_params, spec_margins)
+        params = effective_params(rule, ctx.project_params, spec_margins) if spec_margins else \
+            _project_params(ctx, rule)
         outcome = evaluate_rule(rule, model, namespace, params, ctx.value_kinds.get(rule.id, {}), ctx.system,
                                 ctx.severity_overrides)
         rule_outcomes[rule.id] = outcome
@@ -298,6 +299,16 @@ def _check_document(doc: Document, ctx: CheckContext, base_dir: Path | None) -> 
             entry["from"], entry["method"], entry["source"] = d.describe(), d.method, d.source
     result["charts"] = chart_data(model) if ctx.charts else {}
     return _finish(result)
+
+
+def _project_params(ctx: CheckContext, rule: Any) -> dict[str, Any]:
+    """Return a rule's parameters for a spec without margins of its own (the same for every such spec of the
+    run, made once; evaluating a rule does not change them)."""
+    kept = ctx.__dict__.setdefault("_project_param_sets", {})
+    params = kept.get(rule.id)
+    if params is None:
+        params = kept[rule.id] = effective_params(rule, ctx.project_params, {})
+    return params
 
 
 def _margin_parameters(ruleset: RuleSet) -> dict[str, Any]:

@@ -23,6 +23,7 @@ naming the inputs that would allow the check. ``x is defined`` tests it.
 from __future__ import annotations
 
 import math
+import re
 from collections.abc import Callable
 from typing import Any
 
@@ -139,25 +140,34 @@ def sections_from(items: Any) -> dict[str, Section]:
     """Return nested sections for (key path, value) pairs: ``motor.brake.static_torque`` → motor → brake."""
     tree: dict[str, Any] = {}
     for path, value in items:
-        parts = path.split(".")
         node = tree
-        for part in parts[:-1]:
-            child = node.setdefault(part, {})
-            if not isinstance(child, dict):
-                break
+        head, _dot, rest = path.partition(".")
+        while rest:
+            child = node.get(head)
+            if child is None:
+                child = node[head] = {}
+            elif type(child) is not dict:
+                break  # a value already sits where a section would go
             node = child
+            head, _dot, rest = rest.partition(".")
         else:
-            if not isinstance(node.get(parts[-1]), dict):
-                node[parts[-1]] = value
+            if type(node.get(head)) is not dict:
+                node[head] = value
 
     def build(name: str, mapping: dict[str, Any]) -> Section:
-        values = {k: v for k, v in mapping.items() if not isinstance(v, dict)}
-        children = {k: build(f"{name}.{k}" if name else k, v) for k, v in mapping.items() if isinstance(v, dict)}
+        values: dict[str, Any] = {}
+        children: dict[str, Section] = {}
+        for k, v in mapping.items():
+            if type(v) is dict:
+                children[k] = build(f"{name}.{k}" if name else k, v)
+            else:
+                values[k] = v
         return Section(name, values, children)
 
-    sections = {k: build(k, v) for k, v in tree.items() if isinstance(v, dict)}
+    sections = {k: build(k, v) for k, v in tree.items() if type(v) is dict}
     for name in SECTION_NAMES:
-        sections.setdefault(name, Section(name, {}))
+        if name not in sections:
+            sections[name] = Section(name, {})
     return sections
 
 
@@ -308,12 +318,14 @@ class Names(dict):  # type: ignore[type-arg]
 class Compiled:
     """A compiled expression: a plain Python function of the rule's names and the spec's names."""
 
-    __slots__ = ("fn", "environment", "text")
+    __slots__ = ("fn", "environment", "text", "names")
 
-    def __init__(self, fn: Callable[[dict[str, Any], dict[str, Any]], Any], env: Any, text: str) -> None:
+    def __init__(self, fn: Callable[[dict[str, Any], dict[str, Any]], Any], env: Any, text: str,
+                 names: frozenset[str] = frozenset()) -> None:
         self.fn = fn
         self.environment = env
         self.text = text
+        self.names = names  # the names it may read from the rule's own (parameters, computed values)
 
     def __call__(self, **names: Any) -> Any:
         """Evaluate with ``names`` and the sandbox's globals (no model sections unless given)."""
@@ -407,7 +419,11 @@ def _build(env: Any, kind: str, text: str) -> Compiled:
         SOURCES[key] = source
         SOURCES_STATE["dirty"] = True
     cls = CompiledTemplate if kind == "template" else Compiled
-    return cls(namespace["_compiled"], env, text)
+    return cls(namespace["_compiled"], env, text, frozenset(_RULE_NAME_READ.findall(source)))
+
+
+# how translated code reads one of the rule's own names (compiler.visit_Name)
+_RULE_NAME_READ = re.compile(r"\(L\['([A-Za-z_][A-Za-z0-9_]*)'\] if ")
 
 
 def compile_expression(env: _RuleEnvironment, text: str) -> Compiled:

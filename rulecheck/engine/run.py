@@ -205,13 +205,18 @@ def evaluate_rule(rule: Rule, model: Model, namespace: dict[str, Any], params: d
         ns[name] = value
     shown_values = {n: (v, value_kinds.get(n)) for n, v in computed.items()
                     if isinstance(v, (int, float)) and not isinstance(v, bool)}
-    display = dict(ns)
-    for n, (v, k) in shown_values.items():
-        display[n] = Shown(v, k, system)
-    for n, p in rule.params.items():
-        value = params.get(n)
+    # what the rule's messages may show: each of its names they read, a number with its unit
+    display = {}
+    for n in _message_names(rule):
+        if n not in ns:
+            continue
+        value = params.get(n) if n in rule.params else None
         if isinstance(value, (int, float)) and not isinstance(value, bool):
-            display[n] = _param_display(p, value, system)
+            display[n] = _param_display(rule.params[n], value, system)
+        elif n in shown_values:
+            display[n] = Shown(*shown_values[n], system)
+        else:
+            display[n] = ns[n]
     limit = None
     if rule.limit:
         if rule.limit in rule.params and isinstance(params.get(rule.limit), (int, float)):
@@ -238,6 +243,16 @@ def evaluate_rule(rule: Rule, model: Model, namespace: dict[str, Any], params: d
     # every check could be decided: values that no check needed may stay missing
     return Outcome(rule.id, "pass", "info", _render(rule.pass_message, model, system, display), rule.location,
                    values=shown_values, limit=limit)
+
+
+def _message_names(rule: Rule) -> frozenset[str]:
+    """Return the rule's own names its message templates read (found once per rule)."""
+    found = rule.__dict__.get("message_names")
+    if found is None:
+        templates = (rule.message, rule.fix, rule.pass_message, *(c.message for c in rule.checks))
+        found = frozenset().union(*(t.names for t in templates if t is not None))
+        rule.__dict__["message_names"] = found
+    return found
 
 
 def _not_checked_message(rule: Rule, missing: list[str]) -> str:
