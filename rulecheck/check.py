@@ -124,18 +124,17 @@ def outcome_dict(o: Outcome, meta: dict[str, Any], doc: Document | None) -> dict
         "safety": bool(meta.get("safety", False)),
         "message": o.message,
         "fix": o.fix or o.hint,
-        "formula": meta.get("formula", ""),
-        "basis": meta.get("basis", []),
-        "location": {"path": o.path, "line": pos.line if pos else None, "column": pos.column if pos else None},
-        "values": {n: _value_dict(v, k) for n, (v, k) in o.values.items()},
-        "limit": _value_dict(*o.limit) if o.limit else None,
-        "missing": list(o.missing),
-        "waiver": o.waiver,
     }
-    if o.outcome == "pass":
+    if o.outcome != "pass":
         # the basis and formula of a rule that found nothing are in the rule's own description
         # ('rulecheck rules show', the SARIF driver); repeating them per spec only fattens the result
-        del entry["formula"], entry["basis"]
+        entry["formula"] = meta.get("formula", "")
+        entry["basis"] = meta.get("basis", [])
+    entry["location"] = {"path": o.path, "line": pos.line if pos else None, "column": pos.column if pos else None}
+    entry["values"] = {n: _value_dict(v, k) for n, (v, k) in o.values.items()}
+    entry["limit"] = _value_dict(*o.limit) if o.limit else None
+    entry["missing"] = list(o.missing)
+    entry["waiver"] = o.waiver
     return entry
 
 

@@ -449,8 +449,8 @@ def _parse_quantity(value: Any, kind_name: str) -> float:
 
 def ambiguity_notes(value: Any, kind_name: str) -> list[str]:
     """Return advisory notes for a parsable but ambiguous quantity (rulebook R01)."""
-    if not isinstance(value, str):
-        return []
+    if kind_name != "power" or not isinstance(value, str) or "hp" not in value:
+        return []  # the one ambiguity noted is a bare 'hp' power
     unit = value.strip()
     m = _NUMBER.match(unit)
     unit = unit[m.end() :].strip() if m else unit

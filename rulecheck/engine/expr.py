@@ -488,11 +488,16 @@ def render_template(template: CompiledTemplate, parent: dict[str, Any], names: d
 
 def evaluate(compiled: Callable[..., Any], namespace: dict[str, Any] | Scope) -> Any:
     """Evaluate a compiled expression; raise MissingInput, or ExpressionError for anything else."""
+    if isinstance(namespace, Scope):
+        return run(compiled, namespace.names, namespace.parent)
+    return run(compiled, *_split_names(compiled.environment, namespace))
+
+
+def run(compiled: Compiled, names: dict[str, Any], parent: dict[str, Any]) -> Any:
+    """Evaluate a compiled expression with the rule's ``names`` and the spec's ``parent`` names (see
+    :func:`evaluate`)."""
     try:
-        if isinstance(namespace, Scope):
-            result = compiled.fn(namespace.names, namespace.parent)
-        else:
-            result = compiled.fn(*_split_names(compiled.environment, namespace))
+        result = compiled.fn(names, parent)
         if isinstance(result, Missing):
             result._fail_with_undefined_error()
         return result

@@ -13,7 +13,7 @@ from rulecheck.model import Model
 
 __all__ = ["Outcome", "Shown", "evaluate_rule", "kind_of_result"]
 
-@dataclass
+@dataclass(slots=True)
 class Outcome:
     """The result of one rule on one spec."""
 
@@ -174,10 +174,9 @@ def evaluate_rule(rule: Rule, model: Model, namespace: dict[str, Any], params: d
     unsure = "warning" if rule.safety else "info"
     env = (rule.applies_when or (rule.values[0][1] if rule.values else rule.checks[0].when)).environment
     parent = _spec_parent(model, env, namespace)
-    scope = expr.Scope(env, parent, ns)
     if rule.applies_when is not None:
         try:
-            applies = expr.evaluate(rule.applies_when, scope)
+            applies = expr.run(rule.applies_when, ns, parent)
         except expr.MissingInput as exc:
             return Outcome(rule.id, "not-checked", unsure,
                            f"cannot tell whether the rule applies: needs {', '.join(exc.paths)}",
@@ -190,12 +189,12 @@ def evaluate_rule(rule: Rule, model: Model, namespace: dict[str, Any], params: d
     missing: list[str] = []
     for name, compiled, text, _kind in rule.values:
         try:
-            value = expr.evaluate(compiled, scope)
+            value = expr.run(compiled, ns, parent)
         except expr.MissingInput as exc:
             for p in exc.paths:
                 if p not in missing:
                     missing.append(p)
-            ns[name] = expr.Missing(paths=exc.paths)  # ns is the scope's own names
+            ns[name] = expr.Missing(paths=exc.paths)  # ns: the rule's own names, read by what follows
             continue
         except expr.ExpressionError as exc:
             return _rule_error(rule, f"values.{name}", text, exc)
@@ -226,7 +225,7 @@ def evaluate_rule(rule: Rule, model: Model, namespace: dict[str, Any], params: d
             limit = shown_values[rule.limit]
     for i, check in enumerate(rule.checks):
         try:
-            failed = expr.evaluate(check.when, scope)
+            failed = expr.run(check.when, ns, parent)
         except expr.MissingInput as exc:
             for p in exc.paths:
                 if p not in missing:
