@@ -30,6 +30,7 @@ from typing import Any
 from jinja2 import StrictUndefined, TemplateSyntaxError
 from jinja2.exceptions import SecurityError, UndefinedError
 from jinja2.sandbox import ImmutableSandboxedEnvironment
+from jinja2.utils import missing as _JINJA_MISSING
 
 MAX_EXPRESSION_LENGTH = 600
 MAX_EXPONENT = 8.0
@@ -71,9 +72,7 @@ class Missing(StrictUndefined):
 
     def __init__(self, hint: Any = None, obj: Any = None, name: Any = None, exc: Any = UndefinedError,
                  paths: tuple[str, ...] = ()) -> None:
-        from jinja2.utils import missing
-
-        super().__init__(hint, missing if obj is None else obj, name, exc)
+        super().__init__(hint, _JINJA_MISSING if obj is None else obj, name, exc)
         self._paths = paths
 
     def _fail_with_undefined_error(self, *args: Any, **kwargs: Any) -> Any:
