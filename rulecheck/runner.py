@@ -196,7 +196,7 @@ def prepare(cfg: Config, extra_rule_paths: list[Path], today: _dt.date, units_sy
 def _sources_key() -> str:
     import jinja2
 
-    return "sources-" + hashlib.sha256((code_digest() + jinja2.__version__).encode()).hexdigest()
+    return "sources-" + hashlib.sha256((code_digest() + jinja2.__version__ + sys.version).encode()).hexdigest()
 
 
 def _load_sources(cache: ResultCache) -> None:
@@ -208,6 +208,8 @@ def _load_sources(cache: ResultCache) -> None:
     cache.misses -= entry is None
     if entry is not None and isinstance(entry.get("sources"), dict):
         expr.SOURCES.update({k: v for k, v in entry["sources"].items() if isinstance(v, str)})
+        if isinstance(entry.get("codes"), dict):
+            expr.CODES.update({k: v for k, v in entry["codes"].items() if isinstance(v, str) and k in expr.SOURCES})
     expr.SOURCES_STATE["dirty"] = False
 
 
@@ -215,7 +217,7 @@ def _save_sources(cache: ResultCache) -> None:
     from rulecheck.engine import expr
 
     if expr.SOURCES_STATE["dirty"]:
-        cache.put_file(_sources_key(), {"sources": dict(expr.SOURCES)})
+        cache.put_file(_sources_key(), {"sources": dict(expr.SOURCES), "codes": dict(expr.CODES)})
         expr.SOURCES_STATE["dirty"] = False
 
 

@@ -22,8 +22,11 @@ naming the inputs that would allow the check. ``x is defined`` tests it.
 
 from __future__ import annotations
 
+import base64
+import marshal
 import math
 import re
+import types
 from collections.abc import Callable
 from typing import Any
 
@@ -406,12 +409,18 @@ def _build(env: Any, kind: str, text: str) -> Compiled:
         fresh = True
     else:
         fresh = False
+    code = None if fresh else _kept_code(key)
     try:
+        if code is None:
+            code = compile(source, "<rule>", "exec")
+            CODES[key] = base64.b64encode(marshal.dumps(code)).decode("ascii")
+            SOURCES_STATE["dirty"] = True
         namespace = dict(_runtime(env))
-        exec(compile(source, "<rule>", "exec"), namespace)  # noqa: S102 - our own translation, no builtins
+        exec(code, namespace)  # noqa: S102 - our own translation, no builtins
     except (SyntaxError, RecursionError, ValueError, MemoryError) as exc:
         if not fresh:  # a kept source that no longer compiles: translate anew
             SOURCES.pop(key, None)
+            CODES.pop(key, None)
             return _build(env, kind, text)
         raise ExpressionError(f"cannot compile: {type(exc).__name__}") from None
     if fresh:
@@ -447,7 +456,21 @@ def compile_template(env: _RuleEnvironment, text: str) -> CompiledTemplate:
 # (rulecheck.cache), so a later run only hands it to Python's compile().
 
 SOURCES: dict[str, str] = {}
+# Python's compiled form of each kept source (marshal, base64), so a later run need not compile it either; the
+# entry that keeps them is signed like the sources and keyed by the Python version (marshal's format is its own)
+CODES: dict[str, str] = {}
 SOURCES_STATE = {"dirty": False}
+
+
+def _kept_code(key: str) -> Any:
+    packed = CODES.get(key)
+    if packed is None:
+        return None
+    try:
+        code = marshal.loads(base64.b64decode(packed))
+    except (ValueError, EOFError, TypeError):
+        return None
+    return code if isinstance(code, types.CodeType) else None
 
 
 def _source_key(env: Any, kind: str, text: str) -> str:

@@ -169,7 +169,7 @@ def _rule_validator() -> Any:
     from jsonschema import Draft202012Validator
 
     text = resources.files("rulecheck").joinpath("schemas/rule.schema.yaml").read_text(encoding="utf-8")
-    return Draft202012Validator(yaml.safe_load(text))
+    return Draft202012Validator(yaml.load(text, Loader=getattr(yaml, "CSafeLoader", yaml.SafeLoader)))
 
 
 def shipped_rules_dir() -> Path:
