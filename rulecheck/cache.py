@@ -241,11 +241,11 @@ class ResultCache:
     def get(self, key: str, lazy: bool = False) -> Any:
         """Return the cached result for ``key``, or None (a bad entry counts as absent).
 
-        With ``lazy`` the result is not parsed: a :class:`CachedEntry` carries its JSON text and the
-        counts a run summary needs (enough for a JSON report).
+        With ``lazy`` the result is not parsed: a :class:`CachedEntry` carries its JSON and the counts
+        a run summary needs (enough for a JSON report).
 
-        A spec result comes back as a :class:`CachedResult`: a dict that also keeps the JSON text it
-        was read from, so a JSON report can copy it instead of encoding it again.
+        A spec result comes back as a :class:`CachedResult`: a dict that also keeps the JSON it was read
+        from, so a JSON report can copy it instead of encoding it again.
         """
         try:
             return self._open_entry(key, self._read_record(key), lazy)
@@ -274,8 +274,6 @@ class ResultCache:
         if isinstance(result, CachedEntry):
             body, tally_data = result.data, result.tally
         else:
-            if result.get("status") == "unreadable":
-                return None
             body, tally_data = encode(result), tally_of(result)
         if tally_data.get("status") == "unreadable":
             return None  # a file that could not be read may read next time

@@ -9,6 +9,7 @@ import os
 import signal
 import threading
 from dataclasses import dataclass, field
+from functools import cached_property
 from pathlib import Path
 from typing import Any
 
@@ -83,6 +84,13 @@ class CheckContext:
     base_dir: Path | None = None  # paths in results are relative to this
     charts: bool = True  # compute chart data (for the HTML report and the e-mail)
 
+    @cached_property
+    def params_without_margins(self) -> dict[str, dict[str, Any]]:
+        """Every rule's parameters for a spec without margins of its own: the same for each such spec of
+        the run (evaluating a rule does not change them)."""
+        return {rule_id: effective_params(rule, self.project_params, {})
+                for rule_id, rule in self.ruleset.rules.items()}
+
 
 _JSON_UNITS = {name: k.json_unit for name, k in units.KINDS.items()}
 
@@ -110,8 +118,8 @@ def outcome_dict(o: Outcome, meta: dict[str, Any], doc: Document | None) -> dict
         return {"rule": o.rule, "title": meta.get("title", ""), "topic": meta.get("topic", ""), "outcome": o.outcome,
                 "severity": o.severity, "safety": bool(meta.get("safety", False)), "message": o.message,
                 "location": {"path": o.path, "line": None, "column": None}}
-    # a pass or a rule that does not apply points at nothing a reviewer must find: no line is looked up
-    located = doc is not None and o.path and o.outcome not in ("pass", "not-applicable")
+    # a pass points at nothing a reviewer must find: no line is looked up
+    located = doc is not None and o.path and o.outcome != "pass"
     pos = doc.position(o.path) if located else None
     if located and pos is None and o.rule == "spec-schema" and o.path in doc.key_positions:
         pos = doc.key_positions[o.path]
@@ -281,7 +289,7 @@ def _check_document(doc: Document, ctx: CheckContext, base_dir: Path | None) -> 
     rule_outcomes: dict[str, Outcome] = {}
     for rule in ctx.ruleset.rules.values():
         params = effective_params(rule, ctx.project_params, spec_margins) if spec_margins else \
-            _project_params(ctx, rule)
+            ctx.params_without_margins[rule.id]
         outcome = evaluate_rule(rule, model, namespace, params, ctx.value_kinds.get(rule.id, {}), ctx.system,
                                 ctx.severity_overrides)
         rule_outcomes[rule.id] = outcome
@@ -300,32 +308,10 @@ def _check_document(doc: Document, ctx: CheckContext, base_dir: Path | None) -> 
     return _finish(result)
 
 
-def _project_params(ctx: CheckContext, rule: Any) -> dict[str, Any]:
-    """Return a rule's parameters for a spec without margins of its own (the same for every such spec of the
-    run, made once; evaluating a rule does not change them)."""
-    kept = ctx.__dict__.setdefault("_project_param_sets", {})
-    params = kept.get(rule.id)
-    if params is None:
-        params = kept[rule.id] = effective_params(rule, ctx.project_params, {})
-    return params
-
-
-def _margin_parameters(ruleset: RuleSet) -> dict[str, Any]:
-    """Return the first declaration of every rule parameter, by name (kept with the rule set)."""
-    known = ruleset.__dict__.get("margin_parameters")
-    if known is None:
-        known = {}
-        for rule in ruleset.rules.values():
-            for name, param in rule.params.items():
-                known.setdefault(name, param)
-        ruleset.__dict__["margin_parameters"] = known
-    return known
-
-
 def _read_margins(margins: dict[str, Any], ruleset: RuleSet) -> tuple[dict[str, Any], list[Outcome]]:
     if not margins:
         return {}, []
-    known = _margin_parameters(ruleset)
+    known = ruleset.parameters_by_name
     values: dict[str, Any] = {}
     problems: list[Outcome] = []
     for name, raw in margins.items():

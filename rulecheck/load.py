@@ -217,7 +217,17 @@ _SEQ_TAG = "tag:yaml.org,2002:seq"
 
 
 _CONSTRUCTORS = yaml.constructor.SafeConstructor.yaml_constructors
-ODD_NUMBER = 1e15  # plain numbers beyond this are a slip (or a hostile file), not a design: see schema.py
+# Plain numbers in a spec are counts and ratios; beyond this they are a slip (or a hostile file), not a design.
+ODD_NUMBER = 1e15
+
+
+def is_odd_number(value: Any) -> bool:
+    """Return whether a plain number is non-finite or beyond :data:`ODD_NUMBER` (not a flag, not text)."""
+    if isinstance(value, bool):
+        return False
+    if isinstance(value, float):
+        return not math.isfinite(value)
+    return isinstance(value, int) and abs(value) > ODD_NUMBER
 
 
 class _Builder:
@@ -275,7 +285,7 @@ class _Builder:
             shown = node.value if len(node.value) <= 40 else node.value[:37] + "..."
             reason = str(exc) if len(str(exc)) <= 120 else type(exc).__name__
             raise LoadError(f"cannot read value {shown!r}: {reason}", *self._lc(node)) from None
-        if (type(value) is float and not math.isfinite(value)) or (type(value) is int and abs(value) > ODD_NUMBER):
+        if is_odd_number(value):
             self.doc.odd_numbers = True
         return value
 

@@ -386,13 +386,21 @@ def _worker_check(config_file: str | None, spec: str, key: str | None = None, sh
         prepared[config_file] = prepare(cfg, _WORKER["extra"], _WORKER["today"], _WORKER["units"], _WORKER["base"],
                                         value_kinds=_WORKER["kinds"].get(config_file or ""))
         prepared[config_file].context.charts = _WORKER["charts"]
-    entry = entry_of(check_file(Path(spec), prepared[config_file].context, shown))
-    cache = _WORKER.get("cache")
-    if cache is not None and key is None and context is not None and shown is not None:
-        key = _key_now(Path(spec), shown, context)
-    if cache is not None and key:
-        cache.put(key, entry)
-    return entry
+    return _check_and_store(Path(spec), prepared[config_file].context, shown, key, context, _WORKER.get("cache"))[1]
+
+
+def _check_and_store(spec: Path, ctx: CheckContext, shown: str | None, key: str | None, context: str | None,
+                     cache: ResultCache | None) -> tuple[dict[str, Any], CachedEntry]:
+    """Check one spec; return its result and the result encoded once, stored in the cache under ``key`` (or,
+    with a ``context`` key instead, the key made from the bytes just checked)."""
+    result = check_file(spec, ctx, shown)
+    entry = entry_of(result)
+    if cache is not None:
+        if key is None and context is not None and shown is not None:
+            key = _key_now(spec, shown, context)
+        if key:
+            cache.put(key, entry)
+    return result, entry
 
 
 def _worker_check_many(work: list[tuple[str | None, str, str | None, str, str | None]]) -> list[CachedEntry]:
@@ -512,9 +520,12 @@ def run_stream(options: RunOptions, progress: Callable[[int, int], None] | None 
 
     for _k, cfg_file, spec, _shown in todo:
         prepared_for(cfg_file, spec)  # rule or configuration errors stop the run before any spec is reported
-    if len(todo) >= FAST_VALIDATOR_FROM:
+    if len(todo) >= FAST_VALIDATOR_FROM:  # a large run
         import gc
 
+        from rulecheck.schema import use_fast_validator
+
+        use_fast_validator()
         # the rules, schemas and libraries live as long as the run: the collector need not walk them again
         # (and forked workers keep sharing their memory pages); checking a spec makes few reference cycles, so
         # collecting after fifty thousand new objects rather than seven hundred holds little memory back
@@ -523,10 +534,6 @@ def run_stream(options: RunOptions, progress: Callable[[int, int], None] | None 
         gc.set_threshold(50_000, 50, 50)
     jobs = options.jobs if options.jobs > 0 else (os.cpu_count() or 1)
     jobs = min(jobs, max(1, len(todo) // 8))  # small runs are faster in one process
-    if len(todo) >= FAST_VALIDATOR_FROM:
-        from rulecheck.schema import use_fast_validator
-
-        use_fast_validator()
     pool = None
     if jobs > 1:
         _INHERITED.clear()
@@ -562,16 +569,13 @@ def run_stream(options: RunOptions, progress: Callable[[int, int], None] | None 
                     if pool is not None and pool.has(k):
                         entry = pool.take(k)  # the worker has stored it in the cache
                         result = entry if options.lazy_cached or not isinstance(entry, CachedEntry) else entry.load()
+                    elif cache is not None or options.lazy_cached:
+                        # encoded once: the cache entry and a JSON report share the bytes
+                        result, entry = _check_and_store(spec, prepared_for(cfg_file, spec).context, shown, key,
+                                                         keys[cfg_file] if keyed_later else None, cache)
+                        result = entry if options.lazy_cached else CachedResult(result, entry.data)
                     else:
                         result = check_file(spec, prepared_for(cfg_file, spec).context, shown)
-                        if keyed_later:
-                            key = _key_now(spec, shown, keys[cfg_file])
-                        if cache is not None and key or options.lazy_cached:
-                            # encoded once: the cache entry and a JSON report share the text
-                            entry = entry_of(result)
-                            if cache is not None and key:
-                                cache.put(key, entry)
-                            result = entry if options.lazy_cached else CachedResult(result, entry.data)
                 tick()
                 yield result
             finished = True

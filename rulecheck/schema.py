@@ -10,7 +10,6 @@ from __future__ import annotations
 
 import difflib
 import json
-import math
 from dataclasses import dataclass, field, replace
 from functools import lru_cache
 from importlib import resources
@@ -19,7 +18,7 @@ from typing import Any
 import yaml
 
 from rulecheck import units
-from rulecheck.load import ODD_NUMBER, Document, path_text
+from rulecheck.load import ODD_NUMBER, Document, is_odd_number, path_text
 
 __all__ = ["Problem", "Quantities", "check_structure", "read_quantities", "spec_schema", "walk_fields"]
 
@@ -201,45 +200,21 @@ def check_structure(doc: Document) -> list[Problem]:
     return problems
 
 
-# Plain numbers in a spec are counts and ratios; beyond this they are a slip (or a hostile file), not a design.
-_MAX_PLAIN_NUMBER = ODD_NUMBER
-
-
-def _has_odd_number(data: Any) -> bool:
-    """Return whether ``data`` holds a non-finite or absurdly large plain number (a quick scan, no paths)."""
-    stack = [data]
-    while stack:
-        value = stack.pop()
-        kind = type(value)
-        if kind is dict:
-            stack.extend(v for k, v in value.items() if not str(k).startswith("x-"))
-        elif kind is list:
-            stack.extend(value)
-        elif kind is float:
-            if not math.isfinite(value):
-                return True
-        elif kind is int and abs(value) > _MAX_PLAIN_NUMBER:
-            return True
-    return False
-
-
 def _number_problems(doc: Document, data: Any, parts: tuple[Any, ...]) -> list[Problem]:
     """Return a problem for every non-finite or absurdly large plain number (JSON Schema's bounds let NaN pass)."""
-    if not parts and (doc.odd_numbers is False or (doc.odd_numbers is None and not _has_odd_number(data))):
-        return []  # the loader saw none (or a quick scan finds none): no walk with paths
+    if not parts and doc.odd_numbers is False:
+        return []  # the loader saw none: no walk
     if isinstance(data, dict):
         return [p for k, v in data.items() if not str(k).startswith("x-")
                 for p in _number_problems(doc, v, (*parts, k))]
     if isinstance(data, list):
         return [p for i, v in enumerate(data) for p in _number_problems(doc, v, (*parts, i))]
-    if isinstance(data, bool) or not isinstance(data, (int, float)):
-        return []
-    if isinstance(data, float) and math.isfinite(data) or isinstance(data, int) and abs(data) <= _MAX_PLAIN_NUMBER:
+    if not is_odd_number(data):
         return []
     path = path_text(parts)
     written = doc.raw.get(path, (_show(data), ""))[0]
     shown = written if len(written) <= 24 else written[:21] + "..."
-    what = "not a finite number" if isinstance(data, float) else f"larger than {_MAX_PLAIN_NUMBER:g}"
+    what = "not a finite number" if isinstance(data, float) else f"larger than {ODD_NUMBER:g}"
     return [Problem("spec-schema", path, f"{path or 'the top level'}: {shown} is {what}",
                     "give the physical value; leave the key out if it is not known", parts=parts)]
 

@@ -41,7 +41,6 @@ MAX_MAGNITUDE = 1e100
 
 __all__ = [
     "ExpressionError",
-    "Scope",
     "render_template",
     "spec_parent",
     "Missing",
@@ -196,29 +195,14 @@ class _RuleEnvironment(ImmutableSandboxedEnvironment):
         return getattr(obj, "_rule_callable", False) is True
 
     def call_binop(self, context: Any, operator: str, left: Any, right: Any) -> Any:
-        # jinja's own compiled code (filters, the tests' reference) guards these operators as translated code does
         return _runtime(self)[_GUARDED_BINOPS[operator]](left, right)
 
+    # jinja's own code (filters reading attributes, the tests' reference) reads as translated code does
     def getattr(self, obj: Any, attribute: str) -> Any:
-        if isinstance(obj, Section):
-            if attribute.startswith("_"):
-                return self.unsafe_undefined(obj, attribute)
-            return getattr(obj, attribute)
-        if isinstance(obj, Missing):
-            return obj  # a part of a missing thing is missing too
-        return self.unsafe_undefined(obj, attribute)
+        return _runtime(self)["_getattr"](obj, attribute)
 
     def getitem(self, obj: Any, argument: Any) -> Any:
-        if isinstance(obj, Section) and isinstance(argument, str):
-            return self.getattr(obj, argument)
-        if isinstance(obj, (list, tuple)) and isinstance(argument, int):
-            try:
-                return obj[argument]
-            except IndexError:
-                return Missing(paths=(f"[{argument}]",))
-        if isinstance(obj, Missing):
-            return obj
-        return self.undefined(obj=obj, name=str(argument))
+        return _runtime(self)["_getitem"](obj, argument)
 
 
 def _callable(fn: Callable[..., Any]) -> Callable[..., Any]:
@@ -452,12 +436,11 @@ def compile_template(env: _RuleEnvironment, text: str) -> CompiledTemplate:
 
 # --- translated sources, kept between runs ----------------------------------------------------------
 # Parsing an expression with jinja costs a fraction of a millisecond; a rule set has several hundred.
-# The Python source of each translation is kept in the user's cache, signed with the user's key
-# (rulecheck.cache), so a later run only hands it to Python's compile().
+# The Python source of each translation and its compiled form (marshal, base64) are kept in the user's
+# cache, signed with the user's key (rulecheck.cache) and keyed by the Python version (marshal's format
+# is its own), so a later run neither parses nor compiles them.
 
 SOURCES: dict[str, str] = {}
-# Python's compiled form of each kept source (marshal, base64), so a later run need not compile it either; the
-# entry that keeps them is signed like the sources and keyed by the Python version (marshal's format is its own)
 CODES: dict[str, str] = {}
 SOURCES_STATE = {"dirty": False}
 
@@ -480,22 +463,6 @@ def _source_key(env: Any, kind: str, text: str) -> str:
     return hashlib.sha256(f"{tag}\0{kind}\0{text}".encode()).hexdigest()
 
 
-class Scope:
-    """The names of one rule's evaluation on one spec: the rule's own (parameters, computed values)
-    in a dict of their own, the spec's in a ``parent`` mapping prepared once per spec (see
-    :func:`spec_parent`)."""
-
-    __slots__ = ("names", "parent")
-
-    def __init__(self, env: Any, parent: dict[str, Any], names: dict[str, Any] | None = None) -> None:
-        self.names = names if names is not None else {}  # the caller's dict, not a copy: set() adds to it
-        self.parent = parent
-
-    def set(self, name: str, value: Any) -> None:
-        """Add (or replace) a name for the expressions evaluated after this."""
-        self.names[name] = value
-
-
 def spec_parent(env: Any, namespace: dict[str, Any]) -> Names:
     """Return the names every rule sees on one spec: the sandbox's globals, then the model's sections."""
     parent = Names(env.globals)
@@ -508,10 +475,8 @@ def render_template(template: CompiledTemplate, parent: dict[str, Any], names: d
     return template.fn(names, parent)
 
 
-def evaluate(compiled: Callable[..., Any], namespace: dict[str, Any] | Scope) -> Any:
-    """Evaluate a compiled expression; raise MissingInput, or ExpressionError for anything else."""
-    if isinstance(namespace, Scope):
-        return run(compiled, namespace.names, namespace.parent)
+def evaluate(compiled: Compiled, namespace: dict[str, Any]) -> Any:
+    """Evaluate a compiled expression with one mapping of names; raise MissingInput, or ExpressionError."""
     return run(compiled, *_split_names(compiled.environment, namespace))
 
 

@@ -12,7 +12,7 @@ import hashlib
 import re
 from collections.abc import Callable
 from dataclasses import dataclass, field
-from functools import lru_cache
+from functools import cached_property, lru_cache
 from importlib import resources
 from pathlib import Path
 from typing import Any
@@ -126,6 +126,12 @@ class Rule:
         self.raw["__metadata__"] = meta
         return meta
 
+    @cached_property
+    def message_names(self) -> frozenset[str]:
+        """The rule's own names (parameters, computed values) its message templates read."""
+        templates = (self.message, self.fix, self.pass_message, *(c.message for c in self.checks))
+        return frozenset().union(*(t.names for t in templates if t is not None))
+
     def _metadata(self) -> dict[str, Any]:
         return {
             "id": self.id,
@@ -162,6 +168,16 @@ class RuleSet:
     def parameter_names(self) -> set[str]:
         """Return every parameter name any rule declares."""
         return {p for r in self.rules.values() for p in r.params}
+
+    @cached_property
+    def parameters_by_name(self) -> dict[str, Param]:
+        """The first declaration of every rule parameter, by name (made when first asked for: after the
+        configuration has disabled rules)."""
+        known: dict[str, Param] = {}
+        for rule in self.rules.values():
+            for name, param in rule.params.items():
+                known.setdefault(name, param)
+        return known
 
 
 @lru_cache(maxsize=1)

@@ -206,7 +206,7 @@ def evaluate_rule(rule: Rule, model: Model, namespace: dict[str, Any], params: d
                     if isinstance(v, (int, float)) and not isinstance(v, bool)}
     # what the rule's messages may show: each of its names they read, a number with its unit
     display = {}
-    for n in _message_names(rule):
+    for n in rule.message_names:
         if n not in ns:
             continue
         value = params.get(n) if n in rule.params else None
@@ -242,16 +242,6 @@ def evaluate_rule(rule: Rule, model: Model, namespace: dict[str, Any], params: d
     # every check could be decided: values that no check needed may stay missing
     return Outcome(rule.id, "pass", "info", _render(rule.pass_message, model, system, display), rule.location,
                    values=shown_values, limit=limit)
-
-
-def _message_names(rule: Rule) -> frozenset[str]:
-    """Return the rule's own names its message templates read (found once per rule)."""
-    found = rule.__dict__.get("message_names")
-    if found is None:
-        templates = (rule.message, rule.fix, rule.pass_message, *(c.message for c in rule.checks))
-        found = frozenset().union(*(t.names for t in templates if t is not None))
-        rule.__dict__["message_names"] = found
-    return found
 
 
 def _not_checked_message(rule: Rule, missing: list[str]) -> str:

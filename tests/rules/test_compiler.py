@@ -56,9 +56,9 @@ def _family(exc: Exception) -> str:
 
 def _ours(text: str, names: dict[str, Any]) -> tuple[str, Any]:
     compiled = expr.compile_expression(ENV, text)
-    scope = expr.Scope(ENV, expr.spec_parent(ENV, {k: v for k, v in names.items() if isinstance(v, expr.Section)}),
-                       {k: v for k, v in names.items() if not isinstance(v, expr.Section)})
-    return _outcome(lambda: expr.evaluate(compiled, scope))
+    parent = expr.spec_parent(ENV, {k: v for k, v in names.items() if isinstance(v, expr.Section)})
+    own = {k: v for k, v in names.items() if not isinstance(v, expr.Section)}
+    return _outcome(lambda: expr.run(compiled, own, parent))
 
 
 def _jinja(text: str, names: dict[str, Any]) -> tuple[str, Any]:
@@ -121,7 +121,7 @@ def test_templates_agree_with_jinja() -> None:
 def test_generated_code_reaches_no_builtins() -> None:
     compiled = expr.compile_expression(ENV, "margin + 1")
     assert compiled.fn.__globals__["__builtins__"] == {}
-    assert expr.evaluate(compiled, expr.Scope(ENV, expr.spec_parent(ENV, {}), {"margin": 1.0})) == 2.0
+    assert expr.run(compiled, {"margin": 1.0}, expr.spec_parent(ENV, {})) == 2.0
 
 
 def test_lint_passes_evaluate_every_branch() -> None:
