@@ -215,7 +215,8 @@ def lint_rule(rule: Rule) -> tuple[dict[str, str | None], list[RuleError]]:
             problems.append(_error(rule, f"checks[{i}].when", f"must be a comparison (true or false), got "
                                    f"{type(result).__name__}: {check.when_text!r}"))
     for where, template in (("message", rule.message), ("fix", rule.fix), ("pass_message", rule.pass_message),
-                            *((f"checks[{i}].message", c.message) for i, c in enumerate(rule.checks))):
+                            *((f"checks[{i}].{part}", template) for i, c in enumerate(rule.checks)
+                              for part, template in (("message", c.message), ("fix", c.fix)))):
         if template is None:
             continue
         try:

@@ -87,6 +87,7 @@ class Check:
     severity: str
     message: Any | None  # compiled template
     position: Position | None
+    fix: Any | None = None  # compiled template: this failure's own remedy (else the rule's)
 
 
 @dataclass
@@ -129,7 +130,7 @@ class Rule:
     @cached_property
     def message_names(self) -> frozenset[str]:
         """The rule's own names (parameters, computed values) its message templates read."""
-        templates = (self.message, self.fix, self.pass_message, *(c.message for c in self.checks))
+        templates = (self.message, self.fix, self.pass_message, *(t for c in self.checks for t in (c.message, c.fix)))
         return frozenset().union(*(t.names for t in templates if t is not None))
 
     def _metadata(self) -> dict[str, Any]:
@@ -296,10 +297,10 @@ def load_rule_file(path: Path, validate: bool = True) -> Rule:
     for i, spec in enumerate(data["checks"]):
         where = f"checks[{i}]"
         pos = doc.position(where + ".when")
-        message = _template(env, spec["message"], file, where + ".message",
-                            doc.position(where + ".message")) if "message" in spec else None
+        message, fix = (_template(env, spec[part], file, f"{where}.{part}", doc.position(f"{where}.{part}"))
+                        if part in spec else None for part in ("message", "fix"))
         checks.append(Check(_compile(env, spec["when"], file, where + ".when", pos), spec["when"], spec["severity"],
-                            message, pos))
+                            message, pos, fix))
     applies_text = data.get("applies_when", "")
     applies = _compile(env, applies_text, file, "applies_when", doc.position("applies_when")) if applies_text else None
     for name in (data.get("limit"),):

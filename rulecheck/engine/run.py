@@ -237,8 +237,8 @@ def evaluate_rule(rule: Rule, model: Model, namespace: dict[str, Any], params: d
         if failed:
             message = _render(check.message or rule.message, model, system, display)
             return Outcome(rule.id, "fail", _severity(rule, check.severity, severity_overrides), message,
-                           rule.location, fix=_render(rule.fix, model, system, display), values=shown_values,
-                           limit=limit)
+                           rule.location, fix=_render(check.fix or rule.fix, model, system, display),
+                           values=shown_values, limit=limit)
     # every check could be decided: values that no check needed may stay missing
     return Outcome(rule.id, "pass", "info", _render(rule.pass_message, model, system, display), rule.location,
                    values=shown_values, limit=limit)

@@ -100,3 +100,14 @@ def test_every_rule_gives_exactly_one_outcome() -> None:
 
 def test_example_day_is_fixed() -> None:
     assert EXAMPLE_DAY == dt.date(2026, 12, 1)
+
+
+def test_a_check_with_a_remedy_of_its_own_gives_that_fix() -> None:
+    """A failing check names its own fix; the rule's fix (about peak torque here) is not shown for another cause."""
+    from rulecheck.check import check_file
+
+    spec = Path(__file__).resolve().parents[2] / "specs_demo" / "dc-510-crusher-feeder.yaml"
+    result = check_file(spec, shipped_context())
+    o = outcome_of(result, "gearbox-peak-speed-thermal")
+    assert o["outcome"] == "fail" and "splash lubrication" in o["message"]
+    assert "lubrication at 250 r/min" in o["fix"] and "momentary rating" not in o["fix"]

@@ -41,3 +41,14 @@ def test_dimensional_mistakes_are_found_with_their_line(tmp_path: Path, deviatio
     problems = _rule(tmp_path, deviation)
     assert problems, deviation
     assert "probe.yaml:" in problems[0] and problems[0].split("probe.yaml:")[1].split(":")[0].isdigit()
+
+
+def test_a_check_fix_naming_an_unknown_value_is_reported(tmp_path: Path) -> None:
+    text = BASE.replace("id: nameplate-power-torque-speed", "id: probe")
+    start = text.index("  - when:")
+    line_end = text.index("\n", text.index("severity:", start))
+    text = text[:line_end + 1] + '    fix: "check {{ no_such_value }}"\n' + text[line_end + 1:]
+    path = tmp_path / "probe.yaml"
+    path.write_text(text, encoding="utf-8")
+    _kinds, problems = lint_rule(load_rule_file(path))
+    assert any("checks[0].fix" in str(p) and "no_such_value" in str(p) for p in problems), problems
