@@ -29,6 +29,8 @@ import math
 from typing import Any
 
 from jinja2 import nodes
+from jinja2 import tests as jinja_tests
+from jinja2.runtime import Undefined
 from jinja2.exceptions import SecurityError
 
 __all__ = ["TranslationError", "runtime", "translate"]
@@ -37,6 +39,12 @@ _BINARY = {"Add": "+", "Sub": "-", "Div": "/"}  # plain Python operators (jinja'
 _GUARDED = {"Mul": "_mul", "Pow": "_pow", "Mod": "_mod", "FloorDiv": "_floordiv"}
 _COMPARE = {"eq": "==", "ne": "!=", "gt": ">", "gteq": ">=", "lt": "<", "lteq": "<=", "in": "in",
             "notin": "not in"}
+
+
+# jinja's own tests that are one Python expression: written inline (as jinja's functions read), not called
+_INLINE_TESTS = {"defined": (jinja_tests.test_defined, "(not _isinstance({}, _Undefined))"),
+                 "undefined": (jinja_tests.test_undefined, "_isinstance({}, _Undefined)"),
+                 "none": (jinja_tests.test_none, "({} is None)")}
 
 
 class TranslationError(Exception):
@@ -126,8 +134,28 @@ class _Writer:
         if node.ctx != "load":
             raise TranslationError("assignment is not allowed in a rule expression")
         if isinstance(node.node, nodes.Name) and node.node.name in self.sections and not node.attr.startswith("_"):
-            return f"G[{node.node.name!r}].__getattr__({self.constant(node.attr)})"
-        return f"_getattr({self.visit(node.node)}, {self.constant(node.attr)})"
+            text = f"G[{node.node.name!r}].__getattr__({self.constant(node.attr)})"
+        else:
+            text = f"_getattr({self.visit(node.node)}, {self.constant(node.attr)})"
+        path = self.section_path(node)
+        if path is None or self.branches is not None:
+            return text
+        # a model value read by its whole path: one look-up among the spec's names, where the model puts
+        # each value under its dotted path (expr.sections_from); anything else walks the sections
+        key = self.constant(path)
+        return f"(G[{key}] if {key} in G else {text})"
+
+    def section_path(self, node: nodes.Node) -> str | None:
+        """Return ``motor.brake.torque`` for a chain of plain attributes on a section name, else None."""
+        parts: list[str] = []
+        while isinstance(node, nodes.Getattr):
+            if node.attr.startswith("_") or not node.attr.isidentifier():
+                return None
+            parts.append(node.attr)
+            node = node.node
+        if not isinstance(node, nodes.Name) or node.name not in self.sections:
+            return None
+        return ".".join([node.name, *reversed(parts)])
 
     def visit_Getitem(self, node: nodes.Getitem) -> str:
         if node.ctx != "load":
@@ -206,6 +234,9 @@ class _Writer:
     def visit_Test(self, node: nodes.Test) -> str:
         if node.name not in self.env.tests:
             raise TranslationError(f"no test named '{node.name}'")
+        if node.name in _INLINE_TESTS and self.env.tests[node.name] is _INLINE_TESTS[node.name][0] \
+                and not node.args and not node.kwargs:
+            return _INLINE_TESTS[node.name][1].format(self.visit(node.node))
         return f"_test({self.constant(node.name)}, {self.visit(node.node)}, {self._arguments(node)})"
 
 
@@ -298,4 +329,4 @@ def runtime(env: Any, section_type: type, missing_type: type, magnitude: Any, ma
 
     return {"__builtins__": {}, "_getattr": _getattr, "_getitem": _getitem, "_mul": _mul, "_mod": _mod,
             "_floordiv": _floordiv, "_pow": _pow, "_call": _call, "_filter": _filter, "_test": _test,
-            "_no_else": _no_else, "_text": str}
+            "_no_else": _no_else, "_text": str, "_Undefined": Undefined, "_isinstance": isinstance}

@@ -137,9 +137,17 @@ SECTION_NAMES = ("supply", "drive", "motor", "transmission", "load", "environmen
                  "duty", "spec", "site", "train")
 
 
-def sections_from(items: Any) -> dict[str, Section]:
+class SectionMap(dict):  # type: ignore[type-arg]
+    """The model's sections by name; ``paths`` holds each value the sections hold under its dotted path
+    (``motor.brake.static_torque``), so translated code reads a whole path with one look-up."""
+
+    __slots__ = ("paths",)
+
+
+def sections_from(items: Any) -> SectionMap:
     """Return nested sections for (key path, value) pairs: ``motor.brake.static_torque`` → motor → brake."""
     tree: dict[str, Any] = {}
+    paths: dict[str, Any] = {}
     for path, value in items:
         node = tree
         head, _dot, rest = path.partition(".")
@@ -154,6 +162,8 @@ def sections_from(items: Any) -> dict[str, Section]:
         else:
             if type(node.get(head)) is not dict:
                 node[head] = value
+                if node is not tree:  # a value at the top is no section's
+                    paths[path] = value
 
     def build(name: str, mapping: dict[str, Any]) -> Section:
         values: dict[str, Any] = {}
@@ -165,10 +175,11 @@ def sections_from(items: Any) -> dict[str, Section]:
                 values[k] = v
         return Section(name, values, children)
 
-    sections = {k: build(k, v) for k, v in tree.items() if type(v) is dict}
+    sections = SectionMap((k, build(k, v)) for k, v in tree.items() if type(v) is dict)
     for name in SECTION_NAMES:
         if name not in sections:
             sections[name] = Section(name, {})
+    sections.paths = paths
     return sections
 
 
@@ -467,6 +478,9 @@ def spec_parent(env: Any, namespace: dict[str, Any]) -> Names:
     """Return the names every rule sees on one spec: the sandbox's globals, then the model's sections."""
     parent = Names(env.globals)
     parent.update(namespace)
+    paths = getattr(namespace, "paths", None)
+    if paths:
+        parent.update(paths)
     return parent
 
 
