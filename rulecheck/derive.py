@@ -661,8 +661,8 @@ def _duty(m: Model, data: dict[str, Any], base: Path | None) -> None:
         if not segments:
             return
         beta = 1.0 if m.get("motor.cooling") in ("forced", "liquid") else dyn.DEFAULT_STANDSTILL_FACTOR
-        reduction = dyn.reduce_duty_cycle(segments, beta, _capability(m))
         items = dyn.duty_cycle_torques(segments)
+        reduction = dyn.reduce_duty_cycle(items, beta, _capability(m))
         m.lists["duty.segments"] = [
             {"duration": s.segment.duration, "speed_from": s.segment.speed_from, "speed_to": s.segment.speed_to,
              "torque": s.torque, "label": (load["duty"][k] or {}).get("label", "")}

@@ -222,6 +222,11 @@ class DutyReduction:
     utilisation: float | None = None  # speed-aware thermal utilisation U [1], when a capability is given
 
 
+# where a segment's speed-aware utilisation is sampled: 17 points from its start to its end
+_FRACTIONS = np.linspace(0.0, 1.0, 17)
+_FRACTION_STEPS = np.diff(_FRACTIONS).reshape(1, -1)
+
+
 def _segment_torque(number: int, seg: Segment) -> SegmentTorque:
     if not (seg.duration > 0 and math.isfinite(seg.duration)):
         raise ValueError(f"duty segment {number}: duration must be positive")
@@ -296,10 +301,8 @@ def reduce_duty_cycle(
         raise ValueError("a duty cycle needs at least one segment")
     if not 0 < standstill_factor <= 1:
         raise ValueError("the standstill cooling factor must be in (0, 1]")
-    t = np.array([s.segment.duration for s in items])
-    torque = np.array([s.torque for s in items])
-    w0 = np.array([s.segment.speed_from for s in items])
-    w1 = np.array([s.segment.speed_to for s in items])
+    t, torque, w0, w1 = np.array([(s.segment.duration, s.torque, s.segment.speed_from, s.segment.speed_to)
+                                  for s in items], dtype=float).T.copy()
     standstill = (w0 == 0) & (w1 == 0)
     t_eff = np.where(standstill, standstill_factor * t, t)
     effective_time = float(t_eff.sum())
@@ -311,11 +314,11 @@ def reduce_duty_cycle(
     motoring, regenerated = _power_split(p0, p1, t)
     utilisation = None
     if capability is not None:
-        frac = np.linspace(0.0, 1.0, 17)
-        speeds = w0[:, None] + (w1 - w0)[:, None] * frac[None, :]
+        speeds = w0[:, None] + (w1 - w0)[:, None] * _FRACTIONS[None, :]
         cap = np.asarray(capability(speeds), dtype=float)
         ratio_sq = (torque[:, None] / cap) ** 2
-        integral = np.trapezoid(ratio_sq, frac, axis=1) * t
+        # the trapezoidal rule over the fractions, as numpy.trapezoid writes it
+        integral = (_FRACTION_STEPS * (ratio_sq[:, 1:] + ratio_sq[:, :-1]) / 2.0).sum(1) * t
         utilisation = math.sqrt(float(integral.sum()) / effective_time)
     return DutyReduction(
         peak_torque=peak,
