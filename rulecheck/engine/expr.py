@@ -504,20 +504,21 @@ def run(compiled: Compiled, names: dict[str, Any], parent: dict[str, Any]) -> An
         return result
     except MissingInput:
         raise
-    except SecurityError as exc:
-        raise ExpressionError(f"not allowed: {exc}") from None
-    except UndefinedError as exc:
-        raise ExpressionError(f"unknown name: {exc.message}") from None
-    except ZeroDivisionError:
-        raise ExpressionError("division by zero") from None
-    except (OverflowError, ValueError, TypeError, ArithmeticError) as exc:
-        if type(exc).__name__ == "DimensionalityError":  # pint: a torque compared with a speed, and the like
-            raise ExpressionError(f"dimension mismatch: {exc}") from None
-        raise ExpressionError(f"{type(exc).__name__}: {exc}") from None
-    except RecursionError:
-        raise ExpressionError("expression nests too deeply") from None
-    except Exception as exc:  # pint's DimensionalityError and anything a method raises
-        name = type(exc).__name__
-        if name == "DimensionalityError":
-            raise ExpressionError(f"dimension mismatch: {exc}") from None
-        raise ExpressionError(f"{name}: {exc}") from None
+    except Exception as exc:
+        raise expression_error(exc) from None
+
+
+def expression_error(exc: Exception) -> ExpressionError:
+    """Return the rule error that an exception raised while evaluating an expression stands for."""
+    if isinstance(exc, SecurityError):
+        return ExpressionError(f"not allowed: {exc}")
+    if isinstance(exc, UndefinedError):
+        return ExpressionError(f"unknown name: {exc.message}")
+    if isinstance(exc, ZeroDivisionError):
+        return ExpressionError("division by zero")
+    name = type(exc).__name__
+    if name == "DimensionalityError":  # pint: a torque compared with a speed, and the like
+        return ExpressionError(f"dimension mismatch: {exc}")
+    if isinstance(exc, RecursionError):
+        return ExpressionError("expression nests too deeply")
+    return ExpressionError(f"{name}: {exc}")

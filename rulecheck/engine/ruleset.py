@@ -127,12 +127,6 @@ class Rule:
         self.raw["__metadata__"] = meta
         return meta
 
-    @cached_property
-    def message_names(self) -> frozenset[str]:
-        """The rule's own names (parameters, computed values) its message templates read."""
-        templates = (self.message, self.fix, self.pass_message, *(t for c in self.checks for t in (c.message, c.fix)))
-        return frozenset().union(*(t.names for t in templates if t is not None))
-
     def _metadata(self) -> dict[str, Any]:
         return {
             "id": self.id,

@@ -8,6 +8,7 @@ from typing import Any
 
 from rulecheck import units
 from rulecheck.engine import expr
+from rulecheck.engine.expr import Missing, MissingInput
 from rulecheck.engine.ruleset import Rule
 from rulecheck.model import Model
 
@@ -169,53 +170,44 @@ def evaluate_rule(rule: Rule, model: Model, namespace: dict[str, Any], params: d
                   value_kinds: dict[str, str | None], system: str = "si",
                   severity_overrides: dict[str, str] | None = None) -> Outcome:
     """Return the one outcome of ``rule`` on ``model``; rule errors become outcomes, never exceptions."""
-    severity_overrides = severity_overrides or {}
     ns = dict(params)
     unsure = "warning" if rule.safety else "info"
     env = (rule.applies_when or (rule.values[0][1] if rule.values else rule.checks[0].when)).environment
     parent = _spec_parent(model, env, namespace)
     if rule.applies_when is not None:
         try:
-            applies = expr.run(rule.applies_when, ns, parent)
-        except expr.MissingInput as exc:
+            applies = rule.applies_when.fn(ns, parent)
+            if isinstance(applies, Missing):
+                applies._fail_with_undefined_error()
+        except MissingInput as exc:
             return Outcome(rule.id, "not-checked", unsure,
                            f"cannot tell whether the rule applies: needs {', '.join(exc.paths)}",
                            rule.location, missing=list(exc.paths))
-        except expr.ExpressionError as exc:
-            return _rule_error(rule, "applies_when", rule.applies_text, exc)
+        except Exception as exc:
+            return _rule_error(rule, "applies_when", rule.applies_text, expr.expression_error(exc))
         if not applies:
             return Outcome(rule.id, "not-applicable", "info", "", rule.location)
-    computed: dict[str, Any] = {}
+    shown_values: dict[str, tuple[float, str | None]] = {}  # the numbers computed, with their kinds
     missing: list[str] = []
     for name, compiled, text, _kind in rule.values:
         try:
-            value = expr.run(compiled, ns, parent)
-        except expr.MissingInput as exc:
+            value = compiled.fn(ns, parent)
+            if isinstance(value, Missing):
+                value._fail_with_undefined_error()
+        except MissingInput as exc:
             for p in exc.paths:
                 if p not in missing:
                     missing.append(p)
-            ns[name] = expr.Missing(paths=exc.paths)  # ns: the rule's own names, read by what follows
+            ns[name] = Missing(paths=exc.paths)  # ns: the rule's own names, read by what follows
             continue
-        except expr.ExpressionError as exc:
-            return _rule_error(rule, f"values.{name}", text, exc)
-        if isinstance(value, float) and not math.isfinite(value):
-            return _rule_error(rule, f"values.{name}", text, expr.ExpressionError("result is not a finite number"))
-        computed[name] = value
-        ns[name] = value
-    shown_values = {n: (v, value_kinds.get(n)) for n, v in computed.items()
-                    if isinstance(v, (int, float)) and not isinstance(v, bool)}
-    # what the rule's messages may show: each of its names they read, a number with its unit
-    display = {}
-    for n in rule.message_names:
-        if n not in ns:
-            continue
-        value = params.get(n) if n in rule.params else None
+        except Exception as exc:
+            return _rule_error(rule, f"values.{name}", text, expr.expression_error(exc))
         if isinstance(value, (int, float)) and not isinstance(value, bool):
-            display[n] = _param_display(rule.params[n], value, system)
-        elif n in shown_values:
-            display[n] = Shown(*shown_values[n], system)
-        else:
-            display[n] = ns[n]
+            if isinstance(value, float) and not math.isfinite(value):
+                return _rule_error(rule, f"values.{name}", text,
+                                   expr.ExpressionError("result is not a finite number"))
+            shown_values[name] = (value, value_kinds.get(name))
+        ns[name] = value
     limit = None
     if rule.limit:
         if rule.limit in rule.params and isinstance(params.get(rule.limit), (int, float)):
@@ -225,23 +217,47 @@ def evaluate_rule(rule: Rule, model: Model, namespace: dict[str, Any], params: d
             limit = shown_values[rule.limit]
     for i, check in enumerate(rule.checks):
         try:
-            failed = expr.run(check.when, ns, parent)
-        except expr.MissingInput as exc:
+            failed = check.when.fn(ns, parent)
+            if isinstance(failed, Missing):
+                failed._fail_with_undefined_error()
+        except MissingInput as exc:
             for p in exc.paths:
                 if p not in missing:
                     missing.append(p)
             return Outcome(rule.id, "not-checked", unsure, _not_checked_message(rule, missing), rule.location,
                            values=shown_values, missing=missing, limit=limit)
-        except expr.ExpressionError as exc:
-            return _rule_error(rule, f"checks[{i}].when", check.when_text, exc)
+        except Exception as exc:
+            return _rule_error(rule, f"checks[{i}].when", check.when_text, expr.expression_error(exc))
         if failed:
-            message = _render(check.message or rule.message, model, system, display)
-            return Outcome(rule.id, "fail", _severity(rule, check.severity, severity_overrides), message,
-                           rule.location, fix=_render(check.fix or rule.fix, model, system, display),
-                           values=shown_values, limit=limit)
+            message, fix = check.message or rule.message, check.fix or rule.fix
+            display = _display_names(rule, (message, fix), ns, params, shown_values, system)
+            return Outcome(rule.id, "fail", _severity(rule, check.severity, severity_overrides or {}),
+                           _render(message, model, system, display), rule.location,
+                           fix=_render(fix, model, system, display), values=shown_values, limit=limit)
     # every check could be decided: values that no check needed may stay missing
+    display = _display_names(rule, (rule.pass_message,), ns, params, shown_values, system)
     return Outcome(rule.id, "pass", "info", _render(rule.pass_message, model, system, display), rule.location,
                    values=shown_values, limit=limit)
+
+
+def _display_names(rule: Rule, templates: tuple[Any, ...], ns: dict[str, Any], params: dict[str, Any],
+                   shown_values: dict[str, tuple[float, str | None]], system: str) -> dict[str, Any]:
+    """Return the rule's names as the ``templates`` show them: a number with its unit, anything else as it is."""
+    display: dict[str, Any] = {}
+    for template in templates:
+        if template is None:
+            continue
+        for n in template.names:
+            if n in display or n not in ns:
+                continue
+            value = params.get(n) if n in rule.params else None
+            if isinstance(value, (int, float)) and not isinstance(value, bool):
+                display[n] = _param_display(rule.params[n], value, system)
+            elif n in shown_values:
+                display[n] = Shown(*shown_values[n], system)
+            else:
+                display[n] = ns[n]
+    return display
 
 
 def _not_checked_message(rule: Rule, missing: list[str]) -> str:
