@@ -276,7 +276,11 @@ def runtime(env: Any, section_type: type, missing_type: type, magnitude: Any, ma
         if isinstance(left, str | list | tuple | dict) or isinstance(right, str | list | tuple | dict):
             raise SecurityError(f"operator {operator!r} is not allowed on text or lists in a rule expression")
 
+    plain = (float, int)
+
     def _mul(left: Any, right: Any) -> Any:
+        if type(left) in plain and type(right) in plain:  # two numbers: nothing to refuse
+            return left * right
         refuse_sequences("*", left, right)
         return left * right
 

@@ -80,6 +80,20 @@ def acceleration_time(inertia: float, speed_change: float, net_torque: float) ->
     return inertia * speed_change / net_torque
 
 
+def _grid(start: float, stop: float, num: int) -> list[float]:
+    """Return ``num`` (≥ 2) equally spaced floats from ``start`` to ``stop``: numpy.linspace's values, computed as it
+    computes them (k·step + start, the last one ``stop``), without building an array."""
+    start, stop = float(start), float(stop)
+    div, delta = num - 1, stop - start
+    step = delta / div
+    if step == 0:  # a span too small for its step (denormal): numpy divides first, then scales
+        out = [k / div * delta + start for k in range(num)]
+    else:
+        out = [k * step + start for k in range(num)]
+    out[-1] = stop
+    return out
+
+
 def dol_acceleration_time(
     inertia: float,
     motor_torque: Callable[[float], float],
@@ -113,9 +127,8 @@ def dol_acceleration_time(
         steps += 1
     if speed_to <= speed_from:
         raise ValueError("the end speed must be above the start speed")
-    grid = np.linspace(speed_from, speed_to, steps + 1)
-    # the curves are evaluated on plain floats (the same values as the grid's): a numpy scalar per call is slower
-    net = np.array([float(motor_torque(w)) - float(load_torque(w)) for w in grid.tolist()])
+    # the curves are evaluated on plain floats: a numpy scalar per call is slower
+    net = np.array([float(motor_torque(w)) - float(load_torque(w)) for w in _grid(speed_from, speed_to, steps + 1)])
     if not np.all(net > 0):
         return math.inf
     weights = np.ones(steps + 1)

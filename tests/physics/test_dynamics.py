@@ -169,3 +169,11 @@ def test_property_rms_at_least_mean_abs_torque(torque, beta):
     r = dy.reduce_profile(t, speed, torque, standstill_factor=beta)
     assert r.rms_torque >= r.mean_abs_torque * (1 - 1e-12) - 1e-12
     assert r.peak_torque >= r.rms_torque * math.sqrt(r.effective_time / r.cycle_time) * (1 - 1e-12) - 1e-12
+
+
+@settings(max_examples=300, deadline=None)
+@given(start=st.floats(-1e4, 1e4), span=st.floats(0.0, 1e5), num=st.sampled_from([2, 3, 21, 33, 101, 102, 201]))
+def test_run_up_grid_is_numpy_linspace_bit_for_bit(start: float, span: float, num: int) -> None:
+    # the DOL run-up integral samples its curves on this grid; it must be numpy.linspace's, value for value
+    stop = start + span
+    assert dy._grid(start, stop, num) == np.linspace(start, stop, num).tolist()
