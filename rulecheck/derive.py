@@ -730,7 +730,8 @@ def _thin(time: Any, speed: Any, torque: Any, points: int = 600) -> list[list[fl
     else:
         idx = np.unique(np.concatenate([np.linspace(0, n - 1, points // 2).astype(int),
                                         np.array([int(np.argmax(np.abs(torque))), n - 1])]))
-    return [[float(time[k]), float(speed[k]), float(torque[k])] for k in idx]
+    return np.column_stack((np.asarray(time, dtype=float)[idx], np.asarray(speed, dtype=float)[idx],
+                            np.asarray(torque, dtype=float)[idx])).tolist()
 
 
 def _site(m: Model, data: dict[str, Any], base: Path | None) -> None:
