@@ -42,7 +42,20 @@ class Shown:
         self.system = system
 
     def __str__(self) -> str:
-        return units.format_value(self.value, self.kind, self.system)
+        if not self.value:  # 0 and -0.0 are equal keys but read differently
+            return units.format_value(self.value, self.kind, self.system)
+        key = (self.value, self.kind, self.system)
+        text = _SHOWN.get(key)
+        if text is None:
+            if len(_SHOWN) > 4096:
+                _SHOWN.clear()  # a bound keeps memory flat on large runs
+            text = _SHOWN[key] = units.format_value(self.value, self.kind, self.system)
+        return text
+
+
+# Values as messages show them: a spec's messages show the same value (and every spec the same parameter)
+# several times.
+_SHOWN: dict[tuple[float, str | None, str], str] = {}
 
 
 def _show_model_value(system: str) -> Any:
@@ -56,11 +69,14 @@ def _show_model_value(system: str) -> Any:
 
 def _spec_parent(model: Model, env: Any, namespace: dict[str, Any]) -> dict[str, Any]:
     """Return (and keep on the model) the names every rule's expressions see on this spec."""
-    cache = model.functions.setdefault("_parents", {})
-    model.functions["_sections"] = namespace
-    if id(env) not in cache:
-        cache[id(env)] = expr.spec_parent(env, namespace)
-    return cache[id(env)]
+    cache = model.functions.get("_parents")
+    if cache is None:
+        cache = model.functions["_parents"] = {}
+        model.functions["_sections"] = namespace
+    parent = cache.get(id(env))
+    if parent is None:
+        parent = cache[id(env)] = expr.spec_parent(env, namespace)
+    return parent
 
 
 class _ShownSection(expr.Section):
