@@ -213,6 +213,7 @@ _SCALAR_TAGS = {
     "tag:yaml.org,2002:timestamp",
 }
 _MAP_TAG = "tag:yaml.org,2002:map"
+_STR_TAG = "tag:yaml.org,2002:str"
 _SEQ_TAG = "tag:yaml.org,2002:seq"
 
 
@@ -237,7 +238,7 @@ class _Builder:
         self.nodes = 0
         self.constructor = yaml.constructor.SafeConstructor()
 
-    def build(self, node: yaml.Node, parts: tuple[Any, ...], depth: int) -> Any:
+    def build(self, node: yaml.Node, depth: int) -> Any:
         self.nodes += 1
         if self.nodes > self.limits.max_nodes:
             raise LoadError(
@@ -266,12 +267,17 @@ class _Builder:
                         *self._lc(key_node),
                         hint="a key may appear once in a mapping; remove one of them",
                     )
-                result[key] = self.build(value_node, (*parts, key), depth + 1)
+                if value_node.tag == _STR_TAG and type(value_node) is yaml.ScalarNode and depth < self.limits.max_depth \
+                        and self.nodes < self.limits.max_nodes:
+                    self.nodes += 1  # a text value: what build() would return for it, without the call
+                    result[key] = value_node.value
+                else:
+                    result[key] = self.build(value_node, depth + 1)
             return result
         if isinstance(node, yaml.SequenceNode):
             if node.tag != _SEQ_TAG:
                 raise self._tag_error(node)
-            return [self.build(item, (*parts, i), depth + 1) for i, item in enumerate(node.value)]
+            return [self.build(item, depth + 1) for item in node.value]
         if node.tag not in _SCALAR_TAGS:
             raise self._tag_error(node)
         if node.tag == "tag:yaml.org,2002:str":
@@ -366,7 +372,7 @@ def load_text(text: str | bytes, file: str = "<string>", limits: Limits | None =
     doc.root = root
     doc.odd_numbers = False  # the builder sets it on the first odd number it constructs
     try:
-        doc.data = _Builder(doc, limits).build(root, (), 0)
+        doc.data = _Builder(doc, limits).build(root, 0)
     except RecursionError:
         raise LoadError(f"nesting is deeper than {limits.max_depth} levels") from None
     return doc

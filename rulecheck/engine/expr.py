@@ -148,22 +148,34 @@ def sections_from(items: Any) -> SectionMap:
     """Return nested sections for (key path, value) pairs: ``motor.brake.static_torque`` → motor → brake."""
     tree: dict[str, Any] = {}
     paths: dict[str, Any] = {}
-    for path, value in items:
-        node = tree
-        head, _dot, rest = path.partition(".")
-        while rest:
-            child = node.get(head)
-            if child is None:
-                child = node[head] = {}
-            elif type(child) is not dict:
-                break  # a value already sits where a section would go
-            node = child
-            head, _dot, rest = rest.partition(".")
+    # the mapping of each section path, or None where a value already sits where a section would go (a value is
+    # never replaced by a section, nor a section by a value, so what is found once stays true)
+    folders: dict[str, dict[str, Any] | None] = {}
+
+    def folder(prefix: str) -> dict[str, Any] | None:
+        found = folders.get(prefix, False)
+        if found is not False:
+            return found  # type: ignore[return-value]
+        up, dot, name = prefix.rpartition(".")
+        parent = folder(up) if dot else tree
+        if parent is None:
+            node = None
         else:
-            if type(node.get(head)) is not dict:
-                node[head] = value
-                if node is not tree:  # a value at the top is no section's
-                    paths[path] = value
+            node = parent.get(name)
+            if node is None:
+                node = parent[name] = {}
+            elif type(node) is not dict:
+                node = None
+        folders[prefix] = node
+        return node
+
+    for path, value in items:
+        prefix, dot, leaf = path.rpartition(".")
+        node = folder(prefix) if dot else tree
+        if node is not None and type(node.get(leaf)) is not dict:
+            node[leaf] = value
+            if dot:  # a value at the top is no section's
+                paths[path] = value
 
     def build(name: str, mapping: dict[str, Any]) -> Section:
         values: dict[str, Any] = {}
