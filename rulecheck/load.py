@@ -18,6 +18,7 @@ from __future__ import annotations
 
 import hashlib
 import math
+import operator
 import os
 from dataclasses import dataclass
 from functools import lru_cache
@@ -39,6 +40,12 @@ _resolve_tag = lru_cache(maxsize=4096)(_RESOLVER.resolve)  # bounded: memory sta
 
 class _Loader(_BaseLoader):  # type: ignore[misc,valid-type]
     resolve = staticmethod(_resolve_tag)
+    # The composer tells the resolver of every node it enters and leaves, for path resolvers, which the safe
+    # loader has none of (so the base methods return at once): C functions that take the same arguments and
+    # do nothing answer without a Python frame.
+    if not _BaseLoader.yaml_path_resolvers:
+        descend_resolver = staticmethod(operator.is_)
+        ascend_resolver = staticmethod(tuple)
 
 
 __all__ = ["Document", "LoadError", "Limits", "Position", "load_file", "load_text", "path_text"]
