@@ -121,6 +121,8 @@ def tally_of(result: dict[str, Any]) -> dict[str, Any]:
             fails[o["severity"]] += 1
         elif o["outcome"] in other:
             other[o["outcome"]] += 1
+        elif o["outcome"] in ("pass", "not-applicable"):
+            continue  # counts toward no failure at any level
         for level in failing:
             failing[level] = failing[level] or counts_toward_failure(o, level)
     return {"status": result.get("status"), "fail": fails, **other, "failing": failing}
