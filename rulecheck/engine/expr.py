@@ -145,49 +145,48 @@ class SectionMap(dict):  # type: ignore[type-arg]
 
 
 def sections_from(items: Any) -> SectionMap:
-    """Return nested sections for (key path, value) pairs: ``motor.brake.static_torque`` → motor → brake."""
-    tree: dict[str, Any] = {}
-    paths: dict[str, Any] = {}
-    # the mapping of each section path, or None where a value already sits where a section would go (a value is
-    # never replaced by a section, nor a section by a value, so what is found once stays true)
-    folders: dict[str, dict[str, Any] | None] = {}
+    """Return nested sections for (key path, value) pairs: ``motor.brake.static_torque`` → motor → brake.
 
-    def folder(prefix: str) -> dict[str, Any] | None:
+    Where a value already sits where a section would go (or a section where a value would), the first one
+    stays: a value is never replaced by a section, nor a section by a value.
+    """
+    sections = SectionMap()
+    paths: dict[str, Any] = {}
+    top: set[str] = set()  # names given a value at the top, which is no section's
+    folders: dict[str, Section | None] = {}  # the section at each path prefix (None: a value is there)
+
+    def folder(prefix: str) -> Section | None:
         found = folders.get(prefix, False)
         if found is not False:
             return found  # type: ignore[return-value]
         up, dot, name = prefix.rpartition(".")
-        parent = folder(up) if dot else tree
-        if parent is None:
-            node = None
-        else:
-            node = parent.get(name)
-            if node is None:
-                node = parent[name] = {}
-            elif type(node) is not dict:
+        node: Section | None
+        if dot:
+            parent = folder(up)
+            if parent is None:
                 node = None
+            else:
+                children = parent._children
+                node = children.get(name)
+                if node is None and name not in parent._values:
+                    node = children[name] = Section(prefix, {}, {})
+        else:
+            node = sections.get(prefix)
+            if node is None and prefix not in top:
+                node = sections[prefix] = Section(prefix, {}, {})
         folders[prefix] = node
         return node
 
     for path, value in items:
         prefix, dot, leaf = path.rpartition(".")
-        node = folder(prefix) if dot else tree
-        if node is not None and type(node.get(leaf)) is not dict:
-            node[leaf] = value
-            if dot:  # a value at the top is no section's
-                paths[path] = value
-
-    def build(name: str, mapping: dict[str, Any]) -> Section:
-        values: dict[str, Any] = {}
-        children: dict[str, Section] = {}
-        for k, v in mapping.items():
-            if type(v) is dict:
-                children[k] = build(f"{name}.{k}" if name else k, v)
-            else:
-                values[k] = v
-        return Section(name, values, children)
-
-    sections = SectionMap((k, build(k, v)) for k, v in tree.items() if type(v) is dict)
+        if not dot:
+            if leaf not in sections:
+                top.add(leaf)
+            continue
+        node = folder(prefix)
+        if node is not None and leaf not in node._children:
+            node._values[leaf] = value
+            paths[path] = value
     for name in SECTION_NAMES:
         if name not in sections:
             sections[name] = Section(name, {})
