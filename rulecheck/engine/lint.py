@@ -18,6 +18,7 @@ from typing import Any
 
 from rulecheck import units
 from rulecheck.engine import expr
+from rulecheck.engine.dims import Dim, Unsure, dims_of_unit
 from rulecheck.engine.ruleset import Rule, RuleError, RuleSet
 from rulecheck.engine.run import kind_of_result
 
@@ -67,21 +68,24 @@ def catalogue() -> dict[str, tuple[str, Any]]:
     return out
 
 
-def _quantity(kind_name: str) -> Any:
-    ureg = units.registry()
+def _quantity(kind_name: str, fast: bool = False) -> Any:
+    """Return a sample value of a kind: a pint quantity, or (``fast``) a :class:`dims.Dim`."""
     k = units.KINDS[kind_name]
     if kind_name == "fraction":
         return 0.5
+    if fast:
+        return Dim(1.0, dims_of_unit("K" if kind_name == "temperature" else k.si_unit))
+    ureg = units.registry()
     if kind_name == "temperature":
         return ureg.Quantity(1.0, "kelvin")  # differences of temperature compare like kelvin here
     return ureg.Quantity(1.0, k.si_unit.replace("^", "**"))
 
 
-@lru_cache(maxsize=1)
-def _dimension_namespace() -> dict[str, expr.Section]:
+@lru_cache(maxsize=2)
+def _dimension_namespace(fast: bool = False) -> dict[str, expr.Section]:
     def sample(typ: str, info: Any) -> Any:
         if typ == "quantity":
-            return _quantity(info)
+            return _quantity(info, fast)
         if typ == "choice":
             return info[0]
         if typ == "flag":
@@ -100,7 +104,7 @@ class _LintError(Exception):
     pass
 
 
-def _dimensional_method(name: str, info: Any) -> Callable[..., Any]:
+def _dimensional_method(name: str, info: Any, fast: bool = False) -> Callable[..., Any]:
     import inspect
 
     signature = inspect.signature(info.function)
@@ -113,6 +117,9 @@ def _dimensional_method(name: str, info: Any) -> Callable[..., Any]:
         for arg, value in bound.arguments.items():
             kind_name = info.params.get(arg)
             if kind_name is None:
+                continue
+            if fast:  # only what pint would accept passes; anything else is decided by pint
+                _fast_argument(kind_name, value)
                 continue
             expected = _quantity(kind_name)
             got_dims = getattr(value, "dimensionality", None)
@@ -128,17 +135,31 @@ def _dimensional_method(name: str, info: Any) -> Callable[..., Any]:
             if got_dims != expected.dimensionality:
                 raise _LintError(f"{name}(): argument '{arg}' must be a {kind_name.replace('_', ' ')} "
                                  f"({expected.units}), got {value.units}")
-        return _quantity(info.returns)
+        return _quantity(info.returns, fast)
 
     call.__name__ = name
     return call
 
 
-@lru_cache(maxsize=2)
-def _lint_environment(take_first: bool = True) -> Any:
+def _fast_argument(kind_name: str, value: Any) -> None:
+    """Pass an argument the pint check would pass; raise Unsure for any other."""
+    if isinstance(value, str | bool):
+        return  # pint's check lets text and flags through
+    if kind_name == "fraction":
+        if isinstance(value, Dim) and not value.dimensionless:
+            raise Unsure("a fraction with a dimension")
+        if isinstance(value, Dim) or type(value) in (int, float):
+            return
+        raise Unsure("argument")
+    if not isinstance(value, Dim) or value.dims != _quantity(kind_name, True).dims:
+        raise Unsure("argument of another kind")
+
+
+@lru_cache(maxsize=4)
+def _lint_environment(take_first: bool = True, fast: bool = False) -> Any:
     from rulecheck.physics import METHODS
 
-    env = expr.environment({n: _dimensional_method(n, i) for n, i in METHODS.items() if i.expose})
+    env = expr.environment({n: _dimensional_method(n, i, fast) for n, i in METHODS.items() if i.expose})
     # every part of a conditional or of and/or is evaluated, so no branch escapes the dimension check: the
     # test and the first arm in one pass, the second arm in the other (compiler.translate)
     env.rule_branches = "first" if take_first else "second"
@@ -146,8 +167,8 @@ def _lint_environment(take_first: bool = True) -> Any:
     return env
 
 
-def _compile_for_lint(text: str, take_first: bool = True) -> Any:
-    return expr.compile_expression(_lint_environment(take_first), text)
+def _compile_for_lint(text: str, take_first: bool = True, fast: bool = False) -> Any:
+    return expr.compile_expression(_lint_environment(take_first, fast), text)
 
 
 def _error(rule: Rule, where: str, message: str) -> RuleError:
@@ -155,11 +176,12 @@ def _error(rule: Rule, where: str, message: str) -> RuleError:
     return RuleError(rule.file, f"{where}: {message}", pos.line if pos else None, pos.column if pos else None)
 
 
-def _run(rule: Rule, where: str, text: str, ns: dict[str, Any]) -> Any:
+def _run(rule: Rule, where: str, text: str, ns: dict[str, Any], fast: bool = False) -> Any:
     try:
         if " if " in text or " and " in text or " or " in text:
-            expr.evaluate(_compile_for_lint(text, take_first=False), ns)  # the other branches, for their dimensions
-        return expr.evaluate(_compile_for_lint(text), ns)
+            # the other branches, for their dimensions
+            expr.evaluate(_compile_for_lint(text, take_first=False, fast=fast), ns)
+        return expr.evaluate(_compile_for_lint(text, fast=fast), ns)
     except expr.MissingInput as exc:
         names = sorted(catalogue())
         hints = []
@@ -174,32 +196,46 @@ def _run(rule: Rule, where: str, text: str, ns: dict[str, Any]) -> Any:
 
 
 def lint_rule(rule: Rule) -> tuple[dict[str, str | None], list[RuleError]]:
-    """Return (kinds of the rule's named values, problems found) for one compiled rule."""
-    ns: dict[str, Any] = dict(_dimension_namespace())
+    """Return (kinds of the rule's named values, problems found) for one compiled rule.
+
+    A first pass evaluates with :class:`dims.Dim` samples (no pint); a rule it finds anything in, or is
+    unsure of, is checked again with pint quantities, whose findings (and wording) are the ones kept.
+    """
+    try:
+        kinds, problems = _lint_rule(rule, fast=True)
+        if not problems:
+            return kinds, problems
+    except Unsure:
+        pass
+    return _lint_rule(rule, fast=False)
+
+
+def _lint_rule(rule: Rule, fast: bool) -> tuple[dict[str, str | None], list[RuleError]]:
+    ns: dict[str, Any] = dict(_dimension_namespace(fast))
     for name, param in rule.params.items():
         if isinstance(param.default, bool):
             ns[name] = param.default
         elif param.kind in (None, "fraction"):
             ns[name] = param.default
         else:
-            ns[name] = _quantity(param.kind) * 1.0
+            ns[name] = _quantity(param.kind, fast) * 1.0
     problems: list[RuleError] = []
     kinds: dict[str, str | None] = {}
     if rule.applies_text:
         try:
-            _run(rule, "applies_when", rule.applies_text, ns)
+            _run(rule, "applies_when", rule.applies_text, ns, fast)
         except RuleError as exc:
             problems.append(exc)
     for name, _compiled, text, declared in rule.values:
         try:
-            value = _run(rule, f"values.{name}", text, ns)
+            value = _run(rule, f"values.{name}", text, ns, fast)
         except RuleError as exc:
             problems.append(exc)
             ns[name] = expr.Missing(paths=(name,))
             continue
         kind_name = kind_of_result(value, declared, name)
         if declared and hasattr(value, "dimensionality") and declared != "fraction":
-            expected = _quantity(declared)
+            expected = _quantity(declared, fast)
             if value.dimensionality != expected.dimensionality:
                 problems.append(_error(rule, f"values.{name}", f"declared kind {declared} but the expression gives "
                                        f"{value.units}"))
@@ -207,7 +243,7 @@ def lint_rule(rule: Rule) -> tuple[dict[str, str | None], list[RuleError]]:
         ns[name] = value
     for i, check in enumerate(rule.checks):
         try:
-            result = _run(rule, f"checks[{i}].when", check.when_text, ns)
+            result = _run(rule, f"checks[{i}].when", check.when_text, ns, fast)
         except RuleError as exc:
             problems.append(exc)
             continue

@@ -137,21 +137,12 @@ def kind_of_result(value: Any, declared: str | None, name: str) -> str | None:
         return None
     if isinstance(value, (int, float)):
         return "fraction" if name.endswith(("efficiency", "factor", "share", "deviation", "slip")) else None
-    dims = getattr(value, "dimensionality", None)
-    if dims is None:
-        return None
-    if not _DIMENSION_KINDS:
-        ureg = units.registry()
-        for kind_name in reversed(list(units.KINDS)):
-            k = units.KINDS[kind_name]
-            if kind_name in ("temperature",):
-                continue
-            unit = "dimensionless" if k.si_unit == "1" else k.si_unit.replace("^", "**")
-            _DIMENSION_KINDS[str(ureg.Quantity(1.0, unit).dimensionality)] = kind_name
-        _DIMENSION_KINDS[str(ureg.Quantity(1.0, "N*m").dimensionality)] = "torque"
-        _DIMENSION_KINDS[str(ureg.Quantity(1.0, "dimensionless").dimensionality)] = "fraction"
-    text = str(dims)
-    found = _DIMENSION_KINDS.get(text)
+    from rulecheck.engine.dims import Dim
+
+    if isinstance(value, Dim):
+        found = _dims_kinds().get(value.dims)
+    else:
+        found = _pint_kind(value)
     if found in ("frequency", "rotational_speed"):
         return "rotational_speed" if "speed" in name else "frequency"
     if found == "torque" and "energy" in name:
@@ -160,6 +151,38 @@ def kind_of_result(value: Any, declared: str | None, name: str) -> str | None:
                                                   "unbalance", "utilisation", "cdf", "tolerance")):
         return None
     return found
+
+
+def _kind_units() -> list[tuple[str, str]]:
+    """Return (unit, kind) in the order a dimension's kind is decided: later entries win, so the first kind
+    listed for a dimension wins, then torque over energy and a fraction over an angle."""
+    pairs = [(units.KINDS[k].si_unit, k) for k in reversed(list(units.KINDS)) if k != "temperature"]
+    return [*pairs, ("N*m", "torque"), ("1", "fraction")]
+
+
+_DIMS_KINDS: dict[tuple[float, ...], str] = {}
+
+
+def _dims_kinds() -> dict[tuple[float, ...], str]:
+    """Return base-dimension exponents → kind (the lint's pass without pint)."""
+    if not _DIMS_KINDS:
+        from rulecheck.engine.dims import dims_of_unit
+
+        for unit, kind_name in _kind_units():
+            _DIMS_KINDS[dims_of_unit(unit)] = kind_name
+    return _DIMS_KINDS
+
+
+def _pint_kind(value: Any) -> str | None:
+    dims = getattr(value, "dimensionality", None)
+    if dims is None:
+        return None
+    if not _DIMENSION_KINDS:
+        ureg = units.registry()
+        for unit, kind_name in _kind_units():
+            unit = "dimensionless" if unit == "1" else unit.replace("^", "**")
+            _DIMENSION_KINDS[str(ureg.Quantity(1.0, unit).dimensionality)] = kind_name
+    return _DIMENSION_KINDS.get(str(dims))
 
 
 def _severity(rule: Rule, level: str, overrides: dict[str, str]) -> str:
