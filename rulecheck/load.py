@@ -274,8 +274,9 @@ class _Builder:
                         *self._lc(key_node),
                         hint="a key may appear once in a mapping; remove one of them",
                     )
-                if value_node.tag == _STR_TAG and type(value_node) is yaml.ScalarNode and depth < self.limits.max_depth \
-                        and self.nodes < self.limits.max_nodes:
+                limits = self.limits
+                if value_node.tag == _STR_TAG and type(value_node) is yaml.ScalarNode and depth < limits.max_depth \
+                        and self.nodes < limits.max_nodes:
                     self.nodes += 1  # a text value: what build() would return for it, without the call
                     result[key] = value_node.value
                 else:

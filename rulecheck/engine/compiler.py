@@ -30,8 +30,8 @@ from typing import Any
 
 from jinja2 import nodes
 from jinja2 import tests as jinja_tests
-from jinja2.runtime import Undefined
 from jinja2.exceptions import SecurityError
+from jinja2.runtime import Undefined
 
 __all__ = ["TranslationError", "runtime", "translate"]
 

@@ -109,7 +109,8 @@ class Dim:
 
     def __mul__(self, other: Any) -> Dim:
         if isinstance(other, Dim):
-            return Dim(self.magnitude * other.magnitude, tuple(a + b for a, b in zip(self.dims, other.dims)))
+            dims = tuple(a + b for a, b in zip(self.dims, other.dims, strict=True))
+            return Dim(self.magnitude * other.magnitude, dims)
         if _plain(other):
             return Dim(self.magnitude * other, self.dims)
         raise Unsure(f"operand {type(other).__name__}")
@@ -118,7 +119,8 @@ class Dim:
 
     def __truediv__(self, other: Any) -> Dim:
         if isinstance(other, Dim):
-            return Dim(self.magnitude / other.magnitude, tuple(a - b for a, b in zip(self.dims, other.dims)))
+            dims = tuple(a - b for a, b in zip(self.dims, other.dims, strict=True))
+            return Dim(self.magnitude / other.magnitude, dims)
         if _plain(other):
             return Dim(self.magnitude / other, self.dims)
         raise Unsure(f"operand {type(other).__name__}")

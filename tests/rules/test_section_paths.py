@@ -77,7 +77,7 @@ def test_a_value_where_a_section_would_go_blocks_the_section_either_way() -> Non
     assert sections.paths == {"motor.brake": 5.0}
     sections = expr.sections_from([("motor.brake.static_torque", 80.0), ("motor.brake", 5.0)])
     assert sections.paths == {"motor.brake.static_torque": 80.0}
-    assert isinstance(getattr(sections["motor"], "brake"), expr.Section)
+    assert isinstance(sections["motor"].brake, expr.Section)
 
 
 def test_the_translation_reads_a_whole_path_in_one_look_up() -> None:
