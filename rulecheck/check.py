@@ -105,19 +105,51 @@ def _value_dict(value: float, kind_name: str | None) -> dict[str, Any]:
             "kind": kind_name}
 
 
+def _derived_dict(model: Any) -> dict[str, Any]:
+    """Return every derived or defaulted number of the model, by path, with its unit and provenance
+    (:func:`_value_dict`, then where it came from), in path order."""
+    values, kinds = model.values, model.kinds
+    derived: dict[str, Any] = {}
+    for p, d in sorted((p, d) for p, d in model.provenance.items() if d.source != "given"):
+        v = values[p]
+        if not isinstance(v, (int, float)) or isinstance(v, bool):
+            continue
+        k = kinds.get(p)
+        unit = _JSON_UNITS.get(k) if k else None
+        if unit is None:
+            derived[p] = {"value": _round(v), "unit": "1", "from": d.describe(), "method": d.method,
+                          "source": d.source}
+            continue
+        if k == "rotational_speed":
+            v = v * units.RPM_PER_RAD_S
+        derived[p] = {"value": float(f"{v:.6g}") if type(v) is float else _round(v), "unit": unit, "kind": k,
+                      "from": d.describe(), "method": d.method, "source": d.source}
+    return derived
+
+
 def _round(value: float) -> float:
     if isinstance(value, bool) or not isinstance(value, (int, float)):
         return value
     return float(f"{value:.6g}")  # six significant figures, as the values are shown
 
 
+# each rule's title, topic and safety flag, as every outcome of it repeats them (keyed by the metadata's
+# identity, which lives as long as its rule)
+_HEADS: dict[int, tuple[dict[str, Any], str, str, bool]] = {}
+
+
 def outcome_dict(o: Outcome, meta: dict[str, Any], doc: Document | None) -> dict[str, Any]:
     """Return one outcome in the JSON-result form."""
+    head = _HEADS.get(id(meta))
+    if head is None or head[0] is not meta:
+        if len(_HEADS) > 256:
+            _HEADS.clear()
+        head = _HEADS[id(meta)] = (meta, meta.get("title", ""), meta.get("topic", ""), bool(meta.get("safety", False)))
+    _meta, title, topic, safety = head
     if o.outcome == "not-applicable":
         # a rule that does not apply points at nothing: its fields that say what was found are left out
-        return {"rule": o.rule, "title": meta.get("title", ""), "topic": meta.get("topic", ""), "outcome": o.outcome,
-                "severity": o.severity, "safety": bool(meta.get("safety", False)), "message": o.message,
-                "location": {"path": o.path, "line": None, "column": None}}
+        return {"rule": o.rule, "title": title, "topic": topic, "outcome": o.outcome, "severity": o.severity,
+                "safety": safety, "message": o.message, "location": {"path": o.path, "line": None, "column": None}}
     # a pass points at nothing a reviewer must find: no line is looked up
     located = doc is not None and o.path and o.outcome != "pass"
     pos = doc.position(o.path) if located else None
@@ -125,11 +157,11 @@ def outcome_dict(o: Outcome, meta: dict[str, Any], doc: Document | None) -> dict
         pos = doc.key_positions[o.path]
     entry = {
         "rule": o.rule,
-        "title": meta.get("title", ""),
-        "topic": meta.get("topic", ""),
+        "title": title,
+        "topic": topic,
         "outcome": o.outcome,
         "severity": o.severity,
-        "safety": bool(meta.get("safety", False)),
+        "safety": safety,
         "message": o.message,
         "fix": o.fix or o.hint,
     }
@@ -299,11 +331,7 @@ def _check_document(doc: Document, ctx: CheckContext, base_dir: Path | None) -> 
         result["outcomes"].append(outcome_dict(outcome, rule.metadata(), doc))
     for o in waiver_outcomes:
         result["outcomes"].append(outcome_dict(o, BUILTIN_RULES["waiver-check"], doc))
-    derived = result["derived"] = {}
-    for p, v, k, d in model.derived_items():
-        if isinstance(v, (int, float)) and not isinstance(v, bool):
-            entry = derived[p] = _value_dict(v, k)
-            entry["from"], entry["method"], entry["source"] = d.describe(), d.method, d.source
+    result["derived"] = _derived_dict(model)
     result["charts"] = chart_data(model) if ctx.charts else {}
     return _finish(result)
 

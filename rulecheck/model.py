@@ -77,13 +77,6 @@ class Model:
         """Return whether every one of ``paths`` has a value."""
         return all(p in self.values for p in paths)
 
-    def derived_items(self) -> list[tuple[str, Any, str | None, Derivation]]:
-        """Return (path, value, kind, derivation) for every derived or defaulted value, sorted by path."""
-        return sorted(
-            (p, v, self.kinds.get(p), d) for p, d in self.provenance.items() if d.source != "given"
-            for v in [self.values[p]]
-        )
-
     def namespace(self, wrap: Any = None) -> dict[str, Section]:
         """Return the model as nested read-only sections for rule expressions.
 

@@ -58,13 +58,11 @@ class Shown:
 _SHOWN: dict[tuple[float, str | None, str], str] = {}
 
 
-def _show_model_value(system: str) -> Any:
-    def wrap(value: Any, kind_name: str | None) -> Any:
-        if isinstance(value, (int, float)) and not isinstance(value, bool) and kind_name and kind_name != "flag":
-            return Shown(value, kind_name, system)
-        return value
-
-    return wrap
+def _show_model_value(value: Any, kind_name: str | None, system: str) -> Any:
+    """Return a model value as a message shows it: a number of a kind with its unit, anything else as it is."""
+    if isinstance(value, (int, float)) and not isinstance(value, bool) and kind_name and kind_name != "flag":
+        return Shown(value, kind_name, system)
+    return value
 
 
 def _spec_parent(model: Model, env: Any, namespace: dict[str, Any]) -> dict[str, Any]:
@@ -102,7 +100,7 @@ class _ShownSection(expr.Section):
         if isinstance(value, expr.Section):
             return _ShownSection(value, kinds, system)
         name = object.__getattribute__(self, "_name")
-        return _show_model_value(system)(value, kinds.get(f"{name}.{key}" if name else key))
+        return _show_model_value(value, kinds.get(f"{name}.{key}" if name else key), system)
 
     __getitem__ = __getattr__
 
