@@ -384,13 +384,14 @@ def read_quantities(doc: Document) -> tuple[Quantities, list[Problem]]:
         except units.QuantityError as exc:
             problems.append(Problem("units-and-dimensions", path, f"{path}: {exc.message}", exc.hint, parts=parts))
             continue
-        problem = _range_problem(path, parts, si, kind_name, value)
+        problem = None if si > 0 and kind_name != "fraction" else _range_problem(path, parts, si, kind_name, value)
         if problem:
             problems.append(replace(problem, parts=parts))
             continue
         q.values[path] = si
         q.kinds[path] = kind_name
         q.written[path] = str(value)
-        for note in units.ambiguity_notes(value, kind_name):
-            problems.append(Problem("units-and-dimensions", path, f"{path}: {note}", severity="warning"))
+        if kind_name == "power":  # the one kind with an ambiguous unit (a bare 'hp')
+            for note in units.ambiguity_notes(value, kind_name):
+                problems.append(Problem("units-and-dimensions", path, f"{path}: {note}", severity="warning"))
     return q, problems

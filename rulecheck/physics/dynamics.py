@@ -12,6 +12,7 @@ from __future__ import annotations
 import math
 from collections.abc import Callable, Sequence
 from dataclasses import dataclass
+from typing import NamedTuple
 
 import numpy as np
 
@@ -196,9 +197,9 @@ def potential_energy(mass: float, height: float) -> float:
 # --- duty cycles ---------------------------------------------------------------
 
 
-@dataclass(frozen=True)
-class Segment:
-    """One part of a duty cycle at the motor shaft; the speed changes linearly over it."""
+class Segment(NamedTuple):
+    """One part of a duty cycle at the motor shaft; the speed changes linearly over it (a named tuple:
+    a cycle has dozens, made for every spec)."""
 
     duration: float  # [s]
     speed_from: float  # [rad/s]
@@ -207,8 +208,7 @@ class Segment:
     inertia: float = 0.0  # total inertia at the motor shaft [kg*m^2]
 
 
-@dataclass(frozen=True)
-class SegmentTorque:
+class SegmentTorque(NamedTuple):
     """A segment with the motor torque it needs."""
 
     segment: Segment
