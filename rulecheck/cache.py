@@ -191,7 +191,7 @@ class ResultCache:
         self._pack_pid = 0
 
     def _mac(self, payload: bytes) -> str:
-        return hmac.new(self._key, payload, hashlib.sha256).hexdigest()
+        return hmac.digest(self._key, payload, "sha256").hex()
 
     # --- spec results, in packs ----------------------------------------------------------------------
 

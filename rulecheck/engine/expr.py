@@ -379,6 +379,21 @@ def _runtime(env: Any) -> dict[str, Any]:
 
 
 def _parse(env: Any, text: str, template: bool) -> Any:
+    """Return jinja's tree of an expression (or template); the same text parses once per run, though the run
+    and the lint's two passes each translate it (the translator only reads the tree)."""
+    key = (template, text)
+    tree = _TREES.get(key)
+    if tree is None:
+        if len(_TREES) > 8192:
+            _TREES.clear()
+        tree = _TREES[key] = _parse_anew(env, text, template)
+    return tree
+
+
+_TREES: dict[tuple[bool, str], Any] = {}
+
+
+def _parse_anew(env: Any, text: str, template: bool) -> Any:
     from jinja2.parser import Parser
 
     if template:
