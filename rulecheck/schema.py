@@ -320,20 +320,25 @@ def walk_fields(data: Any) -> list[tuple[tuple[Any, ...], Any, dict[str, Any], s
     """Return (path parts, value, resolved subschema, dotted path) for every value of ``data`` the schema
     describes, parents before their children, in the order of the file."""
     out: list[tuple[tuple[Any, ...], Any, dict[str, Any], str]] = []
-    stack: list[tuple[Any, dict[str, Any], tuple[Any, ...], str]] = [(data, spec_schema(), (), "")]
-    while stack:
-        value, node, parts, path = stack.pop()
-        node = _resolve(node)
-        out.append((parts, value, node, path))
+    append = out.append
+
+    def walk(value: Any, node: dict[str, Any], parts: tuple[Any, ...], path: str) -> None:
+        if "$ref" in node:
+            node = _resolve(node)
+        append((parts, value, node, path))
         if isinstance(value, dict):
             props = node.get("properties")
             if props:
-                children = [(v, props[k], (*parts, k), f"{path}.{k}" if path else str(k))
-                            for k, v in value.items() if k in props]
-                stack.extend(reversed(children))
+                for k, v in value.items():
+                    sub = props.get(k) if type(k) is str else None
+                    if sub is not None:
+                        walk(v, sub, (*parts, k), f"{path}.{k}" if path else k)
         elif isinstance(value, list) and "items" in node:
             items = node["items"]
-            stack.extend(reversed([(v, items, (*parts, i), f"{path}[{i}]") for i, v in enumerate(value)]))
+            for i, v in enumerate(value):
+                walk(v, items, (*parts, i), f"{path}[{i}]")
+
+    walk(data, spec_schema(), (), "")
     return out
 
 
