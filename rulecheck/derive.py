@@ -365,12 +365,17 @@ def _load(m: Model, data: dict[str, Any], base: Path | None) -> None:
         _d(m, "load.torque_running", float(torque_fn(nmax)), f"load model {model}", inputs,
            f"{model} load model at speed_max")
         nmin = m.get("load.speed_min", 0.0)
-        speeds = np.linspace(nmin, nmax, 33)
-        torques = np.array([float(torque_fn(s)) for s in speeds])
-        k = int(np.argmax(np.abs(torques)))
-        _d(m, "load.torque_max", float(torques[k]), f"load model {model}", inputs,
+        # 33 speeds as numpy.linspace gives them, as plain floats (numpy's overhead exceeds the work here)
+        speeds = dyn.linear_grid(nmin, nmax, 33)
+        torques = [float(torque_fn(s)) for s in speeds]
+        magnitudes = [abs(t) for t in torques]
+        if any(a != a for a in magnitudes):  # a NaN: the first one, as numpy.argmax picks it
+            k = next(j for j, a in enumerate(magnitudes) if a != a)
+        else:
+            k = max(range(len(magnitudes)), key=magnitudes.__getitem__)  # the first largest, as numpy.argmax
+        _d(m, "load.torque_max", torques[k], f"load model {model}", inputs,
            "largest load torque between speed_min and speed_max")
-        _d(m, "load.speed_at_torque_max", float(speeds[k]), f"load model {model}", inputs,
+        _d(m, "load.speed_at_torque_max", speeds[k], f"load model {model}", inputs,
            "load speed at the largest load torque")
         _d(m, "load.power_running", float(torque_fn(nmax)) * nmax, "power_from_torque",
            ("load.torque_running", "load.speed_max"), "torque × speed")
@@ -614,11 +619,12 @@ def _continuous(m: Model) -> None:
 
         def data_fn(n: float) -> float:
             return t
-    speeds = np.linspace(nmin, nmax, 25)
-    required = np.array([abs(float(data_fn(s))) / (i * eff) for s in speeds])
+    grid = dyn.linear_grid(nmin, nmax, 25)  # numpy.linspace's values, without its overhead
+    speeds = np.array(grid)
+    required = np.array([abs(float(data_fn(s))) / (i * eff) for s in grid])
     capability = np.asarray(cap(speeds * i), dtype=float)
-    with np.errstate(divide="ignore"):
-        margins = np.where(required > 0, capability / np.maximum(required, 1e-12), np.inf)
+    # (the divisor is at least 1e-12: nothing is divided by zero)
+    margins = np.where(required > 0, capability / np.maximum(required, 1e-12), np.inf)
     k = int(np.argmin(margins))
     if not math.isfinite(float(margins[k])):
         return

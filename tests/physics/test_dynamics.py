@@ -176,4 +176,11 @@ def test_property_rms_at_least_mean_abs_torque(torque, beta):
 def test_run_up_grid_is_numpy_linspace_bit_for_bit(start: float, span: float, num: int) -> None:
     # the DOL run-up integral samples its curves on this grid; it must be numpy.linspace's, value for value
     stop = start + span
-    assert dy._grid(start, stop, num) == np.linspace(start, stop, num).tolist()
+    assert dy.linear_grid(start, stop, num) == np.linspace(start, stop, num).tolist()
+
+
+@settings(max_examples=300, deadline=None)
+@given(values=st.lists(st.floats(-1e6, 1e6), min_size=0, max_size=400))
+def test_numpy_sum_adds_in_numpys_order_bit_for_bit(values: list[float]) -> None:
+    # the DOL run-up's Simpson sum is taken without an array; it must be numpy.sum's, to the last bit
+    assert dy.numpy_sum(values) == float(np.sum(np.array(values, dtype=float)))
