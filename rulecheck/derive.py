@@ -513,7 +513,37 @@ def _capability(m: Model) -> Any:
         fw = np.where(ratio > 1.0, 1.0 / np.maximum(ratio, 1e-9), 1.0)
         return tn * cool * fw * k_env
 
+    def at(w: float) -> float:
+        """T_cont at one speed, on plain floats: ``cap``'s arithmetic in the same order, so the same value."""
+        ratio = abs(float(w)) / nb
+        if kind == "pm-synchronous" or kind == "dc" or not on_inverter:
+            cool = 1.0
+            if kind == "pm-synchronous" and stall is not None:
+                base = stall + (tn - stall) * min(ratio, 1.0)
+                return (base if ratio <= 1.0 else tn / max(ratio, 1e-9)) * k_env
+        else:
+            cool = _cooling_factor_at(ratio, inverter_rated, ct_limit)
+        fw = 1.0 / max(ratio, 1e-9) if ratio > 1.0 else 1.0
+        return tn * cool * fw * k_env
+
+    cap.at = at  # type: ignore[attr-defined]
     return cap
+
+
+def _cooling_factor_at(ratio: float, inverter_rated: bool, ct_limit: float | None) -> float:
+    """Return k_cool at one speed ratio: :func:`_cooling_factors` on a plain float (numpy.interp's formula)."""
+    if ct_limit is not None and ratio >= ct_limit:
+        return 1.0
+    if ratio < mc._COOLING_SPEED_RATIO[0]:
+        return mc._COOLING_NEAR_STANDSTILL
+    return _COOLING_CURVES[inverter_rated](ratio)
+
+
+# k_cool over n/n_b for a motor rated for inverter duty or not (mc.self_ventilated_cooling_factor's table)
+_COOLING_CURVES = {rated: ld.points_interpolator(list(mc._COOLING_SPEED_RATIO),
+                                                 [*mc._COOLING_FACTOR[:-1],
+                                                  1.0 if rated else mc._COOLING_FACTOR_NOT_INVERTER_RATED])
+                   for rated in (True, False)}
 
 
 def _train(m: Model, data: dict[str, Any], base: Path | None) -> None:
@@ -619,22 +649,24 @@ def _continuous(m: Model) -> None:
 
         def data_fn(n: float) -> float:
             return t
-    grid = dyn.linear_grid(nmin, nmax, 25)  # numpy.linspace's values, without its overhead
-    speeds = np.array(grid)
-    required = np.array([abs(float(data_fn(s))) / (i * eff) for s in grid])
-    capability = np.asarray(cap(speeds * i), dtype=float)
-    # (the divisor is at least 1e-12: nothing is divided by zero)
-    margins = np.where(required > 0, capability / np.maximum(required, 1e-12), np.inf)
-    k = int(np.argmin(margins))
-    if not math.isfinite(float(margins[k])):
+    # 25 speeds as numpy.linspace gives them, on plain floats: numpy's overhead exceeds the work here
+    speeds = dyn.linear_grid(nmin, nmax, 25)
+    required = [abs(float(data_fn(s))) / (i * eff) for s in speeds]
+    capability = [cap.at(s * i) for s in speeds]
+    margins = [c / max(r, 1e-12) if r > 0 else math.inf for c, r in zip(capability, required, strict=True)]
+    if any(x != x for x in margins):  # a NaN: the first one, as numpy.argmin picks it
+        k = next(j for j, x in enumerate(margins) if x != x)
+    else:
+        k = min(range(len(margins)), key=margins.__getitem__)  # the first smallest, as numpy.argmin
+    if not math.isfinite(margins[k]):
         return
-    _d(m, "train.continuous_margin", float(margins[k]), "continuous_margin", fn_inputs,
+    _d(m, "train.continuous_margin", margins[k], "continuous_margin", fn_inputs,
        "smallest T_cont(n) ÷ T_req(n) between speed_min and speed_max")
-    _d(m, "train.continuous_speed_worst", float(speeds[k] * i), "continuous_margin", fn_inputs,
+    _d(m, "train.continuous_speed_worst", speeds[k] * i, "continuous_margin", fn_inputs,
        "motor speed of the smallest margin")
-    _d(m, "train.continuous_required_worst", float(required[k]), "continuous_margin", fn_inputs,
+    _d(m, "train.continuous_required_worst", required[k], "continuous_margin", fn_inputs,
        "T_L ÷ (i·η) at that speed")
-    _d(m, "train.continuous_capability_worst", float(capability[k]), "continuous_margin", fn_inputs,
+    _d(m, "train.continuous_capability_worst", capability[k], "continuous_margin", fn_inputs,
        "T_N × k_cool × k_fw × k_env at that speed")
 
 
