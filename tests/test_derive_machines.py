@@ -190,7 +190,7 @@ def test_continuous_capability_at_one_speed_is_the_array_value_bit_for_bit(kind:
     from rulecheck.model import Model
 
     rng = random.Random(f"{kind}{drive}{cooling}")
-    for trial in range(20):
+    for _trial in range(20):
         m = Model()
         values = {"motor.rated_torque": rng.uniform(5, 5000), "motor.base_speed": rng.uniform(50, 400),
                   "motor.kind": kind, "motor.cooling": cooling, "drive.kind": drive,
