@@ -14,8 +14,10 @@ the start of a larger one) and measured:
 (f) peak memory (largest resident set of the check's process tree, from ``wait4``).
 
 Every measurement is the wall time of a subprocess (interpreter start and imports included,
-as a user sees them), taken with ``time.perf_counter``; short ones are repeated and the best
-kept. The CLI options used are found from ``rulecheck check --help``. The table is also
+as a user sees them), taken with ``time.perf_counter``; each is repeated and the best kept, the
+same for the floor as for the checks: short runs (timer and scheduler noise) ``--repeat`` times,
+long ones ``--repeat-long`` times (a shared machine's speed drifts by ±10 % over minutes). The CLI
+options used are found from ``rulecheck check --help``. The table is also
 written as JSON to bench/out/ (git-ignored). Timings depend on the machine and its load:
 compare ratios, not seconds.
 """
@@ -133,12 +135,15 @@ def best_of(cmd: list[str], cwd: Path, env: dict[str, str], times: int, before: 
     return best
 
 
-def adaptive(cmd: list[str], cwd: Path, env: dict[str, str], repeat: int, before: Any = None) -> Run:
-    """Run once; repeat up to ``repeat`` times in all if the run was short (noise), keeping the best."""
+def adaptive(cmd: list[str], cwd: Path, env: dict[str, str], repeat: int, before: Any = None,
+             repeat_long: int = 1) -> Run:
+    """Run once; repeat up to ``repeat`` times in all if the run was short (noise), ``repeat_long`` times if it
+    was long, keeping the best."""
     first = best_of(cmd, cwd, env, 1, before)
-    if first.code not in (0, 1) or first.seconds >= REPEAT_BELOW_S or repeat <= 1:
+    times = repeat if first.seconds < REPEAT_BELOW_S else repeat_long
+    if first.code not in (0, 1) or times <= 1:
         return first
-    rest = best_of(cmd, cwd, env, repeat - 1, before)
+    rest = best_of(cmd, cwd, env, times - 1, before)
     return rest if rest.code in (0, 1) and rest.seconds < first.seconds else first
 
 
@@ -230,7 +235,8 @@ def measure_size(size: int, args: argparse.Namespace, caps: Capabilities, env: d
     repeat = args.repeat
 
     floor_cmd = [python, str(Path(__file__).resolve()), "--worker", "floor", str(corpus)]
-    floor = adaptive(floor_cmd, work, env, repeat)
+    long = args.repeat_long
+    floor = adaptive(floor_cmd, work, env, repeat, repeat_long=long)
     if floor.code != 0:
         raise SystemExit(f"bench: the floor worker failed:\n{floor.stderr}")
     inside = json.loads(floor.stdout.strip().splitlines()[-1])
@@ -241,7 +247,7 @@ def measure_size(size: int, args: argparse.Namespace, caps: Capabilities, env: d
                     f"{inside['files']} files; {inside['inside_s']:.3f} s inside the process"))
 
     schema_cmd = [python, str(Path(__file__).resolve()), "--worker", "schema", str(corpus)]
-    schema = adaptive(schema_cmd, work, env, repeat)
+    schema = adaptive(schema_cmd, work, env, repeat, repeat_long=long)
     if schema.code != 0:
         raise SystemExit(f"bench: the schema worker failed:\n{schema.stderr}")
     rows.append(Row("(b) schema only (jsonschema)", size, schema.seconds, "s", schema.seconds / base, "", "info"))
@@ -256,7 +262,8 @@ def measure_size(size: int, args: argparse.Namespace, caps: Capabilities, env: d
         return empty
 
     jobs_note = "" if caps.jobs else "CLI has no --jobs: its default was measured"
-    one = adaptive(check_command(python, caps, corpus, report, 1, cache_one), work, env, repeat, fresh(cache_one))
+    one = adaptive(check_command(python, caps, corpus, report, 1, cache_one), work, env, repeat, fresh(cache_one),
+                   repeat_long=long)
     _require_ok(one, "check --jobs 1")
     rows.append(Row("(c) check, 1 worker, cold", size, one.seconds, "s", one.seconds / base,
                     f"<= {TARGET_ONE_WORKER:g}x", verdict(one.seconds / base, TARGET_ONE_WORKER), jobs_note))
@@ -264,7 +271,7 @@ def measure_size(size: int, args: argparse.Namespace, caps: Capabilities, env: d
     facts["report_bytes"] = report.stat().st_size if report.exists() else None
     if caps.jobs:
         every = adaptive(check_command(python, caps, corpus, report, 0, cache_all), work, env, repeat,
-                         fresh(cache_all))
+                         fresh(cache_all), repeat_long=long)
         _require_ok(every, "check --jobs 0")
         rows.append(Row(f"(c) check, all cores ({os.cpu_count()}), cold", size, every.seconds, "s",
                         every.seconds / base, f"<= {TARGET_ALL_CORES:g}x",
@@ -277,7 +284,8 @@ def measure_size(size: int, args: argparse.Namespace, caps: Capabilities, env: d
     if caps.cache_dir:
         cache = cache_all if caps.jobs else cache_one
         jobs = 0 if caps.jobs else None
-        again = adaptive(check_command(python, caps, corpus, report, jobs, cache), work, env, repeat)
+        again = adaptive(check_command(python, caps, corpus, report, jobs, cache), work, env, repeat,
+                         repeat_long=long)
         _require_ok(again, "cached re-run")
         rows.append(Row("(d) cached re-run", size, again.seconds, "s", again.seconds / base,
                         f"<= {TARGET_CACHED:g}x", verdict(again.seconds / base, TARGET_CACHED),
@@ -371,6 +379,8 @@ def parse_args(argv: list[str] | None) -> argparse.Namespace:
     p.add_argument("--quick", action="store_true", help="smoke run: 30 specs, fewer repeats")
     p.add_argument("--seed", type=int, default=1, help="corpus seed (default 1)")
     p.add_argument("--repeat", type=int, default=3, help="best of N for runs shorter than 2 s (default 3)")
+    p.add_argument("--repeat-long", type=int, default=2,
+                   help="best of N for runs of 2 s or more, floor and checks alike (default 2)")
     p.add_argument("--cold-repeat", type=int, default=5, help="best of N for the cold start (default 5)")
     p.add_argument("--work-dir", type=Path, help="where corpora and caches go (default: a temporary folder)")
     p.add_argument("--out", type=Path, default=BENCH / "out", help="folder for the JSON table (default bench/out)")
@@ -379,7 +389,7 @@ def parse_args(argv: list[str] | None) -> argparse.Namespace:
     p.add_argument("folder", nargs="?", type=Path, help=argparse.SUPPRESS)
     args = p.parse_args(argv)
     if args.quick:
-        args.sizes, args.repeat, args.cold_repeat = [30], 2, 2
+        args.sizes, args.repeat, args.cold_repeat, args.repeat_long = [30], 2, 2, 1
     if any(s < 1 for s in args.sizes):
         p.error("--sizes must be positive")
     args.sizes = sorted(set(args.sizes))
@@ -426,13 +436,15 @@ def main(argv: list[str] | None = None) -> int:
         print()
         print(table)
         print()
-        print("Times are subprocess wall times (interpreter start and imports included); x floor is the ratio to "
+        print("Times are subprocess wall times (interpreter start and imports included), the best of "
+              f"{args.repeat} runs below {REPEAT_BELOW_S:g} s and of {args.repeat_long} above; x floor is the ratio to "
               "(a) for the same corpus.")
         stamp = _dt.datetime.now().strftime("%Y%m%d-%H%M%S")
         document = {
             "generated": _dt.datetime.now(_dt.UTC).isoformat(timespec="seconds"),
             "machine": {"cores": os.cpu_count(), "python": platform.python_version(), "platform": platform.platform()},
             "seed": args.seed, "sizes": args.sizes,
+            "repeats": {"short": args.repeat, "long": args.repeat_long, "cold_start": args.cold_repeat},
             "cli": {"jobs": caps.jobs, "cache_dir": caps.cache_dir, "no_cache": caps.no_cache},
             "targets": {"all_cores_x_floor": TARGET_ALL_CORES, "one_worker_x_floor": TARGET_ONE_WORKER,
                         "cached_x_floor": TARGET_CACHED, "cold_start_s": TARGET_COLD_START_S,
