@@ -108,21 +108,29 @@ def _value_dict(value: float, kind_name: str | None) -> dict[str, Any]:
 def _derived_dict(model: Any) -> dict[str, Any]:
     """Return every derived or defaulted number of the model, by path, with its unit and provenance
     (:func:`_value_dict`, then where it came from), in path order."""
-    values, kinds = model.values, model.kinds
+    values, kinds, provenance = model.values, model.kinds, model.provenance
     derived: dict[str, Any] = {}
-    for p, d in sorted((p, d) for p, d in model.provenance.items() if d.source != "given"):
+    paths = [p for p, d in provenance.items() if d.source != "given"]
+    paths.sort()
+    for p in paths:
         v = values[p]
-        if not isinstance(v, (int, float)) or isinstance(v, bool):
+        if type(v) is float:
+            shown = None  # rounded below, after any change of unit
+        elif isinstance(v, (int, float)) and not isinstance(v, bool):
+            shown = _round(v)
+        else:
             continue
+        d = provenance[p]
         k = kinds.get(p)
         unit = _JSON_UNITS.get(k) if k else None
         if unit is None:
-            derived[p] = {"value": _round(v), "unit": "1", "from": d.describe(), "method": d.method,
-                          "source": d.source}
+            derived[p] = {"value": float(f"{v:.6g}") if shown is None else shown, "unit": "1", "from": d.describe(),
+                          "method": d.method, "source": d.source}
             continue
         if k == "rotational_speed":
             v = v * units.RPM_PER_RAD_S
-        derived[p] = {"value": float(f"{v:.6g}") if type(v) is float else _round(v), "unit": unit, "kind": k,
+            shown = None if type(v) is float else _round(v)
+        derived[p] = {"value": float(f"{v:.6g}") if shown is None else shown, "unit": unit, "kind": k,
                       "from": d.describe(), "method": d.method, "source": d.source}
     return derived
 
