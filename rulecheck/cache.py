@@ -93,11 +93,12 @@ class CachedEntry:
     The bytes travel from a worker to the report file as they are: nothing decodes or encodes them again.
     """
 
-    __slots__ = ("data", "tally")
+    __slots__ = ("data", "tally", "where")
 
-    def __init__(self, data: bytes, tally: dict[str, Any]) -> None:
-        self.data = data
+    def __init__(self, data: bytes | None, tally: dict[str, Any], where: tuple[str, int, int] | None = None) -> None:
+        self.data = data  # None while only ``where`` says where the bytes are (a worker's pack: path, offset, length)
         self.tally = tally
+        self.where = where
 
     def load(self) -> dict[str, Any]:
         """Return the result itself."""
@@ -189,6 +190,8 @@ class ResultCache:
         self._readers: dict[str, int] = {}  # pack → open descriptor
         self._pack: int | None = None  # this process's pack, opened on the first put
         self._pack_pid = 0
+        self._pack_path = ""
+        self._pack_size = 0
 
     def _mac(self, payload: bytes) -> str:
         return hmac.digest(self._key, payload, "sha256").hex()
@@ -272,46 +275,68 @@ class ResultCache:
         self.hits += 1
         return CachedResult(result, body)
 
-    def _entry_bytes(self, key: str, result: Any) -> bytes | None:
+    def _entry_bytes(self, key: str, result: Any) -> tuple[bytes, int] | None:
+        """Return a signed entry and where in it the result's JSON starts (None: not to be stored)."""
         if isinstance(result, CachedEntry):
             body, tally_data = result.data, result.tally
         else:
             body, tally_data = encode(result), tally_of(result)
-        if tally_data.get("status") == "unreadable":
+        if tally_data.get("status") == "unreadable" or body is None:
             return None  # a file that could not be read may read next time
         tally = json.dumps(tally_data, separators=(",", ":"))
-        payload = f"{_MAGIC} {key} {tally}\n".encode() + body
-        return self._mac(payload).encode("ascii") + b"\n" + payload
+        head = f"{_MAGIC} {key} {tally}\n".encode()
+        mac = self._mac(head + body).encode("ascii")
+        return mac + b"\n" + head + body, len(mac) + 1 + len(head)
 
-    def put(self, key: str, result: Any) -> None:
-        """Store a spec result or a :class:`CachedEntry` at the end of this process's pack.
+    def put(self, key: str, result: Any) -> tuple[str, int, int] | None:
+        """Store a spec result or a :class:`CachedEntry` at the end of this process's pack; return where its
+        JSON now is (pack, offset, length: :meth:`read_span` reads it back), or None if it was not stored.
 
         A result that could not be read (an OS error) is not stored: it may read next time. Errors only
         disable the cache.
         """
         if not self.usable:
-            return
-        entry = self._entry_bytes(key, result)
-        if entry is None:
-            return
+            return None
+        made = self._entry_bytes(key, result)
+        if made is None:
+            return None
+        entry, body_start = made
         try:
             if self._pack is None or self._pack_pid != os.getpid():  # a forked worker writes a pack of its own
                 self._open_pack()
-            record = b"%s %s %d\n" % (_RECORD, key.encode("ascii"), len(entry)) + entry + b"\n"
+            header = b"%s %s %d\n" % (_RECORD, key.encode("ascii"), len(entry))
+            record = header + entry + b"\n"
+            start = self._pack_size
             view = memoryview(record)
             while view:  # one write of a whole record (a reader never sees half a header)
                 written = os.write(self._pack, view)  # type: ignore[arg-type]
                 view = view[written:]
+            self._pack_size += len(record)
         except OSError:
             self.usable = False
+            return None
+        return self._pack_path, start + len(header) + body_start, len(entry) - body_start
+
+    def read_span(self, where: tuple[str, int, int]) -> bytes:
+        """Return the bytes :meth:`put` reported (a worker's result JSON, read from its pack)."""
+        pack, offset, length = where
+        fd = self._readers.get(pack)
+        if fd is None:
+            fd = self._readers[pack] = os.open(pack, os.O_RDONLY | getattr(os, "O_BINARY", 0))
+        data = os.pread(fd, length, offset)
+        if len(data) != length:
+            raise ValueError("truncated")
+        return data
 
     def _open_pack(self) -> None:
         folder = self._packs()
         folder.mkdir(parents=True, exist_ok=True)
         self._ignore_file()
         name = f"{int(time.time() * 1000):013d}-{os.getpid()}-{os.urandom(4).hex()}.pack"
-        self._pack = os.open(folder / name, _NEW_FILE | os.O_APPEND, 0o600)
+        self._pack_path = str(folder / name)
+        self._pack = os.open(self._pack_path, _NEW_FILE | os.O_APPEND, 0o600)
         self._pack_pid = os.getpid()
+        self._pack_size = 0  # a new file, written by this process only
 
     def _ignore_file(self) -> None:
         ignore = self.folder / ".gitignore"
@@ -335,9 +360,10 @@ class ResultCache:
         """Store a value in a file of its own (atomically: a temporary file, then rename); it replaces any older."""
         if not self.usable:
             return
-        data = self._entry_bytes(key, value)
-        if data is None:
+        made = self._entry_bytes(key, value)
+        if made is None:
             return
+        data = made[0]
         path = self._path(key)
         try:
             if path.parent not in self._folders:

@@ -386,21 +386,25 @@ def _worker_check(config_file: str | None, spec: str, key: str | None = None, sh
         prepared[config_file] = prepare(cfg, _WORKER["extra"], _WORKER["today"], _WORKER["units"], _WORKER["base"],
                                         value_kinds=_WORKER["kinds"].get(config_file or ""))
         prepared[config_file].context.charts = _WORKER["charts"]
-    return _check_and_store(Path(spec), prepared[config_file].context, shown, key, context, _WORKER.get("cache"))[1]
+    _result, entry, where = _check_and_store(Path(spec), prepared[config_file].context, shown, key, context,
+                                             _WORKER.get("cache"))
+    # stored: the parent reads the JSON from this worker's pack, so it does not travel through the pipe too
+    return CachedEntry(None, entry.tally, where) if where else entry
 
 
 def _check_and_store(spec: Path, ctx: CheckContext, shown: str | None, key: str | None, context: str | None,
-                     cache: ResultCache | None) -> tuple[dict[str, Any], CachedEntry]:
-    """Check one spec; return its result and the result encoded once, stored in the cache under ``key`` (or,
-    with a ``context`` key instead, the key made from the bytes just checked)."""
+                     cache: ResultCache | None) -> tuple[dict[str, Any], CachedEntry, tuple[str, int, int] | None]:
+    """Check one spec; return its result, the result encoded once, and where that is stored in the cache
+    (under ``key``, or, with a ``context`` key instead, the key made from the bytes just checked)."""
     result = check_file(spec, ctx, shown)
     entry = entry_of(result)
+    where = None
     if cache is not None:
         if key is None and context is not None and shown is not None:
             key = _key_now(spec, shown, context)
         if key:
-            cache.put(key, entry)
-    return result, entry
+            where = cache.put(key, entry)
+    return result, entry, where
 
 
 def _worker_check_many(work: list[tuple[str | None, str, str | None, str, str | None]]) -> list[CachedEntry]:
@@ -565,14 +569,20 @@ def run_stream(options: RunOptions, progress: Callable[[int, int], None] | None 
                         cache.misses += 1  # known absent when the run was planned
                     elif key:
                         result = cache.get(key, lazy=options.lazy_cached)
-                if result is None:
-                    if pool is not None and pool.has(k):
-                        entry = pool.take(k)  # the worker has stored it in the cache
+                if result is None and pool is not None and pool.has(k):
+                    entry = pool.take(k)  # the worker has stored it in the cache
+                    if isinstance(entry, CachedEntry) and entry.data is None:
+                        try:
+                            entry = CachedEntry(cache.read_span(entry.where), entry.tally)  # type: ignore[union-attr,arg-type]
+                        except (OSError, ValueError, AttributeError):
+                            entry = None  # the pack is gone or short: checked again here, below
+                    if entry is not None:
                         result = entry if options.lazy_cached or not isinstance(entry, CachedEntry) else entry.load()
-                    elif cache is not None or options.lazy_cached:
+                if result is None:
+                    if cache is not None or options.lazy_cached:
                         # encoded once: the cache entry and a JSON report share the bytes
-                        result, entry = _check_and_store(spec, prepared_for(cfg_file, spec).context, shown, key,
-                                                         keys[cfg_file] if keyed_later else None, cache)
+                        result, entry, _where = _check_and_store(spec, prepared_for(cfg_file, spec).context, shown,
+                                                                 key, keys[cfg_file] if keyed_later else None, cache)
                         result = entry if options.lazy_cached else CachedResult(result, entry.data)
                     else:
                         result = check_file(spec, prepared_for(cfg_file, spec).context, shown)

@@ -79,3 +79,23 @@ def test_a_foreign_pack_signed_with_another_key_is_ignored(tmp_path: Path, monke
     monkeypatch.setattr(cache_mod, "_secret", lambda: b"u" * 32)
     reader = ResultCache(tmp_path)
     assert reader.has(_key(0)) and reader.get(_key(0)) is None and reader.misses == 1
+
+
+def test_a_stored_result_is_read_back_from_where_put_says_it_is(tmp_path: Path) -> None:
+    # a worker reports where its result's JSON went instead of sending the bytes; the parent reads them there
+    writer = ResultCache(tmp_path)
+    spans = [writer.put(_key(n), entry_of(_result(n))) for n in range(12)]
+    reader = ResultCache(tmp_path)
+    for n, where in enumerate(spans):
+        assert where is not None
+        assert reader.read_span(where) == entry_of(_result(n)).data
+    unreadable = dict(_result(1), status="unreadable")
+    assert writer.put(_key(50), entry_of(unreadable)) is None  # not stored: it may read next time
+    pack, offset, length = spans[-1]
+    os.truncate(pack, offset + length - 1)
+    try:
+        reader.read_span(spans[-1])
+    except ValueError:
+        pass
+    else:
+        raise AssertionError("a short read must be refused")
