@@ -234,14 +234,7 @@ class ResultCache:
         where = self._load_index().get(key)
         if where is None:
             raise FileNotFoundError(key)
-        pack, offset, length = where
-        fd = self._readers.get(pack)
-        if fd is None:
-            fd = self._readers[pack] = os.open(pack, os.O_RDONLY | getattr(os, "O_BINARY", 0))
-        raw = os.pread(fd, length, offset)
-        if len(raw) != length:
-            raise ValueError("truncated")
-        return raw
+        return self.read_span(where)
 
     def get(self, key: str, lazy: bool = False) -> Any:
         """Return the cached result for ``key``, or None (a bad entry counts as absent).
@@ -318,7 +311,8 @@ class ResultCache:
         return self._pack_path, start + len(header) + body_start, len(entry) - body_start
 
     def read_span(self, where: tuple[str, int, int]) -> bytes:
-        """Return the bytes :meth:`put` reported (a worker's result JSON, read from its pack)."""
+        """Return the bytes at (pack, offset, length): a record of the index, or the result JSON :meth:`put`
+        reported (a worker's, read from its pack); ValueError when the pack is shorter."""
         pack, offset, length = where
         fd = self._readers.get(pack)
         if fd is None:
