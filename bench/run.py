@@ -16,8 +16,10 @@ the start of a larger one) and measured:
 Every measurement is the wall time of a subprocess (interpreter start and imports included,
 as a user sees them), taken with ``time.perf_counter``; each is repeated and the best kept, the
 same for the floor as for the checks: short runs (timer and scheduler noise) ``--repeat`` times,
-long ones ``--repeat-long`` times (a shared machine's speed drifts by ±10 % over minutes). The CLI
-options used are found from ``rulecheck check --help``. The table is also
+long ones ``--repeat-long`` times (a shared machine's speed drifts by ±10 % over minutes). Each row's
+ratio is to the floor measured beside it, run in turn with it, so the drift over the benchmark's
+minutes does not enter the ratio; (a) is the first floor measurement. The CLI options used are found
+from ``rulecheck check --help``. The table is also
 written as JSON to bench/out/ (git-ignored). Timings depend on the machine and its load:
 compare ratios, not seconds.
 """
@@ -147,6 +149,32 @@ def adaptive(cmd: list[str], cwd: Path, env: dict[str, str], repeat: int, before
     return rest if rest.code in (0, 1) and rest.seconds < first.seconds else first
 
 
+def paired(cmd: list[str], floor_cmd: list[str], cwd: Path, env: dict[str, str], repeat: int, before: Any = None,
+           repeat_long: int = 1) -> tuple[Run, Run]:
+    """Run the floor, then ``cmd``, in turn (as :func:`adaptive` repeats); return the best of each.
+
+    The floor is measured beside the command it is compared with, so a drift of the machine's speed over
+    the minutes a benchmark takes does not enter the ratio.
+    """
+    best: Run | None = None
+    floor: Run | None = None
+    times, done = 1, 0
+    while done < times:
+        f = run_measured(floor_cmd, cwd, env)
+        if before:
+            before()
+        r = run_measured(cmd, cwd, env)
+        if r.code not in (0, 1) or f.code != 0:
+            return r, f
+        if done == 0:
+            times = repeat if r.seconds < REPEAT_BELOW_S else repeat_long
+        best = r if best is None or r.seconds < best.seconds else best
+        floor = f if floor is None or f.seconds < floor.seconds else floor
+        done += 1
+    assert best is not None and floor is not None
+    return best, floor
+
+
 # --- the benchmark ---------------------------------------------------------------------------------------
 
 @dataclass
@@ -246,11 +274,15 @@ def measure_size(size: int, args: argparse.Namespace, caps: Capabilities, env: d
     rows.append(Row("(a) floor: C YAML parse", size, base, "s", 1.0, "", "info",
                     f"{inside['files']} files; {inside['inside_s']:.3f} s inside the process"))
 
+    def beside(floor_run: Run) -> str:
+        return f"floor beside it {floor_run.seconds:.3f} s"
+
     schema_cmd = [python, str(Path(__file__).resolve()), "--worker", "schema", str(corpus)]
-    schema = adaptive(schema_cmd, work, env, repeat, repeat_long=long)
+    schema, f_schema = paired(schema_cmd, floor_cmd, work, env, repeat, repeat_long=long)
     if schema.code != 0:
         raise SystemExit(f"bench: the schema worker failed:\n{schema.stderr}")
-    rows.append(Row("(b) schema only (jsonschema)", size, schema.seconds, "s", schema.seconds / base, "", "info"))
+    rows.append(Row("(b) schema only (jsonschema)", size, schema.seconds, "s", schema.seconds / f_schema.seconds, "",
+                    "info", beside(f_schema)))
 
     report = work / "report.json"
     cache_one = work / f"cache-{size}-one"
@@ -262,20 +294,21 @@ def measure_size(size: int, args: argparse.Namespace, caps: Capabilities, env: d
         return empty
 
     jobs_note = "" if caps.jobs else "CLI has no --jobs: its default was measured"
-    one = adaptive(check_command(python, caps, corpus, report, 1, cache_one), work, env, repeat, fresh(cache_one),
-                   repeat_long=long)
+    one, f_one = paired(check_command(python, caps, corpus, report, 1, cache_one), floor_cmd, work, env, repeat,
+                        fresh(cache_one), repeat_long=long)
     _require_ok(one, "check --jobs 1")
-    rows.append(Row("(c) check, 1 worker, cold", size, one.seconds, "s", one.seconds / base,
-                    f"<= {TARGET_ONE_WORKER:g}x", verdict(one.seconds / base, TARGET_ONE_WORKER), jobs_note))
+    rows.append(Row("(c) check, 1 worker, cold", size, one.seconds, "s", one.seconds / f_one.seconds,
+                    f"<= {TARGET_ONE_WORKER:g}x", verdict(one.seconds / f_one.seconds, TARGET_ONE_WORKER),
+                    "; ".join(filter(None, [beside(f_one), jobs_note]))))
     facts["check_exit_code"] = one.code
     facts["report_bytes"] = report.stat().st_size if report.exists() else None
     if caps.jobs:
-        every = adaptive(check_command(python, caps, corpus, report, 0, cache_all), work, env, repeat,
-                         fresh(cache_all), repeat_long=long)
+        every, f_every = paired(check_command(python, caps, corpus, report, 0, cache_all), floor_cmd, work, env,
+                                repeat, fresh(cache_all), repeat_long=long)
         _require_ok(every, "check --jobs 0")
         rows.append(Row(f"(c) check, all cores ({os.cpu_count()}), cold", size, every.seconds, "s",
-                        every.seconds / base, f"<= {TARGET_ALL_CORES:g}x",
-                        verdict(every.seconds / base, TARGET_ALL_CORES)))
+                        every.seconds / f_every.seconds, f"<= {TARGET_ALL_CORES:g}x",
+                        verdict(every.seconds / f_every.seconds, TARGET_ALL_CORES), beside(f_every)))
     else:
         every = None
         rows.append(Row("(c) check, all cores, cold", size, None, "s", None, f"<= {TARGET_ALL_CORES:g}x", "n/a",
@@ -284,12 +317,12 @@ def measure_size(size: int, args: argparse.Namespace, caps: Capabilities, env: d
     if caps.cache_dir:
         cache = cache_all if caps.jobs else cache_one
         jobs = 0 if caps.jobs else None
-        again = adaptive(check_command(python, caps, corpus, report, jobs, cache), work, env, repeat,
-                         repeat_long=long)
+        again, f_again = paired(check_command(python, caps, corpus, report, jobs, cache), floor_cmd, work, env,
+                                repeat, repeat_long=long)
         _require_ok(again, "cached re-run")
-        rows.append(Row("(d) cached re-run", size, again.seconds, "s", again.seconds / base,
-                        f"<= {TARGET_CACHED:g}x", verdict(again.seconds / base, TARGET_CACHED),
-                        "same cache folder, nothing changed"))
+        rows.append(Row("(d) cached re-run", size, again.seconds, "s", again.seconds / f_again.seconds,
+                        f"<= {TARGET_CACHED:g}x", verdict(again.seconds / f_again.seconds, TARGET_CACHED),
+                        f"same cache folder, nothing changed; {beside(f_again)}"))
     else:
         rows.append(Row("(d) cached re-run", size, None, "s", None, f"<= {TARGET_CACHED:g}x", "n/a",
                         "CLI has no --cache-dir"))
@@ -438,7 +471,8 @@ def main(argv: list[str] | None = None) -> int:
         print()
         print("Times are subprocess wall times (interpreter start and imports included), the best of "
               f"{args.repeat} runs below {REPEAT_BELOW_S:g} s and of {args.repeat_long} above; x floor is the ratio to "
-              "(a) for the same corpus.")
+              "the floor of the same corpus measured beside it, in turn with it (noted), so that the machine's "
+              "drift over the benchmark's minutes cancels.")
         stamp = _dt.datetime.now().strftime("%Y%m%d-%H%M%S")
         document = {
             "generated": _dt.datetime.now(_dt.UTC).isoformat(timespec="seconds"),
