@@ -158,8 +158,15 @@ def outcome_dict(o: Outcome, meta: dict[str, Any], doc: Document | None) -> dict
         # a rule that does not apply points at nothing: its fields that say what was found are left out
         return {"rule": o.rule, "title": title, "topic": topic, "outcome": o.outcome, "severity": o.severity,
                 "safety": safety, "message": o.message, "location": {"path": o.path, "line": None, "column": None}}
-    # a pass points at nothing a reviewer must find: no line is looked up
-    located = doc is not None and o.path and o.outcome != "pass"
+    if o.outcome == "pass":
+        # a pass points at nothing a reviewer must find: no line is looked up; the basis and formula of a rule
+        # that found nothing are in the rule's own description ('rulecheck rules show', the SARIF driver)
+        return {"rule": o.rule, "title": title, "topic": topic, "outcome": "pass", "severity": o.severity,
+                "safety": safety, "message": o.message, "fix": o.fix or o.hint,
+                "location": {"path": o.path, "line": None, "column": None},
+                "values": {n: _value_dict(v, k) for n, (v, k) in o.values.items()},
+                "limit": _value_dict(*o.limit) if o.limit else None, "missing": list(o.missing), "waiver": o.waiver}
+    located = doc is not None and o.path
     pos = doc.position(o.path) if located else None
     if located and pos is None and o.rule == "spec-schema" and o.path in doc.key_positions:
         pos = doc.key_positions[o.path]
@@ -173,11 +180,8 @@ def outcome_dict(o: Outcome, meta: dict[str, Any], doc: Document | None) -> dict
         "message": o.message,
         "fix": o.fix or o.hint,
     }
-    if o.outcome != "pass":
-        # the basis and formula of a rule that found nothing are in the rule's own description
-        # ('rulecheck rules show', the SARIF driver); repeating them per spec only fattens the result
-        entry["formula"] = meta.get("formula", "")
-        entry["basis"] = meta.get("basis", [])
+    entry["formula"] = meta.get("formula", "")
+    entry["basis"] = meta.get("basis", [])
     entry["location"] = {"path": o.path, "line": pos.line if pos else None, "column": pos.column if pos else None}
     entry["values"] = {n: _value_dict(v, k) for n, (v, k) in o.values.items()}
     entry["limit"] = _value_dict(*o.limit) if o.limit else None

@@ -118,6 +118,12 @@ class Rule:
     raw: dict[str, Any] = field(repr=False, default_factory=dict)
     doc: Document | None = field(repr=False, default=None)
 
+    @cached_property
+    def expression_environment(self) -> Any:
+        """The sandbox its expressions were compiled in (one per rule set)."""
+        first = self.applies_when or (self.values[0][1] if self.values else self.checks[0].when)
+        return first.environment
+
     def metadata(self) -> dict[str, Any]:
         """Return the rule's description for reports and SARIF (no compiled parts; built once)."""
         cached = self.raw.get("__metadata__") if isinstance(self.raw, dict) else None

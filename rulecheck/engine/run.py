@@ -209,8 +209,7 @@ def evaluate_rule(rule: Rule, model: Model, namespace: dict[str, Any], params: d
     """Return the one outcome of ``rule`` on ``model``; rule errors become outcomes, never exceptions."""
     ns = dict(params)
     unsure = "warning" if rule.safety else "info"
-    env = (rule.applies_when or (rule.values[0][1] if rule.values else rule.checks[0].when)).environment
-    parent = _spec_parent(model, env, namespace)
+    parent = _spec_parent(model, rule.expression_environment, namespace)
     if rule.applies_when is not None:
         try:
             applies = rule.applies_when.fn(ns, parent)
