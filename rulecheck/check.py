@@ -106,32 +106,17 @@ def _value_dict(value: float, kind_name: str | None) -> dict[str, Any]:
 
 
 def _derived_dict(model: Any) -> dict[str, Any]:
-    """Return every derived or defaulted number of the model, by path, with its unit and provenance
-    (:func:`_value_dict`, then where it came from), in path order."""
-    values, kinds, provenance = model.values, model.kinds, model.provenance
+    """Return every derived or defaulted number of the model, by path (in path order), as :func:`_value_dict`
+    gives it, with where it came from."""
     derived: dict[str, Any] = {}
-    paths = [p for p, d in provenance.items() if d.source != "given"]
+    paths = [p for p, d in model.provenance.items() if d.source != "given"]
     paths.sort()
     for p in paths:
-        v = values[p]
-        if type(v) is float:
-            shown = None  # rounded below, after any change of unit
-        elif isinstance(v, (int, float)) and not isinstance(v, bool):
-            shown = _round(v)
-        else:
-            continue
-        d = provenance[p]
-        k = kinds.get(p)
-        unit = _JSON_UNITS.get(k) if k else None
-        if unit is None:
-            derived[p] = {"value": float(f"{v:.6g}") if shown is None else shown, "unit": "1", "from": d.describe(),
-                          "method": d.method, "source": d.source}
-            continue
-        if k == "rotational_speed":
-            v = v * units.RPM_PER_RAD_S
-            shown = None if type(v) is float else _round(v)
-        derived[p] = {"value": float(f"{v:.6g}") if shown is None else shown, "unit": unit, "kind": k,
-                      "from": d.describe(), "method": d.method, "source": d.source}
+        v = model.values[p]
+        if isinstance(v, (int, float)) and not isinstance(v, bool):
+            d = model.provenance[p]
+            entry = derived[p] = _value_dict(v, model.kinds.get(p))
+            entry["from"], entry["method"], entry["source"] = d.describe(), d.method, d.source
     return derived
 
 
@@ -141,32 +126,15 @@ def _round(value: float) -> float:
     return float(f"{value:.6g}")  # six significant figures, as the values are shown
 
 
-# each rule's title, topic and safety flag, as every outcome of it repeats them (keyed by the metadata's
-# identity, which lives as long as its rule)
-_HEADS: dict[int, tuple[dict[str, Any], str, str, bool]] = {}
-
-
 def outcome_dict(o: Outcome, meta: dict[str, Any], doc: Document | None) -> dict[str, Any]:
     """Return one outcome in the JSON-result form."""
-    head = _HEADS.get(id(meta))
-    if head is None or head[0] is not meta:
-        if len(_HEADS) > 256:
-            _HEADS.clear()
-        head = _HEADS[id(meta)] = (meta, meta.get("title", ""), meta.get("topic", ""), bool(meta.get("safety", False)))
-    _meta, title, topic, safety = head
+    title, topic, safety = meta.get("title", ""), meta.get("topic", ""), bool(meta.get("safety", False))
     if o.outcome == "not-applicable":
         # a rule that does not apply points at nothing: its fields that say what was found are left out
         return {"rule": o.rule, "title": title, "topic": topic, "outcome": o.outcome, "severity": o.severity,
                 "safety": safety, "message": o.message, "location": {"path": o.path, "line": None, "column": None}}
-    if o.outcome == "pass":
-        # a pass points at nothing a reviewer must find: no line is looked up; the basis and formula of a rule
-        # that found nothing are in the rule's own description ('rulecheck rules show', the SARIF driver)
-        return {"rule": o.rule, "title": title, "topic": topic, "outcome": "pass", "severity": o.severity,
-                "safety": safety, "message": o.message, "fix": o.fix or o.hint,
-                "location": {"path": o.path, "line": None, "column": None},
-                "values": {n: _value_dict(v, k) for n, (v, k) in o.values.items()},
-                "limit": _value_dict(*o.limit) if o.limit else None, "missing": list(o.missing), "waiver": o.waiver}
-    located = doc is not None and o.path
+    # a pass points at nothing a reviewer must find: no line is looked up
+    located = doc is not None and o.path and o.outcome != "pass"
     pos = doc.position(o.path) if located else None
     if located and pos is None and o.rule == "spec-schema" and o.path in doc.key_positions:
         pos = doc.key_positions[o.path]
@@ -180,8 +148,11 @@ def outcome_dict(o: Outcome, meta: dict[str, Any], doc: Document | None) -> dict
         "message": o.message,
         "fix": o.fix or o.hint,
     }
-    entry["formula"] = meta.get("formula", "")
-    entry["basis"] = meta.get("basis", [])
+    if o.outcome != "pass":
+        # the basis and formula of a rule that found nothing are in the rule's own description
+        # ('rulecheck rules show', the SARIF driver); repeating them per spec only fattens the result
+        entry["formula"] = meta.get("formula", "")
+        entry["basis"] = meta.get("basis", [])
     entry["location"] = {"path": o.path, "line": pos.line if pos else None, "column": pos.column if pos else None}
     entry["values"] = {n: _value_dict(v, k) for n, (v, k) in o.values.items()}
     entry["limit"] = _value_dict(*o.limit) if o.limit else None

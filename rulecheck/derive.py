@@ -368,11 +368,7 @@ def _load(m: Model, data: dict[str, Any], base: Path | None) -> None:
         # 33 speeds as numpy.linspace gives them, as plain floats (numpy's overhead exceeds the work here)
         speeds = dyn.linear_grid(nmin, nmax, 33)
         torques = [float(torque_fn(s)) for s in speeds]
-        magnitudes = [abs(t) for t in torques]
-        if any(a != a for a in magnitudes):  # a NaN: the first one, as numpy.argmax picks it
-            k = next(j for j, a in enumerate(magnitudes) if a != a)
-        else:
-            k = max(range(len(magnitudes)), key=magnitudes.__getitem__)  # the first largest, as numpy.argmax
+        k = _numpy_arg(max, [abs(t) for t in torques])
         _d(m, "load.torque_max", torques[k], f"load model {model}", inputs,
            "largest load torque between speed_min and speed_max")
         _d(m, "load.speed_at_torque_max", speeds[k], f"load model {model}", inputs,
@@ -433,6 +429,15 @@ def _points(data: dict[str, Any]) -> list[tuple[float, float]]:
         except (QuantityError, KeyError, TypeError):
             return []
     return sorted(out)
+
+
+def _numpy_arg(pick: Any, values: list[float]) -> int:
+    """Return the index numpy.argmax (``pick`` max) or numpy.argmin (min) gives: the first NaN, else the first
+    largest (smallest) value."""
+    for j, x in enumerate(values):
+        if x != x:
+            return j
+    return pick(range(len(values)), key=values.__getitem__)
 
 
 def _load_torque_function(m: Model, data: dict[str, Any]) -> Any:
@@ -522,28 +527,12 @@ def _capability(m: Model) -> Any:
                 base = stall + (tn - stall) * min(ratio, 1.0)
                 return (base if ratio <= 1.0 else tn / max(ratio, 1e-9)) * k_env
         else:
-            cool = _cooling_factor_at(ratio, inverter_rated, ct_limit)
+            cool = mc.self_ventilated_cooling_factor(ratio, inverter_rated, ct_limit)
         fw = 1.0 / max(ratio, 1e-9) if ratio > 1.0 else 1.0
         return tn * cool * fw * k_env
 
     cap.at = at  # type: ignore[attr-defined]
     return cap
-
-
-def _cooling_factor_at(ratio: float, inverter_rated: bool, ct_limit: float | None) -> float:
-    """Return k_cool at one speed ratio: :func:`_cooling_factors` on a plain float (numpy.interp's formula)."""
-    if ct_limit is not None and ratio >= ct_limit:
-        return 1.0
-    if ratio < mc._COOLING_SPEED_RATIO[0]:
-        return mc._COOLING_NEAR_STANDSTILL
-    return _COOLING_CURVES[inverter_rated](ratio)
-
-
-# k_cool over n/n_b for a motor rated for inverter duty or not (mc.self_ventilated_cooling_factor's table)
-_COOLING_CURVES = {rated: ld.points_interpolator(list(mc._COOLING_SPEED_RATIO),
-                                                 [*mc._COOLING_FACTOR[:-1],
-                                                  1.0 if rated else mc._COOLING_FACTOR_NOT_INVERTER_RATED])
-                   for rated in (True, False)}
 
 
 def _train(m: Model, data: dict[str, Any], base: Path | None) -> None:
@@ -654,10 +643,7 @@ def _continuous(m: Model) -> None:
     required = [abs(float(data_fn(s))) / (i * eff) for s in speeds]
     capability = [cap.at(s * i) for s in speeds]
     margins = [c / max(r, 1e-12) if r > 0 else math.inf for c, r in zip(capability, required, strict=True)]
-    if any(x != x for x in margins):  # a NaN: the first one, as numpy.argmin picks it
-        k = next(j for j, x in enumerate(margins) if x != x)
-    else:
-        k = min(range(len(margins)), key=margins.__getitem__)  # the first smallest, as numpy.argmin
+    k = _numpy_arg(min, margins)
     if not math.isfinite(margins[k]):
         return
     _d(m, "train.continuous_margin", margins[k], "continuous_margin", fn_inputs,

@@ -212,32 +212,28 @@ def evaluate_rule(rule: Rule, model: Model, namespace: dict[str, Any], params: d
     parent = _spec_parent(model, rule.expression_environment, namespace)
     if rule.applies_when is not None:
         try:
-            applies = rule.applies_when.fn(ns, parent)
-            if isinstance(applies, Missing):
-                applies._fail_with_undefined_error()
+            applies = expr.run(rule.applies_when, ns, parent)
         except MissingInput as exc:
             return Outcome(rule.id, "not-checked", unsure,
                            f"cannot tell whether the rule applies: needs {', '.join(exc.paths)}",
                            rule.location, missing=list(exc.paths))
-        except Exception as exc:
-            return _rule_error(rule, "applies_when", rule.applies_text, expr.expression_error(exc))
+        except expr.ExpressionError as exc:
+            return _rule_error(rule, "applies_when", rule.applies_text, exc)
         if not applies:
             return Outcome(rule.id, "not-applicable", "info", "", rule.location)
     shown_values: dict[str, tuple[float, str | None]] = {}  # the numbers computed, with their kinds
     missing: list[str] = []
     for name, compiled, text, _kind in rule.values:
         try:
-            value = compiled.fn(ns, parent)
-            if isinstance(value, Missing):
-                value._fail_with_undefined_error()
+            value = expr.run(compiled, ns, parent)
         except MissingInput as exc:
             for p in exc.paths:
                 if p not in missing:
                     missing.append(p)
             ns[name] = Missing(paths=exc.paths)  # ns: the rule's own names, read by what follows
             continue
-        except Exception as exc:
-            return _rule_error(rule, f"values.{name}", text, expr.expression_error(exc))
+        except expr.ExpressionError as exc:
+            return _rule_error(rule, f"values.{name}", text, exc)
         if isinstance(value, (int, float)) and not isinstance(value, bool):
             if isinstance(value, float) and not math.isfinite(value):
                 return _rule_error(rule, f"values.{name}", text,
@@ -253,17 +249,15 @@ def evaluate_rule(rule: Rule, model: Model, namespace: dict[str, Any], params: d
             limit = shown_values[rule.limit]
     for i, check in enumerate(rule.checks):
         try:
-            failed = check.when.fn(ns, parent)
-            if isinstance(failed, Missing):
-                failed._fail_with_undefined_error()
+            failed = expr.run(check.when, ns, parent)
         except MissingInput as exc:
             for p in exc.paths:
                 if p not in missing:
                     missing.append(p)
             return Outcome(rule.id, "not-checked", unsure, _not_checked_message(rule, missing), rule.location,
                            values=shown_values, missing=missing, limit=limit)
-        except Exception as exc:
-            return _rule_error(rule, f"checks[{i}].when", check.when_text, expr.expression_error(exc))
+        except expr.ExpressionError as exc:
+            return _rule_error(rule, f"checks[{i}].when", check.when_text, exc)
         if failed:
             message, fix = check.message or rule.message, check.fix or rule.fix
             display = _display_names(rule, (message, fix), ns, params, shown_values, system)

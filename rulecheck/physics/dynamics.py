@@ -352,10 +352,8 @@ def reduce_duty_cycle(
         raise ValueError("a duty cycle needs at least one segment")
     if not 0 < standstill_factor <= 1:
         raise ValueError("the standstill cooling factor must be in (0, 1]")
-    columns = [(s.segment.duration, s.torque, s.segment.speed_from, s.segment.speed_to) for s in items]
-    t, torque, w0, w1 = np.array(columns, dtype=float).T.copy()
-    if len(columns) <= _SHORT_CYCLE and all(math.isfinite(v) for row in columns for v in row):
-        return _reduce_short_cycle(columns, t, torque, w0, w1, standstill_factor, capability)
+    t, torque, w0, w1 = np.array([(s.segment.duration, s.torque, s.segment.speed_from, s.segment.speed_to)
+                                  for s in items], dtype=float).T.copy()
     standstill = (w0 == 0) & (w1 == 0)
     t_eff = np.where(standstill, standstill_factor * t, t)
     effective_time = float(t_eff.sum())
@@ -380,44 +378,6 @@ def reduce_duty_cycle(
         peak_motoring_power=max(0.0, float(np.max(np.maximum(p0, p1)))),
         peak_braking_power=max(0.0, float(np.max(np.maximum(-p0, -p1)))),
         utilisation=utilisation,
-    )
-
-
-# Cycles up to this many segments are reduced on plain floats (numpy's call overhead exceeds the work)
-_SHORT_CYCLE = 128
-
-
-def _reduce_short_cycle(columns: list[tuple[float, float, float, float]], t: np.ndarray, torque: np.ndarray,
-                        w0: np.ndarray, w1: np.ndarray, standstill_factor: float,
-                        capability: Callable[[np.ndarray], np.ndarray] | None) -> DutyReduction:
-    """:func:`reduce_duty_cycle` of a short cycle of finite values: the same operations in the same order, sums in
-    numpy's pairwise order (:func:`numpy_sum`), so the same result to the bit; the energies and the
-    utilisation stay on the arrays."""
-    durations = [c[0] for c in columns]
-    still = [c[2] == 0 and c[3] == 0 for c in columns]
-    effective_time = numpy_sum([standstill_factor * d if s else d for d, s in zip(durations, still, strict=True)])
-    rms = math.sqrt(numpy_sum([q * q * d for d, q, _a, _b in columns]) / effective_time)
-    top_speed = [max(abs(a), abs(b)) for _d, _q, a, b in columns]
-    magnitudes = [abs(q) for _d, q, _a, _b in columns]
-    peak = max(magnitudes)
-    p0 = [q * a for _d, q, a, _b in columns]
-    p1 = [q * b for _d, q, _a, b in columns]
-    motoring, regenerated = _power_split(torque * w0, torque * w1, t)
-    cycle_time = numpy_sum(durations)
-    return DutyReduction(
-        peak_torque=peak,
-        speed_at_peak=max(v for v, m in zip(top_speed, magnitudes, strict=True) if m == peak),
-        rms_torque=rms,
-        mean_abs_torque=numpy_sum([m * d for m, d in zip(magnitudes, durations, strict=True)]) / cycle_time,
-        cycle_time=cycle_time,
-        effective_time=effective_time,
-        standstill_time=numpy_sum([d for d, s in zip(durations, still, strict=True) if s]),
-        max_speed=max(top_speed),
-        motoring_energy=motoring,
-        regenerative_energy=regenerated,
-        peak_motoring_power=max(0.0, max(max(a, b) for a, b in zip(p0, p1, strict=True))),
-        peak_braking_power=max(0.0, max(max(-a, -b) for a, b in zip(p0, p1, strict=True))),
-        utilisation=_utilisation(t, torque, w0, w1, effective_time, capability),
     )
 
 

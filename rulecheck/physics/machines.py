@@ -10,6 +10,8 @@ from __future__ import annotations
 
 import math
 from dataclasses import dataclass
+from functools import lru_cache
+from typing import Any
 
 import numpy as np
 
@@ -556,8 +558,17 @@ def self_ventilated_cooling_factor(
         return 1.0
     if ratio < _COOLING_SPEED_RATIO[0]:
         return _COOLING_NEAR_STANDSTILL
+    return _cooling_curve(bool(inverter_rated))(ratio)
+
+
+@lru_cache(maxsize=2)
+def _cooling_curve(inverter_rated: bool) -> Any:
+    """k_cool over n/n_b, interpolated as numpy.interp does (without its call overhead: the continuous margin
+    asks for it at every speed of its sweep)."""
+    from rulecheck.physics.loads import points_interpolator
+
     top = 1.0 if inverter_rated else _COOLING_FACTOR_NOT_INVERTER_RATED
-    return float(np.interp(ratio, _COOLING_SPEED_RATIO, (*_COOLING_FACTOR[:-1], top)))
+    return points_interpolator(list(_COOLING_SPEED_RATIO), [*_COOLING_FACTOR[:-1], top])
 
 
 # --- permanent-magnet synchronous machines ---------------------------------------

@@ -184,31 +184,3 @@ def test_run_up_grid_is_numpy_linspace_bit_for_bit(start: float, span: float, nu
 def test_numpy_sum_adds_in_numpys_order_bit_for_bit(values: list[float]) -> None:
     # the DOL run-up's Simpson sum is taken without an array; it must be numpy.sum's, to the last bit
     assert dy.numpy_sum(values) == float(np.sum(np.array(values, dtype=float)))
-
-
-_SEGMENT = st.tuples(st.floats(0.01, 100.0), st.sampled_from([0.0, 0.0, 50.0, 150.0, -80.0]),
-                     st.floats(-500.0, 500.0), st.floats(0.0, 5.0))
-
-
-@settings(max_examples=200, deadline=None)
-@given(segments=st.lists(_SEGMENT, min_size=1, max_size=60), beta=st.sampled_from([0.5, 1.0, 0.3]),
-       with_capability=st.booleans())
-def test_short_cycles_reduce_on_floats_as_on_arrays_bit_for_bit(segments, beta, with_capability) -> None:
-    # short cycles are reduced on plain floats (numpy's overhead exceeds the work); every result must be
-    # the array computation's, to the last bit
-    cycle, speed = [], 0.0
-    for duration, to, load, inertia in segments:
-        cycle.append(dy.Segment(duration, speed, to, load, inertia))
-        speed = to
-
-    def capability(w):
-        return 100.0 * np.where(np.abs(w) > 150.0, 150.0 / np.maximum(np.abs(w), 1e-9), 1.0)
-
-    cap = capability if with_capability else None
-    fast = dy.reduce_duty_cycle(cycle, beta, cap)
-    short, dy._SHORT_CYCLE = dy._SHORT_CYCLE, 0
-    try:
-        arrays = dy.reduce_duty_cycle(cycle, beta, cap)
-    finally:
-        dy._SHORT_CYCLE = short
-    assert fast == arrays
