@@ -15,7 +15,7 @@ from typing import Any
 
 from rulecheck import units
 from rulecheck.engine.ruleset import RuleSet
-from rulecheck.engine.run import Outcome, effective_params, evaluate_rule
+from rulecheck.engine.run import Outcome, effective_params, evaluate_rule, spec_names
 from rulecheck.load import Document, Limits, LoadError, load_file
 from rulecheck.schema import check_structure, read_quantities
 
@@ -92,17 +92,36 @@ class CheckContext:
                 for rule_id, rule in self.ruleset.rules.items()}
 
 
-_JSON_UNITS = {name: k.json_unit for name, k in units.KINDS.items()}
+# kind → (JSON unit, factor from the internal SI unit); kinds without a JSON unit are shown as plain numbers
+_JSON_UNITS = {name: (k.json_unit, units.RPM_PER_RAD_S if name == "rotational_speed" else None)
+               for name, k in units.KINDS.items() if k.json_unit is not None}
 
 
 def _value_dict(value: float, kind_name: str | None) -> dict[str, Any]:
-    unit = _JSON_UNITS.get(kind_name) if kind_name else None  # type: ignore[arg-type]
-    if unit is None:
+    shown = _JSON_UNITS.get(kind_name) if kind_name else None  # type: ignore[arg-type]
+    if shown is None:
         return {"value": _round(value), "unit": "1"}  # no kind: the result schema has no null kind
-    if kind_name == "rotational_speed":
-        value = value * units.RPM_PER_RAD_S
-    return {"value": float(f"{value:.6g}") if type(value) is float else _round(value), "unit": unit,
-            "kind": kind_name}
+    unit, factor = shown
+    if factor is not None:
+        value = value * factor
+    return {"value": _six(value) if type(value) is float else _round(value), "unit": unit, "kind": kind_name}
+
+
+# Values rounded as shown: a run's results repeat most values (a spec's values reappear in its findings,
+# and common ratings in many specs), and formatting one costs several dictionary look-ups.
+_ROUNDED: dict[float, float] = {}
+
+
+def _six(value: float) -> float:
+    """Return a float to six significant figures, as :func:`_round` does, once per value."""
+    rounded = _ROUNDED.get(value)
+    if rounded is None:
+        rounded = float(f"{value:.6g}")
+        if value:  # 0.0 and -0.0 are equal keys but keep their signs
+            if len(_ROUNDED) > 8192:
+                _ROUNDED.clear()  # a bound keeps memory flat on large runs
+            _ROUNDED[value] = rounded
+    return rounded
 
 
 def _derived_dict(model: Any) -> dict[str, Any]:
@@ -178,6 +197,22 @@ class SpecTimeout(Exception):
     """Checking one spec took longer than its time limit."""
 
 
+def _expire(_signum: int, _frame: Any) -> None:
+    raise SpecTimeout()
+
+
+# True in a worker process, whose SIGALRM handler stays set for its life (see :func:`keep_alarm_handler`)
+_ALARM = {"kept": False}
+
+
+def keep_alarm_handler() -> None:
+    """Set this process's SIGALRM handler to the spec time limit's for good (a worker's, which checks specs
+    and nothing else): each spec then costs two timer calls instead of two handler swaps as well."""
+    if hasattr(signal, "setitimer") and threading.current_thread() is threading.main_thread():
+        signal.signal(signal.SIGALRM, _expire)
+        _ALARM["kept"] = True
+
+
 @contextlib.contextmanager
 def _time_limit(seconds: int) -> Any:
     """Raise SpecTimeout in the block after ``seconds`` (POSIX, main thread only; elsewhere no limit)."""
@@ -186,17 +221,15 @@ def _time_limit(seconds: int) -> Any:
     if not usable:
         yield
         return
-
-    def expire(_signum: int, _frame: Any) -> None:
-        raise SpecTimeout()
-
-    previous = signal.signal(signal.SIGALRM, expire)
+    swap = not _ALARM["kept"]
+    previous = signal.signal(signal.SIGALRM, _expire) if swap else None
     signal.setitimer(signal.ITIMER_REAL, seconds)
     try:
         yield
     finally:
         signal.setitimer(signal.ITIMER_REAL, 0)
-        signal.signal(signal.SIGALRM, previous)
+        if swap:
+            signal.signal(signal.SIGALRM, previous if previous is not None else signal.SIG_DFL)
 
 
 def failed_result(file: str, status: str, rule: str, message: str, hint: str, line: int | None = None,
@@ -302,11 +335,15 @@ def _check_document(doc: Document, ctx: CheckContext, base_dir: Path | None) -> 
         result["outcomes"].append(outcome_dict(o, BUILTIN_RULES["margins-check"], doc))
     namespace = model.namespace()
     rule_outcomes: dict[str, Outcome] = {}
+    env = parent = None
     for rule in ctx.ruleset.rules.values():
         params = effective_params(rule, ctx.project_params, spec_margins) if spec_margins else \
             ctx.params_without_margins[rule.id]
+        if rule.expression_environment is not env:  # one sandbox per rule set: the spec's names looked up once
+            env = rule.expression_environment
+            parent = spec_names(model, env, namespace)
         outcome = evaluate_rule(rule, model, namespace, params, ctx.value_kinds.get(rule.id, {}), ctx.system,
-                                ctx.severity_overrides)
+                                ctx.severity_overrides, parent)
         rule_outcomes[rule.id] = outcome
     waiver_outcomes = _apply_waivers(data.get("waivers"), rule_outcomes, ctx)
     for rule_id, outcome in rule_outcomes.items():

@@ -360,10 +360,12 @@ def _end_with_parent() -> None:
 def _worker_init(explicit: str | None, extra: list[str], today: str, units_system: str, base_dir: str,
                  value_kinds: dict[str, dict[str, dict[str, str | None]]], charts: bool = True,
                  cache_dir: str | None = None) -> None:
+    from rulecheck.check import keep_alarm_handler
     from rulecheck.schema import use_fast_validator
 
     signal.signal(signal.SIGINT, signal.SIG_IGN)  # Ctrl-C is the parent's to handle: it stops the workers
     _end_with_parent()
+    keep_alarm_handler()
     use_fast_validator()
     _WORKER.clear()
     _WORKER.update(explicit=explicit, extra=[Path(p) for p in extra], today=_dt.date.fromisoformat(today),

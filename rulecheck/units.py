@@ -115,6 +115,7 @@ def registry() -> Any:
 
 # --- strict pattern ----------------------------------------------------------
 
+_DECIMAL_COMMA = re.compile(r"[+-]?\d+,\d+")
 _NUMBER = re.compile(r"\s*([+-]?(?:\d+(?:\.\d*)?|\.\d+)(?:[eE][+-]?\d{1,3})?)\s*")
 _TOKEN = re.compile(
     r"\s*(?:(?P<name>[A-Za-z_°µΩ][A-Za-z_°µΩ0-9]*)|(?P<op>\*\*|[*·/^()])|(?P<int>-?\d{1,4})|(?P<pct>%))"
@@ -426,7 +427,7 @@ def _parse_quantity(value: Any, kind_name: str) -> float:
     text = value.strip()
     if len(text) > MAX_QUANTITY_LENGTH:
         raise QuantityError(f"quantity text is longer than {MAX_QUANTITY_LENGTH} characters")
-    if re.match(r"^[+-]?\d+,\d+", text):
+    if _DECIMAL_COMMA.match(text):
         raise QuantityError(f"{value!r} uses a decimal comma", "write the decimal point: '0.75 kW'")
     m = _NUMBER.match(text)
     if not m:

@@ -341,9 +341,15 @@ class Compiled:
 
 
 class CompiledTemplate(Compiled):
-    """A compiled message template."""
+    """A compiled message template. ``bare``: the rule's own names it only substitutes as they are
+    (``{{ margin }}``, not ``{{ margin * 2 }}``): for those the text shown may stand in for the value."""
 
-    __slots__ = ()
+    __slots__ = ("bare",)
+
+    def __init__(self, fn: Callable[[dict[str, Any], dict[str, Any]], Any], env: Any, text: str,
+                 names: frozenset[str] = frozenset(), bare: frozenset[str] = frozenset()) -> None:
+        super().__init__(fn, env, text, names)
+        self.bare = bare
 
     def render(self, **names: Any) -> str:
         """Return the text with ``names`` substituted."""
@@ -447,12 +453,17 @@ def _build(env: Any, kind: str, text: str) -> Compiled:
     if fresh:
         SOURCES[key] = source
         SOURCES_STATE["dirty"] = True
-    cls = CompiledTemplate if kind == "template" else Compiled
-    return cls(namespace["_compiled"], env, text, frozenset(_RULE_NAME_READ.findall(source)))
+    names = frozenset(_RULE_NAME_READ.findall(source))
+    if kind == "template":
+        # bare: the names not read anywhere else once their bare substitutions are taken out
+        elsewhere = frozenset(_RULE_NAME_READ.findall(_BARE_TEXT.sub("", source)))
+        return CompiledTemplate(namespace["_compiled"], env, text, names, names - elsewhere)
+    return Compiled(namespace["_compiled"], env, text, names)
 
 
-# how translated code reads one of the rule's own names (compiler.visit_Name)
+# how translated code reads one of the rule's own names (compiler.visit_Name), and a template substitutes one
 _RULE_NAME_READ = re.compile(r"\(L\['([A-Za-z_][A-Za-z0-9_]*)'\] if ")
+_BARE_TEXT = re.compile(r"_text\(\(L\['([A-Za-z_][A-Za-z0-9_]*)'\] if '\1' in L else G\['\1'\]\)\)")
 
 
 def compile_expression(env: _RuleEnvironment, text: str) -> Compiled:

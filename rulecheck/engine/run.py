@@ -12,7 +12,7 @@ from rulecheck.engine.expr import Missing, MissingInput
 from rulecheck.engine.ruleset import Rule
 from rulecheck.model import Model
 
-__all__ = ["Outcome", "Shown", "evaluate_rule", "kind_of_result"]
+__all__ = ["Outcome", "Shown", "evaluate_rule", "kind_of_result", "spec_names"]
 
 @dataclass(slots=True)
 class Outcome:
@@ -42,15 +42,20 @@ class Shown:
         self.system = system
 
     def __str__(self) -> str:
-        if not self.value:  # 0 and -0.0 are equal keys but read differently
-            return units.format_value(self.value, self.kind, self.system)
-        key = (self.value, self.kind, self.system)
-        text = _SHOWN.get(key)
-        if text is None:
-            if len(_SHOWN) > 4096:
-                _SHOWN.clear()  # a bound keeps memory flat on large runs
-            text = _SHOWN[key] = units.format_value(self.value, self.kind, self.system)
-        return text
+        return _shown_text(self.value, self.kind, self.system)
+
+
+def _shown_text(value: float, kind: str | None, system: str) -> str:
+    """Return a value as a message shows it (:func:`units.format_value`), formatted once per value."""
+    if not value:  # 0 and -0.0 are equal keys but read differently
+        return units.format_value(value, kind, system)
+    key = (value, kind, system)
+    text = _SHOWN.get(key)
+    if text is None:
+        if len(_SHOWN) > 4096:
+            _SHOWN.clear()  # a bound keeps memory flat on large runs
+        text = _SHOWN[key] = units.format_value(value, kind, system)
+    return text
 
 
 # Values as messages show them: a spec's messages show the same value (and every spec the same parameter)
@@ -65,7 +70,7 @@ def _show_model_value(value: Any, kind_name: str | None, system: str) -> Any:
     return value
 
 
-def _spec_parent(model: Model, env: Any, namespace: dict[str, Any]) -> dict[str, Any]:
+def spec_names(model: Model, env: Any, namespace: dict[str, Any]) -> dict[str, Any]:
     """Return (and keep on the model) the names every rule's expressions see on this spec."""
     cache = model.functions.get("_parents")
     if cache is None:
@@ -205,11 +210,14 @@ def _render(template: Any, model: Model, system: str, names: dict[str, Any]) -> 
 
 def evaluate_rule(rule: Rule, model: Model, namespace: dict[str, Any], params: dict[str, Any],
                   value_kinds: dict[str, str | None], system: str = "si",
-                  severity_overrides: dict[str, str] | None = None) -> Outcome:
-    """Return the one outcome of ``rule`` on ``model``; rule errors become outcomes, never exceptions."""
+                  severity_overrides: dict[str, str] | None = None, parent: dict[str, Any] | None = None) -> Outcome:
+    """Return the one outcome of ``rule`` on ``model``; rule errors become outcomes, never exceptions.
+
+    ``parent``: the spec's names for the rule's sandbox (:func:`spec_names`), when the caller has them."""
     ns = dict(params)
     unsure = "warning" if rule.safety else "info"
-    parent = _spec_parent(model, rule.expression_environment, namespace)
+    if parent is None:
+        parent = spec_names(model, rule.expression_environment, namespace)
     if rule.applies_when is not None:
         try:
             applies = expr.run(rule.applies_when, ns, parent)
@@ -272,7 +280,9 @@ def evaluate_rule(rule: Rule, model: Model, namespace: dict[str, Any], params: d
 
 def _display_names(rule: Rule, templates: tuple[Any, ...], ns: dict[str, Any], params: dict[str, Any],
                    shown_values: dict[str, tuple[float, str | None]], system: str) -> dict[str, Any]:
-    """Return the rule's names as the ``templates`` show them: a number with its unit, anything else as it is."""
+    """Return the rule's names as the ``templates`` show them: a number with its unit, anything else as it is.
+
+    A number that every template substitutes only as it is (``{{ margin }}``) is given as its text at once."""
     display: dict[str, Any] = {}
     for template in templates:
         if template is None:
@@ -280,11 +290,13 @@ def _display_names(rule: Rule, templates: tuple[Any, ...], ns: dict[str, Any], p
         for n in template.names:
             if n in display or n not in ns:
                 continue
+            plain = n in template.bare and all(n in t.bare or n not in t.names for t in templates if t is not None)
             value = params.get(n) if n in rule.params else None
             if isinstance(value, (int, float)) and not isinstance(value, bool):
-                display[n] = _param_display(rule.params[n], value, system)
+                shown = _param_display(rule.params[n], value, system)
+                display[n] = str(shown) if plain else shown
             elif n in shown_values:
-                display[n] = Shown(*shown_values[n], system)
+                display[n] = _shown_text(*shown_values[n], system) if plain else Shown(*shown_values[n], system)
             else:
                 display[n] = ns[n]
     return display

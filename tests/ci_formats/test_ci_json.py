@@ -147,3 +147,20 @@ def test_hostile_text_round_trips_exactly():
     loaded = jsonout.load(jsonout.render(result))
     assert HOSTILE in loaded["specs"][1]["outcomes"][0]["title"]
     assert loaded["specs"][1]["file"] == result["specs"][1]["file"]
+
+
+def test_result_values_are_rounded_to_six_figures_the_same_every_time() -> None:
+    """Rounded values are kept between calls (many repeat in a run); a kept one equals a fresh rounding,
+    and the two zeros keep their signs."""
+    import math
+
+    from rulecheck.check import _ROUNDED, _value_dict
+
+    _ROUNDED.clear()
+    for value in (49.2205, 1234567.891, 1e-9 / 3, -0.0, 0.0, -0.0, 157.07963267948966, 49.2205):
+        first, again = _value_dict(value, "torque"), _value_dict(value, "torque")
+        assert first == again == {"value": float(f"{value:.6g}"), "unit": "N*m", "kind": "torque"}
+        assert math.copysign(1.0, again["value"]) == math.copysign(1.0, value)
+    speed = _value_dict(157.07963267948966, "rotational_speed")  # 157.08 rad/s is 1500 r/min
+    assert speed == {"value": 1500.0, "unit": "r/min", "kind": "rotational_speed"}
+    assert _value_dict(3, None) == {"value": 3.0, "unit": "1"}

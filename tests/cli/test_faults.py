@@ -73,6 +73,29 @@ def test_a_spec_over_its_time_limit_is_stopped_with_a_finding(tmp_path: Path, mo
         result["outcomes"][0]["message"]
 
 
+@pytest.mark.skipif(not hasattr(signal, "setitimer"), reason="needs POSIX timers")
+def test_the_time_limit_holds_with_a_worker_s_kept_alarm_handler(monkeypatch) -> None:
+    from rulecheck import check as check_module
+
+    ctx = runner.prepare(runner.Config(), [], runner._dt.date(2026, 12, 1), "si", None).context
+    ctx = CheckContext(**{**ctx.__dict__, "limits": Limits(max_seconds=1)})
+    previous = signal.getsignal(signal.SIGALRM)
+    monkeypatch.setitem(check_module._ALARM, "kept", False)
+    try:
+        check_module.keep_alarm_handler()  # what a worker does when it starts
+        assert check_module._ALARM["kept"] and signal.getsignal(signal.SIGALRM) is check_module._expire
+        fine = check_file(DEMO / "cv-110-incline-conveyor.yaml", ctx)  # a quick spec leaves no timer running
+        assert fine["status"] == "checked" and signal.getitimer(signal.ITIMER_REAL) == (0.0, 0.0)
+        monkeypatch.setattr(check_module, "_check_file", lambda *_a, **_k: time.sleep(5))
+        start = time.perf_counter()
+        result = check_file(DEMO / "cv-110-incline-conveyor.yaml", ctx)
+        assert time.perf_counter() - start < 3
+        assert "longer than the limit of 1 s" in result["outcomes"][0]["message"]
+        assert signal.getsignal(signal.SIGALRM) is check_module._expire  # kept, not swapped back
+    finally:
+        signal.signal(signal.SIGALRM, previous if previous is not None else signal.SIG_DFL)
+
+
 @pytest.mark.skipif(not hasattr(signal, "SIGINT"), reason="needs POSIX signals")
 def test_ctrl_c_exits_130_with_no_partial_report(tmp_path: Path) -> None:
     _copies(tmp_path / "specs", 150)

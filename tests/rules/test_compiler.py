@@ -135,3 +135,33 @@ def test_lint_passes_evaluate_every_branch() -> None:
         expr.evaluate(_compile_for_lint("a if a > 0 else b", take_first=False), names)
     with pytest.raises(expr.MissingInput):
         expr.evaluate(_compile_for_lint("a > 0 or b > 0"), names)
+
+
+def test_a_template_knows_the_names_it_substitutes_as_they_are() -> None:
+    """``bare``: names only ever written ``{{ name }}``, whose shown text may stand in for the value."""
+    text = "{{ margin }} at {{ speed }}, {{ margin }}; {{ count * 2 }} {{ label | upper }} {{ motor.rated_speed }}"
+    template = expr.compile_template(ENV, text)
+    assert template.names == {"margin", "speed", "count", "label"}
+    assert template.bare == {"margin", "speed"}
+    assert expr.compile_template(ENV, "{{ margin }} and {{ margin + 1 }}").bare == frozenset()
+    assert expr.compile_template(ENV, "no names").bare == frozenset()
+
+
+def test_values_shown_as_text_read_as_the_values_would() -> None:
+    """Evaluating a rule gives a bare name its text at once; any other use still gets the value with its
+    unit (so what a template does with it is unchanged)."""
+    from rulecheck.engine.run import Shown, _display_names
+
+    class _Rule:
+        params: dict[str, Any] = {}
+
+    bare = expr.compile_template(ENV, "margin {{ margin }} at {{ speed }}")
+    other = expr.compile_template(ENV, "{{ speed | length }}")
+    ns = {"margin": 1.2306, "speed": 125.66}
+    values = {"margin": (1.2306, None), "speed": (125.66, "rotational_speed")}
+    shown = _display_names(_Rule(), (bare,), ns, {}, values, "si")
+    assert shown == {"margin": "1.231", "speed": "1200 r/min"}  # 125.66 rad/s = 1199.99 r/min
+    assert shown["speed"] == str(Shown(125.66, "rotational_speed", "si"))
+    assert bare.fn(shown, expr.spec_parent(ENV, {})) == "margin 1.231 at 1200 r/min"
+    mixed = _display_names(_Rule(), (bare, other), ns, {}, values, "si")
+    assert mixed["margin"] == "1.231" and isinstance(mixed["speed"], Shown)  # 'speed' has another use there
