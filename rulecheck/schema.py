@@ -146,32 +146,106 @@ def use_fast_validator(enabled: bool = True) -> None:
     _FAST["enabled"] = enabled
 
 
-@lru_cache(maxsize=1)
-def _fast_validator() -> Any:
-    """Return the spec schema compiled to Python by fastjsonschema (about 20 times faster than jsonschema).
+_DRAFT_7 = "http://json-schema.org/draft-07/schema#"
 
-    It only decides "valid"; every invalid spec is validated again by jsonschema, whose errors carry the
-    paths the findings need. fastjsonschema implements draft 7; the spec schema uses nothing that draft
-    2020-12 reads differently (``$ref`` siblings here are descriptions only), and a test checks that
-    both validators agree on the demo, generated and bad-input specs.
+
+@lru_cache(maxsize=1)
+def _sections() -> dict[str, dict[str, Any]]:
+    """Return the top-level properties that are sections (a ``$ref`` to one of the schema's ``$defs``)."""
+    return {k: v for k, v in spec_schema()["properties"].items() if "$ref" in v}
+
+
+def _open_sections(schema: dict[str, Any]) -> dict[str, Any]:
+    """Return ``schema`` with every section left open (``{}``): its top-level keywords and small properties."""
+    sections = _sections()
+    return {**schema, "properties": {k: ({} if k in sections else v) for k, v in schema["properties"].items()}}
+
+
+@lru_cache(maxsize=1)
+def _fast_validators() -> tuple[Any, dict[str, Any]]:
+    """Return the spec schema compiled to Python by fastjsonschema (about 20 times faster than jsonschema):
+    the top level with its sections left open, and each section on its own.
+
+    They only decide "valid"; the part of an invalid spec that they refuse is validated again by jsonschema,
+    whose errors carry the paths the findings need. fastjsonschema implements draft 7; the spec schema uses
+    nothing that draft 2020-12 reads differently (``$ref`` siblings here are descriptions only), and a test
+    checks that both validators agree on the demo, generated and bad-input specs.
     """
     import copy
 
     import fastjsonschema
 
     schema = copy.deepcopy(spec_schema())
-    schema["$schema"] = "http://json-schema.org/draft-07/schema#"
-    return fastjsonschema.compile(schema)
+    schema["$schema"] = _DRAFT_7
+    top = fastjsonschema.compile(_open_sections(schema))
+    sections = {k: fastjsonschema.compile({"$schema": _DRAFT_7, "$defs": schema["$defs"], **v})
+                for k, v in _sections().items()}
+    return top, sections
 
 
-def _fast_valid(data: Any) -> bool:
-    if not _FAST["enabled"]:
-        return False
+def _fast_validator() -> Any:
+    """Return a function that raises for a spec the compiled validators refuse (see :func:`_fast_validators`)."""
+    top, sections = _fast_validators()
+
+    def validate(data: Any) -> None:
+        top(data)
+        for key, validate_section in sections.items():
+            if key in data:
+                validate_section(data[key])
+
+    return validate
+
+
+def _fast_refused(data: Any) -> set[str] | None:
+    """Return None for a spec the compiled validators accept, else the parts jsonschema must explain: the
+    sections refused, and "" for the top level with its small properties (None as well when the fast
+    validators are off: everything is explained)."""
+    if not _FAST["enabled"] or not isinstance(data, dict):
+        return {"*"}
+    top, sections = _fast_validators()
+    refused = set()
     try:
-        _fast_validator()(data)
+        top(data)
     except Exception:  # invalid, or anything the compiled validator cannot handle: jsonschema decides
-        return False
-    return True
+        refused.add("")
+    for key, validate_section in sections.items():
+        if key in data:
+            try:
+                validate_section(data[key])
+            except Exception:
+                refused.add(key)
+    return refused or None
+
+
+@lru_cache(maxsize=1)
+def _top_validator() -> Any:
+    from jsonschema import Draft202012Validator
+
+    return Draft202012Validator(_open_sections(spec_schema()))
+
+
+def _errors(data: Any, refused: set[str]) -> list[Any]:
+    """Return jsonschema's errors for ``data``, in its order, validating only the ``refused`` parts.
+
+    The whole pass yields the top level's own errors (type, required, unknown keys), then each property's in
+    the schema's order; a section the compiled validator accepted has none. ``*``: the whole pass."""
+    if "*" in refused:
+        return list(_validator().iter_errors(data))
+    top = list(_top_validator().iter_errors(data)) if "" in refused else []
+    errors = [e for e in top if not e.path]
+    validator = _validator()
+    sections = _sections()
+    for key, sub in spec_schema()["properties"].items():
+        if key not in data:
+            continue
+        if key in sections:
+            if key in refused:
+                for error in validator.descend(data[key], sub, path=key, schema_path=key):
+                    error.schema_path.appendleft("properties")  # as the whole pass's 'properties' keyword does
+                    errors.append(error)
+        else:
+            errors.extend(e for e in top if e.path and e.path[0] == key)
+    return errors
 
 
 def check_structure(doc: Document) -> list[Problem]:
@@ -179,7 +253,8 @@ def check_structure(doc: Document) -> list[Problem]:
     from jsonschema.exceptions import best_match
 
     problems: list[Problem] = []
-    errors = [] if _fast_valid(doc.data) else list(_validator().iter_errors(doc.data))
+    refused = _fast_refused(doc.data)
+    errors = [] if refused is None else _errors(doc.data, refused)
     # group by instance path and report the best-matching error of each group
     by_path: dict[tuple[Any, ...], list[Any]] = {}
     for error in errors:

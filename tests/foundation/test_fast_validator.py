@@ -87,3 +87,48 @@ def test_agrees_on_a_generated_corpus(tmp_path: Path) -> None:
         assert _fast(data) == _validator().is_valid(data), path.name
         compared += 1
     assert compared > 100
+
+
+def _error_list(errors: list) -> list[tuple]:
+    return [(list(e.path), list(e.schema_path), e.validator, e.validator_value, e.message,
+             [(list(c.path), c.validator, c.message) for c in e.context]) for e in errors]
+
+
+def _invalid_docs() -> list[dict]:
+    """The repository's invalid specs, and mistakes made in each section of the valid ones."""
+    import copy
+
+    out = [d for d in DOCS if not _validator().is_valid(d)]
+    for base in DOCS[:6]:
+        for key in base:
+            doc = copy.deepcopy(base)
+            if isinstance(doc[key], dict) and doc[key]:
+                first = next(iter(doc[key]))
+                doc[key][first] = {"nested": True}
+                doc[key]["no_such_key"] = 1
+            else:
+                doc[key] = {"no": "good"}
+            doc["no_such_section"] = 1
+            out.append(doc)
+        out.append({**copy.deepcopy(base), "format": 2, "tag": "bad tag", "margins": {"Bad": []}})
+        out.append({k: v for k, v in base.items() if k != "motor"})
+    return out
+
+
+def test_only_the_refused_parts_are_explained_with_the_whole_pass_s_errors() -> None:
+    """jsonschema runs on the top level and on the sections the compiled validators refuse: the errors are
+    the whole pass's, in its order, with the same paths, keywords and messages."""
+    from rulecheck import schema
+
+    invalid = _invalid_docs()
+    assert len(invalid) > 40
+    was = schema._FAST["enabled"]
+    schema.use_fast_validator()
+    try:
+        for doc in invalid:
+            refused = schema._fast_refused(doc)
+            assert refused, doc
+            assert _error_list(schema._errors(doc, refused)) == _error_list(list(_validator().iter_errors(doc)))
+            assert "*" not in refused and len(refused) < len(doc)  # only a part is validated again
+    finally:
+        schema.use_fast_validator(was)
