@@ -284,19 +284,23 @@ def _display_names(rule: Rule, templates: tuple[Any, ...], ns: dict[str, Any], p
 
     A number that every template substitutes only as it is (``{{ margin }}``) is given as its text at once."""
     display: dict[str, Any] = {}
-    for template in templates:
-        if template is None:
-            continue
+    present = [t for t in templates if t is not None]
+    if len(present) == 1:
+        bare = present[0].bare
+    else:  # the names bare in every template that uses them
+        bare = {n for t in present for n in t.bare if all(n in u.bare or n not in u.names for u in present)}
+    rule_params = rule.params
+    for template in present:
         for n in template.names:
             if n in display or n not in ns:
                 continue
-            plain = n in template.bare and all(n in t.bare or n not in t.names for t in templates if t is not None)
-            value = params.get(n) if n in rule.params else None
+            value = params.get(n) if n in rule_params else None
             if isinstance(value, (int, float)) and not isinstance(value, bool):
-                shown = _param_display(rule.params[n], value, system)
-                display[n] = str(shown) if plain else shown
+                shown = _param_display(rule_params[n], value, system)
+                display[n] = str(shown) if n in bare else shown
             elif n in shown_values:
-                display[n] = _shown_text(*shown_values[n], system) if plain else Shown(*shown_values[n], system)
+                value, kind = shown_values[n]
+                display[n] = _shown_text(value, kind, system) if n in bare else Shown(value, kind, system)
             else:
                 display[n] = ns[n]
     return display
