@@ -395,26 +395,27 @@ def walk_fields(data: Any) -> list[tuple[tuple[Any, ...], Any, dict[str, Any], s
     """Return (path parts, value, resolved subschema, dotted path) for every value of ``data`` the schema
     describes, parents before their children, in the order of the file."""
     out: list[tuple[tuple[Any, ...], Any, dict[str, Any], str]] = []
-    append = out.append
-
-    def walk(value: Any, node: dict[str, Any], parts: tuple[Any, ...], path: str) -> None:
-        if "$ref" in node:
-            node = _resolve(node)
-        append((parts, value, node, path))
-        if isinstance(value, dict):
-            props = node.get("properties")
-            if props:
-                for k, v in value.items():
-                    sub = props.get(k) if type(k) is str else None
-                    if sub is not None:
-                        walk(v, sub, (*parts, k), f"{path}.{k}" if path else k)
-        elif isinstance(value, list) and "items" in node:
-            items = node["items"]
-            for i, v in enumerate(value):
-                walk(v, items, (*parts, i), f"{path}[{i}]")
-
-    walk(data, spec_schema(), (), "")
+    _walk(data, spec_schema(), (), "", out.append)
     return out
+
+
+def _walk(value: Any, node: dict[str, Any], parts: tuple[Any, ...], path: str, append: Any) -> None:
+    # a module function, not a closure: a recursive closure is a reference cycle, which would keep each
+    # spec's list alive until the garbage collector's next pass
+    if "$ref" in node:
+        node = _resolve(node)
+    append((parts, value, node, path))
+    if isinstance(value, dict):
+        props = node.get("properties")
+        if props:
+            for k, v in value.items():
+                sub = props.get(k) if type(k) is str else None
+                if sub is not None:
+                    _walk(v, sub, (*parts, k), f"{path}.{k}" if path else k, append)
+    elif isinstance(value, list) and "items" in node:
+        items = node["items"]
+        for i, v in enumerate(value):
+            _walk(v, items, (*parts, i), f"{path}[{i}]", append)
 
 
 # Kinds whose values are magnitudes of physical things and so must be above zero.

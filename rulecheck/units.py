@@ -23,6 +23,7 @@ from __future__ import annotations
 
 import math
 import re
+import traceback
 from dataclasses import dataclass
 from functools import lru_cache
 from typing import Any
@@ -366,6 +367,7 @@ def _pint_conversion(unit_text: str, kind_name: str) -> tuple[float, float]:
         units = ureg.parse_units(pint_unit) if not any(c in pint_unit for c in "0123456789") else None
         q = ureg.Quantity(1.0, units) if units is not None else ureg.Quantity(pint_unit)
     except Exception as exc:  # pint raises several error types for unknown names
+        traceback.clear_frames(exc.__traceback__)  # as below: no cycle left behind
         raise QuantityError(f"unknown unit {text!r}", f"write a {k.description}") from exc
     target = ureg.parse_units(k.si_unit.replace("^", "**"))
     try:
@@ -381,6 +383,9 @@ def _pint_conversion(unit_text: str, kind_name: str) -> tuple[float, float]:
     except QuantityError:
         raise
     except Exception as exc:
+        # pint's frames hold its error in a reference cycle, with every caller's frame behind them (the spec
+        # being checked): cleared here, they are freed with the error instead of at the collector's next pass
+        traceback.clear_frames(exc.__traceback__)
         raise QuantityError(
             f"{text!r} is not a {k.description.split(' (')[0]}",
             f"write a {k.description}, for example '{k.example}'",

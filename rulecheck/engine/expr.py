@@ -154,36 +154,13 @@ def sections_from(items: Any) -> SectionMap:
     paths: dict[str, Any] = {}
     top: set[str] = set()  # names given a value at the top, which is no section's
     folders: dict[str, Section | None] = {}  # the section at each path prefix (None: a value is there)
-
-    def folder(prefix: str) -> Section | None:
-        found = folders.get(prefix, False)
-        if found is not False:
-            return found  # type: ignore[return-value]
-        up, dot, name = prefix.rpartition(".")
-        node: Section | None
-        if dot:
-            parent = folder(up)
-            if parent is None:
-                node = None
-            else:
-                children = parent._children
-                node = children.get(name)
-                if node is None and name not in parent._values:
-                    node = children[name] = Section(prefix, {}, {})
-        else:
-            node = sections.get(prefix)
-            if node is None and prefix not in top:
-                node = sections[prefix] = Section(prefix, {}, {})
-        folders[prefix] = node
-        return node
-
     for path, value in items:
         prefix, dot, leaf = path.rpartition(".")
         if not dot:
             if leaf not in sections:
                 top.add(leaf)
             continue
-        node = folder(prefix)
+        node = _folder(prefix, folders, sections, top)
         if node is not None and leaf not in node._children:
             node._values[leaf] = value
             paths[path] = value
@@ -192,6 +169,33 @@ def sections_from(items: Any) -> SectionMap:
             sections[name] = Section(name, {})
     sections.paths = paths
     return sections
+
+
+def _folder(prefix: str, folders: dict[str, Section | None], sections: SectionMap, top: set[str]) -> Section | None:
+    """Return the section at a path prefix, made on first use (None where a value sits instead).
+
+    A module function, not a closure: a recursive closure is a reference cycle, which would keep each spec's
+    sections alive until the garbage collector's next pass."""
+    found = folders.get(prefix, False)
+    if found is not False:
+        return found  # type: ignore[return-value]
+    up, dot, name = prefix.rpartition(".")
+    node: Section | None
+    if dot:
+        parent = _folder(up, folders, sections, top)
+        if parent is None:
+            node = None
+        else:
+            children = parent._children
+            node = children.get(name)
+            if node is None and name not in parent._values:
+                node = children[name] = Section(prefix, {}, {})
+    else:
+        node = sections.get(prefix)
+        if node is None and prefix not in top:
+            node = sections[prefix] = Section(prefix, {}, {})
+    folders[prefix] = node
+    return node
 
 
 def _magnitude(value: Any) -> float | None:
