@@ -392,7 +392,12 @@ def load_file(path: str | os.PathLike[str], limits: Limits | None = None, displa
     name = display_name or os.fspath(path)
     try:
         with open(path, "rb") as handle:
-            data = handle.read(limits.max_bytes + 1)
+            # read what the file holds (a read of the whole limit would allocate a megabyte for each spec);
+            # a file that grew since its size was taken is read on, up to the limit
+            size = os.fstat(handle.fileno()).st_size
+            data = handle.read(min(size, limits.max_bytes) + 1)
+            if len(data) > size:
+                data += handle.read(limits.max_bytes + 1 - len(data))
     except OSError as exc:
         raise LoadError(f"cannot read the file: {exc.strerror or exc}", rule="unreadable") from None
     whole = len(data) <= limits.max_bytes  # a file past the limit was read only in part

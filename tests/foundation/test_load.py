@@ -99,3 +99,25 @@ def test_yaml_11_scalars_keep_their_written_text() -> None:
     assert doc.data["x"] is False and doc.raw["x"] == ("no", "tag:yaml.org,2002:bool")
     assert doc.data["y"] == 90 and doc.raw["y"][0] == "1:30"
     assert doc.data["z"] == "2027-06-30"  # dates stay text
+
+
+def test_a_file_is_read_to_its_end_or_to_the_limit(tmp_path, monkeypatch) -> None:
+    """The loader reads what a file holds (up to the size limit), even when the size it was told is wrong
+    (a file that grows while it is read, a special file that reports no size)."""
+    import os
+
+    from rulecheck.load import load_file
+
+    path = tmp_path / "p101.yaml"
+    path.write_text(SPEC, encoding="utf-8")
+    size = len(SPEC.encode())
+    assert load_file(path, Limits(max_bytes=size)).data["motor"]["kind"] == "induction"  # exactly at the limit
+    with pytest.raises(LoadError, match="more than the limit"):
+        load_file(path, Limits(max_bytes=size - 1))
+    real_fstat = os.fstat
+    for told in (0, 7):  # a size smaller than what the file holds
+        monkeypatch.setattr(os, "fstat", lambda fd, told=told: os.stat_result((*real_fstat(fd)[:6], told,
+                                                                                  *real_fstat(fd)[7:])))
+        assert load_file(path).data["load"]["duty"][2]["speed_to"] == "0 r/min"
+        with pytest.raises(LoadError, match="more than the limit"):
+            load_file(path, Limits(max_bytes=size - 1))
