@@ -268,8 +268,9 @@ class ResultCache:
         self.hits += 1
         return CachedResult(result, body)
 
-    def _entry_bytes(self, key: str, result: Any) -> tuple[bytes, int] | None:
-        """Return a signed entry and where in it the result's JSON starts (None: not to be stored)."""
+    def _entry_parts(self, key: str, result: Any) -> tuple[bytes, bytes] | None:
+        """Return a signed entry in two parts, its signature and header, then the result's JSON (None: not
+        to be stored); the JSON is not copied to be signed or written."""
         if isinstance(result, CachedEntry):
             body, tally_data = result.data, result.tally
         else:
@@ -278,8 +279,9 @@ class ResultCache:
             return None  # a file that could not be read may read next time
         tally = json.dumps(tally_data, separators=(",", ":"))
         head = f"{_MAGIC} {key} {tally}\n".encode()
-        mac = self._mac(head + body).encode("ascii")
-        return mac + b"\n" + head + body, len(mac) + 1 + len(head)
+        mac = hmac.new(self._key, head, "sha256")
+        mac.update(body)  # the signature of head + body
+        return mac.hexdigest().encode("ascii") + b"\n" + head, body
 
     def put(self, key: str, result: Any) -> tuple[str, int, int] | None:
         """Store a spec result or a :class:`CachedEntry` at the end of this process's pack; return where its
@@ -290,25 +292,28 @@ class ResultCache:
         """
         if not self.usable:
             return None
-        made = self._entry_bytes(key, result)
+        made = self._entry_parts(key, result)
         if made is None:
             return None
-        entry, body_start = made
+        signed, body = made
         try:
             if self._pack is None or self._pack_pid != os.getpid():  # a forked worker writes a pack of its own
                 self._open_pack()
-            header = b"%s %s %d\n" % (_RECORD, key.encode("ascii"), len(entry))
-            record = header + entry + b"\n"
+            header = b"%s %s %d\n" % (_RECORD, key.encode("ascii"), len(signed) + len(body))
+            first = header + signed
+            size = len(first) + len(body) + 1
             start = self._pack_size
-            view = memoryview(record)
-            while view:  # one write of a whole record (a reader never sees half a header)
-                written = os.write(self._pack, view)  # type: ignore[arg-type]
-                view = view[written:]
-            self._pack_size += len(record)
+            # one write of a whole record (a reader never sees half a header)
+            written = os.writev(self._pack, [first, body, b"\n"]) if hasattr(os, "writev") else 0  # type: ignore[arg-type]
+            if written < size:  # a short write (or no writev): the rest in plain writes
+                view = memoryview(first + body + b"\n")[written:]
+                while view:
+                    view = view[os.write(self._pack, view):]  # type: ignore[arg-type]
+            self._pack_size += size
         except OSError:
             self.usable = False
             return None
-        return self._pack_path, start + len(header) + body_start, len(entry) - body_start
+        return self._pack_path, start + len(first), len(body)
 
     def read_span(self, where: tuple[str, int, int]) -> bytes:
         """Return the bytes at (pack, offset, length): a record of the index, or the result JSON :meth:`put`
@@ -354,10 +359,10 @@ class ResultCache:
         """Store a value in a file of its own (atomically: a temporary file, then rename); it replaces any older."""
         if not self.usable:
             return
-        made = self._entry_bytes(key, value)
+        made = self._entry_parts(key, value)
         if made is None:
             return
-        data = made[0]
+        data = b"".join(made)
         path = self._path(key)
         try:
             if path.parent not in self._folders:
