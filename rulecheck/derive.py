@@ -479,12 +479,16 @@ def _load_torque_function(m: Model, data: dict[str, Any]) -> Any:
     return None
 
 
+# the cooling table as arrays, made once: n/n_b, and k_cool for an inverter-rated motor and for one that is not
+_COOLING_TABLE = np.asarray(mc._COOLING_SPEED_RATIO, dtype=float)
+_COOLING_VALUES = {rated: np.asarray((*mc._COOLING_FACTOR[:-1], 1.0 if rated else
+                                      mc._COOLING_FACTOR_NOT_INVERTER_RATED), dtype=float) for rated in (True, False)}
+
+
 def _cooling_factors(ratio: Any, inverter_rated: bool, ct_limit: float | None) -> Any:
     """Return k_cool for an array of speed ratios n/n_b, as mc.self_ventilated_cooling_factor does for one."""
-    table = mc._COOLING_SPEED_RATIO
-    top = 1.0 if inverter_rated else mc._COOLING_FACTOR_NOT_INVERTER_RATED
-    cool = np.interp(ratio, table, (*mc._COOLING_FACTOR[:-1], top))
-    cool = np.where(ratio < table[0], mc._COOLING_NEAR_STANDSTILL, cool)
+    cool = np.interp(ratio, _COOLING_TABLE, _COOLING_VALUES[bool(inverter_rated)])
+    cool = np.where(ratio < mc._COOLING_SPEED_RATIO[0], mc._COOLING_NEAR_STANDSTILL, cool)
     if ct_limit is not None:
         cool = np.where(ratio >= ct_limit, 1.0, cool)
     return cool
@@ -515,8 +519,11 @@ def _capability(m: Model) -> Any:
                 return np.where(ratio <= 1.0, base, tn / np.maximum(ratio, 1e-9)) * k_env
         else:
             cool = _cooling_factors(ratio, inverter_rated, ct_limit)
-        fw = np.where(ratio > 1.0, 1.0 / np.maximum(ratio, 1e-9), 1.0)
-        return tn * cool * fw * k_env
+        torque = tn * cool
+        above = ratio > 1.0
+        if above.any():  # field weakening; below base speed k_fw is 1.0, and a product with 1.0 is the same number
+            torque = torque * np.where(above, 1.0 / np.maximum(ratio, 1e-9), 1.0)
+        return torque * k_env
 
     def at(w: float) -> float:
         """T_cont at one speed, on plain floats: ``cap``'s arithmetic in the same order, so the same value."""

@@ -317,8 +317,8 @@ def _power_split(power_from: np.ndarray, power_to: np.ndarray, dt: np.ndarray) -
         a, b, h = power_from[cross], power_to[cross], dt[cross]
         span = np.abs(a - b)
         ok = span > 0
-        absolute += float(np.sum((a[ok] ** 2 + b[ok] ** 2) / (2.0 * span[ok]) * h[ok]))
-        absolute -= 0.5 * float(np.sum(np.abs(a[ok] + b[ok]) * h[ok]))
+        absolute += float(((a[ok] ** 2 + b[ok] ** 2) / (2.0 * span[ok]) * h[ok]).sum())
+        absolute -= 0.5 * float((np.abs(a[ok] + b[ok]) * h[ok]).sum())
     return 0.5 * (absolute + signed), max(0.0, 0.5 * (absolute - signed))
 
 
@@ -357,26 +357,29 @@ def reduce_duty_cycle(
     standstill = (w0 == 0) & (w1 == 0)
     t_eff = np.where(standstill, standstill_factor * t, t)
     effective_time = float(t_eff.sum())
-    rms = math.sqrt(float(np.sum(torque**2 * t)) / effective_time)
+    # array methods rather than numpy's functions of the same names: the same reductions, without a
+    # Python-level wrapper each (a duty cycle is a few dozen values: the calls cost more than the sums)
+    rms = math.sqrt(float((torque**2 * t).sum()) / effective_time)
     top_speed = np.maximum(np.abs(w0), np.abs(w1))
-    peak = float(np.max(np.abs(torque)))
-    at_peak = np.abs(torque) == peak
+    magnitude = np.abs(torque)
+    peak = float(magnitude.max())
+    at_peak = magnitude == peak
     p0, p1 = torque * w0, torque * w1
     motoring, regenerated = _power_split(p0, p1, t)
     utilisation = _utilisation(t, torque, w0, w1, effective_time, capability)
     return DutyReduction(
         peak_torque=peak,
-        speed_at_peak=float(np.max(top_speed[at_peak])),
+        speed_at_peak=float(top_speed[at_peak].max()),
         rms_torque=rms,
-        mean_abs_torque=float(np.sum(np.abs(torque) * t) / t.sum()),
+        mean_abs_torque=float((magnitude * t).sum() / t.sum()),
         cycle_time=float(t.sum()),
         effective_time=effective_time,
         standstill_time=float(t[standstill].sum()),
         max_speed=float(top_speed.max()),
         motoring_energy=motoring,
         regenerative_energy=regenerated,
-        peak_motoring_power=max(0.0, float(np.max(np.maximum(p0, p1)))),
-        peak_braking_power=max(0.0, float(np.max(np.maximum(-p0, -p1)))),
+        peak_motoring_power=max(0.0, float(np.maximum(p0, p1).max())),
+        peak_braking_power=max(0.0, float(np.maximum(-p0, -p1).max())),
         utilisation=utilisation,
     )
 
