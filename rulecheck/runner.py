@@ -451,8 +451,6 @@ def run_stream(options: RunOptions, progress: Callable[[int, int], None] | None 
 
     Paths, configuration and rules are checked first: UsageError is raised before any spec is reported.
     """
-    from rulecheck.check import _display_path
-
     today = options.today or _dt.date.today()
     specs = collect_specs(options.paths)
     explicit = None
@@ -488,6 +486,7 @@ def run_stream(options: RunOptions, progress: Callable[[int, int], None] | None 
     # with nothing cached yet (a first run, a cleared cache) every spec is checked: its key is computed where
     # it is checked (by a worker, in parallel), not here before any checking can start
     keyed_later = cache is not None and not cache.has_any()
+    shown_path = _shown_paths(base_dir)
     for k, spec in enumerate(specs):
         cfg = configs.for_spec(spec)
         if cfg.file not in keys:
@@ -495,7 +494,7 @@ def run_stream(options: RunOptions, progress: Callable[[int, int], None] | None 
             keys[cfg.file] = hashlib.sha256(json.dumps(
                 [__version__, code_digest(), digests[cfg.file], _config_digest(cfg), today.isoformat(), units_system,
                  [str(p) for p in extra], options.charts]).encode()).hexdigest()
-        shown = _display_path(spec, base_dir)
+        shown = shown_path(spec)
         key = None
         if cache is not None and not keyed_later:
             try:
@@ -626,6 +625,25 @@ class Stream:
         """Record the cache's hits and misses in a summary."""
         if self.cache is not None:
             summary["cache"] = {"hits": self.cache.hits, "misses": self.cache.misses}
+
+
+def _shown_paths(base_dir: Path) -> Callable[[Path], str]:
+    """Return a function giving a spec's path as results show it (``check._display_path``), the path of each
+    folder worked out once: a repository has thousands of specs in a few dozen folders."""
+    from rulecheck.check import _display_path
+
+    folders: dict[str, str] = {}
+
+    def shown(spec: Path) -> str:
+        head, tail = os.path.split(str(spec))
+        if not head or tail in ("", ".", ".."):
+            return _display_path(spec, base_dir)
+        folder = folders.get(head)
+        if folder is None:
+            folder = folders[head] = _display_path(Path(head), base_dir)
+        return tail if folder == "." else f"{folder}/{tail}"
+
+    return shown
 
 
 # a spec for a worker: position in the run, configuration file, path, displayed path, cache key, context key

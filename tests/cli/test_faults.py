@@ -113,3 +113,18 @@ def test_ctrl_c_exits_130_with_no_partial_report(tmp_path: Path) -> None:
     assert "Traceback" not in stdout + stderr
     assert not out.exists()
     assert not list(tmp_path.glob(".report.json.*"))
+
+
+def test_a_spec_s_shown_path_is_worked_out_per_folder_as_for_each_spec(tmp_path: Path, monkeypatch) -> None:
+    """The run works out each folder's shown path once; every spec's comes out as check._display_path gives it."""
+    from rulecheck.check import _display_path
+
+    monkeypatch.chdir(tmp_path)
+    (tmp_path / "a" / "b").mkdir(parents=True)
+    base = Path.cwd()
+    shown = runner._shown_paths(base)
+    cases = [Path("x.yaml"), Path("a/x.yaml"), Path("a/b/y.yml"), Path("./a/b/z.yaml"), Path("a/../a/x.yaml"),
+             tmp_path / "a" / "x.yaml", tmp_path / "x.yaml", tmp_path.parent / "elsewhere" / "w.yaml",
+             Path("/") / "top.yaml"]
+    for spec in cases * 2:  # the second time from the folders worked out the first
+        assert shown(spec) == _display_path(spec, base), spec
