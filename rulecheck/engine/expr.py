@@ -160,7 +160,9 @@ def sections_from(items: Any) -> SectionMap:
             if leaf not in sections:
                 top.add(leaf)
             continue
-        node = _folder(prefix, folders, sections, top)
+        node = folders.get(prefix, False)  # most values share their section with the one before
+        if node is False:
+            node = _folder(prefix, folders, sections, top)
         if node is not None and leaf not in node._children:
             node._values[leaf] = value
             paths[path] = value
