@@ -132,3 +132,32 @@ def test_only_the_refused_parts_are_explained_with_the_whole_pass_s_errors() -> 
             assert "*" not in refused and len(refused) < len(doc)  # only a part is validated again
     finally:
         schema.use_fast_validator(was)
+
+
+@settings(max_examples=200, deadline=None, suppress_health_check=[HealthCheck.too_slow])
+@given(st.sampled_from(DOCS), st.lists(st.tuples(st.integers(0, 40), _values), min_size=1, max_size=4), st.data())
+def test_explaining_only_the_refused_parts_gives_the_whole_pass_s_errors_on_mutated_specs(
+        base: dict, edits: list, data: st.DataObject) -> None:
+    import copy
+
+    from rulecheck import schema
+
+    doc = copy.deepcopy(base)
+    for pick, value in edits:
+        keys = list(doc)
+        key = keys[pick % len(keys)]
+        if isinstance(doc[key], dict) and doc[key] and data.draw(st.booleans()):
+            inner_keys = list(doc[key])
+            doc[key][inner_keys[pick % len(inner_keys)]] = value
+        else:
+            doc[key] = value
+    was = schema._FAST["enabled"]
+    schema.use_fast_validator()
+    try:
+        refused = schema._fast_refused(doc)
+        whole = list(_validator().iter_errors(doc))
+        assert (refused is None) == (not whole)
+        if refused is not None:
+            assert _error_list(schema._errors(doc, refused)) == _error_list(whole)
+    finally:
+        schema.use_fast_validator(was)
