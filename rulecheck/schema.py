@@ -198,8 +198,8 @@ def _fast_validator() -> Any:
 
 def _fast_refused(data: Any) -> set[str] | None:
     """Return None for a spec the compiled validators accept, else the parts jsonschema must explain: the
-    sections refused, and "" for the top level with its small properties (None as well when the fast
-    validators are off: everything is explained)."""
+    sections refused, and "" for the top level with its small properties; ``{"*"}`` (all of it) when the
+    compiled validators are off or the data is not a mapping."""
     if not _FAST["enabled"] or not isinstance(data, dict):
         return {"*"}
     top, sections = _fast_validators()
