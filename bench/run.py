@@ -21,7 +21,8 @@ ratio is to the floor measured beside it, run in turn with it, so the drift over
 minutes does not enter the ratio; (a) is the first floor measurement. The CLI options used are found
 from ``rulecheck check --help``. The table is also
 written as JSON to bench/out/ (git-ignored). Timings depend on the machine and its load:
-compare ratios, not seconds.
+compare ratios, not seconds. The all-cores target is for 10,000 specs (a repository): smaller sizes
+print their ratio, not judged, to show how the serial start (rules compiled once) weighs on a small run.
 """
 
 from __future__ import annotations
@@ -46,7 +47,8 @@ REPO = BENCH.parent
 SPEC_SUFFIXES = (".yaml", ".yml")
 
 # Targets (the project's performance goals); ratios are to the floor of the same size.
-TARGET_ALL_CORES = 3.0
+TARGET_ALL_CORES = 3.0  # for TARGET_SIZE specs: smaller runs show their ratio for the growth of cost only
+TARGET_SIZE = 10_000
 TARGET_ONE_WORKER = 10.0
 TARGET_CACHED = 1.0
 TARGET_COLD_START_S = 0.5
@@ -306,9 +308,15 @@ def measure_size(size: int, args: argparse.Namespace, caps: Capabilities, env: d
         every, f_every = paired(check_command(python, caps, corpus, report, 0, cache_all), floor_cmd, work, env,
                                 repeat, fresh(cache_all), repeat_long=long)
         _require_ok(every, "check --jobs 0")
-        rows.append(Row(f"(c) check, all cores ({os.cpu_count()}), cold", size, every.seconds, "s",
-                        every.seconds / f_every.seconds, f"<= {TARGET_ALL_CORES:g}x",
-                        verdict(every.seconds / f_every.seconds, TARGET_ALL_CORES), beside(f_every)))
+        ratio = every.seconds / f_every.seconds
+        # the target is set for a repository of TARGET_SIZE specs; in a small run the serial start (rules
+        # compiled and linted once, before any worker starts) weighs more, and its ratio is shown, not judged
+        judged = size >= TARGET_SIZE
+        rows.append(Row(f"(c) check, all cores ({os.cpu_count()}), cold", size, every.seconds, "s", ratio,
+                        f"<= {TARGET_ALL_CORES:g}x" if judged else f"(at {TARGET_SIZE})",
+                        verdict(ratio, TARGET_ALL_CORES) if judged else "info",
+                        "; ".join(filter(None, [beside(f_every), "" if judged else
+                                                f"not judged: the target is for {TARGET_SIZE} specs"]))))
     else:
         every = None
         rows.append(Row("(c) check, all cores, cold", size, None, "s", None, f"<= {TARGET_ALL_CORES:g}x", "n/a",
