@@ -104,25 +104,7 @@ def _value_dict(value: float, kind_name: str | None) -> dict[str, Any]:
     unit, factor = shown
     if factor is not None:
         value = value * factor
-    return {"value": _six(value) if type(value) is float else _round(value), "unit": unit, "kind": kind_name}
-
-
-# Values rounded as shown: a run's results repeat most values (a spec's values reappear in its findings,
-# and common ratings in many specs; measured: 70 % of them), and rounding one (to text and back) costs
-# several times a dictionary look-up.
-_ROUNDED: dict[float, float] = {}
-
-
-def _six(value: float) -> float:
-    """Return a float to six significant figures, as :func:`_round` does, once per value."""
-    rounded = _ROUNDED.get(value)
-    if rounded is None:
-        rounded = float(f"{value:.6g}")
-        if value:  # 0.0 and -0.0 are equal keys but keep their signs
-            if len(_ROUNDED) > 8192:
-                _ROUNDED.clear()  # a bound keeps memory flat on large runs
-            _ROUNDED[value] = rounded
-    return rounded
+    return {"value": _round(value), "unit": unit, "kind": kind_name}
 
 
 def _derived_dict(model: Any) -> dict[str, Any]:
@@ -140,10 +122,26 @@ def _derived_dict(model: Any) -> dict[str, Any]:
     return derived
 
 
+# Values rounded as shown: a run's results repeat most values (a spec's values reappear in its findings,
+# and common ratings in many specs; measured: 70 % of them), and rounding one (to text and back) costs
+# several times a dictionary look-up.
+_ROUNDED: dict[float, float] = {}
+
+
 def _round(value: float) -> float:
+    """Return a number to six significant figures, as the values are shown (a float's kept per value)."""
+    if type(value) is float:
+        rounded = _ROUNDED.get(value)
+        if rounded is None:
+            rounded = float(f"{value:.6g}")
+            if value:  # 0.0 and -0.0 are equal keys but keep their signs
+                if len(_ROUNDED) > 8192:
+                    _ROUNDED.clear()  # a bound keeps memory flat on large runs
+                _ROUNDED[value] = rounded
+        return rounded
     if isinstance(value, bool) or not isinstance(value, (int, float)):
         return value
-    return float(f"{value:.6g}")  # six significant figures, as the values are shown
+    return float(f"{value:.6g}")
 
 
 def outcome_dict(o: Outcome, meta: dict[str, Any], doc: Document | None) -> dict[str, Any]:

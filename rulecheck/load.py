@@ -259,6 +259,7 @@ class _Builder:
             if node.tag != _MAP_TAG:
                 raise self._tag_error(node)
             result: dict[str, Any] = {}
+            limits = self.limits
             for key_node, value_node in node.value:
                 if key_node.tag == "tag:yaml.org,2002:merge":
                     raise LoadError("merge keys ('<<') are not accepted in a spec", *self._lc(key_node),
@@ -274,7 +275,6 @@ class _Builder:
                         *self._lc(key_node),
                         hint="a key may appear once in a mapping; remove one of them",
                     )
-                limits = self.limits
                 if value_node.tag == _STR_TAG and type(value_node) is yaml.ScalarNode and depth < limits.max_depth \
                         and self.nodes < limits.max_nodes:
                     self.nodes += 1  # a text value: what build() would return for it, without the call
