@@ -193,8 +193,12 @@ class ResultCache:
         self._pack_path = ""
         self._pack_size = 0
 
-    def _mac(self, payload: bytes) -> str:
-        return hmac.digest(self._key, payload, "sha256").hex()
+    def _mac(self, *parts: bytes) -> str:
+        """Return the signature of the parts joined (signed as they are: none is copied to be joined)."""
+        mac = hmac.new(self._key, digestmod="sha256")
+        for part in parts:
+            mac.update(part)
+        return mac.hexdigest()
 
     # --- spec results, in packs ----------------------------------------------------------------------
 
@@ -279,9 +283,7 @@ class ResultCache:
             return None  # a file that could not be read may read next time
         tally = json.dumps(tally_data, separators=(",", ":"))
         head = f"{_MAGIC} {key} {tally}\n".encode()
-        mac = hmac.new(self._key, head, "sha256")
-        mac.update(body)  # the signature of head + body
-        return mac.hexdigest().encode("ascii") + b"\n" + head, body
+        return self._mac(head, body).encode("ascii") + b"\n" + head, body
 
     def put(self, key: str, result: Any) -> tuple[str, int, int] | None:
         """Store a spec result or a :class:`CachedEntry` at the end of this process's pack; return where its
