@@ -547,9 +547,9 @@ def run_stream(options: RunOptions, progress: Callable[[int, int], None] | None 
         kinds = {cfg or "": p.context.value_kinds for cfg, p in prepared.items()}
         init = (explicit.file if explicit else None, [str(p) for p in extra], today.isoformat(), units_system,
                 str(base_dir), kinds, options.charts, str(cache.folder) if cache is not None else None)
-        from rulecheck.schema import _fast_validator
+        from rulecheck.schema import _fast_validators
 
-        _fast_validator()  # compiled once here: the forked workers inherit it
+        _fast_validators()  # compiled once here: the forked workers inherit them
         pool = _Workers(jobs, init, window=jobs * _Workers.CHUNK * 3)
 
     missing = {k for k, _cfg, _spec, _shown in todo}

@@ -183,24 +183,11 @@ def _fast_validators() -> tuple[Any, dict[str, Any]]:
     return top, sections
 
 
-def _fast_validator() -> Any:
-    """Return a function that raises for a spec the compiled validators refuse (see :func:`_fast_validators`)."""
-    top, sections = _fast_validators()
-
-    def validate(data: Any) -> None:
-        top(data)
-        for key, validate_section in sections.items():
-            if key in data:
-                validate_section(data[key])
-
-    return validate
-
-
 def _fast_refused(data: Any) -> set[str] | None:
     """Return None for a spec the compiled validators accept, else the parts jsonschema must explain: the
-    sections refused, and "" for the top level with its small properties; ``{"*"}`` (all of it) when the
-    compiled validators are off or the data is not a mapping."""
-    if not _FAST["enabled"] or not isinstance(data, dict):
+    sections refused, and "" for the top level with its small properties; ``{"*"}`` (all of it) for data
+    that is not a mapping."""
+    if not isinstance(data, dict):
         return {"*"}
     top, sections = _fast_validators()
     refused = set()
@@ -253,7 +240,7 @@ def check_structure(doc: Document) -> list[Problem]:
     from jsonschema.exceptions import best_match
 
     problems: list[Problem] = []
-    refused = _fast_refused(doc.data)
+    refused = _fast_refused(doc.data) if _FAST["enabled"] else {"*"}
     errors = [] if refused is None else _errors(doc.data, refused)
     # group by instance path and report the best-matching error of each group
     by_path: dict[tuple[Any, ...], list[Any]] = {}
@@ -431,6 +418,8 @@ _AT_MOST_ONE = {
 
 
 def _range_problem(path: str, parts: tuple[Any, ...], si: float, kind_name: str, value: Any) -> Problem | None:
+    if si > 0 and kind_name != "fraction":
+        return None  # only a fraction has an upper bound; every other kind's bound is at zero
     name = str(parts[-1]) if parts else ""
     if kind_name in _POSITIVE_KINDS and si <= 0 and name not in ("altitude",):
         return Problem("spec-schema", path, f"{path}: {value!r} must be greater than zero",
@@ -465,14 +454,13 @@ def read_quantities(doc: Document) -> tuple[Quantities, list[Problem]]:
         except units.QuantityError as exc:
             problems.append(Problem("units-and-dimensions", path, f"{path}: {exc.message}", exc.hint, parts=parts))
             continue
-        problem = None if si > 0 and kind_name != "fraction" else _range_problem(path, parts, si, kind_name, value)
+        problem = _range_problem(path, parts, si, kind_name, value)
         if problem:
             problems.append(replace(problem, parts=parts))
             continue
         q.values[path] = si
         q.kinds[path] = kind_name
         q.written[path] = str(value)
-        if kind_name == "power":  # the one kind with an ambiguous unit (a bare 'hp')
-            for note in units.ambiguity_notes(value, kind_name):
-                problems.append(Problem("units-and-dimensions", path, f"{path}: {note}", severity="warning"))
+        for note in units.ambiguity_notes(value, kind_name):
+            problems.append(Problem("units-and-dimensions", path, f"{path}: {note}", severity="warning"))
     return q, problems

@@ -9,18 +9,14 @@ import yaml
 from hypothesis import HealthCheck, given, settings
 from hypothesis import strategies as st
 
-from rulecheck.schema import _fast_validator, _validator
+from rulecheck.schema import _fast_refused, _validator
 
 ROOT = Path(__file__).resolve().parents[2]
 SPECS = sorted((ROOT / "specs_demo").glob("*.yaml")) + sorted((ROOT / "tests").rglob("*.yaml"))
 
 
 def _fast(data: object) -> bool:
-    try:
-        _fast_validator()(data)
-    except Exception:
-        return False
-    return True
+    return _fast_refused(data) is None
 
 
 def _docs() -> list[object]:
@@ -122,16 +118,11 @@ def test_only_the_refused_parts_are_explained_with_the_whole_pass_s_errors() -> 
 
     invalid = _invalid_docs()
     assert len(invalid) > 40
-    was = schema._FAST["enabled"]
-    schema.use_fast_validator()
-    try:
-        for doc in invalid:
-            refused = schema._fast_refused(doc)
-            assert refused, doc
-            assert _error_list(schema._errors(doc, refused)) == _error_list(list(_validator().iter_errors(doc)))
-            assert "*" not in refused and len(refused) < len(doc)  # only a part is validated again
-    finally:
-        schema.use_fast_validator(was)
+    for doc in invalid:
+        refused = schema._fast_refused(doc)
+        assert refused, doc
+        assert _error_list(schema._errors(doc, refused)) == _error_list(list(_validator().iter_errors(doc)))
+        assert "*" not in refused and len(refused) < len(doc)  # only a part is validated again
 
 
 @settings(max_examples=200, deadline=None, suppress_health_check=[HealthCheck.too_slow])
@@ -151,13 +142,8 @@ def test_explaining_only_the_refused_parts_gives_the_whole_pass_s_errors_on_muta
             doc[key][inner_keys[pick % len(inner_keys)]] = value
         else:
             doc[key] = value
-    was = schema._FAST["enabled"]
-    schema.use_fast_validator()
-    try:
-        refused = schema._fast_refused(doc)
-        whole = list(_validator().iter_errors(doc))
-        assert (refused is None) == (not whole)
-        if refused is not None:
-            assert _error_list(schema._errors(doc, refused)) == _error_list(whole)
-    finally:
-        schema.use_fast_validator(was)
+    refused = schema._fast_refused(doc)
+    whole = list(_validator().iter_errors(doc))
+    assert (refused is None) == (not whole)
+    if refused is not None:
+        assert _error_list(schema._errors(doc, refused)) == _error_list(whole)
