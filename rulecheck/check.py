@@ -17,9 +17,11 @@ from rulecheck import units
 from rulecheck.engine.ruleset import RuleSet
 from rulecheck.engine.run import Outcome, effective_params, evaluate_rule, spec_names
 from rulecheck.load import Document, Limits, LoadError, load_file
+from rulecheck.result import Finding, SpecResult
 from rulecheck.schema import check_structure, read_quantities
 
-__all__ = ["BUILTIN_RULES", "CheckContext", "check_document", "check_file", "outcome_dict"]
+__all__ = ["BUILTIN_RULES", "CheckContext", "Checked", "check_document", "check_file", "check_spec", "failed",
+           "failed_result", "finding", "outcome_dict"]
 
 # Checks done by the loader and schema rather than by rule files; listed with the rules.
 BUILTIN_RULES: dict[str, dict[str, Any]] = {
@@ -82,7 +84,7 @@ class CheckContext:
     today: _dt.date = field(default_factory=_dt.date.today)
     system: str = "si"
     base_dir: Path | None = None  # paths in results are relative to this
-    charts: bool = True  # compute chart data (for the HTML report and the e-mail)
+    charts: bool = True  # compute chart series beside the result (for the HTML report and the e-mail)
 
     @cached_property
     def params_without_margins(self) -> dict[str, dict[str, Any]]:
@@ -144,39 +146,27 @@ def _round(value: float) -> float:
     return float(f"{value:.6g}")
 
 
-def outcome_dict(o: Outcome, meta: dict[str, Any], doc: Document | None) -> dict[str, Any]:
-    """Return one outcome in the JSON-result form."""
+def finding(o: Outcome, meta: dict[str, Any], doc: Document | None, at: Any = None) -> Finding:
+    """Return one rule outcome as a :class:`~rulecheck.result.Finding` (``at``: a position that overrides the
+    one looked up for the outcome's path)."""
     title, topic, safety = meta.get("title", ""), meta.get("topic", ""), bool(meta.get("safety", False))
     if o.outcome == "not-applicable":
-        # a rule that does not apply points at nothing: its fields that say what was found are left out
-        return {"rule": o.rule, "title": title, "topic": topic, "outcome": o.outcome, "severity": o.severity,
-                "safety": safety, "message": o.message, "location": {"path": o.path, "line": None, "column": None}}
+        return Finding(o.rule, title, topic, o.outcome, o.severity, safety, o.message, path=o.path)
+    pos = at
     # a pass points at nothing a reviewer must find: no line is looked up
-    located = doc is not None and o.path and o.outcome != "pass"
-    pos = doc.position(o.path) if located else None
-    if located and pos is None and o.rule == "spec-schema" and o.path in doc.key_positions:
-        pos = doc.key_positions[o.path]
-    entry = {
-        "rule": o.rule,
-        "title": title,
-        "topic": topic,
-        "outcome": o.outcome,
-        "severity": o.severity,
-        "safety": safety,
-        "message": o.message,
-        "fix": o.fix or o.hint,
-    }
-    if o.outcome != "pass":
-        # the basis and formula of a rule that found nothing are in the rule's own description
-        # ('rulecheck rules show', the SARIF driver); repeating them per spec only fattens the result
-        entry["formula"] = meta.get("formula", "")
-        entry["basis"] = meta.get("basis", [])
-    entry["location"] = {"path": o.path, "line": pos.line if pos else None, "column": pos.column if pos else None}
-    entry["values"] = {n: _value_dict(v, k) for n, (v, k) in o.values.items()}
-    entry["limit"] = _value_dict(*o.limit) if o.limit else None
-    entry["missing"] = list(o.missing)
-    entry["waiver"] = o.waiver
-    return entry
+    if pos is None and doc is not None and o.path and o.outcome != "pass":
+        pos = doc.position(o.path)
+        if pos is None and o.rule == "spec-schema" and o.path in doc.key_positions:
+            pos = doc.key_positions[o.path]
+    return Finding(o.rule, title, topic, o.outcome, o.severity, safety, o.message, o.fix or o.hint,
+                   meta.get("formula", ""), meta.get("basis", []), o.path, pos.line if pos else None,
+                   pos.column if pos else None, {n: _value_dict(v, k) for n, (v, k) in o.values.items()},
+                   _value_dict(*o.limit) if o.limit else None, tuple(o.missing), o.waiver)
+
+
+def outcome_dict(o: Outcome, meta: dict[str, Any], doc: Document | None) -> dict[str, Any]:
+    """Return one outcome in the JSON-result form."""
+    return finding(o, meta, doc).to_json()
 
 
 def _display_path(path: Path, base: Path | None) -> str:
@@ -185,11 +175,6 @@ def _display_path(path: Path, base: Path | None) -> str:
     except ValueError:
         rel = str(path)
     return rel.replace(os.sep, "/")
-
-
-def _empty_result(file: str, status: str) -> dict[str, Any]:
-    return {"file": file, "tag": None, "title": None, "spec_status": None, "sha256": None, "status": status,
-            "verdict": "invalid", "counts": {}, "outcomes": [], "derived": {}, "charts": {}}
 
 
 class SpecTimeout(Exception):
@@ -231,14 +216,27 @@ def _time_limit(seconds: int) -> Any:
             signal.signal(signal.SIGALRM, previous if previous is not None else signal.SIG_DFL)
 
 
+def failed(file: str, status: str, rule: str, message: str, hint: str, line: int | None = None,
+           column: int | None = None, sha256: str | None = None, tag: str | None = None) -> SpecResult:
+    """Return the result of a spec that could not be checked: one failing built-in check, at a position if known."""
+    meta = BUILTIN_RULES[rule]
+    outcome = Finding(rule, meta["title"], meta["topic"], "fail", "error", bool(meta["safety"]), message, hint,
+                      meta.get("formula", ""), meta["basis"], "", line, column)
+    return SpecResult(file, status, (outcome,), tag=tag, sha256=sha256)
+
+
 def failed_result(file: str, status: str, rule: str, message: str, hint: str, line: int | None = None,
                   column: int | None = None) -> dict[str, Any]:
-    """Return the result of a spec that could not be checked: one failing built-in check, at a position if known."""
-    result = _empty_result(file, status)
-    outcome = outcome_dict(Outcome(rule, "fail", "error", message, "", hint=hint), BUILTIN_RULES[rule], None)
-    outcome["location"] = {"path": "", "line": line, "column": column}
-    result["outcomes"].append(outcome)
-    return _finish(result)
+    """Return the JSON result of a spec that could not be checked (see :func:`failed`)."""
+    return failed(file, status, rule, message, hint, line, column).to_json()
+
+
+@dataclass(frozen=True)
+class Checked:
+    """A spec's result and, when the run draws charts, its chart series (never part of the result)."""
+
+    result: dict[str, Any]
+    charts: dict[str, Any] | None = None
 
 
 def check_file(path: Path, ctx: CheckContext, display: str | None = None) -> dict[str, Any]:
@@ -246,40 +244,51 @@ def check_file(path: Path, ctx: CheckContext, display: str | None = None) -> dic
 
     ``display`` is the path shown in the result, when the caller has it already (relative to ``ctx.base_dir``).
     """
+    return check_spec(path, ctx, display).result
+
+
+def check_spec(path: Path, ctx: CheckContext, display: str | None = None) -> Checked:
+    """Return the result of one spec file with its chart series when ``ctx.charts`` asks for them (see
+    :func:`check_file`)."""
     file = display if display is not None else _display_path(path, ctx.base_dir)
     try:
         with _time_limit(ctx.limits.max_seconds):
-            return _check_file(path, file, ctx)
+            result, charts = _check_file(path, file, ctx)
     except SpecTimeout:
-        return failed_result(file, "invalid", "internal-error",
-                             f"checking this spec took longer than the limit of {ctx.limits.max_seconds} s and was "
-                             "stopped", "report the spec to the rulecheck maintainers; limits.max_seconds in the "
-                             "configuration sets the limit")
+        result = failed(file, "invalid", "internal-error",
+                        f"checking this spec took longer than the limit of {ctx.limits.max_seconds} s and was "
+                        "stopped", "report the spec to the rulecheck maintainers; limits.max_seconds in the "
+                        "configuration sets the limit")
+        charts = None
+    return Checked(result.to_json(), charts if ctx.charts else None)
 
 
-def _check_file(path: Path, file: str, ctx: CheckContext) -> dict[str, Any]:
+def _check_file(path: Path, file: str, ctx: CheckContext) -> tuple[SpecResult, dict[str, Any] | None]:
     try:
         doc = load_file(path, ctx.limits, display_name=file)
     except LoadError as exc:
-        return failed_result(file, "unreadable" if exc.rule == "unreadable" else "invalid", "yaml-syntax",
-                             exc.message, exc.hint, exc.line, exc.column)
-    return check_document(doc, ctx, path.parent)
+        return failed(file, "unreadable" if exc.rule == "unreadable" else "invalid", "yaml-syntax",
+                      exc.message, exc.hint, exc.line, exc.column), None
+    return _check_safely(doc, ctx, path.parent)
 
 
 def check_document(doc: Document, ctx: CheckContext, base_dir: Path | None = None) -> dict[str, Any]:
     """Return the result dict of a loaded spec document (a fault of the checker becomes an ``internal-error``)."""
+    return _check_safely(doc, ctx, base_dir)[0].to_json()
+
+
+def _check_safely(doc: Document, ctx: CheckContext,
+                  base_dir: Path | None) -> tuple[SpecResult, dict[str, Any] | None]:
     try:
         return _check_document(doc, ctx, base_dir)
     except Exception as exc:  # one spec that trips a bug must not stop the run or show a traceback
         reason = f"{type(exc).__name__}: {exc}"
         reason = reason if len(reason) <= 300 else reason[:297] + "..."
-        result = failed_result(doc.file, "invalid", "internal-error",
-                               f"rulecheck could not finish checking this spec ({reason})",
-                               "this is a fault of rulecheck, not necessarily of the spec: report it with the spec")
         data = doc.data if isinstance(doc.data, dict) else {}
-        result["sha256"] = doc.sha256
-        result["tag"] = data.get("tag") if isinstance(data.get("tag"), str) else None
-        return result
+        return failed(doc.file, "invalid", "internal-error",
+                      f"rulecheck could not finish checking this spec ({reason})",
+                      "this is a fault of rulecheck, not necessarily of the spec: report it with the spec",
+                      sha256=doc.sha256, tag=data.get("tag") if isinstance(data.get("tag"), str) else None), None
 
 
 def _without(data: Any, problems: list[Any]) -> Any:
@@ -303,35 +312,44 @@ def _without(data: Any, problems: list[Any]) -> Any:
     return data
 
 
-def _check_document(doc: Document, ctx: CheckContext, base_dir: Path | None) -> dict[str, Any]:
-    from rulecheck.charts_data import chart_data
+def _text(data: dict[str, Any], key: str) -> str | None:
+    value = data.get(key)
+    return value if isinstance(value, str) else None
+
+
+def _check_document(doc: Document, ctx: CheckContext,
+                    base_dir: Path | None) -> tuple[SpecResult, dict[str, Any] | None]:
     from rulecheck.derive import build_model
 
-    result = _empty_result(doc.file, "checked")
-    result["sha256"] = doc.sha256
     data = doc.data
-    result["tag"] = data.get("tag") if isinstance(data.get("tag"), str) else None
-    result["title"] = data.get("title") if isinstance(data.get("title"), str) else None
-    result["spec_status"] = data.get("status") if isinstance(data.get("status"), str) else None
     problems = check_structure(doc)
     quantities, unit_problems = read_quantities(doc)
     problems += unit_problems
-    for p in problems:
-        pos = doc.key_positions.get(p.path) if p.at_key else None
-        entry = outcome_dict(Outcome(p.rule, "fail", p.severity, p.message, p.path, hint=p.hint),
-                             BUILTIN_RULES[p.rule], doc)
-        if pos:
-            entry["location"].update(line=pos.line, column=pos.column)
-        result["outcomes"].append(entry)
-    if any(p.severity == "error" for p in problems):
-        result["status"] = "invalid"
+    findings = [finding(Outcome(p.rule, "fail", p.severity, p.message, p.path, hint=p.hint), BUILTIN_RULES[p.rule],
+                        doc, doc.key_positions.get(p.path) if p.at_key else None) for p in problems]
+    status = "invalid" if any(p.severity == "error" for p in problems) else "checked"
     model = build_model(doc.with_data(_without(data, problems)), quantities, base_dir=base_dir)
-    for note in model.notes:
-        result.setdefault("notes", []).append(note)
     margins = data.get("margins") if isinstance(data.get("margins"), dict) else {}
     spec_margins, margin_outcomes = _read_margins(margins, ctx.ruleset)
-    for o in margin_outcomes:
-        result["outcomes"].append(outcome_dict(o, BUILTIN_RULES["margins-check"], doc))
+    findings += [finding(o, BUILTIN_RULES["margins-check"], doc) for o in margin_outcomes]
+    rule_outcomes = _evaluate_rules(model, spec_margins, ctx)
+    waiver_outcomes = _apply_waivers(data.get("waivers"), rule_outcomes, ctx)
+    rules = ctx.ruleset.rules
+    findings += [finding(outcome, rules[rule_id].metadata(), doc) for rule_id, outcome in rule_outcomes.items()]
+    findings += [finding(o, BUILTIN_RULES["waiver-check"], doc) for o in waiver_outcomes]
+    result = SpecResult(doc.file, status, tuple(findings), _text(data, "tag"), _text(data, "title"),
+                        _text(data, "status"), doc.sha256, _derived_dict(model), tuple(model.notes))
+    return result, _charts(model) if ctx.charts else None
+
+
+def _charts(model: Any) -> dict[str, Any]:
+    from rulecheck.charts_data import chart_data
+
+    return chart_data(model)
+
+
+def _evaluate_rules(model: Any, spec_margins: dict[str, Any], ctx: CheckContext) -> dict[str, Outcome]:
+    """Return every rule's outcome for the model, by rule id."""
     namespace = model.namespace()
     rule_outcomes: dict[str, Outcome] = {}
     env = parent = None
@@ -341,18 +359,9 @@ def _check_document(doc: Document, ctx: CheckContext, base_dir: Path | None) -> 
         if rule.expression_environment is not env:  # one sandbox per rule set: the spec's names looked up once
             env = rule.expression_environment
             parent = spec_names(model, env, namespace)
-        outcome = evaluate_rule(rule, model, namespace, params, ctx.value_kinds.get(rule.id, {}), ctx.system,
-                                ctx.severity_overrides, parent)
-        rule_outcomes[rule.id] = outcome
-    waiver_outcomes = _apply_waivers(data.get("waivers"), rule_outcomes, ctx)
-    for rule_id, outcome in rule_outcomes.items():
-        rule = ctx.ruleset.rules[rule_id]
-        result["outcomes"].append(outcome_dict(outcome, rule.metadata(), doc))
-    for o in waiver_outcomes:
-        result["outcomes"].append(outcome_dict(o, BUILTIN_RULES["waiver-check"], doc))
-    result["derived"] = _derived_dict(model)
-    result["charts"] = chart_data(model) if ctx.charts else {}
-    return _finish(result)
+        rule_outcomes[rule.id] = evaluate_rule(rule, model, namespace, params, ctx.value_kinds.get(rule.id, {}),
+                                               ctx.system, ctx.severity_overrides, parent)
+    return rule_outcomes
 
 
 def _read_margins(margins: dict[str, Any], ruleset: RuleSet) -> tuple[dict[str, Any], list[Outcome]]:
@@ -414,34 +423,3 @@ def _apply_waivers(waivers: Any, outcomes: dict[str, Outcome], ctx: CheckContext
         outcome.outcome = "waived"
         outcome.waiver = info
     return findings
-
-
-def _finish(result: dict[str, Any]) -> dict[str, Any]:
-    counts = {"error": 0, "warning": 0, "info": 0, "not-checked": 0, "waived": 0, "pass": 0, "not-applicable": 0}
-    for o in result["outcomes"]:
-        if o["outcome"] == "fail":
-            counts[o["severity"]] += 1
-        else:
-            counts[o["outcome"]] += 1
-    result["counts"] = counts
-    if result["status"] != "checked":
-        result["verdict"] = "invalid"
-    elif counts["error"]:
-        result["verdict"] = "fail"
-    elif counts["warning"] or any(o["outcome"] == "not-checked" and o["severity"] == "warning"
-                                  for o in result["outcomes"]):
-        result["verdict"] = "warning"
-    else:
-        result["verdict"] = "pass"
-    result["outcomes"].sort(key=_outcome_sort_key)
-    return result
-
-
-_OUTCOME_ORDER = {"fail": 0, "not-checked": 1, "waived": 2, "pass": 3, "not-applicable": 4}
-_SEVERITY_RANK = {"error": 0, "warning": 1, "info": 2}
-
-
-def _outcome_sort_key(o: dict[str, Any]) -> tuple[Any, ...]:
-    loc = o.get("location") or {}
-    return (_OUTCOME_ORDER.get(o["outcome"], 9), _SEVERITY_RANK.get(o["severity"], 9), loc.get("line") or 0,
-            loc.get("column") or 0, o["rule"])
