@@ -11,6 +11,8 @@ import json
 from collections import Counter
 from typing import Any
 
+from rulecheck.result import is_finding, summarise
+
 __all__ = ["BaselineError", "apply", "identity", "load", "render"]
 
 _FORMAT = "rulecheck-baseline"
@@ -25,17 +27,12 @@ def identity(spec: dict[str, Any], outcome: dict[str, Any]) -> tuple[str, str, s
     return (outcome["rule"], spec["file"], (outcome.get("location") or {}).get("path") or "")
 
 
-def _is_finding(outcome: dict[str, Any]) -> bool:
-    return outcome["outcome"] == "fail" or (
-        outcome["outcome"] == "not-checked" and (outcome.get("safety") or outcome["severity"] == "error"))
-
-
 def render(result: dict[str, Any]) -> str:
     """Return the baseline document for the findings of ``result``."""
     findings = []
     for spec in result["specs"]:
         for o in spec["outcomes"]:
-            if _is_finding(o):
+            if is_finding(o):
                 rule, file, path = identity(spec, o)
                 findings.append({"rule": rule, "file": file, "path": path, "outcome": o["outcome"],
                                  "severity": o["severity"], "message": o["message"]})
@@ -69,20 +66,23 @@ class Matcher:
         self.new = 0
         self.matched = 0
 
-    def mark(self, spec: dict[str, Any]) -> None:
-        """Mark the known findings of one spec (``baseline: true``); count the new ones."""
-        for o in spec["outcomes"]:
-            if not _is_finding(o):
+    def mark(self, spec: dict[str, Any]) -> dict[str, Any]:
+        """Return one spec with the findings the baseline knows marked (``baseline: true``; the spec given is
+        left as it is: a copy is returned when something is marked); count the new findings."""
+        marked = None
+        for i, o in enumerate(spec["outcomes"]):
+            if not is_finding(o):
                 continue
             key = identity(spec, o)
             if self.remaining[key] > 0:
                 self.remaining[key] -= 1
-                o["baseline"] = True
-                if getattr(spec, "data", None) is not None:
-                    spec.data = None  # the cached JSON no longer matches the marked result
+                if marked is None:
+                    marked = list(spec["outcomes"])
+                marked[i] = {**o, "baseline": True}
                 self.matched += 1
             else:
                 self.new += 1
+        return spec if marked is None else {**spec, "outcomes": marked}
 
     def summary(self) -> dict[str, Any]:
         """Return the baseline's part of the run summary."""
@@ -93,10 +93,7 @@ class Matcher:
 
 def apply(result: dict[str, Any], known: Counter[tuple[str, str, str]], name: str) -> None:
     """Mark the findings of ``result`` that the baseline knows; record new and fixed ones in the summary."""
-    from rulecheck.runner import summarise
-
     matcher = Matcher(known, name)
-    for spec in result["specs"]:
-        matcher.mark(spec)
+    result["specs"] = [matcher.mark(spec) for spec in result["specs"]]
     result.setdefault("summary", {})["baseline"] = matcher.summary()
     summarise(result)

@@ -20,9 +20,10 @@ from functools import lru_cache
 from pathlib import Path
 from typing import Any
 
-import orjson as _orjson
+from rulecheck.result import SpecTally, decode, encode
 
-__all__ = ["ResultCache", "code_digest", "default_cache_dir", "spec_key"]
+__all__ = ["CachedEntry", "CachedResult", "ResultCache", "charts_key", "code_digest", "default_cache_dir",
+           "entry_of", "spec_key"]
 
 _MAGIC = "rulecheck-cache-2"
 _NEW_FILE = os.O_WRONLY | os.O_CREAT | os.O_EXCL | getattr(os, "O_BINARY", 0)
@@ -60,25 +61,6 @@ def spec_key(spec_bytes: bytes, spec_path: Path, display: str, context_key: str)
     return h.hexdigest()
 
 
-def encode(result: Any) -> bytes:
-    """Return a spec result as compact JSON in UTF-8 (characters kept, key order kept).
-
-    orjson writes the same JSON as the standard library, about ten times faster; the standard encoder
-    takes what orjson refuses (text with a lone surrogate, integers beyond 64 bits). orjson would write a
-    non-finite number as null; results hold none (the engine turns a non-finite value into a rule error,
-    and charts leave such points out).
-    """
-    try:
-        return _orjson.dumps(result)
-    except (TypeError, _orjson.JSONEncodeError):
-        return json.dumps(result, ensure_ascii=True, separators=(",", ":"), allow_nan=False).encode("ascii")
-
-
-def decode(text: str | bytes) -> Any:
-    """Return the value of JSON text written by :func:`encode`; raise ValueError when it is not JSON."""
-    return _orjson.loads(text)
-
-
 class CachedResult(dict):  # type: ignore[type-arg]
     """A result with the compact JSON (UTF-8 bytes) it was encoded as or read from (None once it is changed)."""
 
@@ -88,45 +70,34 @@ class CachedResult(dict):  # type: ignore[type-arg]
 
 
 class CachedEntry:
-    """A spec result left unparsed: its compact JSON (UTF-8 bytes) and the counts of its outcomes.
+    """A spec result left unparsed: its compact JSON (UTF-8 bytes) and its tally (:class:`SpecTally`).
 
     The bytes travel from a worker to the report file as they are: nothing decodes or encodes them again.
     """
 
-    __slots__ = ("data", "tally", "where")
+    __slots__ = ("charts", "data", "tally", "where")
 
-    def __init__(self, data: bytes | None, tally: dict[str, Any], where: tuple[str, int, int] | None = None) -> None:
+    def __init__(self, data: bytes | None, tally: SpecTally, where: tuple[str, int, int] | None = None,
+                 charts: dict[str, Any] | None = None) -> None:
         self.data = data  # None while only ``where`` says where the bytes are (a worker's pack: path, offset, length)
         self.tally = tally
         self.where = where
+        self.charts = charts  # the chart series beside the result, when the run draws charts (never in the JSON)
 
     def load(self) -> dict[str, Any]:
         """Return the result itself."""
-        return CachedResult(decode(self.data), self.data)
+        return CachedResult(decode(self.data), self.data)  # type: ignore[arg-type]
 
 
 def entry_of(result: dict[str, Any]) -> CachedEntry:
-    """Return a spec result as its compact JSON and counts."""
-    return CachedEntry(encode(result), tally_of(result))
+    """Return a spec result as its compact JSON and tally."""
+    return CachedEntry(encode(result), SpecTally.of(result))
 
 
-def tally_of(result: dict[str, Any]) -> dict[str, Any]:
-    """Return what a run summary counts of one spec result, for every fail level."""
-    from rulecheck.runner import counts_toward_failure
-
-    fails = {"error": 0, "warning": 0, "info": 0}
-    other = {"not-checked": 0, "waived": 0}
-    failing = {level: result.get("status") != "checked" for level in ("error", "warning", "info")}
-    for o in result.get("outcomes", []):
-        if o["outcome"] == "fail":
-            fails[o["severity"]] += 1
-        elif o["outcome"] in other:
-            other[o["outcome"]] += 1
-        elif o["outcome"] in ("pass", "not-applicable"):
-            continue  # counts toward no failure at any level
-        for level in failing:
-            failing[level] = failing[level] or counts_toward_failure(o, level)
-    return {"status": result.get("status"), "fail": fails, **other, "failing": failing}
+def charts_key(key: str) -> str:
+    """Return the key of the chart series kept beside the result stored under ``key``: a run that draws
+    charts and one that does not share the result's entry."""
+    return hashlib.sha256(f"charts {key}".encode()).hexdigest()
 
 
 def default_cache_dir() -> Path:
@@ -263,7 +234,7 @@ class ResultCache:
         if not head.startswith(f"{_MAGIC} {key} ".encode()):
             raise ValueError("foreign entry")
         if lazy:  # signed by this user, written by encode(): copied into a JSON report as it is
-            tally = json.loads(head.split(b" ", 2)[2])
+            tally = SpecTally.from_json(json.loads(head.split(b" ", 2)[2]))
             self.hits += 1
             return CachedEntry(body, tally)
         result = decode(body)
@@ -272,17 +243,10 @@ class ResultCache:
         self.hits += 1
         return CachedResult(result, body)
 
-    def _entry_parts(self, key: str, result: Any) -> tuple[bytes, bytes] | None:
-        """Return a signed entry in two parts, its signature and header, then the result's JSON (None: not
-        to be stored); the JSON is not copied to be signed or written."""
-        if isinstance(result, CachedEntry):
-            body, tally_data = result.data, result.tally
-        else:
-            body, tally_data = encode(result), tally_of(result)
-        if tally_data.get("status") == "unreadable" or body is None:
-            return None  # a file that could not be read may read next time
-        tally = json.dumps(tally_data, separators=(",", ":"))
-        head = f"{_MAGIC} {key} {tally}\n".encode()
+    def _entry_parts(self, key: str, body: bytes, meta: dict[str, Any]) -> tuple[bytes, bytes]:
+        """Return a signed entry in two parts, its signature and header (with ``meta``), then ``body``; the body
+        is not copied to be signed or written."""
+        head = f"{_MAGIC} {key} {json.dumps(meta, separators=(',', ':'))}\n".encode()
         return self._mac(head, body).encode("ascii") + b"\n" + head, body
 
     def put(self, key: str, result: Any) -> tuple[str, int, int] | None:
@@ -292,12 +256,30 @@ class ResultCache:
         A result that could not be read (an OS error) is not stored: it may read next time. Errors only
         disable the cache.
         """
-        if not self.usable:
+        if not isinstance(result, CachedEntry):
+            result = entry_of(result)
+        if not self.usable or result.data is None or result.tally.status == "unreadable":
+            return None  # a file that could not be read may read next time
+        return self._append(key, result.data, result.tally.to_json())
+
+    def put_charts(self, key: str, charts: dict[str, Any]) -> None:
+        """Store the chart series of the result stored under ``key``."""
+        if self.usable:
+            self._append(charts_key(key), encode(charts), {"charts": True})
+
+    def get_charts(self, key: str) -> dict[str, Any] | None:
+        """Return the chart series kept beside the result stored under ``key``, or None (not counted as a miss:
+        the result is what a run looks up)."""
+        try:
+            value = self._open_entry(charts_key(key), self._read_record(charts_key(key)), lazy=False)
+        except (OSError, ValueError, UnicodeDecodeError):
             return None
-        made = self._entry_parts(key, result)
-        if made is None:
-            return None
-        signed, body = made
+        self.hits -= 1
+        return value
+
+    def _append(self, key: str, body: bytes, meta: dict[str, Any]) -> tuple[str, int, int] | None:
+        """Append a signed record to this process's pack; return where its body is (None: not stored)."""
+        signed, body = self._entry_parts(key, body, meta)
         try:
             if self._pack is None or self._pack_pid != os.getpid():  # a forked worker writes a pack of its own
                 self._open_pack()
@@ -349,6 +331,10 @@ class ResultCache:
     def _path(self, key: str) -> Path:
         return self.folder / key[:2] / f"{key}.json"
 
+    def has_file(self, key: str) -> bool:
+        """Return whether a file is stored under ``key`` (it is verified when read)."""
+        return self._path(key).is_file()
+
     def get_file(self, key: str) -> Any:
         """Return the value stored under ``key`` by :meth:`put_file`, or None."""
         try:
@@ -361,10 +347,7 @@ class ResultCache:
         """Store a value in a file of its own (atomically: a temporary file, then rename); it replaces any older."""
         if not self.usable:
             return
-        made = self._entry_parts(key, value)
-        if made is None:
-            return
-        data = b"".join(made)
+        data = b"".join(self._entry_parts(key, encode(value), {}))
         path = self._path(key)
         try:
             if path.parent not in self._folders:

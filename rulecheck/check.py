@@ -169,7 +169,7 @@ def outcome_dict(o: Outcome, meta: dict[str, Any], doc: Document | None) -> dict
     return finding(o, meta, doc).to_json()
 
 
-def _display_path(path: Path, base: Path | None) -> str:
+def display_path(path: Path, base: Path | None) -> str:
     try:
         rel = os.path.relpath(path, base) if base else str(path)
     except ValueError:
@@ -250,7 +250,7 @@ def check_file(path: Path, ctx: CheckContext, display: str | None = None) -> dic
 def check_spec(path: Path, ctx: CheckContext, display: str | None = None) -> Checked:
     """Return the result of one spec file with its chart series when ``ctx.charts`` asks for them (see
     :func:`check_file`)."""
-    file = display if display is not None else _display_path(path, ctx.base_dir)
+    file = display if display is not None else display_path(path, ctx.base_dir)
     try:
         with _time_limit(ctx.limits.max_seconds):
             result, charts = _check_file(path, file, ctx)

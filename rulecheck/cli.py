@@ -19,6 +19,7 @@ from pathlib import Path
 from typing import Any, NoReturn
 
 from rulecheck import __version__
+from rulecheck.result import with_charts
 
 FORMATS = ("text", "json", "sarif", "junit", "markdown", "html", "annotations")
 
@@ -194,18 +195,8 @@ def _colour(args: argparse.Namespace) -> bool:
             and args.output in (None, "-"))
 
 
-def _rule_metadata(result: dict[str, Any]) -> list[dict[str, Any]]:
-    from rulecheck.check import BUILTIN_RULES
-    from rulecheck.engine.ruleset import load_rules, shipped_rules_dir
-
-    ruleset, _errors = load_rules([shipped_rules_dir()])
-    meta = [{"id": k, **v} for k, v in BUILTIN_RULES.items()]
-    meta += [r.metadata() for r in ruleset.rules.values()]
-    return meta
-
-
-def render(result: dict[str, Any], fmt: str, args: argparse.Namespace) -> str:
-    """Return the report of ``result`` in ``fmt``."""
+def render(result: dict[str, Any], fmt: str, args: argparse.Namespace, charts: list[Any] | None = None) -> str:
+    """Return the report of ``result`` in ``fmt`` (``charts``: each spec's chart series, for the HTML report)."""
     units = result["settings"]["units"]
     if fmt == "json":
         from rulecheck.report import jsonout
@@ -214,7 +205,7 @@ def render(result: dict[str, Any], fmt: str, args: argparse.Namespace) -> str:
     if fmt == "sarif":
         from rulecheck.report import sarif
 
-        return sarif.render(result, rules=_rule_metadata(result))
+        return sarif.render(result)
     if fmt == "junit":
         from rulecheck.report import junit
 
@@ -226,7 +217,8 @@ def render(result: dict[str, Any], fmt: str, args: argparse.Namespace) -> str:
     if fmt == "html":
         from rulecheck.report import html
 
-        return html.render(result, units=units, charts=not getattr(args, "no_charts", False))
+        draw = charts is not None and not getattr(args, "no_charts", False)
+        return html.render(with_charts(result, charts) if draw else result, units=units, charts=draw)
     if fmt == "annotations":
         from rulecheck.report import annotations
 
@@ -250,7 +242,7 @@ class _Usage(Exception):
 
 
 def _options(args: argparse.Namespace, paths: list[str]) -> Any:
-    from rulecheck.runner import RunOptions
+    from rulecheck.run import RunOptions
 
     if args.jobs < 0:
         raise _Usage("--jobs must be 0 (all cores) or more")
@@ -261,11 +253,12 @@ def _options(args: argparse.Namespace, paths: list[str]) -> Any:
                       charts=getattr(args, "_charts", True), code_cache_dir=_code_cache_dir(args))
 
 
-def _run(args: argparse.Namespace, paths: list[str]) -> dict[str, Any]:
-    from rulecheck.runner import UsageError, run
+def _run(args: argparse.Namespace, paths: list[str]) -> tuple[dict[str, Any], list[Any] | None]:
+    """Return the result of a run and each spec's chart series (when ``args._charts`` asks for them)."""
+    from rulecheck.run import UsageError, run_with_charts
 
     try:
-        return run(_options(args, paths), progress=_progress(args))
+        return run_with_charts(_options(args, paths), progress=_progress(args))
     except UsageError as exc:
         raise _Usage(str(exc)) from None
 
@@ -357,7 +350,8 @@ class _Sink:
 def _stream_check(args: argparse.Namespace, outputs: list[tuple[str, str | None]], known: Any) -> dict[str, Any]:
     """Check and write the streamed formats spec by spec; return the summary."""
     from rulecheck import baseline
-    from rulecheck.runner import Tally, UsageError, run_stream
+    from rulecheck.result import Tally
+    from rulecheck.run import UsageError, run_stream
 
     options = _options(args, args.paths)
     # a JSON report copies cached results as they are: they need not be parsed
@@ -374,7 +368,7 @@ def _stream_check(args: argparse.Namespace, outputs: list[tuple[str, str | None]
             sinks.append(_Sink(fmt, file, args, stream.header))
         for spec in stream.specs:
             if matcher is not None:
-                matcher.mark(spec)
+                spec = matcher.mark(spec)
             tally.add(spec)
             for sink in sinks:
                 sink.spec(spec)
@@ -412,7 +406,8 @@ def _cmd_check(args: argparse.Namespace) -> int:
 
         fmt = "annotations" if detect_ci_annotations(os.environ) and not args.output else "text"
     outputs: list[tuple[str, str | None]] = [(fmt, args.output), *reports]
-    args._charts = any(f == "html" for f, _file in outputs)
+    # chart series are computed beside the results only for a report that draws them
+    args._charts = any(f == "html" for f, _file in outputs) and not args.no_charts
     known = None
     if args.baseline:
         from rulecheck import baseline
@@ -426,12 +421,12 @@ def _cmd_check(args: argparse.Namespace) -> int:
     if all(f in STREAMED for f, _file in outputs):
         summary = _stream_check(args, outputs, known)
     else:
-        result = _run(args, args.paths)
+        result, charts = _run(args, args.paths)
         if known is not None:
             from rulecheck import baseline
 
             baseline.apply(result, known, args.baseline)
-        rendered = [(f, file, render(result, f, args)) for f, file in outputs]
+        rendered = [(f, file, render(result, f, args, charts)) for f, file in outputs]
         for _f, file, text in rendered:  # every report is rendered before any is written: no partial set
             try:
                 _write(file, text)
@@ -454,7 +449,7 @@ def _cmd_baseline(args: argparse.Namespace) -> int:
     from rulecheck import baseline
 
     args._charts = False
-    result = _run(args, args.paths)
+    result, _charts = _run(args, args.paths)
     text = baseline.render(result)
     try:
         _write(args.output, text)
@@ -469,13 +464,13 @@ def _cmd_baseline(args: argparse.Namespace) -> int:
 def _cmd_mail(args: argparse.Namespace) -> int:
     from rulecheck.report import mail
 
-    result = _run(args, args.paths)
+    result, charts = _run(args, args.paths)
     try:
-        message = mail.build_message(result, sender=args.sender, recipients=args.to, subject=args.subject,
+        message = mail.build_message(with_charts(result, charts or [{} for _ in result["specs"]]), sender=args.sender, recipients=args.to, subject=args.subject,
                                      units=result["settings"]["units"])
     except (ValueError, mail.MailError) as exc:
         raise _Usage(str(exc)) from None
-    for file, data in ((args.html, lambda: render(result, "html", args)), (args.eml, lambda: mail.as_bytes(message))):
+    for file, data in ((args.html, lambda: render(result, "html", args, charts)), (args.eml, lambda: mail.as_bytes(message))):
         if file:
             try:
                 _write(file, data())

@@ -1,9 +1,11 @@
-"""The JSON result: render it with a stable layout, read it back, validate it against its schema.
+"""The JSON result: write it in its one layout, read it back, validate it against its schema.
 
-The layout is a pure function of the content: objects that the contract defines keep the
-contract's key order (format_version first, rule before outcome...), so a diff of two results
-reads like a diff of two reports; every other object is written with sorted keys, so the bytes
-do not depend on the order in which the pipeline happened to build a dict.
+One layout, whether the result is streamed spec by spec (:class:`StreamWriter`) or rendered at once
+(:func:`render`, which streams into memory): the header and the summary indented by two, their objects
+in the contract's key order (format_version first...) and every other object with sorted keys; then
+each spec result on a line of its own, as the compact JSON that :func:`rulecheck.result.encode` made of
+it once, in the worker that checked it (the check builds it in the contract's key order). The bytes
+do not depend on which other reports the run writes: chart series are never part of the result.
 """
 
 from __future__ import annotations
@@ -18,15 +20,18 @@ from typing import Any
 from jsonschema import Draft202012Validator
 from jsonschema.exceptions import ValidationError, best_match
 
+from rulecheck.result import RULE_FIELDS, encode
+
 __all__ = ["StreamWriter", "load", "render", "schema"]
 
 # Key order of the objects the contract defines; fields not named here follow, sorted.
 _ORDER: dict[str, tuple[str, ...]] = {
-    "result": ("format_version", "tool", "generated", "settings", "specs", "summary"),
+    "result": ("format_version", "tool", "rules", "generated", "settings", "specs", "summary"),
     "tool": ("name", "version", "rules_digest", "rule_count"),
+    "rule": RULE_FIELDS,
     "settings": ("fail_on", "units"),
     "spec": ("file", "tag", "title", "spec_status", "sha256", "status", "verdict", "counts",
-             "outcomes", "derived", "charts", "errors"),
+             "outcomes", "derived", "errors"),
     "counts": ("error", "warning", "info", "not-checked", "waived", "pass", "not-applicable"),
     "outcome": ("rule", "title", "topic", "outcome", "severity", "safety", "message", "fix", "formula",
                 "basis", "location", "values", "limit", "missing", "waiver"),
@@ -43,6 +48,8 @@ _ORDER: dict[str, tuple[str, ...]] = {
 # "map:" marks an object whose keys are names and whose values are records of that type.
 _CHILD: dict[tuple[str, str], str] = {
     ("result", "tool"): "tool",
+    ("result", "rules"): "rule",
+    ("rule", "basis"): "basis",
     ("result", "settings"): "settings",
     ("result", "specs"): "spec",
     ("result", "summary"): "summary",
@@ -108,18 +115,26 @@ def _arrange(value: Any, record: str | None, path: list[str | int]) -> Any:
 
 
 def render(result: dict[str, Any]) -> str:
-    """Return the result as JSON text (UTF-8 characters kept, indent 2, stable key order, final newline)."""
-    arranged = _arrange(result, "result", [])
-    return json.dumps(arranged, indent=2, ensure_ascii=False, allow_nan=False) + "\n"
+    """Return the result as JSON text in its one layout (see the module's description), final newline."""
+    parts: list[bytes] = []
+    writer = StreamWriter(parts.append)
+    writer.begin({k: v for k, v in result.items() if k not in ("specs", "summary")})
+    for spec in result.get("specs") or []:
+        writer.spec(spec)
+    writer.end(result.get("summary") or {})
+    return b"".join(parts).decode("utf-8")
+
+
+def _indented(value: Any, record: str, path: list[str | int]) -> str:
+    return json.dumps(_arrange(value, record, path), indent=2, ensure_ascii=False, allow_nan=False)
 
 
 class StreamWriter:
     """Writes a result document spec by spec, so a run's memory does not grow with the repository.
 
-    The header and summary are laid out as :func:`render` lays them out; each spec is one compact
-    line of the ``specs`` array. The text reads back with :func:`load` like any other result.
-    ``write`` takes UTF-8 bytes: a spec that arrives encoded (a worker's or the cache's bytes) is
-    copied as it is.
+    The header and summary are indented, in the contract's key order; each spec is one compact line of
+    the ``specs`` array: the bytes a worker or the cache encoded, copied as they are (``write`` takes
+    UTF-8 bytes), or, for a result changed since (a baseline mark), encoded again the same way.
     """
 
     def __init__(self, write: Any) -> None:
@@ -128,27 +143,21 @@ class StreamWriter:
 
     def begin(self, header: dict[str, Any]) -> None:
         """Write the fields before the specs."""
-        head = render({**header, "specs": [], "summary": {}})
-        self.write(head[: head.index('"specs": []') + len('"specs": [')].encode("utf-8"))
+        head = _indented({**header, "specs": []}, "result", [])
+        self.write(head[: head.rindex('"specs": []') + len('"specs": [')].encode("utf-8"))
 
-    def spec(self, spec: dict[str, Any]) -> None:
+    def spec(self, spec: Any) -> None:
         """Write one spec result."""
         data = getattr(spec, "data", None)
         if data is None:
-            try:
-                data = json.dumps(spec, ensure_ascii=False, allow_nan=False, separators=(",", ":")).encode("utf-8")
-            except UnicodeEncodeError:
-                data = json.dumps(spec, ensure_ascii=True, allow_nan=False, separators=(",", ":")).encode("ascii")
-            except ValueError:
-                data = json.dumps(_arrange(spec, "spec", ["specs", self.count]), ensure_ascii=False,
-                                  separators=(",", ":")).encode("utf-8")
+            data = encode(spec)
         self.write(b",\n    " if self.count else b"\n    ")
         self.write(data)
         self.count += 1
 
     def end(self, summary: dict[str, Any]) -> None:
         """Write the summary and close the document."""
-        tail = json.dumps(_arrange(summary, "summary", ["summary"]), indent=2, ensure_ascii=False)
+        tail = _indented(summary, "summary", ["summary"])
         self.write((("\n  " if self.count else "") + '],\n  "summary": ' + tail.replace("\n", "\n  ") + "\n}\n")
                    .encode("utf-8"))
 

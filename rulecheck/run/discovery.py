@@ -1,0 +1,186 @@
+"""Which spec files a run checks, and under which configuration each is checked."""
+
+from __future__ import annotations
+
+import hashlib
+import os
+import subprocess
+from collections.abc import Callable
+from pathlib import Path
+
+from rulecheck.check import display_path
+from rulecheck.config import CONFIG_NAME, Config, ConfigError, discover, read_config
+from rulecheck.engine.ruleset import shipped_rules_dir
+from rulecheck.run.options import UsageError
+
+__all__ = ["Configs", "changed_files", "collect_specs", "config_digest", "filter_changed", "rule_folders",
+           "shown_paths"]
+
+SPEC_SUFFIXES = (".yaml", ".yml")
+
+
+def collect_specs(paths: list[str]) -> list[Path]:
+    """Return the spec files named or found under ``paths`` (recursive, stable order, no duplicates).
+
+    Folders are searched for ``*.yaml``/``*.yml``; hidden folders and files, configuration
+    files and links are skipped there (a file named directly is always taken).
+    """
+    found: list[Path] = []
+    seen: set[str] = set()
+    for raw in paths:
+        path = Path(raw)
+        if path.is_dir():
+            candidates = _walk(str(path), os.path.realpath(path))
+        elif path.exists():
+            candidates = [(str(path), os.path.realpath(path))]
+        else:
+            raise UsageError(f"{raw}: no such file or directory")
+        for shown, real in candidates:
+            if real not in seen:
+                seen.add(real)
+                found.append(Path(shown))
+    return found
+
+
+def _walk(folder: str, real: str) -> list[tuple[str, str]]:
+    """Return (path, resolved path) of the spec files below ``folder``: its own files in name order, then
+    each subfolder's in name order; hidden names and links are skipped (so no path below is a link, and
+    the resolved path is the resolved folder's joined with the same names)."""
+    try:
+        with os.scandir(folder) as found:
+            entries = sorted(found, key=lambda e: e.name)
+    except OSError:
+        return []
+    files: list[tuple[str, str]] = []
+    subfolders: list[tuple[str, str]] = []
+    for entry in entries:
+        name = entry.name
+        try:
+            if name.startswith(".") or entry.is_symlink():
+                continue
+            if entry.is_dir(follow_symlinks=False):
+                subfolders.append((entry.path, os.path.join(real, name)))
+            elif name.endswith(SPEC_SUFFIXES) and name != CONFIG_NAME and entry.is_file(follow_symlinks=False):
+                files.append((entry.path, os.path.join(real, name)))
+        except OSError:
+            continue
+    for sub, sub_real in subfolders:
+        files.extend(_walk(sub, sub_real))
+    return files
+
+
+def rule_folders(cfg: Config, extra: list[Path]) -> list[Path]:
+    """Return the rule folders of a run: the shipped rules, then the configuration's, then the command line's."""
+    return [shipped_rules_dir(), *cfg.rule_paths, *extra]
+
+
+class Configs:
+    """Configurations by file, discovered per spec folder and read once."""
+
+    def __init__(self, explicit: Config | None) -> None:
+        self.explicit = explicit
+        self.by_file: dict[str | None, Config] = {}
+        self.by_folder: dict[Path, str | None] = {}
+        self.resolved: dict[Path, Path] = {}  # a spec's folder as given → resolved
+
+    def for_spec(self, spec: Path) -> Config:
+        """Return the configuration a spec is checked under (the explicit one, else the nearest found)."""
+        if self.explicit is not None:
+            return self.explicit
+        folder = self.resolved.get(spec.parent)
+        if folder is None:
+            folder = self.resolved[spec.parent] = spec.parent.resolve()
+        if folder not in self.by_folder:
+            found = discover(folder)
+            self.by_folder[folder] = str(found) if found else None
+        key = self.by_folder[folder]
+        if key not in self.by_file:
+            try:
+                self.by_file[key] = read_config(Path(key)) if key else Config()
+            except ConfigError as exc:
+                raise UsageError(str(exc)) from None
+        return self.by_file[key]
+
+
+def config_digest(cfg: Config) -> str:
+    """Return a digest of a configuration file's content ("none" without one)."""
+    if not cfg.file:
+        return "none"
+    try:
+        return hashlib.sha256(Path(cfg.file).read_bytes()).hexdigest()
+    except OSError:
+        return "unreadable"
+
+
+def shown_paths(base_dir: Path) -> Callable[[Path], str]:
+    """Return a function giving a spec's path as results show it (``check.display_path``), the path of each
+    folder worked out once: a repository has thousands of specs in a few dozen folders."""
+    folders: dict[str, str] = {}
+
+    def shown(spec: Path) -> str:
+        head, tail = os.path.split(str(spec))
+        if not head or tail in ("", ".", ".."):
+            return display_path(spec, base_dir)
+        folder = folders.get(head)
+        if folder is None:
+            folder = folders[head] = display_path(Path(head), base_dir)
+        return tail if folder == "." else f"{folder}/{tail}"
+
+    return shown
+
+
+# --- changed-only runs ---------------------------------------------------------------------------------
+
+
+def changed_files(rev: str, cwd: Path) -> set[Path] | None:
+    """Return the files changed since git revision ``rev`` (committed, staged, unstaged, untracked).
+
+    Returns None when the folder is not in a git repository; raises UsageError for an unknown revision.
+    """
+    def git(*args: str) -> str:
+        proc = subprocess.run(["git", *args], cwd=cwd, capture_output=True, text=True, timeout=60)
+        if proc.returncode != 0:
+            raise UsageError(f"--changed-since {rev}: git {' '.join(args[:2])} failed: "
+                             f"{proc.stderr.strip() or proc.stdout.strip()}")
+        return proc.stdout
+
+    try:
+        top = Path(git("rev-parse", "--show-toplevel").strip())
+    except (OSError, subprocess.SubprocessError):
+        return None
+    if rev.startswith("-"):
+        raise UsageError(f"--changed-since: '{rev}' is not a revision")
+    git("rev-parse", "--verify", "--quiet", f"{rev}^{{commit}}")
+    names = git("diff", "--name-only", "-z", rev, "--").split("\0")
+    names += git("ls-files", "--others", "--exclude-standard", "-z").split("\0")
+    return {(top / n).resolve() for n in names if n}
+
+
+def _rules_or_config_changed(specs: list[Path], changed: set[Path], configs: Configs, extra: list[Path]) -> bool:
+    """Return whether a configuration or a rule file of the run changed (which can change any spec's outcome)."""
+    for spec in specs:
+        cfg = configs.for_spec(spec)
+        if cfg.file and Path(cfg.file).resolve() in changed:
+            return True
+        for folder in rule_folders(cfg, extra)[1:]:
+            if any(str(p).startswith(str(folder.resolve()) + os.sep) for p in changed):
+                return True
+    return False
+
+
+def _spec_changed(spec: Path, changed: set[Path]) -> bool:
+    """Return whether a spec changed, or a duty profile (CSV) beside a spec that names one."""
+    if spec.resolve() in changed:
+        return True
+    text = spec.read_bytes() if spec.is_file() else b""
+    return b"duty_profile" in text and any(p.parent == spec.parent.resolve() and p.suffix == ".csv" for p in changed)
+
+
+def filter_changed(specs: list[Path], rev: str, configs: Configs, extra: list[Path]) -> list[Path]:
+    """Return the specs a run since git revision ``rev`` checks (all, when rules or configuration changed)."""
+    changed = changed_files(rev, Path.cwd())
+    if changed is None:
+        raise UsageError("--changed-since needs a git repository")
+    if not specs or _rules_or_config_changed(specs, changed, configs, extra):
+        return specs
+    return [spec for spec in specs if _spec_changed(spec, changed)]
