@@ -13,6 +13,8 @@ import re
 from collections.abc import Mapping
 from typing import Any
 
+from rulecheck.result import level_of
+
 __all__ = ["RUNNERS", "detect_ci_annotations", "escape_message", "escape_property", "render"]
 
 # Environment variables that identify a runner reading these annotations, with the value it sets.
@@ -55,19 +57,23 @@ def _text(value: Any) -> str:
 
 
 def _finding(outcome: dict[str, Any]) -> tuple[str, str] | None:
-    """Return (severity rank name, message body) of an outcome worth an annotation, or None."""
-    kind = outcome.get("outcome")
+    """Return (level, message body) of an outcome worth an annotation, or None.
+
+    A finding is annotated at the level at which it counts toward failure (:func:`rulecheck.result.level_of`);
+    any other rule that could not be evaluated is a notice.
+    """
+    kind = _text(outcome.get("outcome"))
+    if kind not in ("fail", "not-checked"):
+        return None
+    level = level_of(kind, _text(outcome.get("severity")), bool(outcome.get("safety")))
+    level = level if level in _COMMAND else ("warning" if kind == "fail" else "info")
     if kind == "fail":
-        severity = _text(outcome.get("severity"))
         body = _text(outcome.get("message"))
         if outcome.get("fix"):
             body += f"\nFix: {_text(outcome['fix'])}"
-        return (severity if severity in _COMMAND else "warning"), body
-    if kind == "not-checked":
-        missing = ", ".join(_text(m) for m in outcome.get("missing") or [])
-        body = "not checked" + (f": missing {missing}" if missing else ": the values it needs are not in the spec")
-        return ("warning" if outcome.get("safety") else "info"), body
-    return None
+        return level, body
+    missing = ", ".join(_text(m) for m in outcome.get("missing") or [])
+    return level, "not checked" + (f": missing {missing}" if missing else ": the values it needs are not in the spec")
 
 
 def _line(spec: dict[str, Any], outcome: dict[str, Any], severity: str, body: str) -> str:

@@ -41,7 +41,16 @@ def _environment() -> Any:
     )
 
 
-def _finding(o: Mapping[str, Any], units: str) -> dict[str, Any]:
+def _rules(result: Mapping[str, Any]) -> dict[str, Mapping[str, Any]]:
+    """Return the result's ``rules`` block by rule id (the metadata of every rule the run applied)."""
+    rules = result.get("rules") if isinstance(result.get("rules"), list) else []
+    return {str(r.get("id")): r for r in rules if isinstance(r, Mapping)}
+
+
+def _finding(o: Mapping[str, Any], units: str, rules: Mapping[str, Mapping[str, Any]]) -> dict[str, Any]:
+    # a pass carries no formula or basis: the rule's own are in the result's rules block
+    meta = rules.get(str(o.get("rule")), {})
+    o = {**{k: meta.get(k) for k in ("title", "topic", "formula", "basis")}, **o}
     return {
         "rule": plain(o.get("rule"), 120),
         "title": plain(o.get("title"), 300),
@@ -92,7 +101,8 @@ def _chart_views(spec: Mapping[str, Any], number: int, units: str, image: ImageS
     return views
 
 
-def _spec_view(spec: Mapping[str, Any], number: int, units: str, draw: bool, image: ImageSource | None) -> dict:
+def _spec_view(spec: Mapping[str, Any], number: int, units: str, draw: bool, image: ImageSource | None,
+               rules: Mapping[str, Mapping[str, Any]]) -> dict:
     groups = common.group_outcomes(spec)
     c = common.counts(spec)
     safety = common.safety_errors(spec)
@@ -111,11 +121,11 @@ def _spec_view(spec: Mapping[str, Any], number: int, units: str, draw: bool, ima
         "counts": c,
         "safety_errors": safety,
         "glance": _glance(c, safety),
-        "failures": [_finding(o, units) for o in groups.failures],
-        "not_checked": [_finding(o, units) for o in groups.not_checked],
-        "waived": [_finding(o, units) for o in groups.waived],
-        "passed": [_finding(o, units) for o in groups.passed],
-        "not_applicable": [_finding(o, units) for o in groups.not_applicable],
+        "failures": [_finding(o, units, rules) for o in groups.failures],
+        "not_checked": [_finding(o, units, rules) for o in groups.not_checked],
+        "waived": [_finding(o, units, rules) for o in groups.waived],
+        "passed": [_finding(o, units, rules) for o in groups.passed],
+        "not_applicable": [_finding(o, units, rules) for o in groups.not_applicable],
         "derived": common.derived_items(spec, units),
         "charts": _chart_views(spec, number, units, image) if draw else [],
         "load_errors": [plain(e.get("message") if isinstance(e, Mapping) else e, 500) for e in errors],
@@ -130,7 +140,8 @@ def context(result: Mapping[str, Any], *, units: str = "si", charts: bool = True
     specs = common.sorted_specs(result.get("specs") or [])
     tool = result.get("tool") if isinstance(result.get("tool"), Mapping) else {}
     settings = result.get("settings") if isinstance(result.get("settings"), Mapping) else {}
-    views = [_spec_view(s, i, units, charts, image) for i, s in enumerate(specs, start=1)]
+    rules = _rules(result)
+    views = [_spec_view(s, i, units, charts, image, rules) for i, s in enumerate(specs, start=1)]
     totals = {k: sum(v["counts"][k] for v in views) for k in common.counts({})}
     return {
         "tool_name": plain(tool.get("name"), 40) or "rulecheck",

@@ -114,6 +114,24 @@ def _arrange(value: Any, record: str | None, path: list[str | int]) -> Any:
     raise ValueError(f"result at {_json_path(path)}: {type(value).__name__} is not a JSON value")
 
 
+def _refuse_non_json(value: Any, path: list[str | int]) -> None:
+    """Raise ValueError naming the JSON path of a value that JSON cannot carry (a non-finite number, a key that
+    is not text, an object that is not a JSON value). Text with a lone surrogate (an undecodable file name) is
+    written as its JSON escape, as :func:`rulecheck.result.encode` writes it."""
+    if isinstance(value, dict):
+        for key, item in value.items():
+            if not isinstance(key, str):
+                raise ValueError(f"result at {_json_path(path)}: key {key!r} is not a string")
+            _refuse_non_json(item, [*path, key])
+    elif isinstance(value, list | tuple):
+        for i, item in enumerate(value):
+            _refuse_non_json(item, [*path, i])
+    elif isinstance(value, float) and not math.isfinite(value):
+        raise ValueError(f"result at {_json_path(path)}: {value!r} cannot be written as JSON")
+    elif not (value is None or isinstance(value, str | int | float | bool)):
+        raise ValueError(f"result at {_json_path(path)}: {type(value).__name__} is not a JSON value")
+
+
 def render(result: dict[str, Any]) -> str:
     """Return the result as JSON text in its one layout (see the module's description), final newline."""
     parts: list[bytes] = []
@@ -147,9 +165,10 @@ class StreamWriter:
         self.write(head[: head.rindex('"specs": []') + len('"specs": [')].encode("utf-8"))
 
     def spec(self, spec: Any) -> None:
-        """Write one spec result."""
+        """Write one spec result (ValueError, naming where, for a value JSON cannot carry)."""
         data = getattr(spec, "data", None)
         if data is None:
+            _refuse_non_json(spec, ["specs", self.count])
             data = encode(spec)
         self.write(b",\n    " if self.count else b"\n    ")
         self.write(data)

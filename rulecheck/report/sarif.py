@@ -1,7 +1,7 @@
 """SARIF 2.1.0 log of a result, for code-scanning views in CI.
 
-One run; the driver lists every rule (from the rule metadata the caller passes, else the
-minimum that the outcomes carry). Results are written for fails (level from severity),
+One run; the driver lists every rule: from the result's ``rules`` block (the metadata of every rule
+the run applied), then any rule only an outcome names (with what the outcome carries). Results are written for fails (level from severity),
 not-checked outcomes (warning when the rule is safety-relevant, note otherwise: an unchecked
 safety rule is a gap a reviewer must see) and waived fails (with an external suppression,
 so the finding stays visible as accepted). Passes and not-applicable outcomes give no result.
@@ -146,7 +146,10 @@ def _metadata_from_outcomes(result: dict[str, Any]) -> list[dict[str, Any]]:
 
 
 def _driver_rules(result: dict[str, Any], rules: list[dict[str, Any]] | None) -> list[dict[str, Any]]:
-    """Return rule metadata in driver order: the caller's rules first, then rules only the result names."""
+    """Return rule metadata in driver order: the given rules (by default the result's ``rules`` block) first,
+    then rules only the result's outcomes name."""
+    if rules is None:
+        rules = result.get("rules") if isinstance(result.get("rules"), list) else []
     given = [r for r in rules or [] if isinstance(r, dict) and _text(r.get("id"))]
     ordered: dict[str, dict[str, Any]] = {}
     for meta in given:
@@ -269,16 +272,35 @@ def _artifact(spec: dict[str, Any]) -> dict[str, Any]:
 _REPORTED = ("fail", "not-checked", "waived")
 
 
-def build(result: dict[str, Any], *, rules: list[dict[str, Any]] | None = None) -> dict[str, Any]:
-    """Return the SARIF 2.1.0 log of a result as a dict."""
-    metadata = _driver_rules(result, rules)
-    rule_index = {_text(meta["id"]): i for i, meta in enumerate(metadata)}
+def _driver(result: dict[str, Any], metadata: list[dict[str, Any]]) -> dict[str, Any]:
+    """Return the SARIF driver: the tool and its rules."""
     tool = result.get("tool") if isinstance(result.get("tool"), dict) else {}
     driver: dict[str, Any] = {"name": _text(tool.get("name")) or "rulecheck"}
     if tool.get("version"):
         driver["version"] = _text(tool["version"])
         driver["semanticVersion"] = _text(tool["version"])
     driver["rules"] = [_descriptor(meta) for meta in metadata]
+    return driver
+
+
+def _invocation(result: dict[str, Any]) -> dict[str, Any]:
+    """Return the SARIF invocation: success, the exit code and the time the result was made."""
+    invocation: dict[str, Any] = {"executionSuccessful": True}
+    summary = result.get("summary") if isinstance(result.get("summary"), dict) else {}
+    if isinstance(summary.get("exit_code"), int):
+        invocation["exitCode"] = summary["exit_code"]
+    if result.get("generated"):
+        invocation["endTimeUtc"] = _text(result["generated"])
+    return invocation
+
+
+def build(result: dict[str, Any], *, rules: list[dict[str, Any]] | None = None) -> dict[str, Any]:
+    """Return the SARIF 2.1.0 log of a result as a dict (``rules``: rule metadata instead of the result's own
+    ``rules`` block)."""
+    metadata = _driver_rules(result, rules)
+    rule_index = {_text(meta["id"]): i for i, meta in enumerate(metadata)}
+    driver = _driver(result, metadata)
+    tool = result.get("tool") if isinstance(result.get("tool"), dict) else {}
 
     artifacts: list[dict[str, Any]] = []
     artifact_of: dict[str, int] = {}
@@ -292,12 +314,7 @@ def build(result: dict[str, Any], *, rules: list[dict[str, Any]] | None = None) 
             if outcome.get("outcome") in _REPORTED:
                 results.append(_result(spec, outcome, rule_index, artifact_of[file]))
 
-    invocation: dict[str, Any] = {"executionSuccessful": True}
-    summary = result.get("summary") if isinstance(result.get("summary"), dict) else {}
-    if isinstance(summary.get("exit_code"), int):
-        invocation["exitCode"] = summary["exit_code"]
-    if result.get("generated"):
-        invocation["endTimeUtc"] = _text(result["generated"])
+    invocation = _invocation(result)
     run: dict[str, Any] = {
         "tool": {"driver": driver},
         "originalUriBaseIds": {SRCROOT: {"description": {"text": "The directory the specification paths are "

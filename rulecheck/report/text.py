@@ -9,6 +9,7 @@ from __future__ import annotations
 from typing import Any
 
 from rulecheck.report.cautions import select_hazards
+from rulecheck.result import failure_level
 
 __all__ = ["TextReport", "render"]
 
@@ -52,8 +53,8 @@ class TextReport:
         out: list[str] = []
         for o in spec["outcomes"]:
             kind = o["outcome"]
-            if kind == "fail" or (kind == "not-checked" and (o.get("safety") or o["severity"] == "error")):
-                level = o["severity"] if kind == "fail" else ("error" if o["severity"] == "error" else "warning")
+            level = failure_level(o)
+            if level is not None:
                 label = self._paint(level, level) + (" (not checked)" if kind == "not-checked" else "")
                 known = " (in baseline)" if o.get("baseline") else ""
                 line = f"{_where(spec, o)}: {label}{known} {o['rule']}: {_clean(o['message'])}"

@@ -51,7 +51,8 @@ def _findings(result, floor):
             if o["outcome"] == "fail":
                 level = o["severity"]
             elif o["outcome"] == "not-checked":
-                level = "warning" if o["safety"] else "info"
+                # a rule that could not run counts as an error; an unchecked safety rule as a warning
+                level = "error" if o["severity"] == "error" else "warning" if o["safety"] else "info"
             else:
                 continue
             if rank[level] >= rank[floor]:
@@ -72,9 +73,11 @@ def test_exactly_one_line_per_finding_at_or_above_the_floor(floor):
 
 
 def test_counts_at_each_floor():
+    """6 error-level fails plus p101's unchecked error-severity safety rule (it fails a run at error, so it is an
+    error here too); 2 warning fails; 2 info-level lines (an info fail, an unchecked non-safety info rule)."""
     result = sample_result()
     assert [len(annotations.render(result, min_severity=f).splitlines()) for f in ("error", "warning", "info")] == [
-        6, 9, 11]
+        7, 9, 11]
 
 
 def test_each_line_decodes_back_to_the_original_file_title_and_message():

@@ -73,7 +73,7 @@ def test_render_layout_indent_two_utf8_kept_and_final_newline():
     assert "\\n::error file=evil.yaml" in text and "\\u0007" in text
 
 
-def test_key_order_is_stable_whatever_order_the_dict_was_built_in():
+def test_header_and_summary_key_order_is_stable_whatever_order_the_dict_was_built_in():
     result = sample_result()
 
     def reverse(node):
@@ -83,8 +83,22 @@ def test_key_order_is_stable_whatever_order_the_dict_was_built_in():
             return [reverse(v) for v in node]
         return node
 
-    assert jsonout.render(reverse(result)) == jsonout.render(result)
-    keys = list(json.loads(jsonout.render(result))["specs"][0]["outcomes"][0])
+    turned = {**reverse({k: v for k, v in result.items() if k != "specs"}), "specs": result["specs"]}
+    assert jsonout.render(turned) == jsonout.render(result)
+    assert list(json.loads(jsonout.render(turned))) == ["format_version", "tool", "generated", "settings", "specs",
+                                                         "summary"]
+
+
+def test_each_spec_is_one_line_of_the_bytes_the_result_encoder_writes():
+    """A spec result is written as result.encode wrote it (once, in the worker): rendered at once or streamed,
+    a spec is the same line, in the key order the check built it in (the contract's)."""
+    from rulecheck.result import encode
+
+    result = sample_result()
+    text = jsonout.render(result)
+    lines = [line.strip().rstrip(",") for line in text.split("\n") if line.startswith("    {")]
+    assert lines == [encode(spec).decode("utf-8") for spec in result["specs"]]
+    keys = list(json.loads(text)["specs"][0]["outcomes"][0])
     assert keys[:5] == ["rule", "title", "topic", "outcome", "severity"]
 
 
@@ -137,9 +151,19 @@ def test_render_refuses_values_json_cannot_carry_and_names_where():
     with pytest.raises(ValueError, match=r"\$\.specs\[0\]\.outcomes\[0\]\.values\.margin\.value"):
         jsonout.render(result)
     result = sample_result()
-    result["specs"][1]["title"] = "bad \udc80 byte"
-    with pytest.raises(ValueError, match=r"\$\.specs\[1\]\.title"):
+    result["specs"][0]["outcomes"][0]["values"]["margin"]["value"] = object()
+    with pytest.raises(ValueError, match=r"\$\.specs\[0\]\.outcomes\[0\]\.values\.margin\.value: object"):
         jsonout.render(result)
+
+
+def test_a_lone_surrogate_is_written_as_its_escape_and_reads_back():
+    """An undecodable byte of a file name (a lone surrogate) cannot be UTF-8: it is written as its JSON escape,
+    rendered or streamed alike, and reads back as the same text."""
+    result = sample_result()
+    result["specs"][1]["title"] = "bad \udc80 byte"
+    text = jsonout.render(result)
+    assert "\\udc80" in text
+    assert json.loads(text)["specs"][1]["title"] == "bad \udc80 byte"
 
 
 def test_hostile_text_round_trips_exactly():

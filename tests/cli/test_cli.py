@@ -285,3 +285,45 @@ def test_configuration_from_pyproject_is_found_by_walking_up(tmp_path: Path) -> 
     (tmp_path / "pyproject.toml").write_text('[tool.rulecheck]\nfail_on = "sometimes"\n', encoding="utf-8")
     bad = run_cli("check", str(sub), "--no-cache", cwd=tmp_path)
     assert bad.returncode == 2 and "pyproject.toml" in bad.stderr and "fail_on" in bad.stderr
+
+
+@pytest.mark.parametrize("cached", [False, True], ids=["no cache", "cache"])
+def test_the_json_of_a_run_is_the_same_bytes_whatever_other_reports_it_writes(tmp_path: Path, cached: bool) -> None:
+    """`-f json` alone and with HTML, SARIF and Markdown reports beside it give byte-identical JSON: chart series
+    are computed for the HTML report beside the result, never written into it, and there is one layout
+    (SOURCE_DATE_EPOCH fixes the time a result states). With a cache, the JSON-only run reads the results the
+    HTML run stored (they share the entries; the chart series are kept beside them) and gives the same bytes."""
+    env = {"SOURCE_DATE_EPOCH": "1796083200"}  # 2026-12-01T00:00:00Z
+    cache = ["--cache-dir", str(tmp_path / "cache")] if cached else ["--no-cache"]
+    alone, beside = tmp_path / "alone.json", tmp_path / "beside.json"
+    run_cli("check", "specs_demo", "-f", "json", "-o", str(beside), *cache, "--report", f"html={tmp_path / 'r.html'}",
+            "--report", f"sarif={tmp_path / 'r.sarif'}", "--report", f"markdown={tmp_path / 'r.md'}", env=env)
+    run_cli("check", "specs_demo", "-f", "json", "-o", str(alone), *cache, env=env)
+    first, second = beside.read_bytes(), alone.read_bytes()
+    if cached:  # the cache counts differ (the first run stored, the second read): the rest is the same
+        cut = first.index(b'"cache"')
+        assert second[:cut] == first[:cut]
+        assert json.loads(second)["summary"]["cache"] == {"hits": 8, "misses": 0}
+    else:
+        assert first == second
+    assert b'"charts"' not in first
+    assert "<svg" in (tmp_path / "r.html").read_text(encoding="utf-8")  # the HTML report did draw its charts
+    document = json.loads(first)
+    assert document["generated"] == "2026-12-01T00:00:00Z"
+    # the SARIF driver's rules come from the result's rules block, not from the rule files
+    sarif = json.loads((tmp_path / "r.sarif").read_text(encoding="utf-8"))
+    driver = [r["id"] for r in sarif["runs"][0]["tool"]["driver"]["rules"]]
+    assert driver == [r["id"] for r in document["rules"]]
+    jsonout.load(first.decode("utf-8"))
+
+
+def test_a_run_that_draws_charts_reads_results_and_chart_series_from_the_cache(tmp_path: Path) -> None:
+    """An HTML run after another finds both the results and their chart series in the cache: nothing is checked
+    again, and the report is the same."""
+    env = {"SOURCE_DATE_EPOCH": "1796083200"}
+    args = ["check", "specs_demo", "-f", "json", "--cache-dir", str(tmp_path / "cache")]
+    run_cli(*args, "-o", str(tmp_path / "1.json"), "--report", f"html={tmp_path / '1.html'}", env=env)
+    run_cli(*args, "-o", str(tmp_path / "2.json"), "--report", f"html={tmp_path / '2.html'}", env=env)
+    assert json.loads((tmp_path / "2.json").read_text(encoding="utf-8"))["summary"]["cache"] == {"hits": 8,
+                                                                                                 "misses": 0}
+    assert (tmp_path / "1.html").read_bytes() == (tmp_path / "2.html").read_bytes()

@@ -2,6 +2,7 @@
 
 from __future__ import annotations
 
+import datetime as _dt
 import os
 import signal
 import subprocess
@@ -11,10 +12,13 @@ from pathlib import Path
 
 import pytest
 
-from rulecheck import runner
+from rulecheck import run
 from rulecheck.check import CheckContext, check_file
+from rulecheck.config import Config
 from rulecheck.load import Limits
 from rulecheck.report import jsonout
+from rulecheck.run import workers
+from rulecheck.run.discovery import shown_paths
 
 from .conftest import DEMO, ROOT
 
@@ -31,7 +35,7 @@ def _copies(folder: Path, count: int) -> list[Path]:
 
 
 _VICTIM: dict[str, str] = {}
-_REAL_WORKER_CHECK = runner._worker_check
+_REAL_WORKER_CHECK = workers._worker_check
 
 
 def _crash_on_victim(config_file, spec, *rest):
@@ -44,8 +48,8 @@ def test_a_crashing_worker_becomes_a_finding_and_the_run_completes(tmp_path: Pat
     files = _copies(tmp_path / "specs", 3)
     victim = files[5].name
     _VICTIM["name"] = victim
-    monkeypatch.setattr(runner, "_worker_check", _crash_on_victim)  # forked workers inherit the patch
-    result = runner.run(runner.RunOptions(paths=[str(tmp_path / "specs")], jobs=2))
+    monkeypatch.setattr(workers, "_worker_check", _crash_on_victim)  # forked workers inherit the patch
+    result = run.run(run.RunOptions(paths=[str(tmp_path / "specs")], jobs=2))
     assert result["summary"]["specs"] == len(files)
     by_file = {Path(s["file"]).name: s for s in result["specs"]}
     crashed = by_file[victim]
@@ -59,7 +63,7 @@ def test_a_crashing_worker_becomes_a_finding_and_the_run_completes(tmp_path: Pat
 def test_a_spec_over_its_time_limit_is_stopped_with_a_finding(tmp_path: Path, monkeypatch) -> None:
     from rulecheck import check as check_module
 
-    ctx = runner.prepare(runner.Config(), [], runner._dt.date(2026, 12, 1), "si", None).context
+    ctx = run.prepare(Config(), [], _dt.date(2026, 12, 1), "si", None).context
     ctx = CheckContext(**{**ctx.__dict__, "limits": Limits(max_seconds=1)})
 
     def slow(*_args, **_kwargs):
@@ -77,7 +81,7 @@ def test_a_spec_over_its_time_limit_is_stopped_with_a_finding(tmp_path: Path, mo
 def test_the_time_limit_holds_with_a_worker_s_kept_alarm_handler(monkeypatch) -> None:
     from rulecheck import check as check_module
 
-    ctx = runner.prepare(runner.Config(), [], runner._dt.date(2026, 12, 1), "si", None).context
+    ctx = run.prepare(Config(), [], _dt.date(2026, 12, 1), "si", None).context
     ctx = CheckContext(**{**ctx.__dict__, "limits": Limits(max_seconds=1)})
     previous = signal.getsignal(signal.SIGALRM)
     monkeypatch.setitem(check_module._ALARM, "kept", False)
@@ -116,15 +120,15 @@ def test_ctrl_c_exits_130_with_no_partial_report(tmp_path: Path) -> None:
 
 
 def test_a_spec_s_shown_path_is_worked_out_per_folder_as_for_each_spec(tmp_path: Path, monkeypatch) -> None:
-    """The run works out each folder's shown path once; every spec's comes out as check._display_path gives it."""
-    from rulecheck.check import _display_path
+    """The run works out each folder's shown path once; every spec's comes out as check.display_path gives it."""
+    from rulecheck.check import display_path
 
     monkeypatch.chdir(tmp_path)
     (tmp_path / "a" / "b").mkdir(parents=True)
     base = Path.cwd()
-    shown = runner._shown_paths(base)
+    shown = shown_paths(base)
     cases = [Path("x.yaml"), Path("a/x.yaml"), Path("a/b/y.yml"), Path("./a/b/z.yaml"), Path("a/../a/x.yaml"),
              tmp_path / "a" / "x.yaml", tmp_path / "x.yaml", tmp_path.parent / "elsewhere" / "w.yaml",
              Path("/") / "top.yaml"]
     for spec in cases * 2:  # the second time from the folders worked out the first
-        assert shown(spec) == _display_path(spec, base), spec
+        assert shown(spec) == display_path(spec, base), spec

@@ -24,7 +24,7 @@ def test_readme_configuration_example_is_a_valid_configuration(tmp_path) -> None
     import datetime as dt
 
     from rulecheck.config import read_config
-    from rulecheck.runner import prepare
+    from rulecheck.run import prepare
 
     readme = (ROOT / "README.md").read_text(encoding="utf-8")
     block = readme.split("### Configuration", 1)[1].split("```yaml", 1)[1].split("```", 1)[0]

@@ -12,7 +12,7 @@ import pytest
 
 from rulecheck.check import CheckContext
 from rulecheck.config import Config
-from rulecheck.runner import prepare
+from rulecheck.run import prepare
 
 ROOT = Path(__file__).resolve().parents[2]
 DAY = dt.date(2026, 6, 1)

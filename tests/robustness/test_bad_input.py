@@ -11,7 +11,7 @@ import pytest
 from rulecheck.check import CheckContext, check_document, check_file
 from rulecheck.load import LoadError, load_text
 from rulecheck.report import jsonout
-from rulecheck.runner import assemble
+from rulecheck.result import assemble
 from tests.robustness.corpus import Case, huge_file, static_cases, truncations
 from tests.robustness.specs import CONVEYOR, PUMP
 

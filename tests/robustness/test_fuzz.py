@@ -14,7 +14,7 @@ from hypothesis import strategies as st
 from rulecheck.check import CheckContext, check_document
 from rulecheck.load import LoadError, load_text
 from rulecheck.report import jsonout
-from rulecheck.runner import assemble
+from rulecheck.result import assemble
 from tests.robustness.specs import CONVEYOR, PUMP
 
 # A good spec checks in ~10 ms; 2 s per example leaves room for a loaded 2-core machine and still catches a hang.

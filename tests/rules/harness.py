@@ -11,7 +11,7 @@ import yaml
 from rulecheck.check import CheckContext, check_document
 from rulecheck.config import Config
 from rulecheck.load import load_text
-from rulecheck.runner import prepare
+from rulecheck.run import prepare
 
 EXAMPLE_DAY = dt.date(2026, 12, 1)  # examples with waivers are written against this date
 

@@ -93,7 +93,7 @@ def test_checking_specs_with_the_shipped_rules_does_not_load_pint(tmp_path) -> N
         import datetime, sys
         from pathlib import Path
         from rulecheck.config import Config
-        from rulecheck.runner import prepare
+        from rulecheck.run import prepare
         prepare(Config(), [], datetime.date.today(), "si", Path.cwd())
         print("pint" in sys.modules)
         """)

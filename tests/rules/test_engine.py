@@ -8,7 +8,7 @@ from pathlib import Path
 import pytest
 
 from rulecheck.config import read_config
-from rulecheck.runner import UsageError, prepare
+from rulecheck.run import UsageError, prepare
 from tests.rules.harness import EXAMPLE_DAY, outcome_of, run_example, shipped_context
 
 # 7.5 kW at 1455 r/min is 49.22 N·m; 59 N·m deviates by 19.9 % (an error of nameplate-power-torque-speed)
