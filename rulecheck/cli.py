@@ -466,11 +466,13 @@ def _cmd_mail(args: argparse.Namespace) -> int:
 
     result, charts = _run(args, args.paths)
     try:
-        message = mail.build_message(with_charts(result, charts or [{} for _ in result["specs"]]), sender=args.sender, recipients=args.to, subject=args.subject,
+        drawn = with_charts(result, charts if charts is not None else [None] * len(result["specs"]))
+        message = mail.build_message(drawn, sender=args.sender, recipients=args.to, subject=args.subject,
                                      units=result["settings"]["units"])
     except (ValueError, mail.MailError) as exc:
         raise _Usage(str(exc)) from None
-    for file, data in ((args.html, lambda: render(result, "html", args, charts)), (args.eml, lambda: mail.as_bytes(message))):
+    for file, data in ((args.html, lambda: render(result, "html", args, charts)),
+                       (args.eml, lambda: mail.as_bytes(message))):
         if file:
             try:
                 _write(file, data())

@@ -1,10 +1,12 @@
 """SARIF 2.1.0 log of a result, for code-scanning views in CI.
 
 One run; the driver lists every rule: from the result's ``rules`` block (the metadata of every rule
-the run applied), then any rule only an outcome names (with what the outcome carries). Results are written for fails (level from severity),
-not-checked outcomes (warning when the rule is safety-relevant, note otherwise: an unchecked
-safety rule is a gap a reviewer must see) and waived fails (with an external suppression,
-so the finding stays visible as accepted). Passes and not-applicable outcomes give no result.
+the run applied), then any rule only an outcome names (with what the outcome carries). Results are
+written for fails (level from severity), not-checked outcomes (at the level at which they count toward
+failure, :func:`rulecheck.result.level_of`: an error when the rule could not run, a warning when the
+rule is safety-relevant — an unchecked safety rule is a gap a reviewer must see —, else a note) and
+waived fails (with an external suppression, so the finding stays visible as accepted). Passes and
+not-applicable outcomes give no result.
 """
 
 from __future__ import annotations
@@ -14,6 +16,8 @@ import json
 import re
 from typing import Any
 from urllib.parse import quote
+
+from rulecheck.result import level_of
 
 __all__ = ["SARIF_SCHEMA_URI", "SARIF_VERSION", "render"]
 
@@ -197,7 +201,8 @@ def _message(outcome: dict[str, Any], tag: str) -> str:
 def _level(outcome: dict[str, Any]) -> str:
     """Return the SARIF level of an outcome that is reported."""
     if outcome.get("outcome") == "not-checked":
-        return "warning" if outcome.get("safety") else "note"
+        level = level_of("not-checked", _text(outcome.get("severity")), bool(outcome.get("safety")))
+        return _LEVEL.get(level or "info", "note")
     return _LEVEL.get(_text(outcome.get("severity")), "warning")
 
 

@@ -11,7 +11,6 @@ import datetime as _dt
 import hashlib
 import json
 from pathlib import Path
-from typing import Any
 
 from rulecheck import __version__
 from rulecheck.cache import CachedEntry, ResultCache, charts_key, code_digest, entry_of, spec_key

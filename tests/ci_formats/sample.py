@@ -92,7 +92,8 @@ def _pump() -> dict[str, Any]:
                 message="400 V motor on a 415 V supply: +3.8 %, within ±10 % but worth noting",
                 path="supply.voltage", line=4, column=3,
                 values={"deviation": q(0.0375, "1", "fraction")}),
-        outcome("pm-back-emf-uncontrolled", "not-checked", "error", topic="permanent-magnet", safety=True,
+        # an unchecked safety rule is a warning (the engine's level for a safety rule it cannot evaluate)
+        outcome("pm-back-emf-uncontrolled", "not-checked", "warning", topic="permanent-magnet", safety=True,
                 title="Back-EMF at top speed stays below the DC-bus trip when the drive stops switching",
                 path="motor.back_emf_constant", missing=["motor.back_emf_constant", "drive.dc_bus_trip"]),
         outcome("thermal-class-ambient", "pass", "warning", topic="environment",

@@ -73,11 +73,20 @@ def test_exactly_one_line_per_finding_at_or_above_the_floor(floor):
 
 
 def test_counts_at_each_floor():
-    """6 error-level fails plus p101's unchecked error-severity safety rule (it fails a run at error, so it is an
-    error here too); 2 warning fails; 2 info-level lines (an info fail, an unchecked non-safety info rule)."""
+    """6 error-level fails; 2 warning fails and p101's unchecked safety rule; an info fail and an unchecked
+    rule that is not safety-relevant."""
     result = sample_result()
     assert [len(annotations.render(result, min_severity=f).splitlines()) for f in ("error", "warning", "info")] == [
-        7, 9, 11]
+        6, 9, 11]
+
+
+def test_a_rule_that_could_not_run_is_an_error_as_it_counts_toward_failure():
+    """A rule error (a not-checked outcome of severity error) fails a run at error level: it is annotated so."""
+    result = sample_result()
+    target = next(o for o in result["specs"][1]["outcomes"] if o["rule"] == "ip-rating-outdoor")
+    target["severity"] = "error"
+    lines = [line for line in annotations.render(result, min_severity="error").splitlines() if "ip-rating" in line]
+    assert len(lines) == 1 and lines[0].startswith("::error ")
 
 
 def test_each_line_decodes_back_to_the_original_file_title_and_message():
