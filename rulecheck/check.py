@@ -260,7 +260,7 @@ def check_spec(path: Path, ctx: CheckContext, display: str | None = None) -> Che
                         "stopped", "report the spec to the rulecheck maintainers; limits.max_seconds in the "
                         "configuration sets the limit")
         charts = None
-    return Checked(result.to_json(), charts if ctx.charts else None)
+    return Checked(result.to_json(), (charts or {}) if ctx.charts else None)  # a spec that did not load: none
 
 
 def _check_file(path: Path, file: str, ctx: CheckContext) -> tuple[SpecResult, dict[str, Any] | None]:

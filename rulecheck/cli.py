@@ -13,7 +13,6 @@ import difflib
 import os
 import sys
 import tempfile
-import threading
 from collections.abc import Sequence
 from pathlib import Path
 from typing import Any, NoReturn
@@ -561,7 +560,9 @@ def main(argv: Sequence[str] | None = None) -> int:
     except KeyboardInterrupt:
         print("rulecheck: interrupted", file=sys.stderr)
         sys.stderr.flush()
-        if any(type(t).__name__ == "_ExecutorManagerThread" for t in threading.enumerate()):
+        from rulecheck.run.pool import workers_running
+
+        if workers_running():
             # end any worker still alive (it would hold our output pipes open), then leave at once
             # rather than wait in the pool's exit handler
             import multiprocessing

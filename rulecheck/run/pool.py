@@ -6,7 +6,9 @@
   the workers; with the system's 64 KiB pipe a worker whose batch of results is larger waits, idle, until the
   parent is scheduled again;
 - end the workers at once on Ctrl-C (``pool._processes``): ``shutdown(cancel_futures=True)`` still waits for
-  the specs being checked, which may take the whole spec time limit.
+  the specs being checked, which may take the whole spec time limit;
+- tell, on Ctrl-C, whether a pool is still running (its manager thread, ``_ExecutorManagerThread``), so the
+  command line can end the workers and leave at once rather than wait in the pool's exit handler.
 
 Both degrade to the public behaviour when the attribute is missing (another Python, a changed pool).
 """
@@ -15,7 +17,7 @@ from __future__ import annotations
 
 from concurrent.futures import ProcessPoolExecutor
 
-__all__ = ["stop", "widen_result_pipe"]
+__all__ = ["stop", "widen_result_pipe", "workers_running"]
 
 
 def widen_result_pipe(pool: ProcessPoolExecutor) -> None:
@@ -41,3 +43,10 @@ def stop(pool: ProcessPoolExecutor) -> None:
         process.terminate()
     for process in processes:
         process.join(timeout=5)
+
+
+def workers_running() -> bool:
+    """Return whether a process pool of this process is still running (its manager thread is alive)."""
+    import threading
+
+    return any(type(t).__name__ == "_ExecutorManagerThread" for t in threading.enumerate())
