@@ -304,7 +304,7 @@ def _without(data: Any, problems: list[Any]) -> Any:
 
 
 def _check_document(doc: Document, ctx: CheckContext, base_dir: Path | None) -> dict[str, Any]:
-    from rulecheck.charts_data import chart_data
+    from rulecheck.derive.charts import chart_data
     from rulecheck.derive import build_model
 
     result = _empty_result(doc.file, "checked")
