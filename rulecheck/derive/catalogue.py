@@ -7,8 +7,8 @@ count or an index without a unit.
 
 from __future__ import annotations
 
+from collections.abc import Mapping
 from types import MappingProxyType
-from typing import Mapping
 
 __all__ = ["CATALOGUE", "catalogue"]
 

@@ -45,7 +45,7 @@ def _segments(m: Model, spec: Spec, i: float, eff: float) -> list[dyn.Segment] |
     """Return the duty segments at the motor shaft, or None if one lacks its duration, end speed or torque."""
     jt, tl = m.get("train.inertia_total"), m.get("train.load_torque")
     segments, speed = [], 0.0
-    for k, seg in enumerate(spec.items("load", "duty")):
+    for k in range(len(spec.items("load", "duty"))):
         duration, to = spec.quantity(f"load.duty[{k}].duration"), spec.quantity(f"load.duty[{k}].speed_to")
         if duration is None or to is None:
             return None

@@ -5,7 +5,6 @@ torque at the peak, and the braking energy and power returned to the drive."""
 from __future__ import annotations
 
 import math
-from typing import Any
 
 from rulecheck.derive.record import Spec, put
 from rulecheck.model import Model
