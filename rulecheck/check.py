@@ -304,8 +304,8 @@ def _without(data: Any, problems: list[Any]) -> Any:
 
 
 def _check_document(doc: Document, ctx: CheckContext, base_dir: Path | None) -> dict[str, Any]:
-    from rulecheck.derive.charts import chart_data
     from rulecheck.derive import build_model
+    from rulecheck.derive.charts import chart_data
 
     result = _empty_result(doc.file, "checked")
     result["sha256"] = doc.sha256

@@ -99,7 +99,8 @@ def _mass_inertia(m: Model) -> None:
             "m·(r/reeving)² (payload and counterweight at the drum)")
     elif model == "lead-screw" and m.get("load.moving_mass") and m.get("load.lead"):
         inertia = tr.reflected_inertia_of_mass_on_screw(m.get("load.moving_mass"), m.get("load.lead"))
-        put(m, "load.mass_inertia", inertia, "reflected_inertia_of_mass_on_screw", ("load.moving_mass", "load.lead"), "m·(L/2π)²")
+        put(m, "load.mass_inertia", inertia, "reflected_inertia_of_mass_on_screw", ("load.moving_mass", "load.lead"),
+            "m·(L/2π)²")
 
 
 def _holding(m: Model) -> None:
