@@ -343,7 +343,7 @@ def _check_document(doc: Document, ctx: CheckContext,
 
 
 def _charts(model: Any) -> dict[str, Any]:
-    from rulecheck.charts_data import chart_data
+    from rulecheck.derive.charts import chart_data
 
     return chart_data(model)
 

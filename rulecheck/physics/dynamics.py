@@ -81,59 +81,6 @@ def acceleration_time(inertia: float, speed_change: float, net_torque: float) ->
     return inertia * speed_change / net_torque
 
 
-def linear_grid(start: float, stop: float, num: int) -> list[float]:
-    """Return ``num`` (≥ 2) equally spaced floats from ``start`` to ``stop``: numpy.linspace's values, computed as it
-    computes them (k·step + start, the last one ``stop``), without building an array."""
-    start, stop = float(start), float(stop)
-    div, delta = num - 1, stop - start
-    step = delta / div
-    if step == 0:  # a span too small for its step (denormal): numpy divides first, then scales
-        out = [k / div * delta + start for k in range(num)]
-    else:
-        out = [k * step + start for k in range(num)]
-    out[-1] = stop
-    return out
-
-
-def numpy_sum(values: Sequence[float]) -> float:
-    """Return the sum of floats in numpy's own pairwise order, so the result is ``numpy.sum``'s bit for bit
-    without an array (a short list costs more to convert than to add up).
-
-    Method: numpy's pairwise summation: fewer than 8 values in order; up to 128 in eight running sums
-    combined pairwise, then the rest; longer runs split in two at a multiple of 8.
-    """
-    return _pairwise(values, 0, len(values))
-
-
-def _pairwise(a: Sequence[float], lo: int, n: int) -> float:
-    if n < 8:
-        total = 0.0
-        for k in range(lo, lo + n):
-            total += a[k]
-        return total
-    if n <= 128:
-        r0, r1, r2, r3, r4, r5, r6, r7 = a[lo:lo + 8]
-        k = lo + 8
-        end = lo + n - n % 8
-        while k < end:
-            r0 += a[k]
-            r1 += a[k + 1]
-            r2 += a[k + 2]
-            r3 += a[k + 3]
-            r4 += a[k + 4]
-            r5 += a[k + 5]
-            r6 += a[k + 6]
-            r7 += a[k + 7]
-            k += 8
-        total = ((r0 + r1) + (r2 + r3)) + ((r4 + r5) + (r6 + r7))
-        for k in range(end, lo + n):
-            total += a[k]
-        return total
-    half = n // 2
-    half -= half % 8
-    return _pairwise(a, lo, half) + _pairwise(a, lo + half, n - half)
-
-
 def dol_acceleration_time(
     inertia: float,
     motor_torque: Callable[[float], float],
@@ -167,14 +114,15 @@ def dol_acceleration_time(
         steps += 1
     if speed_to <= speed_from:
         raise ValueError("the end speed must be above the start speed")
-    # plain floats throughout: for a hundred points numpy's call overhead costs more than the arithmetic
-    net = [float(motor_torque(w)) - float(load_torque(w)) for w in linear_grid(speed_from, speed_to, steps + 1)]
-    if not all(x > 0 for x in net):  # (a NaN is not above zero either)
+    speeds = np.linspace(speed_from, speed_to, steps + 1).tolist()
+    net = np.array([float(motor_torque(w)) - float(load_torque(w)) for w in speeds])
+    if not np.all(net > 0):  # (a NaN is not above zero either)
         return math.inf
-    # Simpson weights 1, 4, 2, 4, ..., 2, 4, 1
-    terms = [(1.0 if k in (0, steps) else 4.0 if k % 2 else 2.0) / x for k, x in enumerate(net)]
+    weights = np.full(steps + 1, 2.0)  # Simpson weights 1, 4, 2, 4, ..., 2, 4, 1
+    weights[1::2] = 4.0
+    weights[0] = weights[-1] = 1.0
     h = (speed_to - speed_from) / steps
-    return float(inertia * h / 3.0 * numpy_sum(terms))
+    return float(inertia * h / 3.0 * np.sum(weights / net))
 
 
 @method(returns="energy", inertia="inertia", speed="rotational_speed")

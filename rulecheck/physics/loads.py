@@ -5,7 +5,6 @@ Torque-speed models accept a numpy array of speeds as well as a float.
 
 from __future__ import annotations
 
-import bisect
 import math
 from collections.abc import Callable
 from typing import Any
@@ -460,20 +459,8 @@ def points_interpolator(speeds: list[float] | np.ndarray,
         raise ValueError("torque points need equal-length lists of speeds and torques")
     if xs.size > 1 and not np.all(np.diff(xs) > 0):
         raise ValueError("torque points must be given in strictly increasing speed")
-    if xs.size == 1:
-        held = float(ys[0])
-        return lambda speed: _scalar_or_array(np.full(np.shape(speed), held)) if np.ndim(speed) else held
-    xl, yl = xs.tolist(), ys.tolist()
 
     def torque(speed: Any) -> float | np.ndarray:
-        if isinstance(speed, float | int) and speed == speed:
-            # one speed: numpy.interp's own formula, without its call overhead
-            if speed <= xl[0]:
-                return yl[0]
-            if speed >= xl[-1]:
-                return yl[-1]
-            j = bisect.bisect_right(xl, speed) - 1
-            return (yl[j + 1] - yl[j]) / (xl[j + 1] - xl[j]) * (speed - xl[j]) + yl[j]
         return _scalar_or_array(np.interp(speed, xs, ys))
 
     return torque

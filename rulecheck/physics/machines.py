@@ -10,8 +10,6 @@ from __future__ import annotations
 
 import math
 from dataclasses import dataclass
-from functools import lru_cache
-from typing import Any
 
 import numpy as np
 
@@ -539,7 +537,7 @@ def self_ventilated_cooling_factor(
 
     Parameters
     ----------
-    speed_ratio : shaft speed over base speed, n/n_b [1]
+    speed_ratio : shaft speed over base speed, n/n_b [1]; a float or an array
     inverter_rated : False for a motor not rated for inverter supply (0.95 instead of 1.00 at n/n_b ≥ 0.8,
         for PWM harmonic losses)
     constant_torque_limit : lowest n/n_b of a declared constant-torque range (forced ventilation IC416,
@@ -553,22 +551,58 @@ def self_ventilated_cooling_factor(
     Rulebook R06 default k_cool (common practice; IEC 60034-17, IEC TS 60034-25 and NEMA MG 1 Parts 30/31
     state the need, from memory). Replace with the manufacturer's curve where one exists.
     """
-    ratio = abs(speed_ratio)
-    if constant_torque_limit is not None and ratio >= constant_torque_limit:
-        return 1.0
-    if ratio < _COOLING_SPEED_RATIO[0]:
-        return _COOLING_NEAR_STANDSTILL
-    return _cooling_curve(bool(inverter_rated))(ratio)
-
-
-@lru_cache(maxsize=2)
-def _cooling_curve(inverter_rated: bool) -> Any:
-    """k_cool over n/n_b, interpolated as numpy.interp does (without its call overhead: the continuous margin
-    asks for it at every speed of its sweep)."""
-    from rulecheck.physics.loads import points_interpolator
-
+    ratio = np.abs(np.asarray(speed_ratio, dtype=float))
     top = 1.0 if inverter_rated else _COOLING_FACTOR_NOT_INVERTER_RATED
-    return points_interpolator(list(_COOLING_SPEED_RATIO), [*_COOLING_FACTOR[:-1], top])
+    cool = np.interp(ratio, _COOLING_SPEED_RATIO, (*_COOLING_FACTOR[:-1], top))
+    cool = np.where(ratio < _COOLING_SPEED_RATIO[0], _COOLING_NEAR_STANDSTILL, cool)
+    if constant_torque_limit is not None:
+        cool = np.where(ratio >= constant_torque_limit, 1.0, cool)
+    return float(cool) if cool.ndim == 0 else cool
+
+
+def continuous_torque_capability(
+    speed: float | np.ndarray,
+    rated_torque: float,
+    base_speed: float,
+    *,
+    shaft_cooled: bool = False,
+    inverter_rated: bool = True,
+    constant_torque_limit: float | None = None,
+    stall_torque: float | None = None,
+    site_factor: float = 1.0,
+) -> float | np.ndarray:
+    """Return the continuous torque capability T_cont(n) [N*m] of a motor at a shaft speed (float or array).
+
+    Parameters
+    ----------
+    speed : shaft speed [rad/s] (its magnitude counts)
+    rated_torque : rated torque T_N [N*m]
+    base_speed : base speed n_b [rad/s]
+    shaft_cooled : the motor's fan turns with the shaft and the speed is varied (a self-ventilated induction
+        motor on a drive): k_cool of :func:`self_ventilated_cooling_factor` applies below base speed
+    inverter_rated, constant_torque_limit : as for :func:`self_ventilated_cooling_factor`
+        (a forced-ventilated motor has a constant-torque range down to 0)
+    stall_torque : standstill torque T_0 of a PM servo motor [N*m]; the capability then falls linearly from T_0
+        to T_N at base speed, and as T_N·n_b/n above it
+    site_factor : k_env, the site derating for altitude and ambient [1]
+
+    Method: T_cont(n) = T_N·k_cool(n/n_b)·k_fw(n)·k_env, k_fw = n_b/n above base speed (constant power at
+    rated current, reduced flux), 1 below; PM servo: T_0 + (T_N − T_0)·n/n_b up to n_b.
+
+    References
+    ----------
+    Rulebook R06 (k_cool, k_fw, k_env; common practice) and R18 (field weakening, drives textbooks);
+    servo motor datasheets give T_0 and T_N as the ends of the continuous (S1) curve (common practice).
+    """
+    ratio = np.abs(np.asarray(speed, dtype=float)) / base_speed
+    if stall_torque is not None:
+        below = stall_torque + (rated_torque - stall_torque) * np.minimum(ratio, 1.0)
+        torque = np.where(ratio <= 1.0, below, rated_torque / np.maximum(ratio, 1e-9)) * site_factor
+    else:
+        cool = self_ventilated_cooling_factor(ratio, inverter_rated, constant_torque_limit) if shaft_cooled else 1.0
+        weakening = np.where(ratio > 1.0, 1.0 / np.maximum(ratio, 1e-9), 1.0)
+        torque = rated_torque * cool * weakening * site_factor
+    return float(torque) if np.ndim(torque) == 0 else torque
 
 
 # --- permanent-magnet synchronous machines ---------------------------------------

@@ -169,18 +169,3 @@ def test_property_rms_at_least_mean_abs_torque(torque, beta):
     r = dy.reduce_profile(t, speed, torque, standstill_factor=beta)
     assert r.rms_torque >= r.mean_abs_torque * (1 - 1e-12) - 1e-12
     assert r.peak_torque >= r.rms_torque * math.sqrt(r.effective_time / r.cycle_time) * (1 - 1e-12) - 1e-12
-
-
-@settings(max_examples=300, deadline=None)
-@given(start=st.floats(-1e4, 1e4), span=st.floats(0.0, 1e5), num=st.sampled_from([2, 3, 21, 33, 101, 102, 201]))
-def test_run_up_grid_is_numpy_linspace_bit_for_bit(start: float, span: float, num: int) -> None:
-    # the DOL run-up integral samples its curves on this grid; it must be numpy.linspace's, value for value
-    stop = start + span
-    assert dy.linear_grid(start, stop, num) == np.linspace(start, stop, num).tolist()
-
-
-@settings(max_examples=300, deadline=None)
-@given(values=st.lists(st.floats(-1e6, 1e6), min_size=0, max_size=400))
-def test_numpy_sum_adds_in_numpys_order_bit_for_bit(values: list[float]) -> None:
-    # the DOL run-up's Simpson sum is taken without an array; it must be numpy.sum's, to the last bit
-    assert dy.numpy_sum(values) == float(np.sum(np.array(values, dtype=float)))

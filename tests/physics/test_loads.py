@@ -131,23 +131,3 @@ def test_torque_points():
         loads.torque_from_points([0, 10, 10], [1, 2, 3], 5)
     with pytest.raises(ValueError):
         loads.torque_from_points([0, 10], [1], 5)
-
-
-def test_points_interpolator_gives_numpy_interp_bit_for_bit() -> None:
-    """The scalar fast path of the points load is numpy.interp's own formula (reference: numpy.interp)."""
-    import random
-
-    import numpy as np
-
-    from rulecheck.physics.loads import points_interpolator
-
-    rng = random.Random(3)
-    for _ in range(300):
-        xs = [x * 0.37 for x in sorted(rng.sample(range(1, 1000), rng.randint(2, 8)))]
-        ys = [rng.uniform(-50, 300) for _ in xs]
-        torque = points_interpolator(xs, ys)
-        for speed in [rng.uniform(-10, 400) for _ in range(10)] + xs:
-            assert torque(speed) == float(np.interp(speed, xs, ys))
-        grid = np.linspace(0, 400, 7)
-        assert np.array_equal(torque(grid), np.interp(grid, xs, ys))
-    assert points_interpolator([1.0], [5.0])(3.0) == 5.0

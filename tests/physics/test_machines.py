@@ -338,16 +338,29 @@ def test_efficiency_limits_unknown_and_unverified():
         machines.efficiency_class_limit("IE7", 7500, 4)
 
 
-def test_array_cooling_factors_match_the_scalar_method() -> None:
-    # the derive stage's vectorised k_cool must give exactly what the documented scalar method gives
+def test_cooling_factor_of_an_array_is_the_factor_of_each_ratio() -> None:
+    # rulebook R06 table (common practice): 0.05 → 0.5 (near standstill), 0.1 → 0.60, 0.215 → midway 0.675,
+    # 0.5 → 0.85, 0.8 and above → 1.00 (0.95 when not inverter-rated); a CT range down to 0.1 → 1.0
     import numpy as np
 
-    from rulecheck.derive import _cooling_factors
-    from rulecheck.physics.machines import self_ventilated_cooling_factor
+    ratios = np.array([0.05, 0.1, 0.215, 0.5, 0.8, 1.2])
+    assert machines.self_ventilated_cooling_factor(ratios).tolist() == pytest.approx([0.5, 0.6, 0.675, 0.85, 1.0, 1.0])
+    assert machines.self_ventilated_cooling_factor(ratios, False)[-1] == pytest.approx(0.95)
+    assert machines.self_ventilated_cooling_factor(ratios, True, 0.1).tolist() == [0.5, 1.0, 1.0, 1.0, 1.0, 1.0]
 
-    ratios = np.linspace(0.0, 1.6, 161)
-    for inverter_rated in (True, False):
-        for ct_limit in (None, 0.1, 0.5, 0.0):
-            got = _cooling_factors(ratios, inverter_rated, ct_limit)
-            want = [self_ventilated_cooling_factor(r, inverter_rated, ct_limit) for r in ratios]
-            assert np.allclose(got, want, rtol=0, atol=1e-12), (inverter_rated, ct_limit)
+
+def test_continuous_torque_capability_worked_by_hand() -> None:
+    # T_N 100 N·m, n_b 150 rad/s, k_env 0.9 (rulebook R06, common practice):
+    # self-ventilated on a drive at n/n_b 0.5: 100 × 0.85 × 0.9 = 76.5 N·m; at 2·n_b: 100 × ½ × 0.9 = 45 N·m
+    # PM servo T_0 120 N·m at standstill, 110 at n_b/2 (midway to T_N), 50 at 2·n_b
+    cap = machines.continuous_torque_capability
+    assert cap(75.0, 100.0, 150.0, shaft_cooled=True, site_factor=0.9) == pytest.approx(76.5)
+    assert cap(300.0, 100.0, 150.0, shaft_cooled=True, site_factor=0.9) == pytest.approx(45.0)
+    assert cap(-75.0, 100.0, 150.0, shaft_cooled=False) == 100.0
+    assert cap(75.0, 100.0, 150.0, shaft_cooled=True, constant_torque_limit=0.0) == 100.0
+    assert cap(0.0, 100.0, 150.0, stall_torque=120.0) == pytest.approx(120.0)
+    assert cap(75.0, 100.0, 150.0, stall_torque=120.0) == pytest.approx(110.0)
+    assert cap(300.0, 100.0, 150.0, stall_torque=120.0) == pytest.approx(50.0)
+    import numpy as np
+
+    assert cap(np.array([75.0, 300.0]), 100.0, 150.0, shaft_cooled=True).tolist() == pytest.approx([85.0, 50.0])

@@ -8,7 +8,7 @@ import pytest
 import yaml
 
 from rulecheck.derive import build_model
-from rulecheck.derive_installation import ip_digits, large_frame, nema_rated
+from rulecheck.derive.motor import ip_digits, large_frame, nema_rated
 from rulecheck.load import load_text
 from rulecheck.schema import read_quantities
 

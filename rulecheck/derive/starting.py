@@ -1,9 +1,7 @@
-"""Derive steps for the machine rules: nameplate forms, short-time torque, run-up time and direct-on-line starting.
+"""Derive step: short-time torque available from motor and drive at the speed of the peak, breakaway torque,
+run-up time (on a drive, or direct on line on the Kloss curve) and the supply voltage at a direct-on-line start.
 
-Runs after the main derive stage (:mod:`rulecheck.derive`), so every main derived value is
-available. Each value is recorded with the method and inputs it came from; a value whose
-inputs are missing is left out (the rule that needs it reports ``not-checked``), and a note
-names what to give.
+Runs after the duty step: the peak torque and its speed are known.
 """
 
 from __future__ import annotations
@@ -11,15 +9,14 @@ from __future__ import annotations
 import cmath
 import math
 from collections.abc import Callable
-from pathlib import Path
-from typing import Any
 
+from rulecheck.derive.record import Spec, put
 from rulecheck.model import Model
 from rulecheck.physics import dynamics as dyn
 from rulecheck.physics import machines as mc
 from rulecheck.physics import supply as sp
 
-__all__ = ["DERIVED", "derive", "dol_motor_torque"]
+__all__ = ["DOL_RUN_UP_END", "INTEGRATION_STEPS", "LOCKED_ROTOR_POWER_FACTOR", "derive_starting", "dol_motor_torque"]
 
 # Power factor of an induction motor at locked rotor when the datasheet gives none (rulebook R13: 0.3–0.4, C).
 LOCKED_ROTOR_POWER_FACTOR = 0.35
@@ -28,86 +25,13 @@ LOCKED_ROTOR_POWER_FACTOR = 0.35
 DOL_RUN_UP_END = 0.95
 INTEGRATION_STEPS = 50  # rulebook R11 asks for at least 20 speed steps
 
-DERIVED: dict[str, tuple[str | None, str]] = {
-    "motor.rated_torque_given": ("flag", "the spec gives the rated torque itself (not derived from power and speed)"),
-    "motor.electrical_input": ("power", "rated electrical input the nameplate implies: √3·V·I·cosφ (three-phase), "
-                                        "V·I·cosφ (single-phase), V_a·I_a (DC armature)"),
-    "train.cooling_table_default": ("flag", "continuous capability of a self-ventilated induction motor on a drive "
-                                            "comes from the common-practice k_cool table"),
-    "train.peak_torque_motor": ("torque", "motor's short-time torque at the speed of the peak, with field weakening"),
-    "train.peak_torque_drive": ("torque", "motor torque at the drive's overload current at the speed of the peak"),
-    "train.peak_torque_available": ("torque", "short-time torque available at the speed of the peak: the lower of "
-                                              "motor and drive limits"),
-    "train.acceleration_stalls": ("flag", "the available torque does not exceed the load torque somewhere during "
-                                          "the run-up"),
-    "train.breakaway_torque": ("torque", "torque at the motor shaft to start the load from rest"),
-    "train.starting_voltage": ("fraction", "direct on line: motor terminal voltage at locked-rotor current ÷ rated "
-                                           "voltage"),
-}
 
-_MAIN_KINDS = {"train.acceleration_time": "time"}
-
-
-def _d(m: Model, path: str, value: Any, method: str, inputs: tuple[str, ...], note: str) -> None:
-    if value is None or (isinstance(value, float) and not math.isfinite(value)):
-        return
-    kind = DERIVED[path][0] if path in DERIVED else _MAIN_KINDS[path]
-    m.derive(path, value, kind, method, inputs, note)
-
-
-def derive(m: Model, data: dict[str, Any], base: Path | None) -> None:
-    """Add the machine rules' derived values to ``m`` (nothing is returned)."""
-    _nameplate(m)
-    _cooling_table(m)
+def derive_starting(m: Model, spec: Spec) -> None:
+    """Short-time torque at the peak, breakaway torque, run-up time, starting voltage."""
     _peak_torque(m)
     _breakaway(m)
     _acceleration(m)
     _starting_voltage(m)
-
-
-# --- nameplate ---------------------------------------------------------------------
-
-
-def _nameplate(m: Model) -> None:
-    if m.has("motor.rated_torque"):
-        given = m.provenance["motor.rated_torque"].source == "given"
-        _d(m, "motor.rated_torque_given", given, "provenance", ("motor.rated_torque",),
-           "rated torque given in the spec" if given else "rated torque derived from power and speed")
-    kind = m.get("motor.kind")
-    if kind == "dc":
-        va = m.get("motor.armature_voltage", m.get("motor.rated_voltage"))
-        ia = m.get("motor.armature_current", m.get("motor.rated_current"))
-        if va is not None and ia is not None:
-            _d(m, "motor.electrical_input", va * ia, "product",
-               ("motor.armature_voltage", "motor.armature_current"), "V_a·I_a (armature; field power excluded)")
-        return
-    v, i_n, pf = m.get("motor.rated_voltage"), m.get("motor.rated_current"), m.get("motor.power_factor")
-    if kind not in ("induction", "pm-synchronous") or None in (v, i_n, pf):
-        return
-    # the same choice of form as the main derive stage: single-phase only for a single-phase supply fed direct
-    single = m.get("supply.phases") == 1 and m.get("drive.kind") in ("direct-on-line", "soft-starter")
-    if single:
-        _d(m, "motor.electrical_input", v * i_n * pf, "single_phase_input",
-           ("motor.rated_voltage", "motor.rated_current", "motor.power_factor", "supply.phases"), "V·I·cosφ")
-    else:
-        _d(m, "motor.electrical_input", math.sqrt(3.0) * v * i_n * pf, "three_phase_input",
-           ("motor.rated_voltage", "motor.rated_current", "motor.power_factor"), "√3·V·I·cosφ")
-
-
-def _cooling_table(m: Model) -> None:
-    """Whether the continuous capability below base speed comes from the default k_cool table.
-
-    Mirrors the choice the main derive stage makes for T_cont(n): an induction motor on a drive,
-    not force-ventilated, with no declared constant-torque range.
-    """
-    if m.get("motor.kind") is None:
-        return
-    used = (m.get("motor.kind") == "induction" and m.get("drive.kind") in ("inverter", "dc-converter")
-            and m.get("motor.cooling", "self-ventilated") not in ("forced", "liquid")
-            and not m.has("motor.constant_torque_speed_min"))
-    _d(m, "train.cooling_table_default", used, "cooling_basis",
-       ("motor.kind", "drive.kind", "motor.cooling", "motor.constant_torque_speed_min"),
-       "common-practice k_cool table (rulebook R06)" if used else "k_cool = 1 or the declared constant-torque range")
 
 
 # --- short-time torque ---------------------------------------------------------------
@@ -189,7 +113,7 @@ def _peak_torque(m: Model) -> None:
     at = f"at {w * 60 / (2 * math.pi):.0f} r/min"
     motor = _motor_short_time(m)
     if motor is not None:
-        _d(m, "train.peak_torque_motor", motor(w), "motor_short_time_torque",
+        put(m, "train.peak_torque_motor", motor(w), "motor_short_time_torque",
            ("motor.peak_torque", "motor.breakdown_torque", "motor.base_speed", "train.speed_at_peak"),
            f"peak (or breakdown) torque × n_b/n above base speed, ≤ T_bd·(n_b/n)² {at}")
     elif m.get("motor.kind") in ("induction", "pm-synchronous", "dc"):
@@ -197,7 +121,7 @@ def _peak_torque(m: Model) -> None:
     limited = _drive_limited(m)
     if limited is not None:
         fn, how = limited
-        _d(m, "train.peak_torque_drive", fn(w), "torque_at_overload_current",
+        put(m, "train.peak_torque_drive", fn(w), "torque_at_overload_current",
            ("drive.overload_current", "motor.rated_torque", "motor.rated_current", "motor.magnetising_current",
             "motor.torque_constant", "motor.base_speed", "train.speed_at_peak"), f"{how}, × n_b/n above base {at}")
     elif m.get("drive.kind") in ("inverter", "dc-converter"):
@@ -205,7 +129,7 @@ def _peak_torque(m: Model) -> None:
                        "(and the motor's rated current, or Kt for a PM motor)")
     available = _available(m)
     if available is not None:
-        _d(m, "train.peak_torque_available", available(w), "minimum",
+        put(m, "train.peak_torque_available", available(w), "minimum",
            ("train.peak_torque_motor", "train.peak_torque_drive"), f"lower of motor and drive limits {at}")
 
 
@@ -232,7 +156,7 @@ def _breakaway(m: Model) -> None:
     at_rest = load(0.0)
     given = m.get("load.breakaway_torque")
     start = max(at_rest, given / (i * eff)) if given is not None else at_rest
-    _d(m, "train.breakaway_torque", start, "breakaway",
+    put(m, "train.breakaway_torque", start, "breakaway",
        ("load.breakaway_torque", "load.model", "transmission.ratio", "transmission.efficiency"),
        "larger of the load model at rest and the given breakaway torque, ÷ (i·η)")
 
@@ -307,10 +231,10 @@ def _acceleration(m: Model) -> None:
         return
     t = dyn.dol_acceleration_time(jt, motor_fn, load, end, steps=INTEGRATION_STEPS)
     stalls = not math.isfinite(t)
-    _d(m, "train.acceleration_stalls", stalls, method, inputs,
+    put(m, "train.acceleration_stalls", stalls, method, inputs,
        "net torque ≤ 0 during the run-up" if stalls else "net torque positive throughout the run-up")
     if not stalls:
-        _d(m, "train.acceleration_time", t, method, inputs, note)
+        put(m, "train.acceleration_time", t, method, inputs, note)
 
 
 # --- direct-on-line starting voltage ------------------------------------------------------------
@@ -333,7 +257,7 @@ def _starting_voltage(m: Model) -> None:
         rho = sp.ANNEX_G_RESISTIVITY.get(m.get("cable.material", "copper"), sp.ANNEX_G_RESISTIVITY["copper"]) * 1e-6
         z_cable = complex(rho * length / area, m.get("cable.reactance", sp.ANNEX_G_REACTANCE) * length)
     u = abs(z_motor) / abs(z_motor + z_source + z_cable) * v_supply / v_n
-    _d(m, "train.starting_voltage", u, "voltage_divider",
+    put(m, "train.starting_voltage", u, "voltage_divider",
        ("supply.voltage", "supply.fault_level", "motor.locked_rotor_current", "motor.rated_voltage", "cable.length",
         "cable.conductor_area", "motor.locked_rotor_power_factor"),
        f"|Z_m| ÷ |Z_m + Z_supply + Z_cable| × V_supply ÷ V_N, Z_supply = jV²/S_sc, cosφ_LR {pf:.2f}"

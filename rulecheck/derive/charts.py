@@ -1,4 +1,5 @@
-"""Chart data for reports, computed from the model (renderers only draw what is here).
+"""Chart data for reports, computed from the model (renderers only draw what is here): the continuous
+capability comes from the same T_cont(n) as the continuous margin (:func:`rulecheck.derive.train.capability`).
 
 All at the motor shaft: speeds in r/min, torques in N*m, voltages in V, times in s.
 """
@@ -10,6 +11,7 @@ from typing import Any
 import numpy as np
 
 from rulecheck import units
+from rulecheck.derive.train import capability
 from rulecheck.model import Model
 from rulecheck.physics import machines as mc
 
@@ -38,9 +40,7 @@ def chart_data(model: Model) -> dict[str, Any]:
 
 
 def _torque_speed(m: Model) -> dict[str, Any] | None:
-    from rulecheck.derive import _capability
-
-    cap = _capability(m)
+    cap = capability(m)
     nb = m.get("motor.base_speed")
     if cap is None or not nb:
         return None
@@ -109,7 +109,11 @@ def _back_emf(m: Model) -> dict[str, Any] | None:
     ke = m.get("motor.back_emf_constant_ll_rms")
     if ke is None or m.get("motor.kind") != "pm-synchronous":
         return None
-    top = m.get("train.speed_abs_max") or m.get("motor.max_speed") or m.get("motor.rated_speed")
+    # up to the highest speed the shaft may see without a rule's overspeed allowance: the motor's limit,
+    # the top operating speed or the load's runaway speed at the motor, whichever is highest
+    runaway = m.get("load.runaway_speed") * m.get("transmission.ratio", 1.0) if m.has("load.runaway_speed") else None
+    top = max((x for x in (m.get("motor.max_speed"), m.get("train.speed_max"), runaway) if x),
+              default=m.get("motor.rated_speed"))
     if not top:
         return None
     speeds = np.linspace(0.0, top, 21)

@@ -10,7 +10,7 @@ import yaml
 from scipy import integrate
 
 from rulecheck.derive import DERIVED, build_model
-from rulecheck.derive_machines import dol_motor_torque
+from rulecheck.derive.starting import dol_motor_torque
 from rulecheck.load import load_text
 from rulecheck.schema import read_quantities
 
@@ -173,36 +173,3 @@ def test_breakaway_torque_referred_to_motor_shaft() -> None:
                "load": {"model": "quadratic", "torque_at_speed_max": "900 N*m", "breakaway_torque": "1200 N*m",
                         "speed_max": "72 r/min"}})
     assert m.get("train.breakaway_torque") == pytest.approx(1200 / (20 * 0.95), rel=1e-9)
-
-
-@pytest.mark.parametrize("kind", ["induction", "pm-synchronous", "dc"])
-@pytest.mark.parametrize("drive", ["inverter", "direct-on-line"])
-@pytest.mark.parametrize("cooling", ["self-ventilated", "forced"])
-def test_continuous_capability_at_one_speed_is_the_array_value_bit_for_bit(kind: str, drive: str,
-                                                                          cooling: str) -> None:
-    # the continuous margin is swept on plain floats (cap.at); the duty-cycle utilisation on arrays (cap):
-    # both must give the same torque to the last bit, for every motor kind, drive and cooling
-    import random
-
-    import numpy as np
-
-    from rulecheck.derive import _capability
-    from rulecheck.model import Model
-
-    rng = random.Random(f"{kind}{drive}{cooling}")
-    for _trial in range(20):
-        m = Model()
-        values = {"motor.rated_torque": rng.uniform(5, 5000), "motor.base_speed": rng.uniform(50, 400),
-                  "motor.kind": kind, "motor.cooling": cooling, "drive.kind": drive,
-                  "motor.inverter_rated": rng.random() < 0.5, "site.motor_derating": rng.uniform(0.7, 1.0)}
-        if rng.random() < 0.5:
-            values["motor.constant_torque_speed_min"] = values["motor.base_speed"] * rng.uniform(0.05, 0.6)
-        if kind == "pm-synchronous" and rng.random() < 0.7:
-            values["motor.stall_torque"] = values["motor.rated_torque"] * rng.uniform(1.0, 1.3)
-        for path, value in values.items():
-            m.given(path, value)
-        cap = _capability(m)
-        nb = values["motor.base_speed"]
-        speeds = [0.0, nb, -nb * 0.5, *(rng.uniform(0, 3 * nb) for _ in range(40)),
-                  *(nb * r for r in (0.1, 0.33, 0.5, 0.8, 1.0))]
-        assert [cap.at(w) for w in speeds] == np.asarray(cap(np.array(speeds)), dtype=float).tolist()

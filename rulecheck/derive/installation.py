@@ -1,0 +1,190 @@
+"""Derive step: the installation — motor cable (voltage drop, reflected-wave critical length, peak voltage at the
+motor), NEC full-load current, motor currents at the required torques, how long the peak lasts, gearbox output
+torque at the peak, and the braking energy and power returned to the drive."""
+
+from __future__ import annotations
+
+import math
+
+from rulecheck.derive.record import Spec, put
+from rulecheck.model import Model
+from rulecheck.physics import machines as mc
+from rulecheck.physics import power_electronics as pe
+from rulecheck.physics import supply as sp
+
+__all__ = ["CABLE_PROPAGATION_SPEED", "DEFAULT_RISE_TIME", "STOP_RAMP_STEPS",
+           "derive_installation"]
+
+CABLE_PROPAGATION_SPEED = 150e6  # m/s, pulse speed on a motor cable (about half the speed of light): common practice
+DEFAULT_RISE_TIME = 0.1e-6  # s, IGBT output voltage rise time when the drive data give none: common practice
+STOP_RAMP_STEPS = 200  # steps of the ramped stop over which the returned energy is integrated
+
+
+def derive_installation(m: Model, spec: Spec) -> None:
+    """Cable, protection, motor currents, peak duration, braking."""
+    _cable_protection(m)
+    _motor_currents(m)
+    _peak(m)
+    _braking(m)
+
+
+def _cable_protection(m: Model) -> None:
+    length, area = m.get("cable.length"), m.get("cable.conductor_area")
+    current, pf = m.get("motor.rated_current"), m.get("motor.power_factor")
+    v = m.get("motor.rated_voltage")
+    if None not in (length, area, current, pf, v):
+        material = m.get("cable.material", "copper")
+        drop = sp.voltage_drop_annex_g(current, length, area, pf, material=material,
+                                       reactance_per_length=m.get("cable.reactance", sp.ANNEX_G_REACTANCE))
+        put(m, "cable.voltage_drop", sp.relative_voltage_drop(drop, v / math.sqrt(3)), "voltage_drop_annex_g",
+           ("motor.rated_current", "cable.length", "cable.conductor_area", "motor.power_factor"),
+           "IEC 60364-5-52 Annex G: b·(ρ₁·L·cosφ/S + λ·L·sinφ)·I ÷ U₀")
+    if m.get("drive.kind") == "inverter":
+        rise = m.get("cable.rise_time", DEFAULT_RISE_TIME)
+        crit = pe.reflected_wave_critical_length(CABLE_PROPAGATION_SPEED, rise)
+        put(m, "cable.critical_length", crit, "reflected_wave_critical_length", ("cable.rise_time",),
+           "v·t_r ÷ 2 with v = 150 m/µs (common practice)")
+        vdc = max(x for x in (m.get("drive.dc_bus_voltage_max"), m.get("drive.braking.chopper_threshold"), 0.0)
+                  if x is not None)
+        if length is not None and vdc:
+            put(m, "cable.motor_peak_voltage", pe.motor_peak_voltage(vdc, length, crit), "motor_peak_voltage",
+               ("drive.dc_bus_voltage_max", "cable.length", "cable.critical_length"),
+               "V_dc,max × (1 + Γ), Γ → 1 beyond the critical length")
+    p, v = m.get("motor.rated_power"), m.get("motor.rated_voltage")
+    if p is not None and v is not None and m.has("protection.code") and str(m.get("protection.code")).startswith(
+            "nec"):
+        flc = sp.nec_full_load_current(p, v)
+        if flc is not None:
+            put(m, "protection.full_load_current", flc, "nec_full_load_current",
+               ("motor.rated_power", "motor.rated_voltage"), "NEC Table 430.250 (NFPA 70, 2008)")
+
+
+def _current_at(m: Model, torque: float) -> tuple[float, str, tuple[str, ...]] | None:
+    """Return (motor current [A] at a torque, method, inputs), or None if the motor data do not allow it."""
+    kind = m.get("motor.kind")
+    tn = m.get("motor.rated_torque")
+    if kind == "induction" and tn and m.has("motor.rated_current"):
+        i = mc.induction_current_at_torque(abs(torque), tn, m.get("motor.rated_current"),
+                                           m.get("motor.magnetising_current"))
+        return i, "induction_current_at_torque", ("motor.rated_torque", "motor.rated_current",
+                                                  "motor.magnetising_current")
+    if kind == "pm-synchronous":
+        kt_path = "motor.torque_constant" if m.has("motor.torque_constant") else "motor.torque_constant_from_emf"
+        kt = m.get(kt_path)
+        if kt:
+            return abs(torque) / kt, "torque ÷ Kt", (kt_path,)
+    if kind == "dc" and tn and m.has("motor.armature_current"):
+        # k·Φ at rated field is T_N ÷ I_aN; above base speed the weakened field needs more current per N·m
+        return abs(torque) / tn * m.get("motor.armature_current"), "dc_armature_current_for_torque", (
+            "motor.rated_torque", "motor.armature_current")
+    return None
+
+
+def _motor_currents(m: Model) -> None:
+    for torque_path, path, what in (("train.continuous_torque_required", "train.motor_current_required", "RMS"),
+                                    ("train.peak_torque_required", "train.motor_current_peak", "peak")):
+        torque = m.get(torque_path)
+        if torque is None or m.has(path):
+            continue
+        found = _current_at(m, torque)
+        if found:
+            value, method, inputs = found
+            put(m, path, value, method, (torque_path, *inputs), f"motor current at the {what} torque")
+
+
+def _peak(m: Model) -> None:
+    segments = m.lists.get("duty.segments")
+    if segments:
+        worst = max(segments, key=lambda s: abs(s["torque"]))
+        put(m, "train.peak_duration", worst["duration"], "duty", ("load.duty",), "duration of the peak-torque segment")
+    elif (m.get("train.acceleration_torque") or 0.0) > 0.0 and m.has("load.acceleration_time"):
+        put(m, "train.peak_duration", m.get("load.acceleration_time"), "acceleration", ("load.acceleration_time",),
+           "the peak lasts the acceleration time")
+    i, eff = m.get("transmission.ratio"), m.get("transmission.efficiency")
+    peak = m.get("train.peak_torque_required")
+    if peak is not None and i and eff and not m.has("train.gear_output_torque_peak"):
+        put(m, "train.gear_output_torque_peak", abs(peak) * i * eff, "product",
+                 ("train.peak_torque_required", "transmission.ratio", "transmission.efficiency"),
+                 "peak motor torque × i × η")
+
+
+def _sustained(m: Model) -> bool:
+    """Return whether the load regenerates at steady speed: hoist lowering, downhill belt, braked segment."""
+    if m.get("load.model") == "hoist" or m.get("load.lowering_power") is not None:
+        return True
+    if m.get("load.model") == "conveyor" and (m.get("load.incline") or 0.0) < 0.0:
+        return True
+    for seg in m.lists.get("duty.segments") or []:
+        steady = seg["speed_from"] == seg["speed_to"] and seg["speed_to"] != 0.0
+        if steady and seg["torque"] * seg["speed_to"] < 0.0:
+            return True
+    return False
+
+
+def _braking(m: Model) -> None:
+    if m.get("drive.kind") != "inverter":
+        return
+    put(m, "train.regeneration_sustained", _sustained(m), "regeneration", ("load.model", "load.incline", "load.duty"),
+       "hoist, downhill conveyor or a duty segment braking at steady speed")
+    eta = (m.get("transmission.reverse_efficiency") or m.get("transmission.efficiency") or 1.0) * (
+        m.get("motor.efficiency") or 1.0)
+    eta_inputs = ("transmission.reverse_efficiency", "motor.efficiency")
+    if m.has("duty.regenerative_energy", "duty.cycle_time"):
+        e_cycle = m.get("duty.regenerative_energy") * eta
+        put(m, "train.braking_energy", e_cycle, "duty", ("duty.regenerative_energy", *eta_inputs),
+           "regenerated energy per cycle × η_rev × η_mot (whole cycle, conservative per stop)")
+        put(m, "train.braking_power_peak", m.get("duty.peak_braking_power", 0.0) * eta, "duty",
+           ("duty.peak_braking_power", *eta_inputs), "largest −T·ω of the cycle × η")
+        put(m, "train.braking_power_mean", e_cycle / m.get("duty.cycle_time"), "duty",
+           ("duty.regenerative_energy", "duty.cycle_time"), "E_cycle ÷ t_cycle")
+        return
+    jt, w = m.get("train.inertia_total"), m.get("train.speed_max")
+    e_mech = _stopping(m, jt, w, eta, eta_inputs) if jt is not None and w is not None else None
+    lowering = m.get("load.lowering_power")
+    if lowering is not None:
+        peak = max(m.get("train.braking_power_peak", 0.0), lowering * eta)
+        put(m, "train.braking_power_peak", peak, "braking_power", ("load.lowering_power", *eta_inputs),
+                 "largest of the stopping peak and steady lowering power × η_rev × η_mot")
+        put(m, "train.braking_power_mean", lowering * eta, "hoist_lowering_power", ("load.lowering_power", *eta_inputs),
+           "continuous lowering × η_rev × η_mot (no duty cycle given: conservative)")
+    elif e_mech is not None and m.get("load.starts_per_hour"):
+        put(m, "train.braking_power_mean", e_mech * eta * m.get("load.starts_per_hour") / 3600.0, "braking_energy",
+           ("train.braking_energy", "load.starts_per_hour"), "E_stop × stops per hour ÷ 3600 s")
+
+
+def _stopping(m: Model, jt: float, w: float, eta: float, eta_inputs: tuple[str, ...]) -> float | None:
+    """Derive the energy and peak power that one ramped stop from top speed returns; return it before η [J].
+
+    Without a deceleration time the drive may coast or ramp slowly: nothing is derived, and the braking
+    rule reports what it would need.
+    """
+    if m.get("drive.stop") == "coast":
+        # the inverter stops modulating and the load coasts: nothing flows back to the DC bus
+        put(m, "train.braking_energy", 0.0, "coast", ("drive.stop",), "coast to stop: no regeneration")
+        put(m, "train.braking_power_peak", 0.0, "coast", ("drive.stop",), "coast to stop: no regeneration")
+        return 0.0
+    t_dec = m.get("load.deceleration_time")
+    if not t_dec:
+        return None
+    i = m.get("transmission.ratio") or 1.0
+    eff = m.get("transmission.efficiency") or 1.0
+    load_torque = m.functions.get("load_torque")
+    # a linear ramp from ω to 0 in t_dec; the motor gives T_m = T_L(ω)/(i·η) − J·ω/t_dec and regenerates while T_m < 0
+    steps = STOP_RAMP_STEPS
+    decel_torque = jt * w / t_dec
+    energy = 0.0
+    peak = 0.0
+    dt = t_dec / steps
+    for k in range(steps + 1):
+        speed = w * (1.0 - k / steps)
+        t_load = abs(float(load_torque(speed / i))) / (i * eff) if load_torque is not None else 0.0
+        power = max(0.0, (decel_torque - t_load) * speed)
+        peak = max(peak, power)
+        energy += power * (dt if 0 < k < steps else dt / 2)
+    put(m, "train.braking_power_peak", peak * eta, "braking_power",
+       ("train.inertia_total", "train.speed_max", "load.deceleration_time", "train.load_torque", *eta_inputs),
+       "max over the ramp of (J·ω/t_dec − T_L(ω))·ω × η_rev × η_mot")
+    put(m, "train.braking_energy", energy * eta, "braking_energy",
+       ("train.inertia_total", "train.speed_max", "load.deceleration_time", *eta_inputs),
+       "∫ max(0, (J·ω/t_dec − T_L(ω))·ω) dt over a linear ramp to rest × η_rev × η_mot")
+    return energy
