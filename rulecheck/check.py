@@ -15,7 +15,7 @@ from typing import Any
 
 from rulecheck import units
 from rulecheck.engine.ruleset import RuleSet
-from rulecheck.engine.run import Outcome, effective_params, evaluate_rule, spec_names
+from rulecheck.engine.run import Outcome, SpecNames, effective_params, evaluate_rule
 from rulecheck.load import Document, Limits, LoadError, load_file
 from rulecheck.schema import check_structure, read_quantities
 
@@ -95,6 +95,7 @@ class CheckContext:
 # kind → (JSON unit, factor from the internal SI unit); kinds without a JSON unit are shown as plain numbers
 _JSON_UNITS = {name: (k.json_unit, units.RPM_PER_RAD_S if name == "rotational_speed" else None)
                for name, k in units.KINDS.items() if k.json_unit is not None}
+_JSON_UNITS.update({"ratio": ("1", None), "count": ("1", None)})  # rule values' dimensionless kinds carry their kind
 
 
 def _value_dict(value: float, kind_name: str | None) -> dict[str, Any]:
@@ -305,7 +306,7 @@ def _without(data: Any, problems: list[Any]) -> Any:
 
 def _check_document(doc: Document, ctx: CheckContext, base_dir: Path | None) -> dict[str, Any]:
     from rulecheck.charts_data import chart_data
-    from rulecheck.derive import build_model
+    from rulecheck.derive import DERIVED, build_model
 
     result = _empty_result(doc.file, "checked")
     result["sha256"] = doc.sha256
@@ -332,7 +333,7 @@ def _check_document(doc: Document, ctx: CheckContext, base_dir: Path | None) -> 
     spec_margins, margin_outcomes = _read_margins(margins, ctx.ruleset)
     for o in margin_outcomes:
         result["outcomes"].append(outcome_dict(o, BUILTIN_RULES["margins-check"], doc))
-    namespace = model.namespace()
+    spec = SpecNames(model, DERIVED)
     rule_outcomes: dict[str, Outcome] = {}
     env = parent = None
     for rule in ctx.ruleset.rules.values():
@@ -340,9 +341,8 @@ def _check_document(doc: Document, ctx: CheckContext, base_dir: Path | None) -> 
             ctx.params_without_margins[rule.id]
         if rule.expression_environment is not env:  # one sandbox per rule set: the spec's names looked up once
             env = rule.expression_environment
-            parent = spec_names(model, env, namespace)
-        outcome = evaluate_rule(rule, model, namespace, params, ctx.value_kinds.get(rule.id, {}), ctx.system,
-                                ctx.severity_overrides, parent)
+            parent = spec.parent(env)
+        outcome = evaluate_rule(rule, spec, params, ctx.system, ctx.severity_overrides, parent)
         rule_outcomes[rule.id] = outcome
     waiver_outcomes = _apply_waivers(data.get("waivers"), rule_outcomes, ctx)
     for rule_id, outcome in rule_outcomes.items():

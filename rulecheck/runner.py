@@ -158,15 +158,17 @@ def rule_folders(cfg: Config, extra: list[Path]) -> list[Path]:
 
 
 def prepare(cfg: Config, extra_rule_paths: list[Path], today: _dt.date, units_system: str,
-            base_dir: Path | None, value_kinds: dict[str, dict[str, str | None]] | None = None) -> Prepared:
+            base_dir: Path | None, value_kinds: dict[str, dict[str, str | None]] | None = None,
+            compile_cache: Any = None) -> Prepared:
     """Return the compiled (and, unless ``value_kinds`` is given, linted) rules of one configuration.
 
     Raises UsageError for unusable rules or configuration.
     """
+    from rulecheck.derive import DERIVED  # the catalogue rule expressions may read besides the spec's fields
     from rulecheck.engine.lint import lint_ruleset
 
     # rule files already linted (their digest matched a cached lint) need no second schema check
-    ruleset, errors = load_rules(rule_folders(cfg, extra_rule_paths), validate=value_kinds is None)
+    ruleset, errors = load_rules(rule_folders(cfg, extra_rule_paths), validate=value_kinds is None, cache=compile_cache)
     for rule_id in (*cfg.disable, *cfg.severity):
         if ruleset.resolve(rule_id) is None and rule_id not in BUILTIN_RULES:
             where = "disable" if rule_id in cfg.disable else f"severity.{rule_id}"
@@ -175,7 +177,7 @@ def prepare(cfg: Config, extra_rule_paths: list[Path], today: _dt.date, units_sy
     if errors:
         raise UsageError("\n".join(str(e) for e in errors))
     if value_kinds is None:
-        value_kinds, problems = lint_ruleset(ruleset)
+        value_kinds, problems = lint_ruleset(ruleset, DERIVED)
         if problems:
             raise UsageError("\n".join(str(e) for e in problems))
     for rule_id in cfg.disable:
@@ -199,26 +201,25 @@ def _sources_key() -> str:
     return "sources-" + hashlib.sha256((code_digest() + jinja2.__version__ + sys.version).encode()).hexdigest()
 
 
-def _load_sources(cache: ResultCache) -> None:
-    """Load the compiled rule sources kept by earlier runs (signed entries only)."""
-    from rulecheck.engine import expr
+def _load_sources(cache: ResultCache) -> Any:
+    """Return a compile cache holding the rule sources kept by earlier runs (signed entries only).
 
-    entry = cache.get_file(_sources_key())
+    A thin adapter of the on-disk code cache to ``engine.expr.CompileCache``; to move into the run package."""
+    from rulecheck.engine.expr import CompileCache
+
+    compile_cache = CompileCache()
+    entry = cache.get_file(_sources_key())  # None unless signed with the user's key
     cache.hits -= entry is not None
     cache.misses -= entry is None
-    if entry is not None and isinstance(entry.get("sources"), dict):
-        expr.SOURCES.update({k: v for k, v in entry["sources"].items() if isinstance(v, str)})
-        if isinstance(entry.get("codes"), dict):
-            expr.CODES.update({k: v for k, v in entry["codes"].items() if isinstance(v, str) and k in expr.SOURCES})
-    expr.SOURCES_STATE["dirty"] = False
+    if entry is not None:
+        compile_cache.load(entry)
+    return compile_cache
 
 
-def _save_sources(cache: ResultCache) -> None:
-    from rulecheck.engine import expr
-
-    if expr.SOURCES_STATE["dirty"]:
-        cache.put_file(_sources_key(), {"sources": dict(expr.SOURCES), "codes": dict(expr.CODES)})
-        expr.SOURCES_STATE["dirty"] = False
+def _save_sources(cache: ResultCache, compile_cache: Any) -> None:
+    if compile_cache.dirty:
+        cache.put_file(_sources_key(), compile_cache.export())
+        compile_cache.dirty = False
 
 
 def _prepare_cached(cfg: Config, extra: list[Path], today: _dt.date, units_system: str, base_dir: Path,
@@ -226,22 +227,23 @@ def _prepare_cached(cfg: Config, extra: list[Path], today: _dt.date, units_syste
     """Prepare a configuration's rules, reusing cached compiled sources and lint of the same rules and code."""
     if cache is None:
         return prepare(cfg, extra, today, units_system, base_dir)
-    _load_sources(cache)
+    compile_cache = _load_sources(cache)
     try:
-        return _prepare_with_lint_cache(cfg, extra, today, units_system, base_dir, cache, digest)
+        return _prepare_with_lint_cache(cfg, extra, today, units_system, base_dir, cache, digest, compile_cache)
     finally:
-        _save_sources(cache)
+        _save_sources(cache, compile_cache)
 
 
 def _prepare_with_lint_cache(cfg: Config, extra: list[Path], today: _dt.date, units_system: str, base_dir: Path,
-                             cache: ResultCache, digest: str) -> Prepared:
+                             cache: ResultCache, digest: str, compile_cache: Any) -> Prepared:
     key = "lint-" + hashlib.sha256((code_digest() + digest).encode()).hexdigest()
     entry = cache.get_file(key)
     cache.hits -= entry is not None
     cache.misses -= entry is None
     if entry is not None and isinstance(entry.get("kinds"), dict):
-        return prepare(cfg, extra, today, units_system, base_dir, value_kinds=entry["kinds"])
-    prepared = prepare(cfg, extra, today, units_system, base_dir)
+        return prepare(cfg, extra, today, units_system, base_dir, value_kinds=entry["kinds"],
+                       compile_cache=compile_cache)
+    prepared = prepare(cfg, extra, today, units_system, base_dir, compile_cache=compile_cache)
     cache.put_file(key, {"kinds": prepared.context.value_kinds})
     return prepared
 
