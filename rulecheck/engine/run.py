@@ -157,9 +157,8 @@ class _ShownSection(expr.Section):
 
 
 def _param_display(param: Any, value: float, system: str) -> Shown:
-    if param.kind in (None, "fraction"):
-        # a parameter written as a percentage is shown as one; a margin such as 1.1 as a plain number
-        return Shown(value, "fraction" if param.written.strip().endswith("%") else None, system)
+    """Return a parameter as messages show it, by its declared kind: a fraction as a percentage, a parameter
+    without a kind (a margin such as 1.1, a count) as a plain number."""
     return Shown(value, param.kind, system)
 
 
