@@ -15,7 +15,7 @@ from typing import Any
 
 from rulecheck import units
 from rulecheck.engine.ruleset import RuleSet
-from rulecheck.engine.run import Outcome, effective_params, evaluate_rule, spec_names
+from rulecheck.engine.run import Outcome, SpecNames, effective_params, evaluate_rule
 from rulecheck.load import Document, Limits, LoadError, load_file
 from rulecheck.result import Finding, SpecResult
 from rulecheck.schema import check_structure, read_quantities
@@ -97,6 +97,7 @@ class CheckContext:
 # kind → (JSON unit, factor from the internal SI unit); kinds without a JSON unit are shown as plain numbers
 _JSON_UNITS = {name: (k.json_unit, units.RPM_PER_RAD_S if name == "rotational_speed" else None)
                for name, k in units.KINDS.items() if k.json_unit is not None}
+_JSON_UNITS.update({"ratio": ("1", None), "count": ("1", None)})  # rule values' dimensionless kinds carry their kind
 
 
 def _value_dict(value: float, kind_name: str | None) -> dict[str, Any]:
@@ -350,7 +351,9 @@ def _charts(model: Any) -> dict[str, Any]:
 
 def _evaluate_rules(model: Any, spec_margins: dict[str, Any], ctx: CheckContext) -> dict[str, Outcome]:
     """Return every rule's outcome for the model, by rule id."""
-    namespace = model.namespace()
+    from rulecheck.derive import catalogue
+
+    spec = SpecNames(model, catalogue())
     rule_outcomes: dict[str, Outcome] = {}
     env = parent = None
     for rule in ctx.ruleset.rules.values():
@@ -358,9 +361,8 @@ def _evaluate_rules(model: Any, spec_margins: dict[str, Any], ctx: CheckContext)
             ctx.params_without_margins[rule.id]
         if rule.expression_environment is not env:  # one sandbox per rule set: the spec's names looked up once
             env = rule.expression_environment
-            parent = spec_names(model, env, namespace)
-        rule_outcomes[rule.id] = evaluate_rule(rule, model, namespace, params, ctx.value_kinds.get(rule.id, {}),
-                                               ctx.system, ctx.severity_overrides, parent)
+            parent = spec.parent(env)
+        rule_outcomes[rule.id] = evaluate_rule(rule, spec, params, ctx.system, ctx.severity_overrides, parent)
     return rule_outcomes
 
 

@@ -9,11 +9,8 @@ power and rated speed".
 
 from __future__ import annotations
 
-import itertools
 from dataclasses import dataclass, field
 from typing import Any, NamedTuple
-
-from rulecheck.engine.expr import Section, sections_from
 
 __all__ = ["Derivation", "Model"]
 
@@ -76,14 +73,3 @@ class Model:
     def has(self, *paths: str) -> bool:
         """Return whether every one of ``paths`` has a value."""
         return all(p in self.values for p in paths)
-
-    def namespace(self, wrap: Any = None) -> dict[str, Section]:
-        """Return the model as nested read-only sections for rule expressions.
-
-        ``wrap(value, kind)``, when given, turns each value into what a message template shows.
-        """
-        if wrap is None:
-            values = self.values.items()
-        else:
-            values = ((path, wrap(value, self.kinds.get(path))) for path, value in self.values.items())
-        return sections_from(itertools.chain(values, self.lists.items()))

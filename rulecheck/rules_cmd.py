@@ -7,6 +7,7 @@ import textwrap
 from pathlib import Path
 
 from rulecheck.check import BUILTIN_RULES
+from rulecheck.derive import catalogue  # the catalogue rule expressions may read besides the spec's fields
 from rulecheck.engine.lint import lint_rule
 from rulecheck.engine.ruleset import RuleError, load_rules, rule_files, shipped_rules_dir
 
@@ -108,7 +109,7 @@ def lint_folder(folder: str) -> int:
             continue
         if rule.id in BUILTIN_RULES:
             problems.append(RuleError(rule.file, f"rule id '{rule.id}' is the id of a built-in check"))
-        _kinds, found = lint_rule(rule)
+        _kinds, found = lint_rule(rule, catalogue(), ruleset.compile_cache)
         problems.extend(found)
         outcomes = {e["outcome"] for e in rule.examples}
         if "pass" not in outcomes or "fail" not in outcomes:

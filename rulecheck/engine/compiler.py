@@ -26,14 +26,14 @@ from __future__ import annotations
 
 import keyword
 import math
-from typing import Any
+from typing import Any, NamedTuple
 
 from jinja2 import nodes
 from jinja2 import tests as jinja_tests
 from jinja2.exceptions import SecurityError
 from jinja2.runtime import Undefined
 
-__all__ = ["TranslationError", "runtime", "translate"]
+__all__ = ["Translation", "TranslationError", "runtime", "translate"]
 
 _BINARY = {"Add": "+", "Sub": "-", "Div": "/"}  # plain Python operators (jinja's sandbox leaves them alone)
 _GUARDED = {"Mul": "_mul", "Pow": "_pow", "Mod": "_mod", "FloorDiv": "_floordiv"}
@@ -51,9 +51,22 @@ class TranslationError(Exception):
     """A construct that rule expressions may not use; the message says which."""
 
 
+class Translation(NamedTuple):
+    """The Python source of one expression or template and the names it reads.
+
+    ``names``: the rule's own names it may read (parameters, computed values), collected from the jinja tree
+    while translating; ``bare``: those a template only substitutes as they are (``{{ margin }}``) and reads
+    nowhere else. The source also defines them (``_NAMES``, ``_BARE``), so a kept source or its compiled
+    form carries them too."""
+
+    source: str
+    names: frozenset[str]
+    bare: frozenset[str]
+
+
 def translate(tree: nodes.Node, env: Any, template: bool = False, branches: str | None = None,
-              reserved: frozenset[str] = frozenset(), sections: frozenset[str] = frozenset()) -> str:
-    """Return Python source defining ``_compiled(L, G)`` for a parsed expression (or template).
+              reserved: frozenset[str] = frozenset(), sections: frozenset[str] = frozenset()) -> Translation:
+    """Return the :class:`Translation` defining ``_compiled(L, G)`` for a parsed expression (or template).
 
     ``branches`` is None at run time; "first" or "second" evaluates every part of conditionals and
     of ``and``/``or`` and takes the first or the second arm (the lint's two passes). ``reserved``
@@ -66,7 +79,12 @@ def translate(tree: nodes.Node, env: Any, template: bool = False, branches: str 
         body = writer.template(tree)
     else:
         body = writer.visit(tree)
-    return f"def _compiled(L, G):\n    return {body}\n"
+    elsewhere = frozenset(writer.reads)
+    names = elsewhere | writer.bare
+    bare = writer.bare - elsewhere
+    source = (f"def _compiled(L, G):\n    return {body}\n"
+              f"_NAMES = {tuple(sorted(names))!r}\n_BARE = {tuple(sorted(bare))!r}\n")
+    return Translation(source, names, bare)
 
 
 class _Writer:
@@ -75,6 +93,8 @@ class _Writer:
         self.branches = branches
         self.reserved = reserved
         self.sections = sections
+        self.reads: set[str] = set()  # the rule's own names read (anywhere but as a bare substitution)
+        self.bare: set[str] = set()  # the rule's own names substituted as they are: {{ name }}
 
     @staticmethod
     def constant(value: Any) -> str:
@@ -91,6 +111,9 @@ class _Writer:
             for child in node.nodes:
                 if isinstance(child, nodes.TemplateData):
                     parts.append(self.constant(child.data))
+                elif isinstance(child, nodes.Name) and child.name not in self.sections:
+                    parts.append(f"_text({self.rule_name(child)})")
+                    self.bare.add(child.name)
                 else:
                     parts.append(f"_text({self.visit(child)})")
         return "''.join((" + "".join(p + ", " for p in parts) + "))"
@@ -104,6 +127,14 @@ class _Writer:
     # --- names and values ---------------------------------------------------------------------------
 
     def visit_Name(self, node: nodes.Name) -> str:
+        if node.name in self.sections:
+            self.rule_name(node)  # checks its form
+            return f"G[{node.name!r}]"
+        self.reads.add(node.name)
+        return self.rule_name(node)
+
+    def rule_name(self, node: nodes.Name) -> str:
+        """Return the code reading a name: the rule's own, else the spec's (a section: the spec's only)."""
         if node.ctx != "load":
             raise TranslationError("assignment is not allowed in a rule expression")
         if node.name in self.reserved:
@@ -246,6 +277,13 @@ class _Writer:
 def runtime(env: Any, section_type: type, missing_type: type, magnitude: Any, max_exponent: float,
             max_magnitude: float) -> dict[str, Any]:
     """Return the globals of compiled expressions for ``env`` (no builtins: only these helpers)."""
+    return {"__builtins__": {}, **_access(section_type, missing_type),
+            **_operators(magnitude, max_exponent, max_magnitude), **_filters_and_tests(env, missing_type),
+            "_text": str, "_Undefined": Undefined, "_isinstance": isinstance}
+
+
+def _access(section_type: type, missing_type: type) -> dict[str, Any]:
+    """Return ``_getattr`` and ``_getitem``: model sections by name, list elements by index, nothing else."""
 
     def unsafe(obj: Any, attr: str) -> Any:
         return missing_type(f"access to attribute {attr!r} of {type(obj).__name__!r} object is unsafe.", obj, attr,
@@ -272,28 +310,45 @@ def runtime(env: Any, section_type: type, missing_type: type, magnitude: Any, ma
             return obj
         return missing_type(obj=obj, name=str(argument))
 
-    def refuse_sequences(operator: str, left: Any, right: Any) -> None:
-        if isinstance(left, str | list | tuple | dict) or isinstance(right, str | list | tuple | dict):
-            raise SecurityError(f"operator {operator!r} is not allowed on text or lists in a rule expression")
+    return {"_getattr": _getattr, "_getitem": _getitem}
 
-    plain = (float, int)
 
-    def _mul(left: Any, right: Any) -> Any:
-        if type(left) in plain and type(right) in plain:  # two numbers: nothing to refuse
-            return left * right
-        refuse_sequences("*", left, right)
+def _refuse_sequences(operator: str, left: Any, right: Any) -> None:
+    if isinstance(left, str | list | tuple | dict) or isinstance(right, str | list | tuple | dict):
+        raise SecurityError(f"operator {operator!r} is not allowed on text or lists in a rule expression")
+
+
+_PLAIN = (float, int)
+
+
+def _mul(left: Any, right: Any) -> Any:
+    if type(left) in _PLAIN and type(right) in _PLAIN:  # two numbers: nothing to refuse
         return left * right
+    _refuse_sequences("*", left, right)
+    return left * right
 
-    def _mod(left: Any, right: Any) -> Any:
-        refuse_sequences("%", left, right)
-        return left % right
 
-    def _floordiv(left: Any, right: Any) -> Any:
-        refuse_sequences("//", left, right)
-        return left // right
+def _mod(left: Any, right: Any) -> Any:
+    _refuse_sequences("%", left, right)
+    return left % right
+
+
+def _floordiv(left: Any, right: Any) -> Any:
+    _refuse_sequences("//", left, right)
+    return left // right
+
+
+def _call(fn: Any, *args: Any, **kwargs: Any) -> Any:
+    if getattr(fn, "_rule_callable", False) is not True:
+        raise SecurityError(f"{fn!r} is not safely callable")
+    return fn(*args, **kwargs)
+
+
+def _operators(magnitude: Any, max_exponent: float, max_magnitude: float) -> dict[str, Any]:
+    """Return the guarded operators (no repeating text or lists; ``**`` bounded) and ``_call``."""
 
     def _pow(left: Any, right: Any) -> Any:
-        refuse_sequences("**", left, right)
+        _refuse_sequences("**", left, right)
         exponent = magnitude(right)
         base = magnitude(left)
         if exponent is None or abs(exponent) > max_exponent:
@@ -302,11 +357,11 @@ def runtime(env: Any, section_type: type, missing_type: type, magnitude: Any, ma
             raise SecurityError("power too large in a rule expression")
         return left**right
 
-    def _call(fn: Any, *args: Any, **kwargs: Any) -> Any:
-        if getattr(fn, "_rule_callable", False) is not True:
-            raise SecurityError(f"{fn!r} is not safely callable")
-        return fn(*args, **kwargs)
+    return {"_mul": _mul, "_mod": _mod, "_floordiv": _floordiv, "_pow": _pow, "_call": _call}
 
+
+def _filters_and_tests(env: Any, missing_type: type) -> dict[str, Any]:
+    """Return ``_filter``, ``_test`` (the sandbox's own) and ``_no_else``."""
     # filters and tests that take no jinja context are called directly; the others through jinja
     try:
         from jinja2.utils import _PassArg
@@ -331,6 +386,4 @@ def runtime(env: Any, section_type: type, missing_type: type, magnitude: Any, ma
     def _no_else() -> Any:
         return missing_type("the inline if-expression evaluated to false and no else section was defined.")
 
-    return {"__builtins__": {}, "_getattr": _getattr, "_getitem": _getitem, "_mul": _mul, "_mod": _mod,
-            "_floordiv": _floordiv, "_pow": _pow, "_call": _call, "_filter": _filter, "_test": _test,
-            "_no_else": _no_else, "_text": str, "_Undefined": Undefined, "_isinstance": isinstance}
+    return {"_filter": _filter, "_test": _test, "_no_else": _no_else}

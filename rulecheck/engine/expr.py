@@ -25,7 +25,6 @@ from __future__ import annotations
 import base64
 import marshal
 import math
-import re
 import types
 from collections.abc import Callable
 from typing import Any
@@ -40,6 +39,7 @@ MAX_EXPONENT = 8.0
 MAX_MAGNITUDE = 1e100
 
 __all__ = [
+    "CompileCache",
     "ExpressionError",
     "render_template",
     "spec_parent",
@@ -390,19 +390,73 @@ def _runtime(env: Any) -> dict[str, Any]:
     return rt
 
 
-def _parse(env: Any, text: str, template: bool) -> Any:
-    """Return jinja's tree of an expression (or template); the same text parses once per run, though the run
-    and the lint's two passes each translate it (the translator only reads the tree)."""
-    key = (template, text)
-    tree = _TREES.get(key)
-    if tree is None:
-        if len(_TREES) > 8192:
-            _TREES.clear()
-        tree = _TREES[key] = _parse_anew(env, text, template)
-    return tree
+class CompileCache:
+    """What compiling rule text keeps for reuse: jinja's parsed trees (one parse per text per run: the run and
+    the lint's two passes translate the same tree), and the Python source of each translation with its compiled
+    form (marshal, base64), keyed by :func:`source_key`.
 
+    The caller owns it and passes it to :func:`compile_expression` and :func:`compile_template`. Sources and
+    codes may be kept between runs: the caller loads them only from entries it has verified as its own
+    (signed with the user's key, keyed by the tool's code and the Python version: marshal's format is its
+    own), with :meth:`load`, and saves :meth:`export` when ``dirty``. Anything else is compiled from the
+    rule's text. A kept source that no longer compiles is dropped and the text translated anew."""
 
-_TREES: dict[tuple[bool, str], Any] = {}
+    TREES_LIMIT = 8192
+
+    __slots__ = ("sources", "codes", "trees", "dirty")
+
+    def __init__(self) -> None:
+        self.sources: dict[str, str] = {}
+        self.codes: dict[str, str] = {}
+        self.trees: dict[tuple[bool, str], Any] = {}
+        self.dirty = False
+
+    def load(self, entry: Any) -> None:
+        """Take the sources and codes of a verified entry (``{"sources": {...}, "codes": {...}}``); text only."""
+        sources = entry.get("sources") if isinstance(entry, dict) else None
+        if isinstance(sources, dict):
+            self.sources.update({k: v for k, v in sources.items() if isinstance(k, str) and isinstance(v, str)})
+            codes = entry.get("codes")
+            if isinstance(codes, dict):
+                self.codes.update({k: v for k, v in codes.items() if isinstance(v, str) and k in self.sources})
+        self.dirty = False
+
+    def export(self) -> dict[str, dict[str, str]]:
+        """Return the sources and codes to keep (``load``'s form)."""
+        return {"sources": dict(self.sources), "codes": dict(self.codes)}
+
+    def parse(self, env: Any, text: str, template: bool) -> Any:
+        """Return jinja's tree of an expression (or template), parsed once (the translator only reads it)."""
+        key = (template, text)
+        tree = self.trees.get(key)
+        if tree is None:
+            if len(self.trees) > self.TREES_LIMIT:
+                self.trees.clear()
+            tree = self.trees[key] = _parse_anew(env, text, template)
+        return tree
+
+    def code(self, key: str) -> Any:
+        """Return the kept compiled form of a source, or None."""
+        packed = self.codes.get(key)
+        if packed is None:
+            return None
+        try:
+            code = marshal.loads(base64.b64decode(packed))
+        except (ValueError, EOFError, TypeError):
+            return None
+        return code if isinstance(code, types.CodeType) else None
+
+    def keep(self, key: str, source: str, code: Any) -> None:
+        """Keep a fresh translation and its compiled form."""
+        self.sources[key] = source
+        self.codes[key] = base64.b64encode(marshal.dumps(code)).decode("ascii")
+        self.dirty = True
+
+    def forget(self, key: str) -> None:
+        """Drop a kept source (and its code) that no longer compiles."""
+        self.sources.pop(key, None)
+        self.codes.pop(key, None)
+        self.dirty = True
 
 
 def _parse_anew(env: Any, text: str, template: bool) -> Any:
@@ -417,100 +471,73 @@ def _parse_anew(env: Any, text: str, template: bool) -> Any:
     return tree
 
 
-def _build(env: Any, kind: str, text: str) -> Compiled:
-    """Translate (or take from the kept sources), compile and wrap one expression or template."""
+def _translate(env: Any, kind: str, text: str, cache: CompileCache) -> str:
+    """Return the Python source of one expression or template, translated from its text."""
     from rulecheck.engine.compiler import TranslationError, translate
 
-    key = _source_key(env, kind, text)
-    source = SOURCES.get(key)
+    try:
+        tree = cache.parse(env, text, kind == "template")
+    except TemplateSyntaxError as exc:
+        raise ExpressionError(f"syntax error: {exc.message}") from None
+    except RecursionError:
+        raise ExpressionError("expression nests too deeply") from None
+    except Exception as exc:  # jinja raises a few types for malformed input
+        raise ExpressionError(f"cannot compile: {exc}") from None
+    try:
+        return translate(tree, env, template=kind == "template", branches=getattr(env, "rule_branches", None),
+                         reserved=JINJA_NAMES, sections=frozenset(SECTION_NAMES)).source
+    except TranslationError as exc:
+        raise ExpressionError(str(exc)) from None
+    except RecursionError:
+        raise ExpressionError("expression nests too deeply") from None
+
+
+def _build(env: Any, kind: str, text: str, cache: CompileCache) -> Compiled:
+    """Translate (or take from the kept sources), compile and wrap one expression or template."""
+    key = source_key(env, kind, text)
+    source = cache.sources.get(key)
+    fresh = source is None
     if source is None:
-        try:
-            tree = _parse(env, text, kind == "template")
-        except TemplateSyntaxError as exc:
-            raise ExpressionError(f"syntax error: {exc.message}") from None
-        except RecursionError:
-            raise ExpressionError("expression nests too deeply") from None
-        except Exception as exc:  # jinja raises a few types for malformed input
-            raise ExpressionError(f"cannot compile: {exc}") from None
-        try:
-            source = translate(tree, env, template=kind == "template", branches=getattr(env, "rule_branches", None),
-                               reserved=JINJA_NAMES, sections=frozenset(SECTION_NAMES))
-        except TranslationError as exc:
-            raise ExpressionError(str(exc)) from None
-        except RecursionError:
-            raise ExpressionError("expression nests too deeply") from None
-        fresh = True
-    else:
-        fresh = False
-    code = None if fresh else _kept_code(key)
+        source = _translate(env, kind, text, cache)
+    code = None if fresh else cache.code(key)
+    namespace = dict(_runtime(env))
     try:
         if code is None:
             code = compile(source, "<rule>", "exec")
-            CODES[key] = base64.b64encode(marshal.dumps(code)).decode("ascii")
-            SOURCES_STATE["dirty"] = True
-        namespace = dict(_runtime(env))
         exec(code, namespace)  # noqa: S102 - our own translation, no builtins
-    except (SyntaxError, RecursionError, ValueError, MemoryError) as exc:
-        if not fresh:  # a kept source that no longer compiles: translate anew
-            SOURCES.pop(key, None)
-            CODES.pop(key, None)
-            return _build(env, kind, text)
+        names, bare = frozenset(namespace["_NAMES"]), frozenset(namespace["_BARE"])
+    except (SyntaxError, RecursionError, ValueError, MemoryError, KeyError, TypeError) as exc:
+        if not fresh:  # a kept source that no longer compiles (or lacks its names): translate anew
+            cache.forget(key)
+            return _build(env, kind, text, cache)
         raise ExpressionError(f"cannot compile: {type(exc).__name__}") from None
-    if fresh:
-        SOURCES[key] = source
-        SOURCES_STATE["dirty"] = True
-    names = frozenset(_RULE_NAME_READ.findall(source))
+    if fresh or key not in cache.codes:
+        cache.keep(key, source, code)
     if kind == "template":
-        # bare: the names not read anywhere else once their bare substitutions are taken out
-        elsewhere = frozenset(_RULE_NAME_READ.findall(_BARE_TEXT.sub("", source)))
-        return CompiledTemplate(namespace["_compiled"], env, text, names, names - elsewhere)
+        return CompiledTemplate(namespace["_compiled"], env, text, names, bare)
     return Compiled(namespace["_compiled"], env, text, names)
 
 
-# how translated code reads one of the rule's own names (compiler.visit_Name), and a template substitutes one
-_RULE_NAME_READ = re.compile(r"\(L\['([A-Za-z_][A-Za-z0-9_]*)'\] if ")
-_BARE_TEXT = re.compile(r"_text\(\(L\['([A-Za-z_][A-Za-z0-9_]*)'\] if '\1' in L else G\['\1'\]\)\)")
+def compile_expression(env: _RuleEnvironment, text: str, cache: CompileCache | None = None) -> Compiled:
+    """Compile one expression; raise :class:`ExpressionError` with the reason.
 
-
-def compile_expression(env: _RuleEnvironment, text: str) -> Compiled:
-    """Compile one expression; raise :class:`ExpressionError` with the reason."""
+    ``cache``: the caller's :class:`CompileCache` (none: nothing is reused or kept)."""
     if not isinstance(text, str):
         text = str(text)
     if len(text) > MAX_EXPRESSION_LENGTH:
         raise ExpressionError(f"expression is longer than {MAX_EXPRESSION_LENGTH} characters")
     if "__" in text:
         raise ExpressionError("names with double underscores are not allowed in rule expressions")
-    return _build(env, "expr", text)
+    return _build(env, "expr", text, cache if cache is not None else CompileCache())
 
 
-def compile_template(env: _RuleEnvironment, text: str) -> CompiledTemplate:
+def compile_template(env: _RuleEnvironment, text: str, cache: CompileCache | None = None) -> CompiledTemplate:
     """Compile a message template (the caller has checked its form); raise :class:`ExpressionError`."""
-    return _build(env, "template", text)  # type: ignore[return-value]
+    return _build(env, "template", text, cache if cache is not None else CompileCache())  # type: ignore[return-value]
 
 
-# --- translated sources, kept between runs ----------------------------------------------------------
-# Parsing an expression with jinja costs a fraction of a millisecond; a rule set has several hundred.
-# The Python source of each translation and its compiled form (marshal, base64) are kept in the user's
-# cache, signed with the user's key (rulecheck.cache) and keyed by the Python version (marshal's format
-# is its own), so a later run neither parses nor compiles them.
-
-SOURCES: dict[str, str] = {}
-CODES: dict[str, str] = {}
-SOURCES_STATE = {"dirty": False}
-
-
-def _kept_code(key: str) -> Any:
-    packed = CODES.get(key)
-    if packed is None:
-        return None
-    try:
-        code = marshal.loads(base64.b64decode(packed))
-    except (ValueError, EOFError, TypeError):
-        return None
-    return code if isinstance(code, types.CodeType) else None
-
-
-def _source_key(env: Any, kind: str, text: str) -> str:
+def source_key(env: Any, kind: str, text: str) -> str:
+    """Return the key of a translation: the environment's tag and branches, the kind and the text."""
     import hashlib
 
     tag = f"{getattr(env, 'cache_tag', 'run')}/{getattr(env, 'rule_branches', None)}"

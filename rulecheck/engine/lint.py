@@ -12,23 +12,30 @@ The same pass finds the kind of every named value, so messages show units.
 from __future__ import annotations
 
 import difflib
-from collections.abc import Callable
+from collections.abc import Callable, Mapping
 from functools import lru_cache
 from typing import Any
 
 from rulecheck import units
 from rulecheck.engine import expr
 from rulecheck.engine.dims import Dim, Unsure, dims_of_unit
-from rulecheck.engine.ruleset import Rule, RuleError, RuleSet
-from rulecheck.engine.run import kind_of_result
+from rulecheck.engine.ruleset import DIMENSIONLESS_KINDS, Rule, RuleError, RuleSet
 
-__all__ = ["catalogue", "lint_rule", "lint_ruleset"]
+__all__ = ["catalogue", "derived_kinds", "lint_rule", "lint_ruleset"]
+
+# The derived catalogue a caller gives: path → kind, or path → (kind, how it is derived); a kind is a name of
+# units.KINDS, "flag", or None for a plain number (a count, a ratio).
+Derived = Mapping[str, Any]
+
+
+def derived_kinds(derived: Derived) -> tuple[tuple[str, str | None], ...]:
+    """Return the derived catalogue as sorted (path, kind) pairs: hashable, one form for either input form."""
+    return tuple(sorted((p, v[0] if isinstance(v, tuple) else v) for p, v in derived.items()))
 
 
 @lru_cache(maxsize=1)
-def catalogue() -> dict[str, tuple[str, Any]]:
-    """Return every model path a rule may read: path → (type, kind or enum choices)."""
-    from rulecheck.derive import DERIVED
+def _spec_catalogue() -> dict[str, tuple[str, Any]]:
+    """Return every path of the spec format: path → (type, kind or enum choices)."""
     from rulecheck.load import path_text
     from rulecheck.schema import _resolve, spec_schema
 
@@ -57,7 +64,19 @@ def catalogue() -> dict[str, tuple[str, Any]]:
             out[path] = ("text", None)
 
     walk(spec_schema(), ())
-    for path, (kind_name, _meaning) in DERIVED.items():
+    return out
+
+
+def catalogue(derived: Derived) -> dict[str, tuple[str, Any]]:
+    """Return every model path a rule may read: path → (type, kind or enum choices): the spec format's fields
+    and the ``derived`` catalogue the caller gives (the derive stage's paths and kinds)."""
+    return dict(_catalogue(derived_kinds(derived)))
+
+
+@lru_cache(maxsize=4)
+def _catalogue(derived: tuple[tuple[str, str | None], ...]) -> dict[str, tuple[str, Any]]:
+    out = dict(_spec_catalogue())
+    for path, kind_name in derived:
         if kind_name == "flag":
             out[path] = ("flag", None)
         elif kind_name is None:
@@ -81,8 +100,8 @@ def _quantity(kind_name: str, fast: bool = False) -> Any:
     return ureg.Quantity(1.0, k.si_unit.replace("^", "**"))
 
 
-@lru_cache(maxsize=2)
-def _dimension_namespace(fast: bool = False) -> dict[str, expr.Section]:
+@lru_cache(maxsize=4)
+def _dimension_namespace(derived: tuple[tuple[str, str | None], ...], fast: bool = False) -> dict[str, expr.Section]:
     def sample(typ: str, info: Any) -> Any:
         if typ == "quantity":
             return _quantity(info, fast)
@@ -96,7 +115,7 @@ def _dimension_namespace(fast: bool = False) -> dict[str, expr.Section]:
             return [{}]
         return "text"
 
-    return expr.sections_from((path, sample(typ, info)) for path, (typ, info) in catalogue().items()
+    return expr.sections_from((path, sample(typ, info)) for path, (typ, info) in _catalogue(derived).items()
                               if "[" not in path)
 
 
@@ -108,6 +127,8 @@ def _dimensional_method(name: str, info: Any, fast: bool = False) -> Callable[..
     import inspect
 
     signature = inspect.signature(info.function)
+    # a method annotated to return true or false gives a flag (the method registry has no flag kind)
+    gives_flag = signature.return_annotation in (bool, "bool")
 
     def call(*args: Any, **kwargs: Any) -> Any:
         try:
@@ -135,7 +156,7 @@ def _dimensional_method(name: str, info: Any, fast: bool = False) -> Callable[..
             if got_dims != expected.dimensionality:
                 raise _LintError(f"{name}(): argument '{arg}' must be a {kind_name.replace('_', ' ')} "
                                  f"({expected.units}), got {value.units}")
-        return _quantity(info.returns, fast)
+        return True if gives_flag else _quantity(info.returns, fast)
 
     call.__name__ = name
     return call
@@ -167,8 +188,21 @@ def _lint_environment(take_first: bool = True, fast: bool = False) -> Any:
     return env
 
 
-def _compile_for_lint(text: str, take_first: bool = True, fast: bool = False) -> Any:
-    return expr.compile_expression(_lint_environment(take_first, fast), text)
+class _Lint:
+    """What linting one rule set needs: the catalogue it reads and the compile cache its rules share."""
+
+    def __init__(self, derived: Derived, cache: expr.CompileCache | None) -> None:
+        self.derived = derived_kinds(derived)
+        self.cache = cache if cache is not None else expr.CompileCache()
+
+    def namespace(self, fast: bool) -> dict[str, Any]:
+        return dict(_dimension_namespace(self.derived, fast))
+
+    def names(self) -> list[str]:
+        return sorted(_catalogue(self.derived))
+
+    def compile(self, text: str, take_first: bool = True, fast: bool = False) -> Any:
+        return expr.compile_expression(_lint_environment(take_first, fast), text, self.cache)
 
 
 def _error(rule: Rule, where: str, message: str) -> RuleError:
@@ -176,14 +210,14 @@ def _error(rule: Rule, where: str, message: str) -> RuleError:
     return RuleError(rule.file, f"{where}: {message}", pos.line if pos else None, pos.column if pos else None)
 
 
-def _run(rule: Rule, where: str, text: str, ns: dict[str, Any], fast: bool = False) -> Any:
+def _run(lint: _Lint, rule: Rule, where: str, text: str, ns: dict[str, Any], fast: bool = False) -> Any:
     try:
         if " if " in text or " and " in text or " or " in text:
             # the other branches, for their dimensions
-            expr.evaluate(_compile_for_lint(text, take_first=False, fast=fast), ns)
-        return expr.evaluate(_compile_for_lint(text, fast=fast), ns)
+            expr.evaluate(lint.compile(text, take_first=False, fast=fast), ns)
+        return expr.evaluate(lint.compile(text, fast=fast), ns)
     except expr.MissingInput as exc:
-        names = sorted(catalogue())
+        names = lint.names()
         hints = []
         for p in exc.paths:
             close = difflib.get_close_matches(p, names, n=1, cutoff=0.7)
@@ -195,23 +229,30 @@ def _run(rule: Rule, where: str, text: str, ns: dict[str, Any], fast: bool = Fal
         raise _error(rule, where, f"{exc} in {text!r}") from None
 
 
-def lint_rule(rule: Rule) -> tuple[dict[str, str | None], list[RuleError]]:
+def lint_rule(rule: Rule, derived: Derived,
+              cache: expr.CompileCache | None = None) -> tuple[dict[str, str | None], list[RuleError]]:
     """Return (kinds of the rule's named values, problems found) for one compiled rule.
 
+    ``derived``: the derive stage's catalogue (path → kind, or path → (kind, meaning)), the paths besides the
+    spec format's that expressions may read. ``cache``: the compile cache to translate with.
     A first pass evaluates with :class:`dims.Dim` samples (no pint); a rule it finds anything in, or is
     unsure of, is checked again with pint quantities, whose findings (and wording) are the ones kept.
     """
+    return _lint_both(_Lint(derived, cache), rule)
+
+
+def _lint_both(lint: _Lint, rule: Rule) -> tuple[dict[str, str | None], list[RuleError]]:
     try:
-        kinds, problems = _lint_rule(rule, fast=True)
+        kinds, problems = _lint_rule(lint, rule, fast=True)
         if not problems:
             return kinds, problems
     except Unsure:
         pass
-    return _lint_rule(rule, fast=False)
+    return _lint_rule(lint, rule, fast=False)
 
 
-def _lint_rule(rule: Rule, fast: bool) -> tuple[dict[str, str | None], list[RuleError]]:
-    ns: dict[str, Any] = dict(_dimension_namespace(fast))
+def _rule_names(rule: Rule, ns: dict[str, Any], fast: bool) -> None:
+    """Put the rule's parameters among the names, as samples of their kinds."""
     for name, param in rule.params.items():
         if isinstance(param.default, bool):
             ns[name] = param.default
@@ -219,37 +260,91 @@ def _lint_rule(rule: Rule, fast: bool) -> tuple[dict[str, str | None], list[Rule
             ns[name] = param.default
         else:
             ns[name] = _quantity(param.kind, fast) * 1.0
+
+
+def _kind_problem(declared: str, value: Any, fast: bool) -> str | None:
+    """Return why ``value`` (a sample result) is not of the ``declared`` kind, or None when it is.
+
+    No value (``else none``) goes with any kind. The first pass raises Unsure where pint decides."""
+    if value is None:
+        return None
+    if declared == "flag":
+        return None if isinstance(value, bool) else f"declared kind flag but the expression gives {_what(value)}"
+    if isinstance(value, bool | str):
+        return f"declared kind {declared} but the expression gives {_what(value)}"
+    dims = getattr(value, "dimensionality", None)
+    if declared in DIMENSIONLESS_KINDS:
+        if dims is None or value.dimensionless:
+            return None
+        if fast:
+            raise Unsure("a dimension where none is declared")
+        return f"declared kind {declared} (dimensionless) but the expression gives {value.units}"
+    if dims is None:
+        return f"declared kind {declared} but the expression gives a plain number"
+    expected = _quantity(declared, fast)
+    if fast:
+        if not isinstance(value, Dim) or value.dims != expected.dims:
+            raise Unsure("another dimension")
+        return None
+    if dims != expected.dimensionality:
+        return f"declared kind {declared} but the expression gives {value.units}"
+    return None
+
+
+def _what(value: Any) -> str:
+    if isinstance(value, bool):
+        return "true or false"
+    if isinstance(value, str):
+        return "text"
+    return "a number" if getattr(value, "dimensionality", None) is None else str(getattr(value, "units", "a quantity"))
+
+
+def _lint_rule(lint: _Lint, rule: Rule, fast: bool) -> tuple[dict[str, str | None], list[RuleError]]:
+    ns = lint.namespace(fast)
+    _rule_names(rule, ns, fast)
     problems: list[RuleError] = []
-    kinds: dict[str, str | None] = {}
     if rule.applies_text:
         try:
-            _run(rule, "applies_when", rule.applies_text, ns, fast)
+            _run(lint, rule, "applies_when", rule.applies_text, ns, fast)
         except RuleError as exc:
             problems.append(exc)
+    kinds = _lint_values(lint, rule, ns, fast, problems)
+    _lint_checks(lint, rule, ns, fast, problems)
+    _lint_templates(rule, ns, problems)
+    return kinds, problems
+
+
+def _lint_values(lint: _Lint, rule: Rule, ns: dict[str, Any], fast: bool,
+                 problems: list[RuleError]) -> dict[str, str | None]:
+    kinds: dict[str, str | None] = {}
     for name, _compiled, text, declared in rule.values:
         try:
-            value = _run(rule, f"values.{name}", text, ns, fast)
+            value = _run(lint, rule, f"values.{name}", text, ns, fast)
         except RuleError as exc:
             problems.append(exc)
             ns[name] = expr.Missing(paths=(name,))
             continue
-        kind_name = kind_of_result(value, declared, name)
-        if declared and hasattr(value, "dimensionality") and declared != "fraction":
-            expected = _quantity(declared, fast)
-            if value.dimensionality != expected.dimensionality:
-                problems.append(_error(rule, f"values.{name}", f"declared kind {declared} but the expression gives "
-                                       f"{value.units}"))
-        kinds[name] = kind_name
+        problem = _kind_problem(declared, value, fast)
+        if problem:
+            problems.append(_error(rule, f"values.{name}", problem))
+        kinds[name] = declared
         ns[name] = value
+    return kinds
+
+
+def _lint_checks(lint: _Lint, rule: Rule, ns: dict[str, Any], fast: bool, problems: list[RuleError]) -> None:
     for i, check in enumerate(rule.checks):
         try:
-            result = _run(rule, f"checks[{i}].when", check.when_text, ns, fast)
+            result = _run(lint, rule, f"checks[{i}].when", check.when_text, ns, fast)
         except RuleError as exc:
             problems.append(exc)
             continue
         if not isinstance(result, bool):
             problems.append(_error(rule, f"checks[{i}].when", f"must be a comparison (true or false), got "
                                    f"{type(result).__name__}: {check.when_text!r}"))
+
+
+def _lint_templates(rule: Rule, ns: dict[str, Any], problems: list[RuleError]) -> None:
     for where, template in (("message", rule.message), ("fix", rule.fix), ("pass_message", rule.pass_message),
                             *((f"checks[{i}].{part}", template) for i, c in enumerate(rule.checks)
                               for part, template in (("message", c.message), ("fix", c.fix)))):
@@ -261,15 +356,17 @@ def _lint_rule(rule: Rule, fast: bool) -> tuple[dict[str, str | None], list[Rule
             problems.append(_error(rule, where, f"unknown name {', '.join(exc.paths)} in the template"))
         except Exception as exc:
             problems.append(_error(rule, where, f"template cannot be shown: {exc}"))
-    return kinds, problems
 
 
-def lint_ruleset(ruleset: RuleSet) -> tuple[dict[str, dict[str, str | None]], list[RuleError]]:
-    """Return the value kinds of every rule and every problem found, for a whole rule set."""
+def lint_ruleset(ruleset: RuleSet, derived: Derived,
+                 cache: expr.CompileCache | None = None) -> tuple[dict[str, dict[str, str | None]], list[RuleError]]:
+    """Return the value kinds of every rule and every problem found, for a whole rule set (``derived``, ``cache``:
+    as :func:`lint_rule`; the cache defaults to the one the rule set was compiled with)."""
+    lint = _Lint(derived, cache if cache is not None else ruleset.compile_cache)
     kinds: dict[str, dict[str, str | None]] = {}
     problems: list[RuleError] = []
     for rule in ruleset.rules.values():
-        k, p = lint_rule(rule)
+        k, p = _lint_both(lint, rule)
         kinds[rule.id] = k
         problems.extend(p)
     return kinds, problems

@@ -106,7 +106,7 @@ class Rule:
     params: dict[str, Param]
     applies_when: Callable[..., Any] | None
     applies_text: str
-    values: list[tuple[str, Callable[..., Any], str, str | None]]  # name, compiled, text, declared kind
+    values: list[tuple[str, Callable[..., Any], str, str]]  # name, compiled, text, declared kind (VALUE_KINDS)
     checks: list[Check]
     message: Any
     pass_message: Any | None
@@ -159,6 +159,7 @@ class RuleSet:
     rules: dict[str, Rule]
     aliases: dict[str, str]
     digest: str
+    compile_cache: expr.CompileCache | None = field(default=None, repr=False)  # what its rules were compiled with
 
     def resolve(self, rule_id: str) -> str | None:
         """Return the current id for ``rule_id`` or one of its aliases, or None."""
@@ -205,44 +206,61 @@ def environment() -> Any:
     return expr.environment({name: info.function for name, info in METHODS.items() if info.expose})
 
 
-def _template(env: Any, text: str, file: str, where: str, pos: Position | None) -> Any:
-    if not isinstance(text, str):
-        raise RuleError(file, f"{where} must be text", *(_lc(pos)))
-    if len(text) > MAX_TEMPLATE_LENGTH:
-        raise RuleError(file, f"{where} is longer than {MAX_TEMPLATE_LENGTH} characters", *(_lc(pos)))
-    if "{%" in text or "{#" in text or "__" in text:
-        raise RuleError(file, f"{where}: only {{{{ value }}}} substitutions are allowed in messages", *(_lc(pos)))
-    try:
-        return expr.compile_template(env, text)
-    except expr.ExpressionError as exc:
-        if str(exc).startswith(("syntax error", "cannot compile")):
-            raise RuleError(file, f"{where}: cannot compile template: {exc}", *(_lc(pos))) from None
-        raise RuleError(file, f"{where}: {exc}", *(_lc(pos))) from None
-    except Exception as exc:
-        raise RuleError(file, f"{where}: cannot compile template: {exc}", *(_lc(pos))) from None
+# What a named value of a rule may be: a quantity kind of the spec format ("fraction": shown as a
+# percentage), a dimensionless "ratio" shown as it is (a margin, a gear ratio, a service factor), a whole
+# number ("count": poles, an IP digit, a class number), or true/false ("flag"). Every value declares one.
+VALUE_KINDS = frozenset({*units.KINDS, "ratio", "count", "flag"})
+DIMENSIONLESS_KINDS = frozenset({"fraction", "ratio", "count"})
+
+
+class _Compiler:
+    """Compiles the expressions and templates of one rule file, naming the file and position of a problem."""
+
+    def __init__(self, file: str, doc: Document, cache: expr.CompileCache | None) -> None:
+        self.file = file
+        self.doc = doc
+        self.env = environment()
+        self.cache = cache
+
+    def error(self, where: str, message: str, at: str | None = None) -> RuleError:
+        return RuleError(self.file, message, *_lc(self.doc.position(at or where)))
+
+    def expression(self, text: Any, where: str) -> Callable[..., Any]:
+        try:
+            return expr.compile_expression(self.env, text, self.cache)
+        except expr.ExpressionError as exc:
+            raise self.error(where, f"{where}: {exc}") from None
+
+    def template(self, text: Any, where: str) -> Any:
+        if not isinstance(text, str):
+            raise self.error(where, f"{where} must be text")
+        if len(text) > MAX_TEMPLATE_LENGTH:
+            raise self.error(where, f"{where} is longer than {MAX_TEMPLATE_LENGTH} characters")
+        if "{%" in text or "{#" in text or "__" in text:
+            raise self.error(where, f"{where}: only {{{{ value }}}} substitutions are allowed in messages")
+        try:
+            return expr.compile_template(self.env, text, self.cache)
+        except expr.ExpressionError as exc:
+            if str(exc).startswith(("syntax error", "cannot compile")):
+                raise self.error(where, f"{where}: cannot compile template: {exc}") from None
+            raise self.error(where, f"{where}: {exc}") from None
+        except Exception as exc:
+            raise self.error(where, f"{where}: cannot compile template: {exc}") from None
+
+    def optional_template(self, spec: dict[str, Any], part: str, where: str) -> Any:
+        return self.template(spec[part], where) if part in spec else None
 
 
 def _lc(pos: Position | None) -> tuple[int | None, int | None]:
     return (pos.line, pos.column) if pos else (None, None)
 
 
-def _compile(env: Any, text: Any, file: str, where: str, pos: Position | None) -> Callable[..., Any]:
-    try:
-        return expr.compile_expression(env, text)
-    except expr.ExpressionError as exc:
-        raise RuleError(file, f"{where}: {exc}", *(_lc(pos))) from None
-
-
 _IDENT = re.compile(r"^[a-z][a-z0-9_]*$")
 _RESERVED = {*expr.SECTION_NAMES, *expr.BUILTINS, *expr.CONSTANTS, *expr.JINJA_NAMES}
 
 
-def load_rule_file(path: Path, validate: bool = True) -> Rule:
-    """Return the compiled rule in ``path``; raise :class:`RuleError` naming file and line.
-
-    ``validate=False`` skips the rule-schema check for files whose exact bytes were validated and
-    linted before (the caller matched their digest); everything else is still checked.
-    """
+def _read_rule_document(path: Path, validate: bool) -> Document:
+    """Return the rule file's document, checked against the rule schema unless ``validate`` is false."""
     file = str(path)
     try:
         doc = load_file(path, display_name=file)
@@ -257,23 +275,25 @@ def load_rule_file(path: Path, validate: bool = True) -> Rule:
     if errors:
         error = errors[0]
         key = path_text(list(error.absolute_path))
-        pos = doc.position(key)
         message = error.message
         if error.validator == "additionalProperties":
             message = f"unknown key in {key or 'the rule'}: {error.message.split('(')[-1].rstrip(')')}"
-        raise RuleError(file, f"{key or 'rule'}: {message}", *(_lc(pos)))
-    data = doc.data
-    if data["id"] != path.stem:
-        raise RuleError(file, f"id '{data['id']}' differs from the file name '{path.stem}'", *(_lc(doc.position("id"))))
-    env = environment()
+        raise RuleError(file, f"{key or 'rule'}: {message}", *(_lc(doc.position(key))))
+    if doc.data["id"] != path.stem:
+        raise RuleError(file, f"id '{doc.data['id']}' differs from the file name '{path.stem}'",
+                        *(_lc(doc.position("id"))))
+    return doc
+
+
+def _params(data: dict[str, Any], c: _Compiler) -> dict[str, Param]:
     params: dict[str, Param] = {}
     for name, spec in (data.get("parameters") or {}).items():
         where = f"parameters.{name}"
         kind_name = spec.get("kind")
         if kind_name is not None and kind_name not in units.KINDS:
-            raise RuleError(file, f"{where}: unknown kind '{kind_name}'", *(_lc(doc.position(where + ".kind"))))
+            raise c.error(where, f"{where}: unknown kind '{kind_name}'", where + ".kind")
         if name in _RESERVED:
-            raise RuleError(file, f"{where}: '{name}' is a reserved name", *(_lc(doc.position(where))))
+            raise c.error(where, f"{where}: '{name}' is a reserved name")
         default = spec["default"]
         param = Param(name, None, kind_name, spec["description"], spec.get("minimum"), spec.get("maximum"),
                       str(default))
@@ -281,34 +301,60 @@ def load_rule_file(path: Path, validate: bool = True) -> Rule:
             try:
                 default = param.parse(default)
             except ValueError as exc:
-                raise RuleError(file, f"{where}.default: {exc}", *(_lc(doc.position(where + ".default")))) from None
+                raise c.error(where, f"{where}.default: {exc}", where + ".default") from None
         params[name] = Param(name, default, kind_name, spec["description"], spec.get("minimum"), spec.get("maximum"),
                              str(spec["default"]))
+    return params
+
+
+def _values(data: dict[str, Any], params: dict[str, Param],
+            c: _Compiler) -> list[tuple[str, Callable[..., Any], str, str]]:
     values = []
     for name, spec in (data.get("values") or {}).items():
         where = f"values.{name}"
         if name in _RESERVED or name in params:
-            raise RuleError(file, f"{where}: '{name}' is a reserved or parameter name", *(_lc(doc.position(where))))
-        text, kind_name = (spec, None) if isinstance(spec, str) else (spec["expr"], spec.get("kind"))
-        if kind_name is not None and kind_name not in units.KINDS:
-            raise RuleError(file, f"{where}: unknown kind '{kind_name}'", *(_lc(doc.position(where))))
-        values.append((name, _compile(env, text, file, where, doc.position(where)), text, kind_name))
+            raise c.error(where, f"{where}: '{name}' is a reserved or parameter name")
+        if not isinstance(spec, dict) or not isinstance(spec.get("kind"), str):  # (files not schema-checked)
+            raise c.error(where, f"{where}: a value is {{expr: ..., kind: ...}}; declare its kind")
+        text, kind_name = spec["expr"], spec["kind"]
+        if kind_name not in VALUE_KINDS:
+            raise c.error(where, f"{where}: unknown kind '{kind_name}'")
+        values.append((name, c.expression(text, where), text, kind_name))
+    return values
+
+
+def _checks(data: dict[str, Any], c: _Compiler) -> list[Check]:
     checks = []
     for i, spec in enumerate(data["checks"]):
         where = f"checks[{i}]"
-        pos = doc.position(where + ".when")
-        message, fix = (_template(env, spec[part], file, f"{where}.{part}", doc.position(f"{where}.{part}"))
-                        if part in spec else None for part in ("message", "fix"))
-        checks.append(Check(_compile(env, spec["when"], file, where + ".when", pos), spec["when"], spec["severity"],
-                            message, pos, fix))
+        message = c.optional_template(spec, "message", f"{where}.message")
+        fix = c.optional_template(spec, "fix", f"{where}.fix")
+        checks.append(Check(c.expression(spec["when"], where + ".when"), spec["when"], spec["severity"],
+                            message, c.doc.position(where + ".when"), fix))
+    return checks
+
+
+def load_rule_file(path: Path, validate: bool = True, cache: expr.CompileCache | None = None) -> Rule:
+    """Return the compiled rule in ``path``; raise :class:`RuleError` naming file and line.
+
+    ``validate=False`` skips the rule-schema check for files whose exact bytes were validated and
+    linted before (the caller matched their digest); everything else is still checked. ``cache``: the
+    run's :class:`expr.CompileCache`.
+    """
+    doc = _read_rule_document(path, validate)
+    data = doc.data
+    c = _Compiler(str(path), doc, cache)
+    params = _params(data, c)
+    values = _values(data, params, c)
+    checks = _checks(data, c)
     applies_text = data.get("applies_when", "")
-    applies = _compile(env, applies_text, file, "applies_when", doc.position("applies_when")) if applies_text else None
-    for name in (data.get("limit"),):
-        if name and name not in params and name not in dict((v[0], v) for v in values):
-            raise RuleError(file, f"limit '{name}' is neither a parameter nor a value", *(_lc(doc.position("limit"))))
+    applies = c.expression(applies_text, "applies_when") if applies_text else None
+    limit = data.get("limit")
+    if limit and limit not in params and limit not in {v[0] for v in values}:
+        raise c.error("limit", f"limit '{limit}' is neither a parameter nor a value")
     return Rule(
         id=data["id"],
-        file=file,
+        file=str(path),
         title=data["title"],
         topic=data["topic"],
         severity=data["severity"],
@@ -321,10 +367,9 @@ def load_rule_file(path: Path, validate: bool = True) -> Rule:
         applies_text=applies_text,
         values=values,
         checks=checks,
-        message=_template(env, data["message"], file, "message", doc.position("message")),
-        pass_message=_template(env, data["pass_message"], file, "pass_message", doc.position("pass_message"))
-        if "pass_message" in data else None,
-        fix=_template(env, data["fix"], file, "fix", doc.position("fix")),
+        message=c.template(data["message"], "message"),
+        pass_message=c.optional_template(data, "pass_message", "pass_message"),
+        fix=c.template(data["fix"], "fix"),
         formula=data.get("formula", ""),
         location=data.get("location", ""),
         limit=data.get("limit", ""),
@@ -356,9 +401,13 @@ def rules_digest(folders: list[Path]) -> str:
     return "sha256:" + digest.hexdigest()
 
 
-def load_rules(folders: list[Path], disabled: set[str] | None = None,
-               validate: bool = True) -> tuple[RuleSet, list[RuleError]]:
-    """Return the rules of ``folders`` (errors collected, not raised) with ids unique across folders."""
+def load_rules(folders: list[Path], disabled: set[str] | None = None, validate: bool = True,
+               cache: expr.CompileCache | None = None) -> tuple[RuleSet, list[RuleError]]:
+    """Return the rules of ``folders`` (errors collected, not raised) with ids unique across folders.
+
+    ``cache``: the :class:`expr.CompileCache` to compile with (none: a new one, kept on the rule set)."""
+    if cache is None:
+        cache = expr.CompileCache()
     rules: dict[str, Rule] = {}
     aliases: dict[str, str] = {}
     errors: list[RuleError] = []
@@ -371,7 +420,7 @@ def load_rules(folders: list[Path], disabled: set[str] | None = None,
                 errors.append(RuleError(str(path), "a rule file must be a regular file, not a symbolic link"))
         for path in rule_files(folder):
             try:
-                rule = load_rule_file(path, validate)
+                rule = load_rule_file(path, validate, cache)
             except RuleError as exc:
                 errors.append(exc)
                 continue
@@ -386,4 +435,4 @@ def load_rules(folders: list[Path], disabled: set[str] | None = None,
             rules[rule.id] = rule
     for rule_id in list(disabled or ()):
         rules.pop(rule_id, None)
-    return RuleSet(dict(sorted(rules.items())), aliases, rules_digest(folders)), errors
+    return RuleSet(dict(sorted(rules.items())), aliases, rules_digest(folders), cache), errors

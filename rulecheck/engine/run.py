@@ -2,7 +2,9 @@
 
 from __future__ import annotations
 
+import itertools
 import math
+from collections.abc import Mapping
 from dataclasses import dataclass, field
 from typing import Any
 
@@ -12,7 +14,7 @@ from rulecheck.engine.expr import Missing, MissingInput
 from rulecheck.engine.ruleset import Rule
 from rulecheck.model import Model
 
-__all__ = ["Outcome", "Shown", "evaluate_rule", "kind_of_result", "spec_names"]
+__all__ = ["Outcome", "Shown", "SpecNames", "evaluate_rule", "model_sections"]
 
 @dataclass(slots=True)
 class Outcome:
@@ -70,16 +72,60 @@ def _show_model_value(value: Any, kind_name: str | None, system: str) -> Any:
     return value
 
 
-def spec_names(model: Model, env: Any, namespace: dict[str, Any]) -> dict[str, Any]:
-    """Return (and keep on the model) the names every rule's expressions see on this spec."""
-    cache = model.functions.get("_parents")
-    if cache is None:
-        cache = model.functions["_parents"] = {}
-        model.functions["_sections"] = namespace
-    parent = cache.get(id(env))
-    if parent is None:
-        parent = cache[id(env)] = expr.spec_parent(env, namespace)
-    return parent
+def model_sections(model: Model, wrap: Any = None) -> expr.SectionMap:
+    """Return the model as nested read-only sections for rule expressions (lists included).
+
+    ``wrap(value, kind)``, when given, turns each value into what a message template shows.
+    """
+    if wrap is None:
+        values: Any = model.values.items()
+    else:
+        values = ((path, wrap(value, model.kinds.get(path))) for path, value in model.values.items())
+    return expr.sections_from(itertools.chain(values, model.lists.items()))
+
+
+class SpecNames:
+    """The names rule expressions and message templates see on one spec, made once for the spec's check.
+
+    The caller makes one per spec (``SpecNames(model, derived)``) and passes it to :func:`evaluate_rule`; it
+    keeps what every rule of the spec reads (the sections, the spec's names per sandbox, the sections as
+    messages show them), so nothing is kept on the model. ``derived``: the derive stage's catalogue (path →
+    (kind, how it is derived), or path → kind), which names what could not be derived in a not-checked
+    outcome."""
+
+    __slots__ = ("model", "sections", "derived", "_parents", "_display")
+
+    def __init__(self, model: Model, derived: Mapping[str, Any] | None = None) -> None:
+        self.model = model
+        self.sections = model_sections(model)
+        self.derived = derived or {}
+        self._parents: dict[int, expr.Names] = {}
+        self._display: dict[tuple[int, str], expr.Names] = {}
+
+    def parent(self, env: Any) -> expr.Names:
+        """Return the names every rule's expressions of sandbox ``env`` see on this spec."""
+        parent = self._parents.get(id(env))
+        if parent is None:
+            parent = self._parents[id(env)] = expr.spec_parent(env, self.sections)
+        return parent
+
+    def display(self, env: Any, system: str) -> expr.Names:
+        """Return the names message templates see: the sections with every quantity shown with its unit."""
+        key = (id(env), system)
+        found = self._display.get(key)
+        if found is None:
+            kinds = self.model.kinds
+            found = self._display[key] = expr.spec_parent(env, {
+                k: _ShownSection(v, kinds, system) if isinstance(v, expr.Section) else v
+                for k, v in self.sections.items()})
+        return found
+
+    def how_derived(self, path: str) -> str | None:
+        """Return how a derived path is obtained (None: the spec gives it)."""
+        if path not in self.derived:
+            return None
+        entry = self.derived[path]
+        return entry[1] if isinstance(entry, tuple) and len(entry) > 1 else ""
 
 
 class _ShownSection(expr.Section):
@@ -110,82 +156,10 @@ class _ShownSection(expr.Section):
     __getitem__ = __getattr__
 
 
-def _display_parent(model: Model, env: Any, system: str) -> dict[str, Any]:
-    """Return (and keep on the model) the names message templates see: the sections with units."""
-    cache = model.functions.setdefault("_display", {})
-    key = (id(env), system)
-    if key not in cache:
-        sections = model.functions.get("_sections") or model.namespace()
-        cache[key] = expr.spec_parent(env, {k: _ShownSection(v, model.kinds, system) if isinstance(v, expr.Section)
-                                            else v for k, v in sections.items()})
-    return cache[key]
-
-
 def _param_display(param: Any, value: float, system: str) -> Shown:
-    if param.kind in (None, "fraction"):
-        # a parameter written as a percentage is shown as one; a margin such as 1.1 as a plain number
-        return Shown(value, "fraction" if param.written.strip().endswith("%") else None, system)
+    """Return a parameter as messages show it, by its declared kind: a fraction as a percentage, a parameter
+    without a kind (a margin such as 1.1, a count) as a plain number."""
     return Shown(value, param.kind, system)
-
-
-# Dimensionality (as pint writes it) → kind, for values whose kind a rule does not declare.
-_DIMENSION_KINDS: dict[str, str] = {}
-
-
-def kind_of_result(value: Any, declared: str | None, name: str) -> str | None:
-    """Return the kind of a lint-time pint result (declared kind wins; torque over energy; speed by name)."""
-    if declared:
-        return declared
-    if isinstance(value, bool) or value is None:
-        return None
-    if isinstance(value, (int, float)):
-        return "fraction" if name.endswith(("efficiency", "factor", "share", "deviation", "slip")) else None
-    from rulecheck.engine.dims import Dim
-
-    if isinstance(value, Dim):
-        found = _dims_kinds().get(value.dims)
-    else:
-        found = _pint_kind(value)
-    if found in ("frequency", "rotational_speed"):
-        return "rotational_speed" if "speed" in name else "frequency"
-    if found == "torque" and "energy" in name:
-        return "energy"
-    if found == "fraction" and not name.endswith(("efficiency", "factor", "share", "deviation", "slip", "drop",
-                                                  "unbalance", "utilisation", "cdf", "tolerance")):
-        return None
-    return found
-
-
-def _kind_units() -> list[tuple[str, str]]:
-    """Return (unit, kind) in the order a dimension's kind is decided: later entries win, so the first kind
-    listed for a dimension wins, then torque over energy and a fraction over an angle."""
-    pairs = [(units.KINDS[k].si_unit, k) for k in reversed(list(units.KINDS)) if k != "temperature"]
-    return [*pairs, ("N*m", "torque"), ("1", "fraction")]
-
-
-_DIMS_KINDS: dict[tuple[float, ...], str] = {}
-
-
-def _dims_kinds() -> dict[tuple[float, ...], str]:
-    """Return base-dimension exponents → kind (the lint's pass without pint)."""
-    if not _DIMS_KINDS:
-        from rulecheck.engine.dims import dims_of_unit
-
-        for unit, kind_name in _kind_units():
-            _DIMS_KINDS[dims_of_unit(unit)] = kind_name
-    return _DIMS_KINDS
-
-
-def _pint_kind(value: Any) -> str | None:
-    dims = getattr(value, "dimensionality", None)
-    if dims is None:
-        return None
-    if not _DIMENSION_KINDS:
-        ureg = units.registry()
-        for unit, kind_name in _kind_units():
-            unit = "dimensionless" if unit == "1" else unit.replace("^", "**")
-            _DIMENSION_KINDS[str(ureg.Quantity(1.0, unit).dimensionality)] = kind_name
-    return _DIMENSION_KINDS.get(str(dims))
 
 
 def _severity(rule: Rule, level: str, overrides: dict[str, str]) -> str:
@@ -196,11 +170,11 @@ def _severity(rule: Rule, level: str, overrides: dict[str, str]) -> str:
     return override
 
 
-def _render(template: Any, model: Model, system: str, names: dict[str, Any]) -> str:
+def _render(template: Any, spec: SpecNames, system: str, names: dict[str, Any]) -> str:
     if template is None:
         return ""
     try:
-        parent = _display_parent(model, template.environment, system)
+        parent = spec.display(template.environment, system)
         return expr.render_template(template, parent, names).strip()
     except expr.MissingInput as exc:
         return f"(message needs {', '.join(exc.paths)})"
@@ -208,74 +182,111 @@ def _render(template: Any, model: Model, system: str, names: dict[str, Any]) -> 
         return f"(message could not be shown: {type(exc).__name__})"
 
 
-def evaluate_rule(rule: Rule, model: Model, namespace: dict[str, Any], params: dict[str, Any],
-                  value_kinds: dict[str, str | None], system: str = "si",
-                  severity_overrides: dict[str, str] | None = None, parent: dict[str, Any] | None = None) -> Outcome:
-    """Return the one outcome of ``rule`` on ``model``; rule errors become outcomes, never exceptions.
+class _RuleError(Exception):
+    """A rule expression that failed: its outcome."""
 
-    ``parent``: the spec's names for the rule's sandbox (:func:`spec_names`), when the caller has them."""
-    ns = dict(params)
-    unsure = "warning" if rule.safety else "info"
+    def __init__(self, outcome: Outcome) -> None:
+        super().__init__(outcome.message)
+        self.outcome = outcome
+
+
+def _add_missing(missing: list[str], paths: tuple[str, ...]) -> None:
+    for p in paths:
+        if p not in missing:
+            missing.append(p)
+
+
+def evaluate_rule(rule: Rule, spec: SpecNames, params: dict[str, Any], system: str = "si",
+                  severity_overrides: dict[str, str] | None = None, parent: dict[str, Any] | None = None) -> Outcome:
+    """Return the one outcome of ``rule`` on the spec whose names are ``spec``; rule errors become outcomes,
+    never exceptions.
+
+    ``parent``: the spec's names for the rule's sandbox (``spec.parent(env)``), when the caller has them."""
     if parent is None:
-        parent = spec_names(model, rule.expression_environment, namespace)
-    if rule.applies_when is not None:
-        try:
-            applies = expr.run(rule.applies_when, ns, parent)
-        except MissingInput as exc:
-            return Outcome(rule.id, "not-checked", unsure,
-                           f"cannot tell whether the rule applies: needs {', '.join(exc.paths)}",
-                           rule.location, missing=list(exc.paths))
-        except expr.ExpressionError as exc:
-            return _rule_error(rule, "applies_when", rule.applies_text, exc)
-        if not applies:
-            return Outcome(rule.id, "not-applicable", "info", "", rule.location)
-    shown_values: dict[str, tuple[float, str | None]] = {}  # the numbers computed, with their kinds
-    missing: list[str] = []
-    for name, compiled, text, _kind in rule.values:
+        parent = spec.parent(rule.expression_environment)
+    try:
+        skipped = _not_applicable(rule, params, parent)
+        if skipped is not None:
+            return skipped
+        ns = dict(params)
+        missing: list[str] = []
+        shown_values = _values(rule, ns, parent, missing)
+        limit = _limit(rule, params, shown_values, system)
+        for i, check in enumerate(rule.checks):
+            try:
+                failed = expr.run(check.when, ns, parent)
+            except MissingInput as exc:
+                _add_missing(missing, exc.paths)
+                return Outcome(rule.id, "not-checked", "warning" if rule.safety else "info",
+                               _not_checked_message(rule, spec, missing), rule.location,
+                               values=shown_values, missing=missing, limit=limit)
+            except expr.ExpressionError as exc:
+                raise _RuleError(_rule_error(rule, f"checks[{i}].when", check.when_text, exc)) from None
+            if failed:
+                return _failed(rule, check, spec, ns, params, shown_values, limit, system, severity_overrides)
+    except _RuleError as exc:
+        return exc.outcome
+    # every check could be decided: values that no check needed may stay missing
+    display = _display_names(rule, (rule.pass_message,), ns, params, shown_values, system)
+    return Outcome(rule.id, "pass", "info", _render(rule.pass_message, spec, system, display), rule.location,
+                   values=shown_values, limit=limit)
+
+
+def _not_applicable(rule: Rule, params: dict[str, Any], parent: dict[str, Any]) -> Outcome | None:
+    """Return the outcome when the rule does not apply, or cannot tell whether it does; None when it applies."""
+    if rule.applies_when is None:
+        return None
+    try:
+        applies = expr.run(rule.applies_when, params, parent)
+    except MissingInput as exc:
+        return Outcome(rule.id, "not-checked", "warning" if rule.safety else "info",
+                       f"cannot tell whether the rule applies: needs {', '.join(exc.paths)}",
+                       rule.location, missing=list(exc.paths))
+    except expr.ExpressionError as exc:
+        raise _RuleError(_rule_error(rule, "applies_when", rule.applies_text, exc)) from None
+    return None if applies else Outcome(rule.id, "not-applicable", "info", "", rule.location)
+
+
+def _values(rule: Rule, ns: dict[str, Any], parent: dict[str, Any],
+            missing: list[str]) -> dict[str, tuple[float, str | None]]:
+    """Evaluate the rule's named values into ``ns``; return the numbers computed, with their declared kinds."""
+    shown_values: dict[str, tuple[float, str | None]] = {}
+    for name, compiled, text, kind_name in rule.values:
         try:
             value = expr.run(compiled, ns, parent)
         except MissingInput as exc:
-            for p in exc.paths:
-                if p not in missing:
-                    missing.append(p)
+            _add_missing(missing, exc.paths)
             ns[name] = Missing(paths=exc.paths)  # ns: the rule's own names, read by what follows
             continue
         except expr.ExpressionError as exc:
-            return _rule_error(rule, f"values.{name}", text, exc)
+            raise _RuleError(_rule_error(rule, f"values.{name}", text, exc)) from None
         if isinstance(value, (int, float)) and not isinstance(value, bool):
             if isinstance(value, float) and not math.isfinite(value):
-                return _rule_error(rule, f"values.{name}", text,
-                                   expr.ExpressionError("result is not a finite number"))
-            shown_values[name] = (value, value_kinds.get(name))
+                raise _RuleError(_rule_error(rule, f"values.{name}", text,
+                                             expr.ExpressionError("result is not a finite number")))
+            shown_values[name] = (value, kind_name)
         ns[name] = value
-    limit = None
-    if rule.limit:
-        if rule.limit in rule.params and isinstance(params.get(rule.limit), (int, float)):
-            shown = _param_display(rule.params[rule.limit], params[rule.limit], system)
-            limit = (params[rule.limit], shown.kind or "1")
-        elif rule.limit in shown_values:
-            limit = shown_values[rule.limit]
-    for i, check in enumerate(rule.checks):
-        try:
-            failed = expr.run(check.when, ns, parent)
-        except MissingInput as exc:
-            for p in exc.paths:
-                if p not in missing:
-                    missing.append(p)
-            return Outcome(rule.id, "not-checked", unsure, _not_checked_message(rule, missing), rule.location,
-                           values=shown_values, missing=missing, limit=limit)
-        except expr.ExpressionError as exc:
-            return _rule_error(rule, f"checks[{i}].when", check.when_text, exc)
-        if failed:
-            message, fix = check.message or rule.message, check.fix or rule.fix
-            display = _display_names(rule, (message, fix), ns, params, shown_values, system)
-            return Outcome(rule.id, "fail", _severity(rule, check.severity, severity_overrides or {}),
-                           _render(message, model, system, display), rule.location,
-                           fix=_render(fix, model, system, display), values=shown_values, limit=limit)
-    # every check could be decided: values that no check needed may stay missing
-    display = _display_names(rule, (rule.pass_message,), ns, params, shown_values, system)
-    return Outcome(rule.id, "pass", "info", _render(rule.pass_message, model, system, display), rule.location,
-                   values=shown_values, limit=limit)
+    return shown_values
+
+
+def _limit(rule: Rule, params: dict[str, Any], shown_values: dict[str, tuple[float, str | None]],
+           system: str) -> tuple[float, str | None] | None:
+    if not rule.limit:
+        return None
+    if rule.limit in rule.params and isinstance(params.get(rule.limit), (int, float)):
+        shown = _param_display(rule.params[rule.limit], params[rule.limit], system)
+        return (params[rule.limit], shown.kind or "1")
+    return shown_values.get(rule.limit)
+
+
+def _failed(rule: Rule, check: Any, spec: SpecNames, ns: dict[str, Any], params: dict[str, Any],
+            shown_values: dict[str, tuple[float, str | None]], limit: tuple[float, str | None] | None, system: str,
+            severity_overrides: dict[str, str] | None) -> Outcome:
+    message, fix = check.message or rule.message, check.fix or rule.fix
+    display = _display_names(rule, (message, fix), ns, params, shown_values, system)
+    return Outcome(rule.id, "fail", _severity(rule, check.severity, severity_overrides or {}),
+                   _render(message, spec, system, display), rule.location,
+                   fix=_render(fix, spec, system, display), values=shown_values, limit=limit)
 
 
 def _display_names(rule: Rule, templates: tuple[Any, ...], ns: dict[str, Any], params: dict[str, Any],
@@ -306,17 +317,16 @@ def _display_names(rule: Rule, templates: tuple[Any, ...], ns: dict[str, Any], p
     return display
 
 
-def _not_checked_message(rule: Rule, missing: list[str]) -> str:
-    from rulecheck.derive import DERIVED
-
+def _not_checked_message(rule: Rule, spec: SpecNames, missing: list[str]) -> str:
     lead = "safety-relevant check could not be evaluated" if rule.safety else "could not be evaluated"
-    given = [p for p in missing if p not in DERIVED]
-    derived = [p for p in missing if p in DERIVED]
+    how = {p: spec.how_derived(p) for p in missing}
+    given = [p for p in missing if how[p] is None]
+    derived = [p for p in missing if how[p] is not None]
     parts = []
     if given:
         parts.append("give " + ", ".join(given))
     if derived:
-        parts.append("could not derive " + "; ".join(f"{p} ({DERIVED[p][1]})" for p in derived))
+        parts.append("could not derive " + "; ".join(f"{p} ({how[p]})" if how[p] else p for p in derived))
     return f"{lead}: {'; '.join(parts)}"
 
 

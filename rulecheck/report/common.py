@@ -91,7 +91,6 @@ ORDER_STATEMENT = (
 )
 
 _SEVERITY_RANK = {"error": 0, "warning": 1, "info": 2}
-_RATIO_WORDS = ("margin", "ratio", "factor", "utilisation", "utilization")
 
 
 def plain(text: Any, limit: int = 2000) -> str:
@@ -118,8 +117,8 @@ def display(value: Mapping[str, Any] | Any, system: str = "si", *, ratio: bool =
 
     The dict carries machine units (shaft speed in r/min, the rest SI); it is
     converted back to the internal SI value for :func:`rulecheck.units.format_value`.
-    With ``ratio`` a dimensionless value is shown as a plain number (margins),
-    otherwise as a percentage. Values that are not numbers are shown as text.
+    A value is shown by its kind: a ``fraction`` as a percentage (``ratio`` asks for a plain number),
+    a ``ratio`` or ``count`` (or no kind) as a plain number. Values that are not numbers are shown as text.
     """
     if not isinstance(value, Mapping):
         return plain(value, 200) if value is not None else "—"
@@ -147,30 +146,24 @@ def display(value: Mapping[str, Any] | Any, system: str = "si", *, ratio: bool =
     return format_value(si, kind_name, system)
 
 
-def _is_ratio_name(name: str) -> bool:
-    low = name.lower()
-    return any(word in low for word in _RATIO_WORDS)
-
-
 def value_items(outcome: Mapping[str, Any], system: str = "si") -> list[tuple[str, str]]:
-    """Return the outcome's computed values as ``(name, display text)`` pairs in their given order."""
+    """Return the outcome's computed values as ``(name, display text)`` pairs in their given order; each value is
+    shown by the kind the rule declares for it (a ratio as a plain number, a fraction as a percentage)."""
     values = outcome.get("values") or {}
     if not isinstance(values, Mapping):
         return []
     items = []
     for name, value in values.items():
-        items.append((plain(name, 80).replace("_", " "), display(value, system, ratio=_is_ratio_name(str(name)))))
+        items.append((plain(name, 80).replace("_", " "), display(value, system)))
     return items
 
 
 def display_limit(outcome: Mapping[str, Any], system: str = "si") -> str:
-    """Return the outcome's limit as text ("" when it has none); a ratio when the rule reports a margin."""
+    """Return the outcome's limit as text ("" when it has none), shown by its kind."""
     limit = outcome.get("limit")
     if limit is None:
         return ""
-    values = outcome.get("values") or {}
-    ratio = isinstance(values, Mapping) and any(_is_ratio_name(str(k)) for k in values)
-    return display(limit, system, ratio=ratio)
+    return display(limit, system)
 
 
 def outcome_label(outcome: Mapping[str, Any]) -> Label:

@@ -80,20 +80,24 @@ def _check_rule_ids(cfg: Config, ruleset: RuleSet) -> None:
 
 
 def prepare(cfg: Config, extra_rule_paths: list[Path], today: _dt.date, units_system: str,
-            base_dir: Path | None, value_kinds: dict[str, dict[str, str | None]] | None = None) -> Prepared:
+            base_dir: Path | None, value_kinds: dict[str, dict[str, str | None]] | None = None,
+            compile_cache: Any = None) -> Prepared:
     """Return the compiled (and, unless ``value_kinds`` is given, linted) rules of one configuration.
 
+    ``compile_cache`` (an ``engine.expr.CompileCache``) keeps translated and compiled expressions between runs.
     Raises UsageError for unusable rules or configuration.
     """
+    from rulecheck.derive import catalogue  # the derived values rule expressions may read besides the spec's fields
     from rulecheck.engine.lint import lint_ruleset
 
     # rule files already linted (their digest matched a cached lint) need no second schema check
-    ruleset, errors = load_rules(rule_folders(cfg, extra_rule_paths), validate=value_kinds is None)
+    ruleset, errors = load_rules(rule_folders(cfg, extra_rule_paths), validate=value_kinds is None,
+                                 cache=compile_cache)
     _check_rule_ids(cfg, ruleset)
     if errors:
         raise UsageError("\n".join(str(e) for e in errors))
     if value_kinds is None:
-        value_kinds, problems = lint_ruleset(ruleset)
+        value_kinds, problems = lint_ruleset(ruleset, catalogue())
         if problems:
             raise UsageError("\n".join(str(e) for e in problems))
     for rule_id in cfg.disable:
@@ -128,24 +132,21 @@ def _cached_file(cache: ResultCache, key: str) -> Any:
     return entry
 
 
-def _load_sources(cache: ResultCache) -> None:
-    """Load the compiled rule sources kept by earlier runs (signed entries only)."""
-    from rulecheck.engine import expr
+def _load_sources(cache: ResultCache) -> Any:
+    """Return a compile cache holding the rule sources kept by earlier runs (signed entries only)."""
+    from rulecheck.engine.expr import CompileCache
 
-    entry = _cached_file(cache, _sources_key())
-    if entry is not None and isinstance(entry.get("sources"), dict):
-        expr.SOURCES.update({k: v for k, v in entry["sources"].items() if isinstance(v, str)})
-        if isinstance(entry.get("codes"), dict):
-            expr.CODES.update({k: v for k, v in entry["codes"].items() if isinstance(v, str) and k in expr.SOURCES})
-    expr.SOURCES_STATE["dirty"] = False
+    compile_cache = CompileCache()
+    entry = _cached_file(cache, _sources_key())  # None unless signed with the user's key
+    if entry is not None:
+        compile_cache.load(entry)
+    return compile_cache
 
 
-def _save_sources(cache: ResultCache) -> None:
-    from rulecheck.engine import expr
-
-    if expr.SOURCES_STATE["dirty"]:
-        cache.put_file(_sources_key(), {"sources": dict(expr.SOURCES), "codes": dict(expr.CODES)})
-        expr.SOURCES_STATE["dirty"] = False
+def _save_sources(cache: ResultCache, compile_cache: Any) -> None:
+    if compile_cache.dirty:
+        cache.put_file(_sources_key(), compile_cache.export())
+        compile_cache.dirty = False
 
 
 def prepare_cached(cfg: Config, extra: list[Path], today: _dt.date, units_system: str, base_dir: Path,
@@ -153,17 +154,18 @@ def prepare_cached(cfg: Config, extra: list[Path], today: _dt.date, units_system
     """Prepare a configuration's rules, reusing cached compiled sources and lint of the same rules and code."""
     if cache is None:
         return prepare(cfg, extra, today, units_system, base_dir)
-    _load_sources(cache)
+    compile_cache = _load_sources(cache)
     try:
         key = "lint-" + hashlib.sha256((code_digest() + digest).encode()).hexdigest()
         entry = _cached_file(cache, key)
         if entry is not None and isinstance(entry.get("kinds"), dict):
-            return prepare(cfg, extra, today, units_system, base_dir, value_kinds=entry["kinds"])
-        prepared = prepare(cfg, extra, today, units_system, base_dir)
+            return prepare(cfg, extra, today, units_system, base_dir, value_kinds=entry["kinds"],
+                           compile_cache=compile_cache)
+        prepared = prepare(cfg, extra, today, units_system, base_dir, compile_cache=compile_cache)
         cache.put_file(key, {"kinds": prepared.context.value_kinds})
         return prepared
     finally:
-        _save_sources(cache)
+        _save_sources(cache, compile_cache)
 
 
 # --- what the result's header says of the rules ------------------------------------------------------------

@@ -94,16 +94,16 @@ def conveyor() -> dict[str, Any]:
                    {"source": "common practice", "status": "C"}],
             location={"path": "motor.rated_torque", "line": 14, "column": 5},
             values={"required": _v(44.7, "N*m", "torque"), "capability": _v(47.8, "N*m", "torque"),
-                    "speed": _v(1455.0, "r/min", "rotational_speed"), "margin": _v(1.069, "1", "fraction")},
-            limit=_v(1.1, "1", "fraction"),
+                    "speed": _v(1455.0, "r/min", "rotational_speed"), "margin": _v(1.069, "1", "ratio")},
+            limit=_v(1.1, "1", "ratio"),
         ),
         _outcome(
             "torque-peak", "pass", safety=True, title="Peak torque within the motor and drive capability",
             message="peak 70.0 N·m against 110 N·m at 900 r/min (margin 1.57)",
             formula="margin = min(T_max(n), T(I_max)) / T_req(n)",
             values={"required": _v(70.0, "N*m", "torque"), "capability": _v(110.0, "N*m", "torque"),
-                    "margin": _v(1.571, "1", "fraction")},
-            limit=_v(1.25, "1", "fraction"),
+                    "margin": _v(1.571, "1", "ratio")},
+            limit=_v(1.25, "1", "ratio"),
         ),
         _outcome(
             "nameplate-power-torque-speed", "pass", topic="data-integrity",
@@ -179,7 +179,7 @@ def servo() -> dict[str, Any]:
         _outcome(
             "inertia-ratio", "fail", severity="info", topic="dynamics",
             message="inertia ratio 7.8 above the preferred 5 for high dynamics",
-            values={"inertia_ratio": _v(7.8, "1", "fraction")}, limit=_v(5.0, "1", "fraction"),
+            values={"inertia_ratio": _v(7.8, "1", "ratio")}, limit=_v(5.0, "1", "ratio"),
         ),
         _outcome(
             "mechanical-max-speed", "pass", safety=True, topic="speed-and-voltage",
@@ -227,7 +227,7 @@ def hoist() -> dict[str, Any]:
         ),
         _outcome(
             "torque-rms-duty-cycle", "pass", safety=True,
-            values={"utilisation": _v(0.82, "1", "fraction")}, limit=_v(0.909, "1", "fraction"),
+            values={"utilisation": _v(0.82, "1", "ratio")}, limit=_v(0.909, "1", "ratio"),
             message="utilisation 0.82",
         ),
     ]

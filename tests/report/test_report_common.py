@@ -33,10 +33,15 @@ def test_fractions_as_percent_or_ratio():
     v = {"value": 0.896, "unit": "1", "kind": "fraction"}
     assert common.display(v) == "89.6 %"
     assert common.display(v, ratio=True) == "0.896"
-    outcome = {"values": {"margin": {"value": 1.069, "unit": "1", "kind": "fraction"}},
-               "limit": {"value": 1.1, "unit": "1", "kind": "fraction"}}
+    outcome = {"values": {"margin": {"value": 1.069, "unit": "1", "kind": "ratio"}},
+               "limit": {"value": 1.1, "unit": "1", "kind": "ratio"}}
     assert common.value_items(outcome) == [("margin", "1.069")]
     assert common.display_limit(outcome) == "1.1"
+    # the declared kind decides, not the name: a fraction is a percentage whatever it is called
+    outcome = {"values": {"margin": {"value": 0.25, "unit": "1", "kind": "fraction"}},
+               "limit": {"value": 0.1, "unit": "1", "kind": "fraction"}}
+    assert common.value_items(outcome) == [("margin", "25 %")]
+    assert common.display_limit(outcome) == "10 %"
 
 
 @pytest.mark.parametrize("value,shown", [

@@ -9,6 +9,7 @@ from pathlib import Path
 
 import pytest
 
+from rulecheck.derive import DERIVED
 from rulecheck.engine.lint import lint_rule
 from rulecheck.engine.ruleset import RuleError, load_rule_file, load_rules
 from tests.robustness.conftest import assert_no_traceback, run_cli
@@ -59,7 +60,7 @@ def _refusals(folder: Path) -> list[RuleError]:
     """Return the rule errors of a folder as a run sees them: loading, then the dimensional lint."""
     ruleset, errors = load_rules([folder])
     for r in ruleset.rules.values():
-        errors += lint_rule(r)[1]
+        errors += lint_rule(r, DERIVED)[1]
     return errors
 
 
@@ -68,7 +69,7 @@ def test_the_base_rule_is_valid(tmp_path: Path) -> None:
     folder.mkdir()
     (folder / "hostile-rule.yaml").write_text(rule(), encoding="utf-8")
     r = load_rule_file(folder / "hostile-rule.yaml")
-    assert lint_rule(r)[1] == []
+    assert lint_rule(r, DERIVED)[1] == []
 
 
 @pytest.mark.parametrize("name", sorted(FILES))

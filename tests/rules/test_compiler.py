@@ -126,7 +126,9 @@ def test_generated_code_reaches_no_builtins() -> None:
 
 def test_lint_passes_evaluate_every_branch() -> None:
     """The linter's translations evaluate the test and one arm of a conditional, and both sides of and/or."""
-    from rulecheck.engine.lint import _compile_for_lint
+    from rulecheck.engine.lint import _Lint
+
+    _compile_for_lint = _Lint({}, None).compile
 
     names = {"a": 1.0, "b": expr.Missing(paths=("b",))}
     run = expr.compile_expression(ENV, "a if a > 0 else b")

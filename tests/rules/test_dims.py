@@ -13,6 +13,7 @@ import textwrap
 import pytest
 
 from rulecheck import units
+from rulecheck.derive import DERIVED
 from rulecheck.engine import lint
 from rulecheck.engine.dims import Dim, Unsure, dims_of_unit
 from rulecheck.engine.ruleset import load_rules, shipped_rules_dir
@@ -66,23 +67,23 @@ def _rules():
 
 def test_every_shipped_rule_is_decided_without_pint_with_the_kinds_pint_gives() -> None:
     for rule_id, rule in _rules().items():
-        fast_kinds, fast_problems = lint._lint_rule(rule, fast=True)
-        pint_kinds, pint_problems = lint._lint_rule(rule, fast=False)
+        fast_kinds, fast_problems = lint._lint_rule(lint._Lint(DERIVED, None), rule, fast=True)
+        pint_kinds, pint_problems = lint._lint_rule(lint._Lint(DERIVED, None), rule, fast=False)
         assert not fast_problems and not pint_problems, rule_id
         assert fast_kinds == pint_kinds, rule_id
 
 
 def test_a_rule_with_a_dimension_error_gets_pints_finding(tmp_path) -> None:
     text = (shipped_rules_dir() / "torque-peak.yaml").read_text(encoding="utf-8")
-    assert 'margin: "available / required"' in text
-    (tmp_path / "torque-peak.yaml").write_text(text.replace('margin: "available / required"',
-                                                            'margin: "available + speed"'), encoding="utf-8")
+    assert 'margin: {expr: "available / required", kind: ratio}' in text
+    (tmp_path / "torque-peak.yaml").write_text(text.replace('margin: {expr: "available / required"',
+                                                            'margin: {expr: "available + speed"'), encoding="utf-8")
     ruleset, errors = load_rules([tmp_path], validate=True)
     assert not errors, errors
     rule = ruleset.rules["torque-peak"]
-    assert lint._lint_rule(rule, fast=True)[1], "the first pass must not let it through"
-    kinds, problems = lint.lint_rule(rule)
-    pint_kinds, pint_problems = lint._lint_rule(rule, fast=False)
+    assert lint._lint_rule(lint._Lint(DERIVED, None), rule, fast=True)[1], "the first pass must not let it through"
+    kinds, problems = lint.lint_rule(rule, DERIVED)
+    pint_kinds, pint_problems = lint._lint_rule(lint._Lint(DERIVED, None), rule, fast=False)
     assert kinds == pint_kinds and [str(p) for p in problems] == [str(p) for p in pint_problems]
     assert any("dimension" in str(p) and "values.margin" in str(p) for p in problems), problems
 

@@ -6,6 +6,7 @@ from pathlib import Path
 
 import pytest
 
+from rulecheck.derive import DERIVED
 from rulecheck.engine.lint import lint_rule
 from rulecheck.engine.ruleset import load_rule_file
 
@@ -17,7 +18,7 @@ def _rule(tmp_path: Path, deviation: str) -> list[str]:
     text = BASE.replace("id: nameplate-power-torque-speed", "id: probe").replace(ORIGINAL, deviation)
     path = tmp_path / "probe.yaml"
     path.write_text(text, encoding="utf-8")
-    _kinds, problems = lint_rule(load_rule_file(path))
+    _kinds, problems = lint_rule(load_rule_file(path), DERIVED)
     return [str(p) for p in problems]
 
 
@@ -50,5 +51,5 @@ def test_a_check_fix_naming_an_unknown_value_is_reported(tmp_path: Path) -> None
     text = text[:line_end + 1] + '    fix: "check {{ no_such_value }}"\n' + text[line_end + 1:]
     path = tmp_path / "probe.yaml"
     path.write_text(text, encoding="utf-8")
-    _kinds, problems = lint_rule(load_rule_file(path))
+    _kinds, problems = lint_rule(load_rule_file(path), DERIVED)
     assert any("checks[0].fix" in str(p) and "no_such_value" in str(p) for p in problems), problems

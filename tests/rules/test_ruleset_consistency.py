@@ -7,6 +7,7 @@ import sys
 from pathlib import Path
 
 from rulecheck.check import BUILTIN_RULES
+from rulecheck.derive import DERIVED
 from rulecheck.engine.lint import lint_ruleset
 from rulecheck.engine.ruleset import load_rules, rule_files, shipped_rules_dir
 
@@ -38,7 +39,7 @@ def test_every_rule_is_documented_with_pass_and_fail_examples_and_a_basis() -> N
 
 
 def test_every_rule_passes_the_dimensional_lint() -> None:
-    _kinds, problems = lint_ruleset(RULESET)
+    _kinds, problems = lint_ruleset(RULESET, DERIVED)
     assert problems == []
 
 
