@@ -483,7 +483,7 @@ def _parse_quantity(value: Any, kind_name: str) -> float:
 
 
 def ambiguity_notes(value: Any, kind_name: str) -> list[str]:
-    """Return advisory notes for a parsable but ambiguous quantity (rulebook R01)."""
+    """Return advisory notes for a parsable but ambiguous quantity (docs/references.md R01)."""
     if kind_name != "power" or not isinstance(value, str) or "hp" not in value:
         return []  # the one ambiguity noted is a bare 'hp' power
     unit = value.strip()

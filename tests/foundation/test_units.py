@@ -34,7 +34,7 @@ def test_other_horsepowers() -> None:
 
 
 def test_bare_hp_is_reported_as_ambiguous() -> None:
-    # rulebook R01 / pitfall 5: mechanical, metric and electrical horsepower differ
+    # docs/references.md R01 / pitfall 5: mechanical, metric and electrical horsepower differ
     assert ambiguity_notes("10 hp", "power")
     assert not ambiguity_notes("10 hp_mech", "power")
     assert not ambiguity_notes("7.5 kW", "power")
@@ -91,7 +91,7 @@ def test_percent_and_fractions() -> None:
 
 
 def test_back_emf_constant_conventions() -> None:
-    # 1 V/krpm = 60/(2π·1000) V·s/rad = 0.009 549 3 V·s/rad (rulebook pitfall 7)
+    # 1 V/krpm = 60/(2π·1000) V·s/rad = 0.009 549 3 V·s/rad (docs/references.md pitfall 7)
     assert parse_quantity("1 V/krpm", "back_emf_constant") == pytest.approx(60 / (2 * math.pi * 1000), rel=1e-9)
     assert parse_quantity("100 V/krpm", "back_emf_constant") == pytest.approx(0.954930, rel=1e-6)
     assert parse_quantity("0.1 V/rpm", "back_emf_constant") == pytest.approx(0.954930, rel=1e-6)
