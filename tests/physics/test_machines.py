@@ -43,8 +43,12 @@ def test_k03_k04_k05_k09_constants():
     assert hp_at_rpm.to("lbf*ft").magnitude == pytest.approx(5252.1131, rel=1e-7)
     assert hp_at_rpm.to("lbf*in").magnitude == pytest.approx(63025.357, rel=1e-7)
     assert hp_at_rpm.to("N*m").magnitude == pytest.approx(7120.91, abs=0.005)
-    # 7127 has appeared in print and is wrong: it differs by more than any rounding of 7120.91
-    assert abs(hp_at_rpm.to("N*m").magnitude - 7127) > 6
+    # 7127 has appeared in print and is wrong (K09's negative test): a 10 hp, 1750 rpm nameplate torque worked
+    # out with it, 7127·10/1750 = 40.726 N·m, is off by 7127/7120.91 − 1 = 0.0855 % from P = T·ω
+    wrong = 7127 * 10 / 1750
+    deviation = machines.power_torque_speed_deviation(10 * sc.hp, wrong, 1750 * RPM)
+    # tolerance: 7120.91 is rounded to 6 figures, 7e-7 of the ratio, about 1e-3 of the deviation
+    assert deviation == pytest.approx(7127 / 7120.91 - 1, rel=1e-3)
     assert machines.torque_from_power(1000.0, RPM) == pytest.approx(9549.2966, rel=1e-8)
 
 
