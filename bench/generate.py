@@ -528,6 +528,224 @@ def _ratio(rng: random.Random, lo: float, hi: float) -> float:
     return round(r, 2) if r < 10 else round(r, 1)
 
 
+def _quadratic_load(a: Archetype, u: Units, rng: random.Random, tr: Train, load: dict[str, Any], util: float,
+                    w_top: float) -> tuple[dict[str, Any] | None, float]:
+    """Fill ``load`` for a pump or fan (torque rising with the square of speed), direct or on a belt.
+
+    Returns the transmission (or None) and the load's top speed [rad/s].
+    """
+    trans: dict[str, Any] | None = None
+    if a.drive == "inverter" or rng.random() < 0.6:
+        ratio = 1.0
+    else:
+        ratio = round(rng.uniform(1.2, 2.5), 2)
+        trans = _gearbox(a, u, rng, tr, "belt", ratio)
+    w_top = tr.w_n if a.drive != "inverter" else w_top
+    t_load = tr.t_n * util * ratio * tr.gear_eff
+    w_l = w_top / ratio
+    load["pump_type"] = "fan" if "fan" in a.name else "centrifugal"
+    load["torque_at_speed_max"] = u.torque(t_load)
+    load["breakaway_torque"] = u.torque(t_load * rng.uniform(0.05, 0.15), 2)
+    load["speed_max"] = u.speed(w_l)
+    if a.drive == "inverter":
+        load["speed_min"] = u.speed(w_l * rng.uniform(0.4, 0.6))
+    load["inertia"] = u.inertia(tr.j_motor * ratio ** 2 * rng.uniform(0.5, 8))
+    tr.t_run_motor = t_load / ratio / tr.gear_eff
+    tr.j_load_motor = tr.j_motor * rng.uniform(0.5, 8)
+    if a.drive != "inverter":
+        load["starts_per_hour"] = rng.choice([1, 2, 4, 6])
+    return trans, w_l
+
+
+def _constant_torque_load(a: Archetype, u: Units, rng: random.Random, tr: Train, load: dict[str, Any], util: float,
+                          w_top: float) -> tuple[dict[str, Any] | None, float]:
+    """Fill ``load`` for a constant-torque load (compressor, extruder, positioning axis) behind a gearbox or belt.
+
+    Returns the transmission (or None) and the load's top speed [rad/s].
+    """
+    trans: dict[str, Any] | None = None
+    if a.motor == "pm-synchronous":
+        trans = _gearbox(a, u, rng, tr, "planetary", rng.choice([5, 7, 8, 10]))
+    elif a.motor == "dc":
+        trans = _gearbox(a, u, rng, tr, "helical", _ratio(rng, 8, 25))
+    else:
+        trans = _gearbox(a, u, rng, tr, "belt", round(rng.uniform(1.5, 3.0), 2))
+        w_top = tr.w_n
+    t_load = tr.t_n * util * tr.ratio * tr.gear_eff
+    w_l = w_top / tr.ratio
+    load["pump_type"] = {"compressor-dol": "compressor", "extruder-dc": "extruder"}.get(a.name, None)
+    if load["pump_type"] is None:
+        del load["pump_type"]
+        load["application"] = "positioning"
+    load["torque"] = u.torque(t_load)
+    load["breakaway_torque"] = u.torque(t_load * rng.uniform(1.1, 1.4))
+    load["speed_max"] = u.speed(w_l)
+    j_ratio = rng.uniform(1, 8) if a.motor == "pm-synchronous" else rng.uniform(1, 20)
+    tr.j_load_motor = tr.j_motor * j_ratio
+    load["inertia"] = u.inertia(tr.j_load_motor * tr.ratio ** 2)
+    tr.t_run_motor = t_load / tr.ratio / tr.gear_eff
+    if a.drive == "direct-on-line":
+        load["starts_per_hour"] = rng.choice([4, 6, 10, 15])
+    return trans, w_l
+
+
+def _conveyor_load(a: Archetype, u: Units, rng: random.Random, tr: Train, load: dict[str, Any], util: float,
+                   w_top: float) -> tuple[dict[str, Any] | None, float]:
+    """Fill ``load`` for a belt conveyor, level or inclined, behind a helical or helical-bevel gearbox.
+
+    Returns the transmission (or None) and the load's top speed [rad/s].
+    """
+    trans: dict[str, Any] | None = None
+    trans = _gearbox(a, u, rng, tr, rng.choice(["helical-bevel", "helical-bevel", "helical"]), _ratio(rng, 10, 60))
+    d = rng.choice([0.4, 0.5, 0.63, 0.8, 1.0]) if not u.customary else rng.choice([16, 20, 24, 30, 36]) * INCH
+    v = w_top / tr.ratio * d / 2
+    v = float(sig(v, 3))
+    w_l = 2 * v / d
+    incline = rng.choice([0, 0, 0, 3, 5, 8, 12])
+    mu = rng.choice([0.02, 0.025, 0.03, 0.035])
+    eff_l = rng.uniform(0.9, 0.96)
+    t_load = tr.t_n * util * tr.ratio * tr.gear_eff * (0.8 if incline else 1.0)
+    mass = t_load * 2 / d * eff_l / (G * (math.sin(math.radians(incline)) + mu * math.cos(math.radians(incline))))
+    load.update({"mass": u.mass(mass), "incline": f"{incline} deg", "friction_coefficient": mu,
+                 "pulley_diameter": u.length(d), "line_speed": u.velocity(v), "efficiency": f"{eff_l * 100:.0f} %"})
+    load["speed_min"] = u.speed(w_l * rng.uniform(0.6, 0.8))
+    load["inertia"] = u.inertia(tr.j_motor * tr.ratio ** 2 * rng.uniform(1, 4))
+    tr.t_run_motor = t_load / tr.ratio / tr.gear_eff
+    tr.j_load_motor = mass * (d / 2) ** 2 / tr.ratio ** 2 + tr.j_motor * rng.uniform(1, 4)
+    if incline:
+        load["vertical"] = True
+    return trans, w_l
+
+
+def _hoist_load(a: Archetype, u: Units, rng: random.Random, tr: Train, load: dict[str, Any], util: float,
+                w_top: float) -> tuple[dict[str, Any] | None, float]:
+    """Fill ``load`` for a hoist or lift (with counterweight) behind a helical gearbox.
+
+    Returns the transmission (or None) and the load's top speed [rad/s].
+    """
+    trans: dict[str, Any] | None = None
+    trans = _gearbox(a, u, rng, tr, "helical", _ratio(rng, 20, 60))
+    d = rng.choice([0.3, 0.4, 0.5, 0.63]) if not u.customary else rng.choice([12, 16, 20, 24]) * INCH
+    reeving = rng.choice([2, 2, 4, 4, 6])
+    w_l = w_top / tr.ratio
+    v = float(sig(w_l * d / 2 / reeving, 3))
+    w_l = v * reeving * 2 / d
+    eff_l = rng.uniform(0.9, 0.95)
+    t_load = tr.t_n * util * tr.ratio * tr.gear_eff
+    lift = "lift" in tr.title.lower()
+    payload = t_load * 2 * reeving * eff_l / (G * d)
+    load.update({"mass": u.mass(payload), "drum_diameter": u.length(d), "reeving": reeving,
+                 "line_speed": u.velocity(v), "efficiency": f"{eff_l * 100:.0f} %"})
+    if lift:
+        # counterweight balances the car plus half the payload (common practice); payload figure includes car
+        load["counterweight"] = u.mass(payload * 0.5)
+        load["mass"] = u.mass(payload * 1.5)
+    load["runaway_speed"] = u.speed(w_l * rng.uniform(1.3, 1.6))
+    load["acceleration_time"] = f"{rng.choice([2, 3, 4, 5])} s"
+    load["deceleration_time"] = load["acceleration_time"]
+    tr.t_run_motor = t_load / tr.ratio / tr.gear_eff
+    tr.j_load_motor = payload * (d / 2 / reeving) ** 2 / tr.ratio ** 2 + tr.j_motor * 0.5
+    load["inertia"] = u.inertia(tr.j_motor * 0.5 * tr.ratio ** 2)
+    tr.reversing = True
+    return trans, w_l
+
+
+def _constant_power_load(a: Archetype, u: Units, rng: random.Random, tr: Train, load: dict[str, Any], util: float,
+                         w_top: float) -> tuple[dict[str, Any] | None, float]:
+    """Fill ``load`` for a centre winder (constant tension, so constant power) behind a helical gearbox.
+
+    Returns the transmission (or None) and the load's top speed [rad/s].
+    """
+    trans: dict[str, Any] | None = None
+    trans = _gearbox(a, u, rng, tr, "helical", _ratio(rng, 5, 20))
+    if a.motor == "dc":
+        w_top = tr.w_fw * rng.uniform(0.9, 1.0)
+    else:
+        w_top = min(tr.w_n * rng.uniform(1.2, 1.5), tr.w_max * 0.9)
+    d_min = rng.choice([0.076, 0.1, 0.15]) if not u.customary else rng.choice([3, 4, 6]) * INCH
+    build = rng.uniform(4, 8)
+    d_max = d_min * build
+    v = float(sig(w_top / tr.ratio * d_min / 2, 3))
+    # torque at full roll is the sizing case; it must be within the motor's rated torque
+    tension = tr.t_n * util * tr.ratio * tr.gear_eff * 2 / d_max
+    load.update({"power": u.power(tension * v), "tension": u.force(tension), "diameter_min": u.length(d_min),
+                 "diameter_max": u.length(d_max), "line_speed": u.velocity(v)})
+    load["inertia"] = u.inertia(tr.j_motor * tr.ratio ** 2 * rng.uniform(2, 10))
+    tr.t_run_motor = tension * d_max / 2 / tr.ratio / tr.gear_eff
+    tr.j_load_motor = tr.j_motor * rng.uniform(2, 10)
+    w_l = 2 * v / d_min
+    return trans, w_l
+
+
+def _lead_screw_load(a: Archetype, u: Units, rng: random.Random, tr: Train, load: dict[str, Any], util: float,
+                     w_top: float) -> tuple[dict[str, Any] | None, float]:
+    """Fill ``load`` for a lead-screw axis, direct or on a belt.
+
+    Returns the transmission (or None) and the load's top speed [rad/s].
+    """
+    trans: dict[str, Any] | None = None
+    if rng.random() < 0.5:
+        ratio = 1.0
+    else:
+        trans = _gearbox(a, u, rng, tr, "belt", rng.choice([1.5, 2.0, 2.5, 3.0]))
+        ratio = tr.ratio
+    lead = rng.choice([0.005, 0.01, 0.016, 0.02, 0.025, 0.032]) if not u.customary else rng.choice(
+        [0.2, 0.25, 0.5, 1.0]) * INCH
+    eta = rng.uniform(0.85, 0.92)
+    w_l = w_top / ratio
+    v = float(sig(w_l / (2 * math.pi) * lead, 3))
+    thrust = tr.t_n * util * ratio * tr.gear_eff * 2 * math.pi * eta / lead
+    vertical = "vertical" in tr.title.lower()
+    moving = thrust * rng.uniform(0.05, 0.2) / G
+    load.update({"thrust": u.force(thrust), "lead": u.length(lead), "screw_efficiency": f"{eta * 100:.0f} %",
+                 "moving_mass": u.mass(moving), "line_speed": u.velocity(v), "application": "positioning"})
+    if vertical:
+        load["vertical"] = True
+    load["inertia"] = u.inertia(tr.j_motor * rng.uniform(0.3, 2) * ratio ** 2)
+    tr.t_run_motor = tr.t_n * util
+    tr.j_load_motor = tr.j_motor * rng.uniform(0.5, 4)
+    w_l = 2 * math.pi * v / lead
+    return trans, w_l
+
+
+def _points_load(a: Archetype, u: Units, rng: random.Random, tr: Train, load: dict[str, Any], util: float,
+                 w_top: float) -> tuple[dict[str, Any] | None, float]:
+    """Fill ``load`` for a load given as torque-speed points.
+
+    Returns the transmission (or None) and the load's top speed [rad/s].
+    """
+    trans: dict[str, Any] | None = None
+    if a.motor == "dc":
+        trans = _gearbox(a, u, rng, tr, "helical", _ratio(rng, 5, 15))
+    else:
+        trans = _gearbox(a, u, rng, tr, rng.choice(["planetary", "helical", "helical-bevel"]), _ratio(rng, 5, 40))
+    t_load = tr.t_n * util * tr.ratio * tr.gear_eff
+    w_l = w_top / tr.ratio
+    a0, a1, a2 = rng.uniform(0.3, 0.6), rng.uniform(0, 0.3), rng.uniform(0, 0.4)
+    count = rng.randint(3, 8)
+    pts = []
+    for k in range(count):
+        x = k / (count - 1)
+        shape = (a0 + a1 * x + a2 * x * x) / (a0 + a1 + a2)  # rises with speed to t_load at the top
+        pts.append({"speed": u.speed(w_l * x), "torque": u.torque(t_load * shape)})
+    load["points"] = pts
+    load["speed_max"] = u.speed(w_l)
+    load["inertia"] = u.inertia(tr.j_motor * tr.ratio ** 2 * rng.uniform(1, 10))
+    tr.t_run_motor = t_load / tr.ratio / tr.gear_eff
+    tr.j_load_motor = tr.j_motor * rng.uniform(1, 10)
+    return trans, w_l
+
+
+_LOADS = {
+    "quadratic": _quadratic_load,
+    "constant-torque": _constant_torque_load,
+    "conveyor": _conveyor_load,
+    "hoist": _hoist_load,
+    "constant-power": _constant_power_load,
+    "lead-screw": _lead_screw_load,
+}
+
+
 def _load_and_transmission(a: Archetype, u: Units, rng: random.Random, tr: Train
                            ) -> tuple[dict[str, Any], dict[str, Any] | None]:
     """Return the load and transmission sections, sized to the motor already chosen."""
@@ -538,152 +756,8 @@ def _load_and_transmission(a: Archetype, u: Units, rng: random.Random, tr: Train
             rng.uniform(0.45, 0.7)) * tr.k_site
     w_top = tr.w_n * rng.uniform(0.9, 1.0)
     load: dict[str, Any] = {"model": a.load}
-    trans: dict[str, Any] | None = None
-    if a.load == "quadratic":
-        if a.drive == "inverter" or rng.random() < 0.6:
-            ratio = 1.0
-        else:
-            ratio = round(rng.uniform(1.2, 2.5), 2)
-            trans = _gearbox(a, u, rng, tr, "belt", ratio)
-        w_top = tr.w_n if a.drive != "inverter" else w_top
-        t_load = tr.t_n * util * ratio * tr.gear_eff
-        w_l = w_top / ratio
-        load["pump_type"] = "fan" if "fan" in a.name else "centrifugal"
-        load["torque_at_speed_max"] = u.torque(t_load)
-        load["breakaway_torque"] = u.torque(t_load * rng.uniform(0.05, 0.15), 2)
-        load["speed_max"] = u.speed(w_l)
-        if a.drive == "inverter":
-            load["speed_min"] = u.speed(w_l * rng.uniform(0.4, 0.6))
-        load["inertia"] = u.inertia(tr.j_motor * ratio ** 2 * rng.uniform(0.5, 8))
-        tr.t_run_motor = t_load / ratio / tr.gear_eff
-        tr.j_load_motor = tr.j_motor * rng.uniform(0.5, 8)
-        if a.drive != "inverter":
-            load["starts_per_hour"] = rng.choice([1, 2, 4, 6])
-    elif a.load == "constant-torque":
-        if a.motor == "pm-synchronous":
-            trans = _gearbox(a, u, rng, tr, "planetary", rng.choice([5, 7, 8, 10]))
-        elif a.motor == "dc":
-            trans = _gearbox(a, u, rng, tr, "helical", _ratio(rng, 8, 25))
-        else:
-            trans = _gearbox(a, u, rng, tr, "belt", round(rng.uniform(1.5, 3.0), 2))
-            w_top = tr.w_n
-        t_load = tr.t_n * util * tr.ratio * tr.gear_eff
-        w_l = w_top / tr.ratio
-        load["pump_type"] = {"compressor-dol": "compressor", "extruder-dc": "extruder"}.get(a.name, None)
-        if load["pump_type"] is None:
-            del load["pump_type"]
-            load["application"] = "positioning"
-        load["torque"] = u.torque(t_load)
-        load["breakaway_torque"] = u.torque(t_load * rng.uniform(1.1, 1.4))
-        load["speed_max"] = u.speed(w_l)
-        j_ratio = rng.uniform(1, 8) if a.motor == "pm-synchronous" else rng.uniform(1, 20)
-        tr.j_load_motor = tr.j_motor * j_ratio
-        load["inertia"] = u.inertia(tr.j_load_motor * tr.ratio ** 2)
-        tr.t_run_motor = t_load / tr.ratio / tr.gear_eff
-        if a.drive == "direct-on-line":
-            load["starts_per_hour"] = rng.choice([4, 6, 10, 15])
-    elif a.load == "conveyor":
-        trans = _gearbox(a, u, rng, tr, rng.choice(["helical-bevel", "helical-bevel", "helical"]), _ratio(rng, 10, 60))
-        d = rng.choice([0.4, 0.5, 0.63, 0.8, 1.0]) if not u.customary else rng.choice([16, 20, 24, 30, 36]) * INCH
-        v = w_top / tr.ratio * d / 2
-        v = float(sig(v, 3))
-        w_l = 2 * v / d
-        incline = rng.choice([0, 0, 0, 3, 5, 8, 12])
-        mu = rng.choice([0.02, 0.025, 0.03, 0.035])
-        eff_l = rng.uniform(0.9, 0.96)
-        t_load = tr.t_n * util * tr.ratio * tr.gear_eff * (0.8 if incline else 1.0)
-        mass = t_load * 2 / d * eff_l / (G * (math.sin(math.radians(incline)) + mu * math.cos(math.radians(incline))))
-        load.update({"mass": u.mass(mass), "incline": f"{incline} deg", "friction_coefficient": mu,
-                     "pulley_diameter": u.length(d), "line_speed": u.velocity(v), "efficiency": f"{eff_l * 100:.0f} %"})
-        load["speed_min"] = u.speed(w_l * rng.uniform(0.6, 0.8))
-        load["inertia"] = u.inertia(tr.j_motor * tr.ratio ** 2 * rng.uniform(1, 4))
-        tr.t_run_motor = t_load / tr.ratio / tr.gear_eff
-        tr.j_load_motor = mass * (d / 2) ** 2 / tr.ratio ** 2 + tr.j_motor * rng.uniform(1, 4)
-        if incline:
-            load["vertical"] = True
-    elif a.load == "hoist":
-        trans = _gearbox(a, u, rng, tr, "helical", _ratio(rng, 20, 60))
-        d = rng.choice([0.3, 0.4, 0.5, 0.63]) if not u.customary else rng.choice([12, 16, 20, 24]) * INCH
-        reeving = rng.choice([2, 2, 4, 4, 6])
-        w_l = w_top / tr.ratio
-        v = float(sig(w_l * d / 2 / reeving, 3))
-        w_l = v * reeving * 2 / d
-        eff_l = rng.uniform(0.9, 0.95)
-        t_load = tr.t_n * util * tr.ratio * tr.gear_eff
-        lift = "lift" in tr.title.lower()
-        payload = t_load * 2 * reeving * eff_l / (G * d)
-        load.update({"mass": u.mass(payload), "drum_diameter": u.length(d), "reeving": reeving,
-                     "line_speed": u.velocity(v), "efficiency": f"{eff_l * 100:.0f} %"})
-        if lift:
-            # counterweight balances the car plus half the payload (common practice); payload figure includes car
-            load["counterweight"] = u.mass(payload * 0.5)
-            load["mass"] = u.mass(payload * 1.5)
-        load["runaway_speed"] = u.speed(w_l * rng.uniform(1.3, 1.6))
-        load["acceleration_time"] = f"{rng.choice([2, 3, 4, 5])} s"
-        load["deceleration_time"] = load["acceleration_time"]
-        tr.t_run_motor = t_load / tr.ratio / tr.gear_eff
-        tr.j_load_motor = payload * (d / 2 / reeving) ** 2 / tr.ratio ** 2 + tr.j_motor * 0.5
-        load["inertia"] = u.inertia(tr.j_motor * 0.5 * tr.ratio ** 2)
-        tr.reversing = True
-    elif a.load == "constant-power":
-        trans = _gearbox(a, u, rng, tr, "helical", _ratio(rng, 5, 20))
-        if a.motor == "dc":
-            w_top = tr.w_fw * rng.uniform(0.9, 1.0)
-        else:
-            w_top = min(tr.w_n * rng.uniform(1.2, 1.5), tr.w_max * 0.9)
-        d_min = rng.choice([0.076, 0.1, 0.15]) if not u.customary else rng.choice([3, 4, 6]) * INCH
-        build = rng.uniform(4, 8)
-        d_max = d_min * build
-        v = float(sig(w_top / tr.ratio * d_min / 2, 3))
-        # torque at full roll is the sizing case; it must be within the motor's rated torque
-        tension = tr.t_n * util * tr.ratio * tr.gear_eff * 2 / d_max
-        load.update({"power": u.power(tension * v), "tension": u.force(tension), "diameter_min": u.length(d_min),
-                     "diameter_max": u.length(d_max), "line_speed": u.velocity(v)})
-        load["inertia"] = u.inertia(tr.j_motor * tr.ratio ** 2 * rng.uniform(2, 10))
-        tr.t_run_motor = tension * d_max / 2 / tr.ratio / tr.gear_eff
-        tr.j_load_motor = tr.j_motor * rng.uniform(2, 10)
-        w_l = 2 * v / d_min
-    elif a.load == "lead-screw":
-        if rng.random() < 0.5:
-            ratio = 1.0
-        else:
-            trans = _gearbox(a, u, rng, tr, "belt", rng.choice([1.5, 2.0, 2.5, 3.0]))
-            ratio = tr.ratio
-        lead = rng.choice([0.005, 0.01, 0.016, 0.02, 0.025, 0.032]) if not u.customary else rng.choice(
-            [0.2, 0.25, 0.5, 1.0]) * INCH
-        eta = rng.uniform(0.85, 0.92)
-        w_l = w_top / ratio
-        v = float(sig(w_l / (2 * math.pi) * lead, 3))
-        thrust = tr.t_n * util * ratio * tr.gear_eff * 2 * math.pi * eta / lead
-        vertical = "vertical" in tr.title.lower()
-        moving = thrust * rng.uniform(0.05, 0.2) / G
-        load.update({"thrust": u.force(thrust), "lead": u.length(lead), "screw_efficiency": f"{eta * 100:.0f} %",
-                     "moving_mass": u.mass(moving), "line_speed": u.velocity(v), "application": "positioning"})
-        if vertical:
-            load["vertical"] = True
-        load["inertia"] = u.inertia(tr.j_motor * rng.uniform(0.3, 2) * ratio ** 2)
-        tr.t_run_motor = tr.t_n * util
-        tr.j_load_motor = tr.j_motor * rng.uniform(0.5, 4)
-        w_l = 2 * math.pi * v / lead
-    else:  # points
-        if a.motor == "dc":
-            trans = _gearbox(a, u, rng, tr, "helical", _ratio(rng, 5, 15))
-        else:
-            trans = _gearbox(a, u, rng, tr, rng.choice(["planetary", "helical", "helical-bevel"]), _ratio(rng, 5, 40))
-        t_load = tr.t_n * util * tr.ratio * tr.gear_eff
-        w_l = w_top / tr.ratio
-        a0, a1, a2 = rng.uniform(0.3, 0.6), rng.uniform(0, 0.3), rng.uniform(0, 0.4)
-        count = rng.randint(3, 8)
-        pts = []
-        for k in range(count):
-            x = k / (count - 1)
-            shape = (a0 + a1 * x + a2 * x * x) / (a0 + a1 + a2)  # rises with speed to t_load at the top
-            pts.append({"speed": u.speed(w_l * x), "torque": u.torque(t_load * shape)})
-        load["points"] = pts
-        load["speed_max"] = u.speed(w_l)
-        load["inertia"] = u.inertia(tr.j_motor * tr.ratio ** 2 * rng.uniform(1, 10))
-        tr.t_run_motor = t_load / tr.ratio / tr.gear_eff
-        tr.j_load_motor = tr.j_motor * rng.uniform(1, 10)
+    load_kind = _LOADS.get(a.load, _points_load)
+    trans, w_l = load_kind(a, u, rng, tr, load, util, w_top)
     tr.w_top = w_l * tr.ratio
     load["_w_top"] = w_l  # removed before writing
     return load, trans
@@ -745,23 +819,27 @@ def _duty(rng: random.Random, u: Units, tr: Train, w_l: float, w_min: float, cou
             speed, last_run = new, False
     add(rng.choice(dwells), 0.0, "dwell")
     if cdf_max is not None:
-        # stretch the dwells until the cyclic duration factor is within the motor's rated S3 duty
-        on = sum(d for (d, _), seg in zip(si, segs, strict=True) if seg["label"] != "dwell")
-        off = sum(d for (d, _), seg in zip(si, segs, strict=True) if seg["label"] == "dwell")
-        needed = on / cdf_max - on
-        if needed > off:
-            factor = needed / off
-            for k, seg in enumerate(segs):
-                if seg["label"] == "dwell":
-                    longer = math.ceil(si[k][0] * factor)
-                    seg["duration"] = f"{longer} s"
-                    si[k] = (float(longer), 0.0)
+        _stretch_dwells(segs, si, cdf_max)
     for s in segs:
         if rng.random() < 0.6:
             del s["label"]
         elif s["label"] == "dwell" and "torque" in s:
             s["label"] = "dwell, brake set"
     return segs, si, ramp
+
+
+def _stretch_dwells(segs: list[dict[str, Any]], si: list[tuple[float, float]], cdf_max: float) -> None:
+    """Stretch the dwells until the cyclic duration factor is within the motor's rated S3 duty ``cdf_max``."""
+    on = sum(d for (d, _), seg in zip(si, segs, strict=True) if seg["label"] != "dwell")
+    off = sum(d for (d, _), seg in zip(si, segs, strict=True) if seg["label"] == "dwell")
+    needed = on / cdf_max - on
+    if needed > off:
+        factor = needed / off
+        for k, seg in enumerate(segs):
+            if seg["label"] == "dwell":
+                longer = math.ceil(si[k][0] * factor)
+                seg["duration"] = f"{longer} s"
+                si[k] = (float(longer), 0.0)
 
 
 def _segment_count(rng: random.Random) -> int:
@@ -854,6 +932,37 @@ def _protection(u: Units, rng: random.Random, current: float, hoist: bool) -> di
     return p or None
 
 
+def _duty_or_profile(a: Archetype, u: Units, rng: random.Random, tr: Train, tag: str, motor: dict[str, Any],
+                     drive: dict[str, Any], load: dict[str, Any], w_l: float) -> tuple[tuple[str, str] | None, int]:
+    """Add the duty to ``load``: segments for most, a measured profile for ~10 %, none for continuous pumps and fans.
+
+    Returns the profile (file name, CSV text) or None, and the number of duty segments written.
+    """
+    profile = None
+    meta_segments = 0
+    want_profile = rng.random() < PROFILE_RATE and a.drive != "direct-on-line"
+    continuous = a.load == "quadratic" and rng.random() < 0.5
+    if want_profile or not continuous:
+        w_min = 0.0
+        if a.load in ("quadratic",) and a.drive == "inverter":
+            w_min = w_l * 0.5
+        count = _segment_count(rng)
+        cdf = motor.get("duty_cdf")
+        segs, si, ramp = _duty(rng, u, tr, w_l, w_min, count, a.drive in ("direct-on-line", "soft-starter"),
+                               float(cdf.split()[0]) / 100 * 0.9 if cdf else None,
+                               braking=drive.get("braking", {}).get("kind", "none") != "none")
+        if want_profile:
+            name = f"{tag.lower()}-profile.csv"
+            profile = (name, _profile_csv(rng, u, tr, si, rng.randint(300, 3000)))
+            load["duty_profile"] = name
+        else:
+            load["duty"] = segs
+            meta_segments = len(segs)
+        if "acceleration_time" not in load and a.drive in ("inverter", "dc-converter") and rng.random() < 0.5:
+            load["acceleration_time"] = f"{sig(ramp, 2)} s"
+    return profile, meta_segments
+
+
 def generate_one(index: int, seed: int) -> GeneratedSpec:
     """Return spec number ``index`` (0-based) of the corpus with ``seed``; the same inputs give the same spec."""
     rng = random.Random(f"{seed}:{index}")
@@ -868,12 +977,8 @@ def generate_one(index: int, seed: int) -> GeneratedSpec:
     tr.title = f"{rng.choice(a.titles)} {rng.randint(1, 9)}"
     _site(rng, tr)
     v_supply = 480.0 if u.customary else 400.0
-    if a.motor == "induction":
-        motor = _induction(a, u, rng, tr)
-    elif a.motor == "pm-synchronous":
-        motor = _pm(a, u, rng, tr, v_supply)
-    else:
-        motor = _dc(a, u, rng, tr)
+    motor = (_induction(a, u, rng, tr) if a.motor == "induction" else _pm(a, u, rng, tr, v_supply)
+             if a.motor == "pm-synchronous" else _dc(a, u, rng, tr))
     load, trans = _load_and_transmission(a, u, rng, tr)
     w_l = load.pop("_w_top")
     tr.vertical = a.load == "hoist" or bool(load.get("vertical"))
@@ -898,29 +1003,7 @@ def generate_one(index: int, seed: int) -> GeneratedSpec:
     if trans:
         spec["transmission"] = trans
     spec["load"] = load
-    # duty: segments for most, a measured profile for ~10 %, none for continuous pumps and fans
-    profile = None
-    meta_segments = 0
-    want_profile = rng.random() < PROFILE_RATE and a.drive != "direct-on-line"
-    continuous = a.load == "quadratic" and rng.random() < 0.5
-    if want_profile or not continuous:
-        w_min = 0.0
-        if a.load in ("quadratic",) and a.drive == "inverter":
-            w_min = w_l * 0.5
-        count = _segment_count(rng)
-        cdf = motor.get("duty_cdf")
-        segs, si, ramp = _duty(rng, u, tr, w_l, w_min, count, a.drive in ("direct-on-line", "soft-starter"),
-                               float(cdf.split()[0]) / 100 * 0.9 if cdf else None,
-                               braking=drive.get("braking", {}).get("kind", "none") != "none")
-        if want_profile:
-            name = f"{tag.lower()}-profile.csv"
-            profile = (name, _profile_csv(rng, u, tr, si, rng.randint(300, 3000)))
-            load["duty_profile"] = name
-        else:
-            load["duty"] = segs
-            meta_segments = len(segs)
-        if "acceleration_time" not in load and a.drive in ("inverter", "dc-converter") and rng.random() < 0.5:
-            load["acceleration_time"] = f"{sig(ramp, 2)} s"
+    profile, meta_segments = _duty_or_profile(a, u, rng, tr, tag, motor, drive, load, w_l)
     if a.drive == "inverter" and drive.get("braking", {}).get("kind", "none") == "none" and tr.t_run_motor > 0:
         # no braking resistor: the stop ramp is set long enough for the load to absorb the kinetic energy
         coast = 3 * (tr.j_motor + tr.j_load_motor) * tr.w_top / tr.t_run_motor

@@ -67,28 +67,12 @@ def _from_mapping(data: Any, file: str, root: Path, positions: dict[str, int]) -
     for key in data:
         if key not in _KEYS:
             raise ConfigError(file, f"unknown key '{key}' (known: {', '.join(sorted(_KEYS))})", positions.get(key))
-    for entry in data.get("rule_paths") or []:
-        if not isinstance(entry, str) or not entry.strip():
-            raise ConfigError(file, "rule_paths entries must be folder names", positions.get("rule_paths"))
-        target = (root / entry).resolve()
-        try:
-            target.relative_to(root.resolve())
-        except ValueError:
-            raise ConfigError(file, f"rule_paths: '{entry}' is outside the folder of the configuration",
-                              positions.get("rule_paths")) from None
-        cfg.rule_paths.append(target)
+    cfg.rule_paths = _rule_paths(data.get("rule_paths") or [], file, root, positions)
     disable = data.get("disable") or []
     if not isinstance(disable, list) or not all(isinstance(x, str) for x in disable):
         raise ConfigError(file, "disable must be a list of rule ids", positions.get("disable"))
     cfg.disable = list(disable)
-    severity = data.get("severity") or {}
-    if not isinstance(severity, dict):
-        raise ConfigError(file, "severity must map rule ids to error, warning or info", positions.get("severity"))
-    for rule_id, level in severity.items():
-        if level not in _SEVERITIES:
-            raise ConfigError(file, f"severity.{rule_id}: '{level}' is not error, warning or info",
-                              positions.get(f"severity.{rule_id}"))
-    cfg.severity = dict(severity)
+    cfg.severity = _severity(data.get("severity") or {}, file, positions)
     params = data.get("parameters") or {}
     if not isinstance(params, dict):
         raise ConfigError(file, "parameters must be a mapping", positions.get("parameters"))
@@ -98,7 +82,39 @@ def _from_mapping(data: Any, file: str, root: Path, positions: dict[str, int]) -
         if value is not None and value not in allowed:
             raise ConfigError(file, f"{key}: '{value}' is not one of {', '.join(sorted(allowed))}", positions.get(key))
     cfg.fail_on, cfg.units = data.get("fail_on"), data.get("units")
-    limits = data.get("limits") or {}
+    cfg.limits = _limits(data.get("limits") or {}, file, positions)
+    return cfg
+
+
+def _rule_paths(entries: Any, file: str, root: Path, positions: dict[str, int]) -> list[Path]:
+    """Return the rule folders named by ``rule_paths``, each inside the configuration's folder."""
+    paths = []
+    for entry in entries:
+        if not isinstance(entry, str) or not entry.strip():
+            raise ConfigError(file, "rule_paths entries must be folder names", positions.get("rule_paths"))
+        target = (root / entry).resolve()
+        try:
+            target.relative_to(root.resolve())
+        except ValueError:
+            raise ConfigError(file, f"rule_paths: '{entry}' is outside the folder of the configuration",
+                              positions.get("rule_paths")) from None
+        paths.append(target)
+    return paths
+
+
+def _severity(severity: Any, file: str, positions: dict[str, int]) -> dict[str, str]:
+    """Return the ``severity`` mapping (rule id → error, warning or info), checked."""
+    if not isinstance(severity, dict):
+        raise ConfigError(file, "severity must map rule ids to error, warning or info", positions.get("severity"))
+    for rule_id, level in severity.items():
+        if level not in _SEVERITIES:
+            raise ConfigError(file, f"severity.{rule_id}: '{level}' is not error, warning or info",
+                              positions.get(f"severity.{rule_id}"))
+    return dict(severity)
+
+
+def _limits(limits: Any, file: str, positions: dict[str, int]) -> Limits:
+    """Return the loader limits ``limits`` sets, each a whole number within its cap."""
     if not isinstance(limits, dict):
         raise ConfigError(file, "limits must be a mapping", positions.get("limits"))
     values = {}
@@ -110,8 +126,7 @@ def _from_mapping(data: Any, file: str, root: Path, positions: dict[str, int]) -
             raise ConfigError(file, f"limits.{key} must be a whole number from 1 to {_LIMIT_CAPS[key]}",
                               positions.get(f"limits.{key}"))
         values[key] = value
-    cfg.limits = Limits(**values)
-    return cfg
+    return Limits(**values)
 
 
 def read_config(path: Path) -> Config:

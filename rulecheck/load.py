@@ -256,36 +256,33 @@ class _Builder:
         if depth > self.limits.max_depth:
             raise LoadError(f"nesting is deeper than {self.limits.max_depth} levels", *self._lc(node))
         if isinstance(node, yaml.MappingNode):
-            if node.tag != _MAP_TAG:
-                raise self._tag_error(node)
-            result: dict[str, Any] = {}
-            limits = self.limits
-            for key_node, value_node in node.value:
-                if key_node.tag == "tag:yaml.org,2002:merge":
-                    raise LoadError("merge keys ('<<') are not accepted in a spec", *self._lc(key_node),
-                                    hint="write the values out")
-                if not isinstance(key_node, yaml.ScalarNode) or key_node.tag not in _SCALAR_TAGS:
-                    raise LoadError("a key must be a plain word", *self._lc(key_node))
-                key = key_node.value
-                if key in result:
-                    first_node = next(k for k, _v in node.value if isinstance(k, yaml.ScalarNode) and k.value == key)
-                    where = f" (first given at line {first_node.start_mark.line + 1})"
-                    raise LoadError(
-                        f"duplicate key '{key}'{where}",
-                        *self._lc(key_node),
-                        hint="a key may appear once in a mapping; remove one of them",
-                    )
-                if value_node.tag == _STR_TAG and type(value_node) is yaml.ScalarNode and depth < limits.max_depth \
-                        and self.nodes < limits.max_nodes:
-                    self.nodes += 1  # a text value: what build() would return for it, without the call
-                    result[key] = value_node.value
-                else:
-                    result[key] = self.build(value_node, depth + 1)
-            return result
+            return self._mapping(node, depth)
         if isinstance(node, yaml.SequenceNode):
             if node.tag != _SEQ_TAG:
                 raise self._tag_error(node)
             return [self.build(item, depth + 1) for item in node.value]
+        return self._scalar(node)
+
+    def _mapping(self, node: yaml.MappingNode, depth: int) -> dict[str, Any]:
+        if node.tag != _MAP_TAG:
+            raise self._tag_error(node)
+        result: dict[str, Any] = {}
+        limits = self.limits
+        for key_node, value_node in node.value:
+            if not isinstance(key_node, yaml.ScalarNode) or key_node.tag not in _SCALAR_TAGS:
+                raise self._key_error(key_node)
+            key = key_node.value
+            if key in result:
+                raise self._duplicate_error(node, key_node)
+            if value_node.tag == _STR_TAG and type(value_node) is yaml.ScalarNode and depth < limits.max_depth \
+                    and self.nodes < limits.max_nodes:
+                self.nodes += 1  # a text value: what build() would return for it, without the call
+                result[key] = value_node.value
+            else:
+                result[key] = self.build(value_node, depth + 1)
+        return result
+
+    def _scalar(self, node: yaml.Node) -> Any:
         if node.tag not in _SCALAR_TAGS:
             raise self._tag_error(node)
         if node.tag == "tag:yaml.org,2002:str":
@@ -302,6 +299,22 @@ class _Builder:
         if is_odd_number(value):
             self.doc.odd_numbers = True
         return value
+
+    def _key_error(self, key_node: yaml.Node) -> LoadError:
+        if key_node.tag == "tag:yaml.org,2002:merge":
+            return LoadError("merge keys ('<<') are not accepted in a spec", *self._lc(key_node),
+                             hint="write the values out")
+        return LoadError("a key must be a plain word", *self._lc(key_node))
+
+    def _duplicate_error(self, node: yaml.MappingNode, key_node: yaml.ScalarNode) -> LoadError:
+        key = key_node.value
+        first_node = next(k for k, _v in node.value if isinstance(k, yaml.ScalarNode) and k.value == key)
+        where = f" (first given at line {first_node.start_mark.line + 1})"
+        return LoadError(
+            f"duplicate key '{key}'{where}",
+            *self._lc(key_node),
+            hint="a key may appear once in a mapping; remove one of them",
+        )
 
     def _lc(self, node: yaml.Node) -> tuple[int, int]:
         return node.start_mark.line + 1, node.start_mark.column + 1

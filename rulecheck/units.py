@@ -167,49 +167,59 @@ def _tokenize(unit_text: str) -> list[tuple[str, str]]:
 def _check_grammar(tokens: list[tuple[str, str]], unit_text: str) -> None:
     """Accept products/quotients of names with small integer exponents, depth ≤ 2."""
     depth = 0
-    prev = "start"  # what the previous token was: start, operand, op, pow
+    prev = "start"  # what the previous token was: start, operand, op, pow, exponent, open, close
     for i, (typ, val) in enumerate(tokens):
         if typ == "name" or typ == "pct":
             if prev == "pow":
                 raise QuantityError(f"exponent must be a small whole number in unit {unit_text!r}")
             prev = "operand"
         elif typ == "int":
-            if prev == "pow":
-                if abs(int(val)) > 4:
-                    raise QuantityError(f"exponent {val} is too large in unit {unit_text!r}")
-                prev = "exponent"
-                continue
-            # a bare number may only stand as the numerator of '1/min' or a scale like (1000 rpm)
-            nxt = tokens[i + 1] if i + 1 < len(tokens) else None
-            if val.lstrip("-") not in ("1", "10", "100", "1000") or val.startswith("-"):
-                raise QuantityError(f"unexpected number {val} in unit {unit_text!r}")
-            if nxt is None:
-                raise QuantityError(f"unit {unit_text!r} ends in a number")
-            prev = "operand"
-        elif val in ("**", "^"):
-            if prev not in ("operand", "close"):
-                raise QuantityError(f"misplaced exponent in unit {unit_text!r}")
-            prev = "pow"
-        elif val == "(":
-            depth += 1
-            if depth > 2:
-                raise QuantityError(f"too many nested parentheses in unit {unit_text!r}")
-            prev = "open"
-        elif val == ")":
-            depth -= 1
-            if depth < 0 or prev in ("op", "open", "pow"):
-                raise QuantityError(f"unbalanced parentheses in unit {unit_text!r}")
-            prev = "close"
-        else:  # * · /
-            if prev in ("op", "pow", "start", "open") and not (val == "/" and prev == "start"):
-                raise QuantityError(f"misplaced {val!r} in unit {unit_text!r}")
-            prev = "op"
-        if prev == "exponent":
-            prev = "operand"
+            prev = _grammar_number(val, prev, i + 1 < len(tokens), unit_text)
+        elif val in ("(", ")"):
+            depth += 1 if val == "(" else -1
+            prev = _grammar_parenthesis(val, prev, depth, unit_text)
+        else:
+            prev = _grammar_operator(val, prev, unit_text)
     if depth != 0:
         raise QuantityError(f"unbalanced parentheses in unit {unit_text!r}")
     if prev in ("op", "pow", "open"):
         raise QuantityError(f"unit {unit_text!r} is incomplete")
+
+
+def _grammar_number(val: str, prev: str, more: bool, unit_text: str) -> str:
+    """Check a number token: an exponent after '^'/'**', else a numerator or scale; return what it was."""
+    if prev == "pow":
+        if abs(int(val)) > 4:
+            raise QuantityError(f"exponent {val} is too large in unit {unit_text!r}")
+        return "exponent"
+    # a bare number may only stand as the numerator of '1/min' or a scale like (1000 rpm)
+    if val.lstrip("-") not in ("1", "10", "100", "1000") or val.startswith("-"):
+        raise QuantityError(f"unexpected number {val} in unit {unit_text!r}")
+    if not more:
+        raise QuantityError(f"unit {unit_text!r} ends in a number")
+    return "operand"
+
+
+def _grammar_parenthesis(val: str, prev: str, depth: int, unit_text: str) -> str:
+    """Check a parenthesis at nesting ``depth`` (counted after it); return "open" or "close"."""
+    if val == "(":
+        if depth > 2:
+            raise QuantityError(f"too many nested parentheses in unit {unit_text!r}")
+        return "open"
+    if depth < 0 or prev in ("op", "open", "pow"):
+        raise QuantityError(f"unbalanced parentheses in unit {unit_text!r}")
+    return "close"
+
+
+def _grammar_operator(val: str, prev: str, unit_text: str) -> str:
+    """Check an exponent sign or a * · / operator after ``prev``; return "pow" or "op"."""
+    if val in ("**", "^"):
+        if prev not in ("operand", "close"):
+            raise QuantityError(f"misplaced exponent in unit {unit_text!r}")
+        return "pow"
+    if prev in ("op", "pow", "start", "open") and not (val == "/" and prev == "start"):
+        raise QuantityError(f"misplaced {val!r} in unit {unit_text!r}")
+    return "op"
 
 
 _SPEED_FORMS = {
@@ -307,61 +317,80 @@ def _conversion(unit_text: str, kind_name: str) -> tuple[float, float]:
 
 def _pint_conversion(unit_text: str, kind_name: str) -> tuple[float, float]:
     """Return (scale, offset) for a unit spelling outside the fast table, through pint."""
-    k = KINDS[kind_name]
     text = unit_text.strip()
-    if text == "%" or text == "percent":
-        if kind_name == "fraction":
-            return 0.01, 0.0
-        raise QuantityError(f"'%' is not a {k.description.split(' (')[0]}")
-    if kind_name == "fraction":
-        if text in ("", "1", "pu", "p.u."):
-            return 1.0, 0.0
-        raise QuantityError(f"unit {text!r} is not a fraction")
+    if text in ("%", "percent") or kind_name == "fraction":
+        return _fraction_scale(text, kind_name), 0.0
     if text == "":
         raise QuantityError("a unit is required")
     text = _ALIASES.get(text, text)
-    if kind_name == "rotational_speed":
-        compact = text.replace(" ", "")
-        if compact in ("Hz", "1/s", "s^-1", "/s"):
-            raise QuantityError(
-                f"{text!r} is not a shaft speed: 'Hz' and '1/s' are ambiguous between revolutions and radians",
-                "write the speed in r/min or rev/s; supply frequency belongs in a frequency field",
-            )
-        if compact not in _SPEED_FORMS or _SPEED_FORMS[compact] is None:
-            raise QuantityError(f"{text!r} is not a shaft-speed unit")
-        pint_unit = _SPEED_FORMS[compact]
-    else:
-        tokens = _tokenize(text)
-        _check_grammar(tokens, text)
-        if kind_name == "back_emf_constant" and any(v == "Hz" for _, v in tokens):
-            raise QuantityError(
-                f"{text!r}: per-hertz constants mix electrical and mechanical speed",
-                "write the back-EMF constant in V/krpm (with its convention) or V*s/rad",
-            )
-        if kind_name == "frequency" and any(v in _SPEED_NAMES - {"s", "second", "min", "minute"} for _, v in tokens):
-            raise QuantityError(
-                f"{text!r} is a shaft speed, not an electrical frequency",
-                "write the frequency in Hz; shaft speed belongs in a speed field (f = pole pairs × n / 60)",
-            )
-        if kind_name == "torque" and any(v in ("J", "kJ", "joule", "Wh", "kWh", "cal") for _, v in tokens):
-            raise QuantityError(f"{text!r} is an energy unit, not a torque unit", "write torque in N*m or lbf*ft")
-        if kind_name == "energy" and any(v in ("lbf", "N") for _, v in tokens) and not any(
-            v in ("J", "kJ", "Wh", "kWh") for _, v in tokens
-        ):
-            # N*m is the same dimension as J; written in an energy field it is accepted as J
-            pass
-        parts = []
-        for typ, val in tokens:
-            if typ == "name":
-                val = _ALIASES.get(val, val)
-                if kind_name == "back_emf_constant" and val in ("rpm", "krpm", "r", "rev"):
-                    val = {"r": "revolution", "rev": "revolution"}.get(val, val)
-            parts.append(val)
-        pint_unit = " ".join(parts).replace("·", "*").replace("^", "**")
-        pint_unit = re.sub(r"\s*\*\*\s*", "**", pint_unit)
-        pint_unit = re.sub(r"\s*([*/()])\s*", r"\1", pint_unit)
-        if kind_name == "back_emf_constant":
-            pint_unit = _normalise_speed_text(pint_unit)
+    pint_unit = _speed_pint_unit(text) if kind_name == "rotational_speed" else _pint_unit_text(text, kind_name)
+    return _pint_scale(text, pint_unit, kind_name)
+
+
+def _fraction_scale(text: str, kind_name: str) -> float:
+    """Return the scale of a percentage or a per-unit spelling; refuse '%' outside a fraction field."""
+    if text in ("%", "percent"):
+        if kind_name == "fraction":
+            return 0.01
+        raise QuantityError(f"'%' is not a {KINDS[kind_name].description.split(' (')[0]}")
+    if text in ("", "1", "pu", "p.u."):
+        return 1.0
+    raise QuantityError(f"unit {text!r} is not a fraction")
+
+
+def _speed_pint_unit(text: str) -> str:
+    """Return pint's name for a shaft-speed spelling; 'Hz' and '1/s' are refused as ambiguous."""
+    compact = text.replace(" ", "")
+    if compact in ("Hz", "1/s", "s^-1", "/s"):
+        raise QuantityError(
+            f"{text!r} is not a shaft speed: 'Hz' and '1/s' are ambiguous between revolutions and radians",
+            "write the speed in r/min or rev/s; supply frequency belongs in a frequency field",
+        )
+    if compact not in _SPEED_FORMS or _SPEED_FORMS[compact] is None:
+        raise QuantityError(f"{text!r} is not a shaft-speed unit")
+    return _SPEED_FORMS[compact]
+
+
+def _refuse_wrong_kind(text: str, tokens: list[tuple[str, str]], kind_name: str) -> None:
+    """Refuse unit names that belong to another kind than the field's (Hz in Ke, r/min in f, J in torque)."""
+    if kind_name == "back_emf_constant" and any(v == "Hz" for _, v in tokens):
+        raise QuantityError(
+            f"{text!r}: per-hertz constants mix electrical and mechanical speed",
+            "write the back-EMF constant in V/krpm (with its convention) or V*s/rad",
+        )
+    if kind_name == "frequency" and any(v in _SPEED_NAMES - {"s", "second", "min", "minute"} for _, v in tokens):
+        raise QuantityError(
+            f"{text!r} is a shaft speed, not an electrical frequency",
+            "write the frequency in Hz; shaft speed belongs in a speed field (f = pole pairs × n / 60)",
+        )
+    if kind_name == "torque" and any(v in ("J", "kJ", "joule", "Wh", "kWh", "cal") for _, v in tokens):
+        raise QuantityError(f"{text!r} is an energy unit, not a torque unit", "write torque in N*m or lbf*ft")
+    # N*m is the same dimension as J; written in an energy field it is accepted as J
+
+
+def _pint_unit_text(text: str, kind_name: str) -> str:
+    """Return the unit expression ``text`` in pint's spelling, after the grammar and kind checks."""
+    tokens = _tokenize(text)
+    _check_grammar(tokens, text)
+    _refuse_wrong_kind(text, tokens, kind_name)
+    parts = []
+    for typ, val in tokens:
+        if typ == "name":
+            val = _ALIASES.get(val, val)
+            if kind_name == "back_emf_constant" and val in ("rpm", "krpm", "r", "rev"):
+                val = {"r": "revolution", "rev": "revolution"}.get(val, val)
+        parts.append(val)
+    pint_unit = " ".join(parts).replace("·", "*").replace("^", "**")
+    pint_unit = re.sub(r"\s*\*\*\s*", "**", pint_unit)
+    pint_unit = re.sub(r"\s*([*/()])\s*", r"\1", pint_unit)
+    if kind_name == "back_emf_constant":
+        pint_unit = _normalise_speed_text(pint_unit)
+    return pint_unit
+
+
+def _pint_scale(text: str, pint_unit: str, kind_name: str) -> tuple[float, float]:
+    """Return (scale, offset) from ``pint_unit`` to the kind's SI unit; ``text`` is what the spec wrote."""
+    k = KINDS[kind_name]
     ureg = registry()
     try:
         units = ureg.parse_units(pint_unit) if not any(c in pint_unit for c in "0123456789") else None
@@ -454,7 +483,7 @@ def _parse_quantity(value: Any, kind_name: str) -> float:
 
 
 def ambiguity_notes(value: Any, kind_name: str) -> list[str]:
-    """Return advisory notes for a parsable but ambiguous quantity (rulebook R01)."""
+    """Return advisory notes for a parsable but ambiguous quantity (docs/references.md R01)."""
     if kind_name != "power" or not isinstance(value, str) or "hp" not in value:
         return []  # the one ambiguity noted is a bare 'hp' power
     unit = value.strip()

@@ -38,7 +38,7 @@ __all__ = [
     "reduce_profile",
 ]
 
-# Reduced cooling of a self-ventilated motor at standstill: t_eff = β·t (rulebook R08, β 0.25–0.5).
+# Reduced cooling of a self-ventilated motor at standstill: t_eff = β·t (docs/references.md R08, β 0.25–0.5).
 DEFAULT_STANDSTILL_FACTOR = 0.5
 MIN_DOL_STEPS = 20
 
@@ -57,7 +57,7 @@ def acceleration_torque(inertia: float, speed_change: float, duration: float) ->
 
     References
     ----------
-    Newton's second law for rotation; rulebook R07.
+    Newton's second law for rotation; docs/references.md R07.
     """
     return inertia * speed_change / duration
 
@@ -76,7 +76,7 @@ def acceleration_time(inertia: float, speed_change: float, net_torque: float) ->
 
     References
     ----------
-    Newton's second law for rotation; rulebook R11 and K43.
+    Newton's second law for rotation; docs/references.md R11 and K43.
     """
     return inertia * speed_change / net_torque
 
@@ -99,14 +99,14 @@ def dol_acceleration_time(
     speed_to : end speed [rad/s]; below the speed where the curves cross (e.g. 95–98 % of rated speed),
         since the run-up time to the crossing itself is unbounded
     speed_from : start speed [rad/s]
-    steps : number of speed steps, even, at least 20 (rulebook R11)
+    steps : number of speed steps, even, at least 20 (docs/references.md R11)
 
     Method: t = J·∫ dω/(T_m(ω) − T_L(ω)), composite Simpson rule over ``steps`` equal speed steps.
     If the net torque is not positive at any step, the motor stalls there and the result is infinite.
 
     References
     ----------
-    Rulebook R11 (Newton's second law, numerical integration).
+    docs/references.md R11 (Newton's second law, numerical integration).
     """
     if steps < MIN_DOL_STEPS:
         raise ValueError(f"use at least {MIN_DOL_STEPS} speed steps")
@@ -138,7 +138,7 @@ def kinetic_energy(inertia: float, speed: float) -> float:
 
     References
     ----------
-    Rotational kinetic energy (mechanics); rulebook R35 and K39.
+    Rotational kinetic energy (mechanics); docs/references.md R35 and K39.
     """
     return 0.5 * inertia * speed**2
 
@@ -157,7 +157,7 @@ def braking_energy(inertia: float, speed_from: float, speed_to: float) -> float:
 
     References
     ----------
-    Rulebook R35 and K39.
+    docs/references.md R35 and K39.
     """
     return 0.5 * inertia * (speed_from**2 - speed_to**2)
 
@@ -175,7 +175,7 @@ def potential_energy(mass: float, height: float) -> float:
 
     References
     ----------
-    Mechanics; standard gravity from the 3rd CGPM (1901); rulebook R35.
+    Mechanics; standard gravity from the 3rd CGPM (1901); docs/references.md R35.
     """
     return mass * STANDARD_GRAVITY * height
 
@@ -240,11 +240,11 @@ def duty_cycle_torques(segments: Sequence[Segment]) -> list[SegmentTorque]:
     ----------
     segments : duty-cycle segments at the motor shaft (durations [s] positive)
 
-    Method: T_i = T_L,i + J_i·(ω_to − ω_from)/t_i (rulebook R07).
+    Method: T_i = T_L,i + J_i·(ω_to − ω_from)/t_i (docs/references.md R07).
 
     References
     ----------
-    Newton's second law for rotation; rulebook R07 and R08.
+    Newton's second law for rotation; docs/references.md R07 and R08.
     """
     return [_segment_torque(k, seg) for k, seg in enumerate(segments, start=1)]
 
@@ -292,7 +292,7 @@ def reduce_duty_cycle(
 
     References
     ----------
-    Equivalent (RMS) torque method, drives textbooks; rulebook R07, R08, R35, K35 (β from memory/common
+    Equivalent (RMS) torque method, drives textbooks; docs/references.md R07, R08, R35, K35 (β from memory/common
     practice).
     """
     items = [s if isinstance(s, SegmentTorque) else _segment_torque(k, s) for k, s in enumerate(segments, start=1)]
@@ -387,7 +387,7 @@ def reduce_profile(
 
     References
     ----------
-    Equivalent (RMS) torque method, drives textbooks; rulebook R08 and R35 (β from memory/common practice).
+    Equivalent (RMS) torque method, drives textbooks; docs/references.md R08 and R35 (β from memory/common practice).
     """
     time = np.asarray(time, dtype=float)
     speed = np.asarray(speed, dtype=float)

@@ -33,7 +33,7 @@ def constant_torque(torque: float, speed: float) -> float:
 
     References
     ----------
-    Rulebook R34 (common practice).
+    docs/references.md R34 (common practice).
     """
     return _scalar_or_array(np.full(np.shape(speed), float(torque)))
 
@@ -60,7 +60,7 @@ def quadratic_torque(speed: float, rated_torque: float, rated_speed: float, brea
 
     References
     ----------
-    Centrifugal pump affinity laws (pump handbooks); breakaway term common practice (rulebook R34, K27).
+    Centrifugal pump affinity laws (pump handbooks); breakaway term common practice (docs/references.md R34, K27).
     """
     ratio = np.asarray(speed, dtype=float) / rated_speed
     return _scalar_or_array(breakaway_torque + (rated_torque - breakaway_torque) * ratio**2)
@@ -81,7 +81,7 @@ def affinity_scale(value: float, speed_from: float, speed_to: float, exponent: i
 
     References
     ----------
-    Centrifugal pump affinity laws (pump handbooks); rulebook K27.
+    Centrifugal pump affinity laws (pump handbooks); docs/references.md K27.
     """
     return value * (speed_to / speed_from) ** exponent
 
@@ -100,7 +100,7 @@ def affinity_power(power: float, speed_from: float, speed_to: float) -> float:
 
     References
     ----------
-    Affinity laws (pump handbooks); rulebook K27.
+    Affinity laws (pump handbooks); docs/references.md K27.
     """
     return affinity_scale(power, speed_from, speed_to, 3)
 
@@ -119,7 +119,7 @@ def affinity_head(head: float, speed_from: float, speed_to: float) -> float:
 
     References
     ----------
-    Affinity laws (pump handbooks); rulebook K27.
+    Affinity laws (pump handbooks); docs/references.md K27.
     """
     return affinity_scale(head, speed_from, speed_to, 2)
 
@@ -140,7 +140,7 @@ def winder_torque(tension: float, diameter: float) -> float:
 
     References
     ----------
-    Rulebook R34 (mechanics).
+    docs/references.md R34 (mechanics).
     """
     return tension * diameter / 2.0
 
@@ -158,7 +158,7 @@ def winder_speed(line_speed: float, diameter: float) -> float:
 
     References
     ----------
-    Rulebook R34 (kinematics).
+    docs/references.md R34 (kinematics).
     """
     return 2.0 * line_speed / diameter
 
@@ -176,7 +176,7 @@ def winder_power(tension: float, line_speed: float) -> float:
 
     References
     ----------
-    Rulebook R34 (mechanics).
+    docs/references.md R34 (mechanics).
     """
     return tension * line_speed
 
@@ -204,7 +204,7 @@ def roll_inertia(core_inertia: float, density: float, width: float, diameter: fl
 
     References
     ----------
-    Moment of inertia of a hollow cylinder (mechanics handbooks); rulebook R34.
+    Moment of inertia of a hollow cylinder (mechanics handbooks); docs/references.md R34.
     """
     return core_inertia + math.pi * density * width / 32.0 * (diameter**4 - core_diameter**4)
 
@@ -227,7 +227,7 @@ def conveyor_force(mass: float, incline: float, friction_coefficient: float, ext
 
     References
     ----------
-    Rulebook R34 (mechanics, inclined plane with friction).
+    docs/references.md R34 (mechanics, inclined plane with friction).
     """
     return mass * STANDARD_GRAVITY * (friction_coefficient * np.cos(incline) + np.sin(incline)) + extra_force
 
@@ -245,7 +245,7 @@ def pulley_torque(force: float, diameter: float) -> float:
 
     References
     ----------
-    Rulebook R34 (mechanics).
+    docs/references.md R34 (mechanics).
     """
     return force * diameter / 2.0
 
@@ -263,7 +263,7 @@ def pulley_speed(line_speed: float, diameter: float) -> float:
 
     References
     ----------
-    Kinematics (rulebook R34).
+    Kinematics (docs/references.md R34).
     """
     return 2.0 * line_speed / diameter
 
@@ -285,7 +285,7 @@ def hoist_rope_force(mass: float, reeving: float = 1.0, counterweight: float = 0
 
     References
     ----------
-    Rulebook R34 (statics).
+    docs/references.md R34 (statics).
     """
     return (mass - counterweight) * STANDARD_GRAVITY / reeving
 
@@ -304,7 +304,7 @@ def hoist_drum_speed(line_speed: float, drum_diameter: float, reeving: float = 1
 
     References
     ----------
-    Rulebook R34 (kinematics).
+    docs/references.md R34 (kinematics).
     """
     return 2.0 * reeving * line_speed / drum_diameter
 
@@ -324,7 +324,7 @@ def hoist_drum_torque(mass: float, drum_diameter: float, reeving: float = 1.0, c
 
     References
     ----------
-    Rulebook R34 (statics).
+    docs/references.md R34 (statics).
     """
     return hoist_rope_force(mass, reeving, counterweight) * drum_diameter / 2.0
 
@@ -344,7 +344,7 @@ def hoist_lifting_power(mass: float, line_speed: float, efficiency: float, count
 
     References
     ----------
-    Rulebook R34 (mechanics).
+    docs/references.md R34 (mechanics).
     """
     return (mass - counterweight) * STANDARD_GRAVITY * line_speed / efficiency
 
@@ -361,11 +361,11 @@ def hoist_lowering_power(mass: float, line_speed: float, efficiency: float, coun
     counterweight : counterweight [kg]
 
     Method: P_lower = (m − m_cw)·g·v·η (losses come out of the load's power). Lowering is sustained
-    regeneration: braking means and a fail-safe holding brake are required (rulebook R35, R36).
+    regeneration: braking means and a fail-safe holding brake are required (docs/references.md R35, R36).
 
     References
     ----------
-    Rulebook R34 and K39 (mechanics).
+    docs/references.md R34 and K39 (mechanics).
     """
     return (mass - counterweight) * STANDARD_GRAVITY * line_speed * efficiency
 
@@ -386,7 +386,7 @@ def screw_lead(pitch: float, starts: float = 1.0) -> float:
 
     References
     ----------
-    Shigley's Mechanical Engineering Design, power screws (from memory); rulebook pitfall 13.
+    Shigley's Mechanical Engineering Design, power screws (from memory); docs/references.md pitfall 13.
     """
     return starts * pitch
 
@@ -405,7 +405,7 @@ def lead_screw_torque(thrust: float, lead: float, efficiency: float) -> float:
 
     References
     ----------
-    Rulebook R34 and pitfall 13 (work balance T·2π = F·L/η per revolution).
+    docs/references.md R34 and pitfall 13 (work balance T·2π = F·L/η per revolution).
     """
     return thrust * lead / (2.0 * math.pi * efficiency)
 
@@ -423,7 +423,7 @@ def lead_screw_speed(line_speed: float, lead: float) -> float:
 
     References
     ----------
-    Kinematics (rulebook R34).
+    Kinematics (docs/references.md R34).
     """
     return 2.0 * math.pi * line_speed / lead
 

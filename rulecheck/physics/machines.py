@@ -89,11 +89,11 @@ def power_torque_speed_deviation(power: float, torque: float, speed: float) -> f
     torque : rated torque [N*m]
     speed : rated (slip) speed [rad/s]; not the synchronous speed
 
-    Method: dev = |P_N − T_N·ω_N| / P_N (rulebook R02).
+    Method: dev = |P_N − T_N·ω_N| / P_N (docs/references.md R02).
 
     References
     ----------
-    Definition of mechanical power; rulebook R02 (common practice for the check itself).
+    Definition of mechanical power; docs/references.md R02 (common practice for the check itself).
     """
     return abs(power - torque * speed) / abs(power)
 
@@ -114,7 +114,7 @@ def synchronous_speed(frequency: float, poles: float) -> float:
 
     References
     ----------
-    Any electric-machines textbook, synchronous speed n_s = 120·f/p; rulebook K10.
+    Any electric-machines textbook, synchronous speed n_s = 120·f/p; docs/references.md K10.
     """
     return 4.0 * math.pi * frequency / poles
 
@@ -133,7 +133,7 @@ def slip(speed: float, frequency: float, poles: float) -> float:
 
     References
     ----------
-    Electric-machines textbook definition of slip (e.g. ISBN 978-81-317-5456-6, Ex. 8.3); rulebook K11.
+    Electric-machines textbook definition of slip (e.g. ISBN 978-81-317-5456-6, Ex. 8.3); docs/references.md K11.
     """
     ws = synchronous_speed(frequency, poles)
     return (ws - speed) / ws
@@ -153,7 +153,7 @@ def speed_from_slip(slip: float, frequency: float, poles: float) -> float:
 
     References
     ----------
-    Electric-machines textbook (ISBN 978-81-317-5456-6, Ex. 8.4); rulebook K12.
+    Electric-machines textbook (ISBN 978-81-317-5456-6, Ex. 8.4); docs/references.md K12.
     """
     return synchronous_speed(frequency, poles) * (1.0 - slip)
 
@@ -171,7 +171,7 @@ def rotor_frequency(slip: float, frequency: float) -> float:
 
     References
     ----------
-    Electric-machines textbook (ISBN 978-81-317-5456-6, Ex. 8.3); rulebook K11.
+    Electric-machines textbook (ISBN 978-81-317-5456-6, Ex. 8.3); docs/references.md K11.
     """
     return slip * frequency
 
@@ -185,12 +185,12 @@ def poles_from_rated_speed(rated_speed: float, frequency: float) -> int:
     rated_speed : rated shaft speed [rad/s], positive and below synchronous speed
     frequency : rated frequency [Hz]
 
-    Method: p = 2·floor(60·f/n_N) with n_N in r/min (rulebook R04). Valid while rated slip is below
+    Method: p = 2·floor(60·f/n_N) with n_N in r/min (docs/references.md R04). Valid while rated slip is below
     the gap to the next lower synchronous speed (true for line-fed motors; slip is a few percent).
 
     References
     ----------
-    Rulebook R04 (follows from n_s = 120·f/p and 0 < s < 1).
+    docs/references.md R04 (follows from n_s = 120·f/p and 0 < s < 1).
     """
     if not rated_speed > 0:
         raise ValueError("rated speed must be positive to infer the pole count")
@@ -224,7 +224,7 @@ def induction_speed_on_inverter(
 
     References
     ----------
-    Rulebook R04 and pitfall 22 (common practice for constant-flux inverter operation).
+    docs/references.md R04 and pitfall 22 (common practice for constant-flux inverter operation).
     """
     return synchronous_speed(frequency, poles) - rated_slip_speed * (torque / rated_torque)
 
@@ -243,11 +243,11 @@ def three_phase_output_power(voltage: float, current: float, power_factor: float
     power_factor : cos φ [1]
     efficiency : efficiency η [1]
 
-    Method: P = √3·V_LL·I·cosφ·η (nameplate power is output power; rulebook R03, pitfall 10).
+    Method: P = √3·V_LL·I·cosφ·η (nameplate power is output power; docs/references.md R03, pitfall 10).
 
     References
     ----------
-    Three-phase power, electric-machines textbooks; rulebook R03 and K42.
+    Three-phase power, electric-machines textbooks; docs/references.md R03 and K42.
     """
     return SQRT3 * voltage * current * power_factor * efficiency
 
@@ -267,7 +267,7 @@ def three_phase_rated_current(power: float, voltage: float, power_factor: float,
 
     References
     ----------
-    Three-phase power, electric-machines textbooks; rulebook K42.
+    Three-phase power, electric-machines textbooks; docs/references.md K42.
     """
     return power / (SQRT3 * voltage * power_factor * efficiency)
 
@@ -283,11 +283,11 @@ def implied_efficiency_three_phase(power: float, voltage: float, current: float,
     current : rated current [A]
     power_factor : rated cos φ [1]
 
-    Method: η_impl = P_N/(√3·V·I·cosφ) (rulebook R03).
+    Method: η_impl = P_N/(√3·V·I·cosφ) (docs/references.md R03).
 
     References
     ----------
-    Rulebook R03 (three-phase power).
+    docs/references.md R03 (three-phase power).
     """
     return power / (SQRT3 * voltage * current * power_factor)
 
@@ -307,7 +307,7 @@ def single_phase_output_power(voltage: float, current: float, power_factor: floa
 
     References
     ----------
-    Single-phase power, electric-machines textbooks; rulebook R03.
+    Single-phase power, electric-machines textbooks; docs/references.md R03.
     """
     return voltage * current * power_factor * efficiency
 
@@ -327,7 +327,7 @@ def implied_efficiency_single_phase(power: float, voltage: float, current: float
 
     References
     ----------
-    Rulebook R03.
+    docs/references.md R03.
     """
     return power / (voltage * current * power_factor)
 
@@ -346,7 +346,7 @@ def dc_output_power(voltage: float, current: float, efficiency: float) -> float:
 
     References
     ----------
-    Rulebook R03 (DC form).
+    docs/references.md R03 (DC form).
     """
     return voltage * current * efficiency
 
@@ -365,7 +365,7 @@ def implied_efficiency_dc(power: float, voltage: float, current: float) -> float
 
     References
     ----------
-    Rulebook R03 (DC form).
+    docs/references.md R03 (DC form).
     """
     return power / (voltage * current)
 
@@ -402,7 +402,7 @@ def induction_current_at_torque(
 
     References
     ----------
-    Rulebook R22 (vector decomposition of stator current, drives textbooks; the 0.35 default is common
+    docs/references.md R22 (vector decomposition of stator current, drives textbooks; the 0.35 default is common
     practice).
     """
     i0 = _magnetising(rated_current, magnetising_current)
@@ -433,7 +433,7 @@ def induction_torque_at_current(
 
     References
     ----------
-    Rulebook R07 (drives textbooks; default I_0 common practice).
+    docs/references.md R07 (drives textbooks; default I_0 common practice).
     """
     i0 = _magnetising(rated_current, magnetising_current)
     torque_share = np.maximum(np.asarray(current, dtype=float) ** 2 - i0**2, 0.0) / (rated_current**2 - i0**2)
@@ -467,7 +467,7 @@ def breakdown_torque_field_weakening(breakdown_torque: float, base_speed: float,
 
     References
     ----------
-    Rulebook R18 and pitfall 24 (torque ∝ (V/f)², drives textbooks; from memory for the exact exponent at
+    docs/references.md R18 and pitfall 24 (torque ∝ (V/f)², drives textbooks; from memory for the exact exponent at
     high speed where stator resistance is negligible).
     """
     return breakdown_torque * _base_over_speed(base_speed, speed) ** 2
@@ -488,7 +488,7 @@ def continuous_torque_field_weakening(rated_torque: float, base_speed: float, sp
 
     References
     ----------
-    Rulebook R06 (k_fw) and R18 (drives textbooks, common practice).
+    docs/references.md R06 (k_fw) and R18 (drives textbooks, common practice).
     """
     return rated_torque * _base_over_speed(base_speed, speed)
 
@@ -516,13 +516,13 @@ def constant_power_speed_limit(
 
     References
     ----------
-    Rulebook R18 and K38 (derived; the 1.3 margin is common practice).
+    docs/references.md R18 and K38 (derived; the 1.3 margin is common practice).
     """
     return base_speed * (breakdown_torque / rated_torque) / margin
 
 
 # Default k_cool for a self-ventilated (IC411) motor on an inverter, constant-torque load, no manufacturer
-# curve: rulebook R06 (common practice, to be replaced by manufacturer data).
+# curve: docs/references.md R06 (common practice, to be replaced by manufacturer data).
 _COOLING_SPEED_RATIO = (0.1, 0.33, 0.5, 0.8)
 _COOLING_FACTOR = (0.60, 0.75, 0.85, 1.00)
 _COOLING_FACTOR_NOT_INVERTER_RATED = 0.95
@@ -548,7 +548,7 @@ def self_ventilated_cooling_factor(
 
     References
     ----------
-    Rulebook R06 default k_cool (common practice; IEC 60034-17, IEC TS 60034-25 and NEMA MG 1 Parts 30/31
+    docs/references.md R06 default k_cool (common practice; IEC 60034-17, IEC TS 60034-25 and NEMA MG 1 Parts 30/31
     state the need, from memory). Replace with the manufacturer's curve where one exists.
     """
     ratio = np.abs(np.asarray(speed_ratio, dtype=float))
@@ -636,7 +636,7 @@ def back_emf_constant_line_rms(
 
     References
     ----------
-    Rulebook pitfall 7 (sinusoidal PMSM relations, derived).
+    docs/references.md pitfall 7 (sinusoidal PMSM relations, derived).
     """
     if convention not in _TO_LINE_RMS:
         raise ValueError(f"unknown back-EMF convention {convention!r}; use one of {', '.join(BACK_EMF_CONVENTIONS)}")
@@ -661,7 +661,7 @@ def back_emf_at_speed(back_emf_constant: float, speed: float) -> float:
 
     References
     ----------
-    Rulebook R19 and K37 (derived).
+    docs/references.md R19 and K37 (derived).
     """
     return back_emf_constant * speed
 
@@ -679,7 +679,7 @@ def torque_constant_from_back_emf(back_emf_constant: float) -> float:
 
     References
     ----------
-    Rulebook pitfall 7 and K36 (derived).
+    docs/references.md pitfall 7 and K36 (derived).
     """
     return SQRT3 * back_emf_constant
 
@@ -697,7 +697,7 @@ def speed_at_back_emf(back_emf_constant: float, voltage: float) -> float:
 
     References
     ----------
-    Rulebook R19 (derived).
+    docs/references.md R19 (derived).
     """
     return voltage / back_emf_constant
 
@@ -712,13 +712,13 @@ def uncontrolled_generation_voltage(back_emf_constant: float, speed: float, cold
     ----------
     back_emf_constant : Ke, line-to-line RMS [V*s/rad]
     speed : highest shaft speed reachable [rad/s], including overspeed, coasting and overhauling
-    cold_factor : Ke rise with cold magnets and tolerance [1]; default 1.05 (from memory, rulebook R20)
+    cold_factor : Ke rise with cold magnets and tolerance [1]; default 1.05 (from memory, docs/references.md R20)
 
     Method: V_UCG = √2·Ke·ω·k_cold (the diode bridge charges the link to the line-to-line peak).
 
     References
     ----------
-    Rulebook R20 and K37 (rectified DC = √2 × line-to-line back-EMF; k_cold from memory).
+    docs/references.md R20 and K37 (rectified DC = √2 × line-to-line back-EMF; k_cold from memory).
     """
     return SQRT2 * back_emf_constant * speed * cold_factor
 
@@ -744,7 +744,7 @@ def uncontrolled_generation_speed_limit(
 
     References
     ----------
-    Rulebook R20 and K37 (derived).
+    docs/references.md R20 and K37 (derived).
     """
     return dc_voltage / (SQRT2 * back_emf_constant * cold_factor)
 
@@ -806,13 +806,13 @@ def dc_armature_voltage(
     back_emf : E [V]
     armature_current : I_a [A]
     armature_resistance : R_a, hot [Ω]
-    brush_drop : total brush drop V_br [V]; default 2 V (common practice, rulebook R21)
+    brush_drop : total brush drop V_br [V]; default 2 V (common practice, docs/references.md R21)
 
     Method: V_a = E + I_a·R_a + V_br (motoring).
 
     References
     ----------
-    DC machine voltage equation, electric-machines textbooks; rulebook R21 and K29.
+    DC machine voltage equation, electric-machines textbooks; docs/references.md R21 and K29.
     """
     return back_emf + armature_current * armature_resistance + brush_drop
 
@@ -840,7 +840,7 @@ def dc_back_emf_from_terminal(
 
     References
     ----------
-    DC machine voltage equation; rulebook R21 and K29.
+    DC machine voltage equation; docs/references.md R21 and K29.
     """
     return armature_voltage - armature_current * armature_resistance - brush_drop
 
@@ -868,7 +868,7 @@ def dc_armature_current(
 
     References
     ----------
-    DC machine voltage equation; rulebook K29.
+    DC machine voltage equation; docs/references.md K29.
     """
     return (armature_voltage - back_emf - brush_drop) / armature_resistance
 
@@ -894,7 +894,7 @@ def dc_back_emf_at_speed(rated_back_emf: float, rated_speed: float, speed: float
 
     References
     ----------
-    Rulebook R21 and pitfall 30 (DC machine EMF equation).
+    docs/references.md R21 and pitfall 30 (DC machine EMF equation).
     """
     return rated_back_emf * (speed / rated_speed) * field_ratio
 
@@ -912,7 +912,7 @@ def dc_armature_current_for_torque(torque: float, flux_constant: float) -> float
 
     References
     ----------
-    DC machine torque equation; rulebook R22.
+    DC machine torque equation; docs/references.md R22.
     """
     return torque / flux_constant
 
@@ -925,11 +925,11 @@ class EfficiencyLimit:
     """One minimum-efficiency table entry and how far it is checked."""
 
     efficiency: float  # [1]
-    verified: bool  # True: from a published reproduction (rulebook K24); False: from memory
+    verified: bool  # True: from a published reproduction (docs/references.md K24); False: from memory
     source: str
 
 
-_K24 = "IEC 60034-30:2008 efficiency tables (rulebook K24)"
+_K24 = "IEC 60034-30:2008 efficiency tables (docs/references.md K24)"
 _IE_MEMORY = "IEC 60034-30-1:2014 Table, 50 Hz (from memory)"
 
 # (class, poles, rated power [kW]) -> limit [%], 50 Hz.
@@ -1001,7 +1001,7 @@ def efficiency_class_entry(
 
     References
     ----------
-    IEC 60034-30:2008 tables as reproduced in rulebook K24 (verified entries); IEC 60034-30-1:2014 IE3
+    IEC 60034-30:2008 tables as reproduced in docs/references.md K24 (verified entries); IEC 60034-30-1:2014 IE3
     4-pole column from memory (entries marked ``verified=False``).
     """
     number = _ie_class_number(ie_class)
@@ -1038,7 +1038,7 @@ def efficiency_class_limit(
 
     References
     ----------
-    IEC 60034-30:2008 / IEC 60034-30-1:2014 efficiency tables; rulebook K24 and R30.
+    IEC 60034-30:2008 / IEC 60034-30-1:2014 efficiency tables; docs/references.md K24 and R30.
     """
     entry = efficiency_class_entry(ie_class, rated_power, poles, frequency)
     if entry is None or (not entry.verified and not include_unverified):

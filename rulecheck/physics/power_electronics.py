@@ -30,7 +30,7 @@ def dc_bus_voltage_loaded(supply_voltage: float) -> float:
     References
     ----------
     Six-pulse bridge mean output voltage (Mohan, Undeland, Robbins, Power Electronics, ch. on line-frequency
-    rectifiers; from memory for the chapter); rulebook K28.
+    rectifiers; from memory for the chapter); docs/references.md K28.
     """
     return SIX_PULSE_FACTOR * supply_voltage
 
@@ -47,7 +47,7 @@ def dc_bus_voltage_no_load(supply_voltage: float) -> float:
 
     References
     ----------
-    Rulebook K28 and pitfall 9.
+    docs/references.md K28 and pitfall 9.
     """
     return SQRT2 * supply_voltage
 
@@ -64,7 +64,7 @@ def output_voltage_max_svpwm(dc_voltage: float) -> float:
 
     References
     ----------
-    Rulebook R17 and K44 (modulation limits; Mohan/Undeland/Robbins, from memory).
+    docs/references.md R17 and K44 (modulation limits; Mohan/Undeland/Robbins, from memory).
     """
     return dc_voltage / SQRT2
 
@@ -81,7 +81,7 @@ def output_voltage_max_sine_triangle(dc_voltage: float) -> float:
 
     References
     ----------
-    Rulebook K44 (modulation limits; Mohan/Undeland/Robbins, from memory).
+    docs/references.md K44 (modulation limits; Mohan/Undeland/Robbins, from memory).
     """
     return SQRT3 / (2.0 * SQRT2) * dc_voltage
 
@@ -98,7 +98,7 @@ def output_voltage_six_step(dc_voltage: float) -> float:
 
     References
     ----------
-    Rulebook K44 (modulation limits; Mohan/Undeland/Robbins, from memory).
+    docs/references.md K44 (modulation limits; Mohan/Undeland/Robbins, from memory).
     """
     return math.sqrt(6.0) / math.pi * dc_voltage
 
@@ -117,7 +117,7 @@ def output_frequency_induction(speed: float, poles: float, slip_speed: float = 0
 
     References
     ----------
-    Rulebook R16 (n_s = 120·f/p).
+    docs/references.md R16 (n_s = 120·f/p).
     """
     return (poles / 2.0) * (speed + slip_speed) / (2.0 * math.pi)
 
@@ -135,7 +135,7 @@ def output_frequency_synchronous(speed: float, poles: float) -> float:
 
     References
     ----------
-    Rulebook R05 and R16.
+    docs/references.md R05 and R16.
     """
     return (poles / 2.0) * speed / (2.0 * math.pi)
 
@@ -154,7 +154,7 @@ def controlled_bridge_dc_voltage(supply_voltage: float, firing_angle: float) -> 
     References
     ----------
     Six-pulse controlled rectifier (power-electronics textbooks, e.g. Mohan/Undeland/Robbins, from memory);
-    rulebook R21.
+    docs/references.md R21.
     """
     return SIX_PULSE_FACTOR * supply_voltage * np.cos(firing_angle)
 
@@ -173,7 +173,7 @@ def capacitor_energy(capacitance: float, voltage_from: float, voltage_to: float)
 
     References
     ----------
-    Energy stored in a capacitor (physics); rulebook R35 and K39.
+    Energy stored in a capacitor (physics); docs/references.md R35 and K39.
     """
     return 0.5 * capacitance * (voltage_to**2 - voltage_from**2)
 
@@ -191,7 +191,7 @@ def braking_resistance_max(voltage: float, power: float) -> float:
 
     References
     ----------
-    Rulebook R35 and K39 (P = V²/R).
+    docs/references.md R35 and K39 (P = V²/R).
     """
     return voltage**2 / power
 
@@ -209,7 +209,7 @@ def braking_resistor_power(voltage: float, resistance: float) -> float:
 
     References
     ----------
-    Joule's law; rulebook R35.
+    Joule's law; docs/references.md R35.
     """
     return voltage**2 / resistance
 
@@ -227,7 +227,7 @@ def reflected_wave_critical_length(propagation_velocity: float, rise_time: float
 
     References
     ----------
-    Transmission-line reflection, derived; rulebook R39 and K40.
+    Transmission-line reflection, derived; docs/references.md R39 and K40.
     """
     return propagation_velocity * rise_time / 2.0
 
@@ -255,7 +255,7 @@ def motor_peak_voltage(
 
     References
     ----------
-    Rulebook R39 (voltage doubling at an open line end; the linear build-up is common practice).
+    docs/references.md R39 (voltage doubling at an open line end; the linear build-up is common practice).
     """
     return dc_voltage * (1.0 + reflection_coefficient * np.minimum(1.0, cable_length / critical_length))
 
@@ -273,6 +273,6 @@ def inverter_duty_insulation_peak_limit(rated_voltage: float) -> float:
 
     References
     ----------
-    NEMA MG 1 Part 31 (inverter-fed definite-purpose motors); rulebook R39 and K30.
+    NEMA MG 1 Part 31 (inverter-fed definite-purpose motors); docs/references.md R39 and K30.
     """
     return 3.1 * rated_voltage

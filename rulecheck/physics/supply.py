@@ -1,7 +1,7 @@
 """Supply and installation: cable voltage drop, derating, voltage/frequency zones, unbalance, NEC values.
 
-NEC values are those of NFPA 70 (National Electrical Code) 2008 as reproduced in the
-project rulebook (K19–K23); local codes and the adopted edition govern.
+NEC values are those of NFPA 70 (National Electrical Code) 2008 as listed in
+docs/references.md (K19–K23); local codes and the adopted edition govern.
 """
 
 from __future__ import annotations
@@ -16,7 +16,7 @@ SQRT3 = math.sqrt(3.0)
 
 # IEC 60364-5-52 Annex G: ρ1 = 1.25·ρ20 at the conductor temperature under fault conditions [Ω·mm²/m].
 ANNEX_G_RESISTIVITY = {"copper": 0.0225, "aluminium": 0.036, "aluminum": 0.036}
-ANNEX_G_REACTANCE = 0.08e-3  # λ [Ω/m], the Annex G default (rulebook K34: from memory)
+ANNEX_G_REACTANCE = 0.08e-3  # λ [Ω/m], the Annex G default (docs/references.md K34: from memory)
 
 
 def _annex_g_resistivity(material: str) -> float:
@@ -64,7 +64,8 @@ def voltage_drop_annex_g(
 
     References
     ----------
-    IEC 60364-5-52, Annex G (voltage drop in consumers' installations); rulebook R37, K33, K34 (λ from memory).
+    IEC 60364-5-52, Annex G (voltage drop in consumers' installations); docs/references.md R37, K33, K34
+    (λ from memory).
     """
     if phases not in (1, 3):
         raise ValueError("phases must be 1 or 3")
@@ -87,7 +88,7 @@ def relative_voltage_drop(voltage_drop: float, voltage: float) -> float:
 
     References
     ----------
-    IEC 60364-5-52, Annex G; rulebook R37.
+    IEC 60364-5-52, Annex G; docs/references.md R37.
     """
     return voltage_drop / voltage
 
@@ -125,7 +126,7 @@ def voltage_drop_nec(
 
     References
     ----------
-    NFPA 70, Chapter 9, Table 9 note 2 (effective Z; from memory for the note number); rulebook R37.
+    NFPA 70, Chapter 9, Table 9 note 2 (effective Z; from memory for the note number); docs/references.md R37.
     """
     if phases not in (1, 3):
         raise ValueError("phases must be 1 or 3")
@@ -134,7 +135,7 @@ def voltage_drop_nec(
     return k * current * length * (resistance_per_length * power_factor + reactance_per_length * sin_phi)
 
 
-# --- altitude and ambient derating (rulebook R27; common practice, no source) ---------
+# --- altitude and ambient derating (docs/references.md R27; common practice, no source) ---------
 
 _REFERENCE_ALTITUDE = 1000.0  # m
 _REFERENCE_AMBIENT = 40.0  # degC
@@ -167,7 +168,7 @@ def motor_derating_factor(
 
     References
     ----------
-    Rulebook R27: reference conditions ≤ 1000 m and ≤ 40 °C (IEC 60034-1 clause 6, from memory; NEMA MG 1
+    docs/references.md R27: reference conditions ≤ 1000 m and ≤ 40 °C (IEC 60034-1 clause 6, from memory; NEMA MG 1
     usual service conditions); the slopes are common practice with no source.
     """
     return _linear_derating(altitude - _REFERENCE_ALTITUDE, per_metre) * _linear_derating(
@@ -195,11 +196,11 @@ def drive_derating_factor(
 
     Method: as :func:`motor_derating_factor`, but the ambient line is not extrapolated beyond the drive's
     stated maximum: above it the drive has no rating at the site (factor 0). Above 2000 m clearances and
-    earthing-system limits need a separate check (rulebook R27).
+    earthing-system limits need a separate check (docs/references.md R27).
 
     References
     ----------
-    Rulebook R27 (slopes common practice; use the drive manufacturer's curves).
+    docs/references.md R27 (slopes common practice; use the drive manufacturer's curves).
     """
     if ambient > ambient_max:
         return 0.0
@@ -210,7 +211,7 @@ def drive_derating_factor(
 
 # --- voltage and frequency variation -----------------------------------------------
 
-# IEC 60034-1 zone A as (Δf, ΔV) vertices in per unit, counter-clockwise. From memory (rulebook R25):
+# IEC 60034-1 zone A as (Δf, ΔV) vertices in per unit, counter-clockwise. From memory (docs/references.md R25):
 # the axis values ±5 % / ±2 % are verified, the corner cuts are not.
 IEC_ZONE_A_VERTICES = ((-0.02, -0.05), (0.0, -0.05), (0.02, -0.03), (0.02, 0.05), (0.0, 0.05), (-0.02, 0.03))
 
@@ -242,7 +243,7 @@ def in_iec_zone_a(voltage_deviation: float, frequency_deviation: float) -> bool:
     References
     ----------
     IEC 60034-1, voltage and frequency variations, zone A (clause 7.3, figure; from memory for the clause).
-    Axis limits ±5 %/±2 % verified; the corner vertices are from memory (rulebook R25, open item).
+    Axis limits ±5 %/±2 % verified; the corner vertices are from memory (docs/references.md R25 and open items).
     """
     return _inside_convex((frequency_deviation, voltage_deviation), IEC_ZONE_A_VERTICES)
 
@@ -256,12 +257,12 @@ def in_iec_zone_b(voltage_deviation: float, frequency_deviation: float) -> bool:
     voltage_deviation : ΔV/V_N [1]
     frequency_deviation : Δf/f_N [1]
 
-    Method: |ΔV| ≤ 10 %, −5 % ≤ Δf ≤ +3 %, and V/f within 0.90–1.10 of rated, the rulebook's approximation
-    of the zone B polygon (vertices not held).
+    Method: |ΔV| ≤ 10 %, −5 % ≤ Δf ≤ +3 %, and V/f within 0.90–1.10 of rated, the approximation of the zone B
+    polygon in docs/references.md R25 (vertices not held).
 
     References
     ----------
-    IEC 60034-1 zone B axis values (±10 %, −5/+3 %) verified; the V/f approximation is rulebook R25 (M).
+    IEC 60034-1 zone B axis values (±10 %, −5/+3 %) verified; the V/f approximation is docs/references.md R25 (M).
     """
     if abs(voltage_deviation) > 0.10 + 1e-12 or not -0.05 - 1e-12 <= frequency_deviation <= 0.03 + 1e-12:
         return False
@@ -282,7 +283,7 @@ def within_nema_variation(voltage_deviation: float, frequency_deviation: float) 
 
     References
     ----------
-    NEMA MG 1, 12.44 (variation from rated voltage and frequency); rulebook R25 and K25.
+    NEMA MG 1, 12.44 (variation from rated voltage and frequency); docs/references.md R25 and K25.
     """
     eps = 1e-12
     dv, df = abs(voltage_deviation), abs(frequency_deviation)
@@ -301,14 +302,14 @@ def voltage_unbalance(voltage_a: float, voltage_b: float, voltage_c: float) -> f
 
     References
     ----------
-    NEMA MG 1 definition of voltage unbalance (14.36, from memory for the clause); rulebook R26 and K26.
+    NEMA MG 1 definition of voltage unbalance (14.36, from memory for the clause); docs/references.md R26 and K26.
     """
     v = (voltage_a, voltage_b, voltage_c)
     avg = sum(v) / 3.0
     return max(abs(x - avg) for x in v) / avg
 
 
-# Approximate NEMA MG 1 derating for unbalance (curve values from memory; sources differ): rulebook R26.
+# Approximate NEMA MG 1 derating for unbalance (curve values from memory; sources differ): docs/references.md R26.
 _UNBALANCE_POINTS = (0.01, 0.02, 0.03, 0.05)
 _UNBALANCE_FACTORS = (1.00, 0.95, 0.88, 0.75)
 
@@ -326,7 +327,7 @@ def unbalance_derating_factor(unbalance: float) -> float | None:
 
     References
     ----------
-    NEMA MG 1 derating curve for voltage unbalance (curve values from memory; rulebook R26).
+    NEMA MG 1 derating curve for voltage unbalance (curve values from memory; docs/references.md R26).
     """
     if unbalance > _UNBALANCE_POINTS[-1] + 1e-12:
         return None
@@ -339,7 +340,7 @@ NEC_EDITION = "NFPA 70 (NEC) 2008"
 HP_MECHANICAL = 745.69987158227022  # W, NIST SP 811 (2008) App. B
 
 # Table 430.250, three-phase induction motors: (hp rating, column voltage) -> full-load current [A].
-# Only the entries reproduced in rulebook K19; other ratings return None.
+# Only the entries reproduced in docs/references.md K19; other ratings return None.
 _NEC_430_250 = {
     (1.0, 460): 2.1,
     (5.0, 460): 7.6,
@@ -371,7 +372,7 @@ def nec_full_load_current(rated_power: float, voltage: float) -> float | None:
 
     References
     ----------
-    NFPA 70 (NEC) 2008, Table 430.250, as reproduced in rulebook K19 (only those entries are held).
+    NFPA 70 (NEC) 2008, Table 430.250, as reproduced in docs/references.md K19 (only those entries are held).
     """
     hp = round(rated_power / HP_MECHANICAL, 3)
     for low, high, column in _NEC_VOLTAGE_COLUMNS:
@@ -392,7 +393,7 @@ def nec_branch_conductor_ampacity(full_load_current: float) -> float:
 
     References
     ----------
-    NFPA 70 (NEC) 2008, 430.22 (and 430.6(A)(1) for using table values); rulebook K20.
+    NFPA 70 (NEC) 2008, 430.22 (and 430.6(A)(1) for using table values); docs/references.md K20.
     """
     return 1.25 * full_load_current
 
@@ -410,7 +411,7 @@ def nec_drive_conductor_ampacity(rated_current: float) -> float:
 
     References
     ----------
-    NFPA 70 (NEC) 2008, 430.122; rulebook K21.
+    NFPA 70 (NEC) 2008, 430.122; docs/references.md K21.
     """
     return 1.25 * rated_current
 
@@ -434,7 +435,7 @@ def nec_overload_trip_max(
 
     References
     ----------
-    NFPA 70 (NEC) 2008, 430.32(A)(1); rulebook R24 and K22.
+    NFPA 70 (NEC) 2008, 430.32(A)(1); docs/references.md R24 and K22.
     """
     generous = service_factor >= 1.15 - 1e-9 or (temperature_rise is not None and temperature_rise <= 40.0 + 1e-9)
     return (1.25 if generous else 1.15) * nameplate_current
@@ -465,7 +466,7 @@ def nec_short_circuit_protection_max(full_load_current: float, device: str = "in
 
     References
     ----------
-    NFPA 70 (NEC) 2008, Table 430.52; rulebook R38 and K23.
+    NFPA 70 (NEC) 2008, Table 430.52; docs/references.md R38 and K23.
     """
     if device not in NEC_430_52_PERCENT:
         raise ValueError(f"unknown protective device {device!r}; use one of {', '.join(NEC_430_52_PERCENT)}")

@@ -28,7 +28,7 @@ def motor_torque_motoring(load_torque: float, ratio: float, efficiency: float) -
 
     References
     ----------
-    Rulebook R06 and R33 (mechanics, common practice); pitfall 12.
+    docs/references.md R06 and R33 (mechanics, common practice); pitfall 12.
     """
     return load_torque / (ratio * efficiency)
 
@@ -47,7 +47,7 @@ def motor_torque_overhauling(load_torque: float, ratio: float, efficiency: float
 
     References
     ----------
-    Rulebook R33 (mechanics); pitfall 12.
+    docs/references.md R33 (mechanics); pitfall 12.
     """
     return load_torque * efficiency / ratio
 
@@ -69,7 +69,7 @@ def motor_torque_for_power_flow(load_torque: float, load_speed: float, ratio: fl
 
     References
     ----------
-    Rulebook R33 (mechanics); pitfall 12.
+    docs/references.md R33 (mechanics); pitfall 12.
     """
     motoring = np.asarray(load_torque) * np.asarray(load_speed) >= 0
     result = np.where(motoring, load_torque / (ratio * efficiency), load_torque * efficiency / ratio)
@@ -89,7 +89,7 @@ def reflected_inertia(inertia: float, ratio: float) -> float:
 
     References
     ----------
-    Rulebook R12 and pitfall 12 (mechanics).
+    docs/references.md R12 and pitfall 12 (mechanics).
     """
     return inertia / ratio**2
 
@@ -108,7 +108,7 @@ def reflected_inertia_of_mass_on_radius(mass: float, radius: float, ratio: float
 
     References
     ----------
-    Rulebook R12 (mechanics).
+    docs/references.md R12 (mechanics).
     """
     return mass * radius**2 / ratio**2
 
@@ -127,7 +127,7 @@ def reflected_inertia_of_mass_on_screw(mass: float, lead: float, ratio: float = 
 
     References
     ----------
-    Rulebook R12 and pitfall 13 (mechanics).
+    docs/references.md R12 and pitfall 13 (mechanics).
     """
     return mass * (lead / (2.0 * math.pi)) ** 2 / ratio**2
 
@@ -145,7 +145,7 @@ def inertia_ratio(load_inertia: float, motor_inertia: float) -> float:
 
     References
     ----------
-    Rulebook R12 and K43.
+    docs/references.md R12 and K43.
     """
     return load_inertia / motor_inertia
 
@@ -200,7 +200,7 @@ def screw_efficiency(lead_angle: float, friction_angle: float) -> float:
 
     References
     ----------
-    Shigley's Mechanical Engineering Design, power screws (from memory); rulebook R33.
+    Shigley's Mechanical Engineering Design, power screws (from memory); docs/references.md R33.
     """
     return math.tan(lead_angle) / math.tan(lead_angle + friction_angle)
 
@@ -218,7 +218,7 @@ def screw_reverse_efficiency(lead_angle: float, friction_angle: float) -> float:
 
     References
     ----------
-    Shigley's Mechanical Engineering Design, power screws, self-locking condition (from memory); rulebook R33.
+    Shigley's Mechanical Engineering Design, power screws, self-locking condition (from memory); docs/references.md R33.
     """
     if lead_angle <= friction_angle:
         return 0.0
@@ -234,7 +234,7 @@ def screw_is_self_locking(lead_angle: float, friction_angle: float) -> bool:
     friction_angle : φ′ [rad]
 
     Method: self-locking if λ ≤ φ′. Vibration and lower running friction can still let it creep: never
-    rely on self-locking to hold a suspended load (rulebook R33, safety section 3).
+    rely on self-locking to hold a suspended load (docs/references.md R33, safety caution 3).
 
     References
     ----------
@@ -314,7 +314,7 @@ def gearbox_service_factor(
 
     References
     ----------
-    Rulebook R31 (gearmotor catalogue practice).
+    docs/references.md R31 (gearmotor catalogue practice).
     """
     return rated_output_torque / (motor_rated_torque * ratio * efficiency)
 
@@ -344,7 +344,7 @@ def application_service_factor(hours_per_day: float, load_class: str, starts_per
 
     References
     ----------
-    AGMA service-factor tables (AGMA 6010-era guidance as reproduced in rulebook R31 and K32).
+    AGMA service-factor tables (AGMA 6010-era guidance as reproduced in docs/references.md R31 and K32).
     """
     if load_class not in _LOAD_CLASSES:
         raise ValueError(f"unknown load class {load_class!r}; use uniform, moderate or heavy")
@@ -369,6 +369,6 @@ def combined_efficiency(stage_efficiencies: list[float]) -> float:
 
     References
     ----------
-    Rulebook pitfall 12 (mechanics).
+    docs/references.md pitfall 12 (mechanics).
     """
     return math.prod(stage_efficiencies)

@@ -5,7 +5,7 @@ text) says the same thing. A hazard is selected when a spec has an outcome that
 is *applicable* (anything but ``not-applicable``) for a rule whose id or topic
 matches one of the hazard's triggers, or when the spec carries a chart that
 implies the hazard (a back-EMF chart means a permanent-magnet motor). Texts
-follow the rulebook's section 4.
+follow docs/references.md, safety cautions.
 """
 
 from __future__ import annotations

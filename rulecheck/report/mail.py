@@ -96,56 +96,68 @@ def text_body(result: Mapping[str, Any], *, units: str = "si") -> str:
         lines.append(f"  {'':<16} errors {c['error']}, warnings {c['warning']}, info {c['info']}, "
                      f"not checked {c['not-checked']}, waived {c['waived']}, pass {c['pass']}")
     for spec in specs:
-        groups = common.group_outcomes(spec)
-        lines += ["", "=" * 78, f"{common.verdict_label(spec).text}  {common.spec_name(spec)}"]
-        lines.append(f"file {plain(spec.get('file'), 200)}  sha256 {plain(spec.get('sha256'), 80)}")
-        lines.append(f"spec status {plain(spec.get('spec_status'), 40) or '—'}, check status "
-                     f"{plain(spec.get('status'), 20) or '—'}")
-        for o in groups.failures:
-            flag = " [SAFETY]" if o.get("safety") is True else ""
-            lines.append("")
-            lines += _wrap(f"{common.outcome_label(o).text}{flag} {plain(o.get('rule'), 80)}: "
-                           f"{plain(o.get('message') or o.get('title'))}")
-            for name, value in common.value_items(o, units):
-                lines.append(f"    {name}: {value}")
-            limit = common.display_limit(o, units)
-            if limit:
-                lines.append(f"    limit: {limit}")
-            if o.get("formula"):
-                lines.append(f"    formula: {plain(o.get('formula'), 300)}")
-            for source, tag, words in common.basis_items(o):
-                lines += _wrap(f"basis: {source} [{tag or '?'}: {words}]", "    ")
-            where = common.location_text(o)
-            if where:
-                lines.append(f"    at: {where}")
-            if o.get("fix"):
-                lines += _wrap(f"FIX: {plain(o.get('fix'))}", "    ")
-        if groups.not_checked:
-            lines += ["", "Not checked (supply these inputs to have them checked):"]
-            for o in groups.not_checked:
-                missing = ", ".join(common.missing_items(o)) or "—"
-                lines += _wrap(f"[?] ({plain(o.get('severity'), 20)}) {plain(o.get('rule'), 80)}: needs {missing}",
-                               "  ")
-        if groups.waived:
-            lines += ["", "Waived:"]
-            for o in groups.waived:
-                w = common.waiver_items(o)
-                lines += _wrap(f"[W] {plain(o.get('rule'), 80)}: {w['reason']} (approved by {w['approved_by'] or '—'},"
-                               f" expires {w['expires'] or '—'})", "  ")
-        for key in charts.available(spec):
-            try:
-                text = charts.describe(key, spec["charts"][key], units)
-            except charts.ChartDataError as exc:
-                lines += ["", f"[chart {key} could not be drawn: {exc}]"]
-                continue
-            title, description, *table = text.as_text().splitlines()
-            lines += ["", title, *_wrap(description), *table]
+        lines += _spec_section(spec, units)
     lines += ["", "=" * 78, "CAUTIONS"]
     for c in cautions.GENERAL:
         lines += _wrap(f"- {c.title}. {c.text}")
     for h in cautions.select_hazards(specs):
         lines += _wrap(f"- [!] {h.hazard.title}. {h.hazard.text} (Raised by {h.reason}.)")
     return "\n".join(lines) + "\n"
+
+
+def _spec_section(spec: Mapping[str, Any], units: str) -> list[str]:
+    """Return the text of one spec's section: its findings, what was not checked or waived, its charts."""
+    groups = common.group_outcomes(spec)
+    lines = ["", "=" * 78, f"{common.verdict_label(spec).text}  {common.spec_name(spec)}"]
+    lines.append(f"file {plain(spec.get('file'), 200)}  sha256 {plain(spec.get('sha256'), 80)}")
+    lines.append(f"spec status {plain(spec.get('spec_status'), 40) or '—'}, check status "
+                 f"{plain(spec.get('status'), 20) or '—'}")
+    for o in groups.failures:
+        lines += _failure_lines(o, units)
+    if groups.not_checked:
+        lines += ["", "Not checked (supply these inputs to have them checked):"]
+        for o in groups.not_checked:
+            missing = ", ".join(common.missing_items(o)) or "—"
+            lines += _wrap(f"[?] ({plain(o.get('severity'), 20)}) {plain(o.get('rule'), 80)}: needs {missing}",
+                           "  ")
+    if groups.waived:
+        lines += ["", "Waived:"]
+        for o in groups.waived:
+            w = common.waiver_items(o)
+            lines += _wrap(f"[W] {plain(o.get('rule'), 80)}: {w['reason']} (approved by {w['approved_by'] or '—'},"
+                           f" expires {w['expires'] or '—'})", "  ")
+    for key in charts.available(spec):
+        try:
+            text = charts.describe(key, spec["charts"][key], units)
+        except charts.ChartDataError as exc:
+            lines += ["", f"[chart {key} could not be drawn: {exc}]"]
+            continue
+        title, description, *table = text.as_text().splitlines()
+        lines += ["", title, *_wrap(description), *table]
+    return lines
+
+
+def _failure_lines(o: Mapping[str, Any], units: str) -> list[str]:
+    """Return the text of one finding: label, message, values, limit, formula, basis, location and fix."""
+    flag = " [SAFETY]" if o.get("safety") is True else ""
+    lines = [""]
+    lines += _wrap(f"{common.outcome_label(o).text}{flag} {plain(o.get('rule'), 80)}: "
+                   f"{plain(o.get('message') or o.get('title'))}")
+    for name, value in common.value_items(o, units):
+        lines.append(f"    {name}: {value}")
+    limit = common.display_limit(o, units)
+    if limit:
+        lines.append(f"    limit: {limit}")
+    if o.get("formula"):
+        lines.append(f"    formula: {plain(o.get('formula'), 300)}")
+    for source, tag, words in common.basis_items(o):
+        lines += _wrap(f"basis: {source} [{tag or '?'}: {words}]", "    ")
+    where = common.location_text(o)
+    if where:
+        lines.append(f"    at: {where}")
+    if o.get("fix"):
+        lines += _wrap(f"FIX: {plain(o.get('fix'))}", "    ")
+    return lines
 
 
 def build_message(result: dict, *, sender: str, recipients: str | Sequence[str], subject: str | None = None,
@@ -247,28 +259,8 @@ def send(message: EmailMessage, *, host: str, port: int, security: str = "startt
         if username is not None:
             client.login(username, password or "")
         refused = client.send_message(message)
-    except smtplib.SMTPAuthenticationError as exc:
-        raise MailError(f"the SMTP server {where} refused the login for user {plain(username, 100)!r} "
-                        f"({exc.smtp_code})") from None
-    except smtplib.SMTPNotSupportedError:
-        raise MailError(f"the SMTP server {where} does not offer {security.upper()} or login as asked") from None
-    except smtplib.SMTPRecipientsRefused as exc:
-        raise MailError(f"the SMTP server {where} refused every recipient: {', '.join(exc.recipients)}") from None
-    except smtplib.SMTPResponseException as exc:
-        text = exc.smtp_error.decode("utf-8", "replace") if isinstance(exc.smtp_error, bytes) else exc.smtp_error
-        raise MailError(f"the SMTP server {where} answered {exc.smtp_code}: {plain(text, 200)}") from None
-    except smtplib.SMTPException as exc:
-        raise MailError(f"sending through {where} failed: {plain(exc, 200)}") from None
-    except ssl.SSLError as exc:
-        raise MailError(f"TLS with {where} failed: {plain(exc.reason or exc, 200)}") from None
-    except socket.gaierror:
-        raise MailError(f"the SMTP server name {plain(host, 100)!r} cannot be resolved") from None
-    except ConnectionRefusedError:
-        raise MailError(f"the SMTP server {where} refused the connection (nothing listening?)") from None
-    except TimeoutError:
-        raise MailError(f"the SMTP server {where} did not answer within {timeout:g} s") from None
-    except OSError as exc:
-        raise MailError(f"cannot reach the SMTP server {where}: {plain(exc.strerror or exc, 200)}") from None
+    except OSError as exc:  # smtplib's and ssl's errors are OSErrors too
+        raise _send_error(exc, where, host=host, security=security, username=username, timeout=timeout) from None
     finally:
         if client is not None:
             try:
@@ -277,3 +269,29 @@ def send(message: EmailMessage, *, host: str, port: int, security: str = "startt
                 client.close()
     if refused:
         raise MailError(f"the SMTP server {where} accepted the message but refused: {', '.join(sorted(refused))}")
+
+
+def _send_error(exc: OSError, where: str, *, host: str, security: str, username: str | None,
+                timeout: float) -> MailError:
+    """Return the one-line :class:`MailError` for what went wrong while sending (most specific cause first)."""
+    if isinstance(exc, smtplib.SMTPAuthenticationError):
+        return MailError(f"the SMTP server {where} refused the login for user {plain(username, 100)!r} "
+                         f"({exc.smtp_code})")
+    if isinstance(exc, smtplib.SMTPNotSupportedError):
+        return MailError(f"the SMTP server {where} does not offer {security.upper()} or login as asked")
+    if isinstance(exc, smtplib.SMTPRecipientsRefused):
+        return MailError(f"the SMTP server {where} refused every recipient: {', '.join(exc.recipients)}")
+    if isinstance(exc, smtplib.SMTPResponseException):
+        text = exc.smtp_error.decode("utf-8", "replace") if isinstance(exc.smtp_error, bytes) else exc.smtp_error
+        return MailError(f"the SMTP server {where} answered {exc.smtp_code}: {plain(text, 200)}")
+    if isinstance(exc, smtplib.SMTPException):
+        return MailError(f"sending through {where} failed: {plain(exc, 200)}")
+    if isinstance(exc, ssl.SSLError):
+        return MailError(f"TLS with {where} failed: {plain(exc.reason or exc, 200)}")
+    if isinstance(exc, socket.gaierror):
+        return MailError(f"the SMTP server name {plain(host, 100)!r} cannot be resolved")
+    if isinstance(exc, ConnectionRefusedError):
+        return MailError(f"the SMTP server {where} refused the connection (nothing listening?)")
+    if isinstance(exc, TimeoutError):
+        return MailError(f"the SMTP server {where} did not answer within {timeout:g} s")
+    return MailError(f"cannot reach the SMTP server {where}: {plain(exc.strerror or exc, 200)}")

@@ -34,8 +34,9 @@ def _docs() -> list[object]:
 DOCS = _docs()
 
 
-def test_there_are_specs_to_compare() -> None:
-    assert len(DOCS) >= 8
+def test_the_repository_specs_give_jsonschema_both_answers() -> None:
+    # agreement is worth something only where the reference (jsonschema) accepts some specs and refuses others
+    assert {_validator().is_valid(d) for d in DOCS} == {True, False}
 
 
 @pytest.mark.parametrize("index", range(len(DOCS)))
@@ -74,15 +75,15 @@ def test_agrees_on_a_generated_corpus(tmp_path: Path) -> None:
     generator = str(ROOT / "bench" / "generate.py")
     subprocess.run([sys.executable, generator, str(tmp_path), "--count", "150", "--seed", "3"], check=True,
                    capture_output=True)
-    compared = 0
+    verdicts: set[bool] = set()
     for path in sorted(tmp_path.rglob("*.yaml")):
         try:
             data = yaml.safe_load(path.read_text(encoding="utf-8"))
         except Exception:
             continue  # files that do not load never reach a validator
         assert _fast(data) == _validator().is_valid(data), path.name
-        compared += 1
-    assert compared > 100
+        verdicts.add(_validator().is_valid(data))
+    assert verdicts == {True, False}  # the corpus's deliberate mistakes include specs jsonschema refuses
 
 
 def _error_list(errors: list) -> list[tuple]:
@@ -117,7 +118,7 @@ def test_only_the_refused_parts_are_explained_with_the_whole_pass_s_errors() -> 
     from rulecheck import schema
 
     invalid = _invalid_docs()
-    assert len(invalid) > 40
+    assert not any(_validator().is_valid(doc) for doc in invalid)  # each one is refused by the reference too
     for doc in invalid:
         refused = schema._fast_refused(doc)
         assert refused, doc

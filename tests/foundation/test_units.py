@@ -14,7 +14,7 @@ import scipy.constants as sc
 from hypothesis import given
 from hypothesis import strategies as st
 
-from rulecheck.units import QuantityError, ambiguity_notes, format_value, parse_quantity, registry
+from rulecheck.units import QuantityError, ambiguity_notes, format_value, parse_quantity
 
 REL = 1e-9  # exact definitions: only floating-point rounding separates the two sides
 
@@ -23,7 +23,8 @@ def test_horsepower_is_nist_value() -> None:
     # NIST SP 811 (2008) B.8: horsepower (550 ft·lbf/s) = 745.699 87 W; scipy.constants.hp is the same definition
     assert parse_quantity("1 hp", "power") == pytest.approx(745.69987158227022, rel=REL)
     assert parse_quantity("1 hp", "power") == pytest.approx(sc.hp, rel=REL)
-    assert registry().Quantity(1, "hp").to("W").magnitude == pytest.approx(745.69987, rel=1e-8)
+    # shown back in customary units, the NIST value is exactly one horsepower
+    assert format_value(745.69987158227022, "power", "customary") == "1 hp"
 
 
 def test_other_horsepowers() -> None:
@@ -34,8 +35,10 @@ def test_other_horsepowers() -> None:
 
 
 def test_bare_hp_is_reported_as_ambiguous() -> None:
-    # rulebook R01 / pitfall 5: mechanical, metric and electrical horsepower differ
-    assert ambiguity_notes("10 hp", "power")
+    # docs/references.md R01 / pitfall 5: mechanical, metric and electrical horsepower differ
+    # (NIST SP 811 (2008) B.8: 745.699 87 W, 735.498 75 W, 746 W); the note says which was read and names the others
+    (note,) = ambiguity_notes("10 hp", "power")
+    assert "mechanical horsepower (745.7 W)" in note and "735.5 W" in note and "746 W" in note
     assert not ambiguity_notes("10 hp_mech", "power")
     assert not ambiguity_notes("7.5 kW", "power")
 
@@ -91,7 +94,7 @@ def test_percent_and_fractions() -> None:
 
 
 def test_back_emf_constant_conventions() -> None:
-    # 1 V/krpm = 60/(2π·1000) V·s/rad = 0.009 549 3 V·s/rad (rulebook pitfall 7)
+    # 1 V/krpm = 60/(2π·1000) V·s/rad = 0.009 549 3 V·s/rad (docs/references.md pitfall 7)
     assert parse_quantity("1 V/krpm", "back_emf_constant") == pytest.approx(60 / (2 * math.pi * 1000), rel=1e-9)
     assert parse_quantity("100 V/krpm", "back_emf_constant") == pytest.approx(0.954930, rel=1e-6)
     assert parse_quantity("0.1 V/rpm", "back_emf_constant") == pytest.approx(0.954930, rel=1e-6)

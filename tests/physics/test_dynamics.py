@@ -73,7 +73,7 @@ def test_k35_rms_torque():
 
 
 def test_rms_with_standstill_cooling():
-    # rulebook R08: a standstill segment counts β·t for cooling: √(31.2/(1.4 + 0.5·0.6)) (algebra)
+    # docs/references.md R08: a standstill segment counts β·t for cooling: √(31.2/(1.4 + 0.5·0.6)) (algebra)
     r = dy.reduce_duty_cycle(_k35_segments(0.0))
     assert r.rms_torque == pytest.approx(math.sqrt(31.2 / 1.7))
     assert r.standstill_time == pytest.approx(0.6)

@@ -31,7 +31,7 @@ def test_k27_affinity_laws():
 
 
 def test_quadratic_torque_model():
-    # rulebook R34: T ∝ n² plus breakaway; +10 % speed → +21 % torque without breakaway (K27)
+    # docs/references.md R34: T ∝ n² plus breakaway; +10 % speed → +21 % torque without breakaway (K27)
     assert loads.quadratic_torque(1.1, 100.0, 1.0) == pytest.approx(121.0)
     assert loads.quadratic_torque(0.0, 100.0, 1.0, 10.0) == pytest.approx(10.0)
     assert loads.quadratic_torque(1.0, 100.0, 1.0, 10.0) == pytest.approx(100.0)
@@ -52,7 +52,7 @@ def test_property_quadratic_torque_rises_with_speed(speeds, breakaway_share):
 
 
 def test_centre_winder():
-    # rulebook R34: T(D) = F·D/2, n(D) = 60·v/(π·D), P = F·v constant; T_max at D_max
+    # docs/references.md R34: T(D) = F·D/2, n(D) = 60·v/(π·D), P = F·v constant; T_max at D_max
     assert loads.winder_torque(500.0, 1.2) == pytest.approx(300.0)
     assert loads.winder_speed(5.0, 0.1) / RPM == pytest.approx(60 * 5.0 / (math.pi * 0.1))
     assert loads.winder_power(500.0, 5.0) == pytest.approx(2500.0)

@@ -1,4 +1,4 @@
-"""Machine relations against published and computed check values (rulebook section 2, K-numbers)."""
+"""Machine relations against published and computed check values (docs/references.md, K-entries)."""
 
 import math
 
@@ -43,8 +43,12 @@ def test_k03_k04_k05_k09_constants():
     assert hp_at_rpm.to("lbf*ft").magnitude == pytest.approx(5252.1131, rel=1e-7)
     assert hp_at_rpm.to("lbf*in").magnitude == pytest.approx(63025.357, rel=1e-7)
     assert hp_at_rpm.to("N*m").magnitude == pytest.approx(7120.91, abs=0.005)
-    # 7127 has appeared in print and is wrong: it differs by more than any rounding of 7120.91
-    assert abs(hp_at_rpm.to("N*m").magnitude - 7127) > 6
+    # 7127 has appeared in print and is wrong (K09's negative test): a 10 hp, 1750 rpm nameplate torque worked
+    # out with it, 7127·10/1750 = 40.726 N·m, is off by 7127/7120.91 − 1 = 0.0855 % from P = T·ω
+    wrong = 7127 * 10 / 1750
+    deviation = machines.power_torque_speed_deviation(10 * sc.hp, wrong, 1750 * RPM)
+    # tolerance: 7120.91 is rounded to 6 figures, 7e-7 of the ratio, about 1e-3 of the deviation
+    assert deviation == pytest.approx(7127 / 7120.91 - 1, rel=1e-3)
     assert machines.torque_from_power(1000.0, RPM) == pytest.approx(9549.2966, rel=1e-8)
 
 
@@ -114,7 +118,7 @@ def test_k12_speed_from_rotor_frequency():
     [(1440, 50, 4), (1455, 50, 4), (2900, 50, 2), (960, 50, 6), (1750, 60, 4), (1180, 60, 6), (1500, 50, 4)],
 )
 def test_pole_inference(rpm, frequency, poles):
-    # rulebook R04: p = 2·floor(60·f/n); 1500 r/min at 50 Hz (synchronous speed entered) still gives 4
+    # docs/references.md R04: p = 2·floor(60·f/n); 1500 r/min at 50 Hz (synchronous speed entered) still gives 4
     assert machines.poles_from_rated_speed(rpm * RPM, frequency) == poles
 
 
@@ -124,7 +128,7 @@ def test_pole_inference_rejects_zero_speed():
 
 
 def test_speed_on_inverter_subtracts_slip_speed():
-    # rulebook R04: at 25 Hz, 4-pole, rated slip 45 r/min, half torque → 750 − 22.5 = 727.5 r/min
+    # docs/references.md R04: at 25 Hz, 4-pole, rated slip 45 r/min, half torque → 750 − 22.5 = 727.5 r/min
     n = machines.induction_speed_on_inverter(25, 4, 45 * RPM, 24.6, 49.2)
     assert n / RPM == pytest.approx(727.5, rel=1e-12)
 
@@ -141,14 +145,15 @@ def test_k42_nameplate_current():
 
 
 def test_implied_efficiency_of_the_example_nameplate():
-    # rulebook R03: the spec-format nameplate (7.5 kW, 400 V, 14.8 A, 0.82) implies η = 0.8918 vs 0.896 declared
+    # docs/references.md R03: the spec-format nameplate (7.5 kW, 400 V, 14.8 A, 0.82) implies η = 0.8918
+    # against 0.896 declared
     eta = machines.implied_efficiency_three_phase(7500, 400, 14.8, 0.82)
     assert eta == pytest.approx(7500 / (math.sqrt(3) * 400 * 14.8 * 0.82))
     assert abs(eta - 0.896) < 0.02
 
 
 def test_single_phase_and_dc_forms():
-    # rulebook R03 and pitfall 10: single-phase has no √3; DC uses V_a·I_a·η
+    # docs/references.md R03 and pitfall 10: single-phase has no √3; DC uses V_a·I_a·η
     assert machines.single_phase_output_power(230, 10, 0.8, 0.75) == pytest.approx(1380.0)
     assert machines.implied_efficiency_single_phase(1380.0, 230, 10, 0.8) == pytest.approx(0.75)
     assert machines.dc_output_power(500, 60, 0.85) == pytest.approx(25500.0)
@@ -159,7 +164,7 @@ def test_single_phase_and_dc_forms():
 
 
 def test_induction_current_end_points():
-    # rulebook R22: I(T_N) = I_N, I(0) = I_0 = 0.35·I_N by default (common practice)
+    # docs/references.md R22: I(T_N) = I_N, I(0) = I_0 = 0.35·I_N by default (common practice)
     assert machines.induction_current_at_torque(49.2, 49.2, 14.8) == pytest.approx(14.8)
     assert machines.induction_current_at_torque(0.0, 49.2, 14.8) == pytest.approx(0.35 * 14.8)
     assert machines.induction_current_at_torque(0.0, 49.2, 14.8, 6.0) == pytest.approx(6.0)
@@ -187,7 +192,7 @@ def test_property_induction_current_torque_round_trip(torque_pu, i0_share):
 
 
 def test_field_weakening_limits():
-    # rulebook R18: at twice base speed, T_cont halves and T_bd falls to a quarter
+    # docs/references.md R18: at twice base speed, T_cont halves and T_bd falls to a quarter
     wb = 1455 * RPM
     assert machines.continuous_torque_field_weakening(49.2, wb, 2 * wb) == pytest.approx(24.6)
     assert machines.breakdown_torque_field_weakening(145, wb, 2 * wb) == pytest.approx(36.25)
@@ -211,7 +216,7 @@ def test_k38_constant_power_range():
     [(1.0, 1.0), (0.8, 1.0), (0.5, 0.85), (0.33, 0.75), (0.1, 0.60), (0.65, 0.925), (0.05, 0.50), (1.8, 1.0)],
 )
 def test_r06_cooling_factor_table(ratio, expected):
-    # rulebook R06 default k_cool (common practice), linear interpolation between its points
+    # docs/references.md R06 default k_cool (common practice), linear interpolation between its points
     assert machines.self_ventilated_cooling_factor(ratio) == pytest.approx(expected)
 
 
@@ -243,13 +248,13 @@ def test_k36_back_emf_and_torque_constant():
     ],
 )
 def test_pitfall7_back_emf_conventions(value, convention):
-    # rulebook pitfall 7: Ke_ph = Ke_LL/√3, peak = √2·RMS
+    # docs/references.md pitfall 7: Ke_ph = Ke_LL/√3, peak = √2·RMS
     ke = machines.back_emf_constant_line_rms(parse_quantity(f"{value} V/krpm", "back_emf_constant"), convention)
     assert ke == pytest.approx(0.954930, abs=5e-7)
 
 
 def test_pitfall7_kt_relations_per_convention():
-    # rulebook pitfall 7: Kt = √3·Ke_LL,rms = 3·Ke_ph,rms = (3/√2)·Ke_ph,pk = √(3/2)·Ke_LL,pk
+    # docs/references.md pitfall 7: Kt = √3·Ke_LL,rms = 3·Ke_ph,rms = (3/√2)·Ke_ph,pk = √(3/2)·Ke_LL,pk
     ke_ll_rms = 0.954930
     kt = machines.torque_constant_from_back_emf(ke_ll_rms)
     assert kt == pytest.approx(3 * ke_ll_rms / math.sqrt(3))
@@ -284,12 +289,12 @@ def test_k29_dc_voltage_equation():
     assert machines.dc_armature_current(460, 447.4, 0.15, brush_drop=0.0) == pytest.approx(84.0)
     assert machines.dc_back_emf_from_terminal(200, 20, 0.5, brush_drop=0.0) == pytest.approx(190.0)
     assert machines.dc_armature_voltage(442.0, 120, 0.15, brush_drop=0.0) == pytest.approx(460.0)
-    # rulebook R21: the default 2 V brush drop is added
+    # docs/references.md R21: the default 2 V brush drop is added
     assert machines.dc_armature_voltage(442.0, 120, 0.15) == pytest.approx(462.0)
 
 
 def test_dc_emf_with_speed_and_field():
-    # rulebook R21 and pitfall 30: E ∝ Φ·n
+    # docs/references.md R21 and pitfall 30: E ∝ Φ·n
     assert machines.dc_back_emf_at_speed(440, 1750 * RPM, 875 * RPM, 0.8) == pytest.approx(176.0)
     assert machines.dc_back_emf(2.4, 100.0) == pytest.approx(240.0)
     assert machines.dc_armature_current_for_torque(120.0, 2.4) == pytest.approx(50.0)
@@ -328,7 +333,7 @@ def test_k24_efficiency_limits(ie, kw, poles, percent):
 
 
 def test_efficiency_limits_unknown_and_unverified():
-    # 11 kW IE3 4-pole is held from memory (91.4 %, rulebook open items): only on request
+    # 11 kW IE3 4-pole is held from memory (91.4 %, docs/references.md, open items): only on request
     assert machines.efficiency_class_limit(3, 11000, 4) is None
     assert machines.efficiency_class_limit(3, 11000, 4, include_unverified=True) == pytest.approx(0.914)
     assert machines.efficiency_class_entry("IE3", 11000, 4).verified is False

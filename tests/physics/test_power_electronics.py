@@ -1,4 +1,4 @@
-"""Power-electronics relations against rulebook check values K28, K39, K40, K44 and R16/R21."""
+"""Power-electronics relations against the check values (docs/references.md) K28, K39, K40, K44 and R16/R21."""
 
 import math
 
@@ -15,7 +15,7 @@ RPM = 2 * math.pi / 60
 
 def test_k28_dc_bus_from_supply():
     # K28: six-pulse diode rectifier 3√2/π·V_LL: 400 V → 540 V (1.35 × 400), no-load 565.7 V; 440 V → 594 V.
-    # The rulebook rounds the factor to 1.35 (exact 1.3505), so the loaded values agree to 0.04 %.
+    # K28 rounds the factor to 1.35 (exact 1.3505), so the loaded values agree to 0.04 %.
     assert pe.dc_bus_voltage_loaded(400) == pytest.approx(540.0, rel=4e-4)
     assert pe.dc_bus_voltage_loaded(440) == pytest.approx(594.0, rel=4e-4)
     assert pe.dc_bus_voltage_loaded(1.0) == pytest.approx(3 * math.sqrt(2) / math.pi, rel=1e-12)
@@ -27,7 +27,7 @@ def test_k44_inverter_output_voltage():
     assert pe.output_voltage_max_svpwm(540) == pytest.approx(381.8, abs=0.05)
     assert pe.output_voltage_max_sine_triangle(540) == pytest.approx(330.7, abs=0.05)
     assert pe.output_voltage_six_step(540) == pytest.approx(421.0, abs=0.05)
-    # rulebook R17: V_out,max ≈ 0.95·V_LL on a loaded six-pulse bus (3/π = 0.955)
+    # docs/references.md R17: V_out,max ≈ 0.95·V_LL on a loaded six-pulse bus (3/π = 0.955)
     assert pe.output_voltage_max_svpwm(pe.dc_bus_voltage_loaded(400)) / 400 == pytest.approx(0.955, abs=5e-4)
 
 

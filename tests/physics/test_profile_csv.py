@@ -37,7 +37,7 @@ def test_reads_and_scales_columns(tmp_path):
 
 
 def test_speed_in_other_notations(tmp_path):
-    # IEC 60034-1 writes min^-1; it means revolutions per minute (rulebook pitfall 1)
+    # IEC 60034-1 writes min^-1; it means revolutions per minute (docs/references.md pitfall 1)
     p = read_profile_csv(_write(tmp_path, "time [s],speed [min^-1],torque [N*m]\n0,60,1\n1,60,1\n"))
     assert p.speed[0] == pytest.approx(2 * math.pi)
 

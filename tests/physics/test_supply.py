@@ -45,7 +45,8 @@ def test_nec_effective_impedance():
 
 
 def test_r27_default_derating_multiplies():
-    # rulebook R27 (common practice): 1800 m and 45 °C → (1 − 0.08)·(1 − 0.05) = 0.874; factors multiply (pitfall 20)
+    # docs/references.md R27 (common practice): 1800 m and 45 °C → (1 − 0.08)·(1 − 0.05) = 0.874;
+    # factors multiply (pitfall 20)
     assert supply.motor_derating_factor(1800, 45) == pytest.approx(0.874)
     assert supply.motor_derating_factor(500, 25) == 1.0
     assert supply.drive_derating_factor(1800, 45) == pytest.approx(0.874)
@@ -76,7 +77,7 @@ def test_property_derating_never_rises_with_altitude(h1, h2, ambient):
     ],
 )
 def test_r25_iec_zones(dv, df, zone_a, zone_b):
-    # IEC 60034-1 zones A and B (rulebook R25; the zone A corners and zone B approximation are from memory)
+    # IEC 60034-1 zones A and B (docs/references.md R25; the zone A corners and zone B approximation are from memory)
     assert supply.in_iec_zone_a(dv, df) is zone_a
     assert supply.in_iec_zone_b(dv, df) is zone_b
 
@@ -94,14 +95,14 @@ def test_k26_voltage_unbalance():
     # K26: NEMA definition: 462/463/455 V → 1.1 %; 480/476/472 V → 0.84 % (not 1.68 %)
     assert supply.voltage_unbalance(462, 463, 455) == pytest.approx(0.011, abs=5e-4)
     assert supply.voltage_unbalance(480, 476, 472) == pytest.approx(0.0084, abs=5e-5)
-    # 203/210/212 V: the rulebook prints 2.5 %; the definition gives 5.33/208.33 = 2.56 %, so it is truncated
+    # 203/210/212 V: K26 prints 2.5 %; the definition gives 5.33/208.33 = 2.56 %, so it is truncated
     vu = supply.voltage_unbalance(203, 210, 212)
     assert vu == pytest.approx(16 / 3 / (625 / 3))
     assert 0.025 <= vu < 0.026
 
 
 def test_r26_unbalance_derating():
-    # rulebook R26 approximate NEMA derating (from memory): 0.95 at 2 %, 0.88–0.90 at 3 %, 0.75 at 5 %
+    # docs/references.md R26 approximate NEMA derating (from memory): 0.95 at 2 %, 0.88–0.90 at 3 %, 0.75 at 5 %
     assert supply.unbalance_derating_factor(0.005) == 1.0
     assert supply.unbalance_derating_factor(0.02) == pytest.approx(0.95)
     assert 0.88 <= supply.unbalance_derating_factor(0.03) <= 0.90

@@ -15,7 +15,7 @@ Q = registry().Quantity
 
 
 def test_r33_efficiency_side_depends_on_power_flow():
-    # rulebook R33 and pitfall 12: motoring T_L/(i·η), overhauling T_L·η/i
+    # docs/references.md R33 and pitfall 12: motoring T_L/(i·η), overhauling T_L·η/i
     assert tr.motor_torque_motoring(100.0, 10.0, 0.9) == pytest.approx(11.111, abs=5e-4)
     assert tr.motor_torque_overhauling(100.0, 10.0, 0.9) == pytest.approx(9.0)
     both = tr.motor_torque_for_power_flow(np.array([100.0, 100.0, -100.0]), np.array([1.0, -1.0, -1.0]), 10.0, 0.9)
@@ -38,7 +38,7 @@ def test_k43_inertia_ratio():
 
 
 def test_reflected_inertia_of_linear_masses():
-    # rulebook R12: m·r²/i² and m·(L/2π)²/i²; a 10 mm lead moves 100 kg like 2.533e-4 kg·m² at the screw
+    # docs/references.md R12: m·r²/i² and m·(L/2π)²/i²; a 10 mm lead moves 100 kg like 2.533e-4 kg·m² at the screw
     assert tr.reflected_inertia_of_mass_on_radius(1000.0, 0.25, 5.0) == pytest.approx(2.5)
     j = call_with_quantities(tr.reflected_inertia_of_mass_on_screw, Q(100, "kg"), Q(10, "mm"))
     assert j.to("kg*m**2").magnitude == pytest.approx(2.533e-4, abs=5e-8)
@@ -66,7 +66,7 @@ def test_power_screw_worked_example():
 
 
 def test_self_locking_screw():
-    # rulebook R33: self-locking when λ ≤ φ′, and then η ≲ 0.5 with zero reverse efficiency
+    # docs/references.md R33: self-locking when λ ≤ φ′, and then η ≲ 0.5 with zero reverse efficiency
     lam = tr.screw_lead_angle(0.004, 0.030)
     phi = tr.screw_friction_angle(0.15, math.radians(15))  # trapezoidal thread, half-angle 15°
     assert tr.screw_is_self_locking(lam, phi)
@@ -78,7 +78,7 @@ def test_self_locking_screw():
 
 
 def test_gearbox_service_factor():
-    # rulebook R31: SF = T_2,rated/(T_m,N·i·η); the spec-format example gives 2400/(49.2·23.8·0.96) = 2.135
+    # docs/references.md R31: SF = T_2,rated/(T_m,N·i·η); the spec-format example gives 2400/(49.2·23.8·0.96) = 2.135
     assert tr.gearbox_service_factor(2400, 49.2, 23.8, 0.96) == pytest.approx(2.135, abs=5e-4)
 
 
@@ -98,7 +98,7 @@ def test_gearbox_service_factor():
     ],
 )
 def test_k32_application_service_factor(hours, load, starts, expected):
-    # K32: AGMA service-factor tables (AGMA 6010-era guidance), rulebook R31
+    # K32: AGMA service-factor tables (AGMA 6010-era guidance), docs/references.md R31
     assert tr.application_service_factor(hours, load, starts) == expected
 
 

@@ -17,7 +17,7 @@ def test_speed_in_r_min_is_shown_as_given():
 
 
 def test_speed_in_rad_s_is_converted_back_to_r_min():
-    # 2π·1455/60 rad/s is 1455 r/min (rulebook section 0: ω = 2π·n/60)
+    # 2π·1455/60 rad/s is 1455 r/min (docs/references.md, conventions: ω = 2π·n/60)
     omega = 2 * math.pi * 1455 / 60
     assert common.display({"value": omega, "unit": "rad/s", "kind": "rotational_speed"}) == "1455 r/min"
 
