@@ -29,26 +29,7 @@ from rulecheck.schema import spec_schema
 
 __all__ = ["Choice", "Field", "FieldSet", "LOADS", "MOTORS", "STARTERS", "fields_for", "schema_fields"]
 
-# the user's words → spec values (vocabulary, not a field list)
-MOTORS = {"induction": "induction", "pm": "pm-synchronous", "dc": "dc"}
-STARTERS = {"inverter": "inverter", "dol": "direct-on-line", "soft-starter": "soft-starter",
-            "dc-converter": "dc-converter"}
-# load word → (load.model, load.pump_type or None, what it is, in words)
-LOADS: dict[str, tuple[str, str | None, str]] = {
-    "conveyor": ("conveyor", None, "belt conveyor"),
-    "hoist": ("hoist", None, "rope hoist"),
-    "pump": ("quadratic", "centrifugal", "centrifugal pump"),
-    "fan": ("quadratic", "fan", "fan"),
-    "pd-pump": ("constant-torque", "positive-displacement", "positive-displacement pump"),
-    "compressor": ("constant-torque", "compressor", "compressor"),
-    "extruder": ("constant-torque", "extruder", "extruder"),
-    "screw": ("lead-screw", None, "lead-screw axis"),
-    "winder": ("constant-power", None, "winder"),
-    "constant-torque": ("constant-torque", None, "constant-torque machine"),
-    "quadratic": ("quadratic", None, "quadratic-torque machine"),
-    "constant-power": ("constant-power", None, "constant-power machine"),
-    "points": ("points", None, "machine given by torque-speed points"),
-}
+from rulecheck.authoring.words import LOADS, MOTORS, STARTERS  # noqa: E402
 
 # words that scope a schema description ("Induction: …", "DC converter: …", "hoist/conveyor: …")
 _SCOPE_WORDS = {
