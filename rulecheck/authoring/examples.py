@@ -88,7 +88,7 @@ PM: dict[str, Any] = {
     "motor.max_speed": "4500 r/min", "motor.inertia": "0.0014 kg*m^2", "motor.back_emf_constant": "135 V/krpm",
     "motor.back_emf_convention": "line-to-line-rms", "motor.torque_constant": "2.2 N*m/A",
     "motor.cooling": "non-ventilated", "motor.enclosure": "IP65", "motor.thermal_protection": "kty",
-    "motor.thermal_time_constant": "25 min", "motor.frame": "100", "motor.constant_torque_speed_min": "0 r/min",
+    "motor.thermal_time_constant": "25 min", "motor.frame": "100M", "motor.constant_torque_speed_min": "0 r/min",
     "motor.brake.static_torque": "12 N*m", "motor.brake.inertia": "0.0001 kg*m^2",
 }
 
