@@ -111,7 +111,8 @@ def cmd_import(args: argparse.Namespace) -> int:
         for error in result.errors:
             print(f"rulecheck: {error}", file=sys.stderr)
     valid = sum(1 for r in results if r.text is not None)
-    what = f"{len(written)} spec files written to {args.output}" if not args.dry_run else f"{valid} rows valid"
+    what = (f"{len(written)} spec file{'s' if len(written) != 1 else ''} written to {args.output}"
+            if not args.dry_run else f"{valid} rows valid")
     print(f"rulecheck: {len(results)} rows: {what}, {len(failed)} rows not imported", file=sys.stderr)
     return 2 if failed else 0
 

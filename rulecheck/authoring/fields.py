@@ -331,11 +331,11 @@ def _value(node: Any, known: dict[str, Any]) -> Any:
 
 def _provenance(spec: dict[str, Any]) -> tuple[dict[str, tuple[str, ...]], dict[str, Any]]:
     """Return (derived path → its inputs, every model value) of the model built from ``spec``."""
+    import warnings
+
     from rulecheck.derive import build_model
     from rulecheck.load import load_text
     from rulecheck.schema import read_quantities
-
-    import warnings
 
     doc = load_text(yaml.safe_dump(spec, sort_keys=False, allow_unicode=True), "<template>")
     quantities, _problems = read_quantities(doc)

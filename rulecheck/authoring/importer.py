@@ -74,6 +74,7 @@ class ColumnMap:
     field: str
     unit: str | None = None
     values: dict[str, Any] = field(default_factory=dict)  # the list's words (case-insensitive) → spec values
+    words: tuple[str, ...] = ()  # the list's words as the mapping writes them
 
 
 @dataclass
@@ -132,8 +133,9 @@ def _fields() -> dict[str, dict[str, Any]]:
     return schema_fields()
 
 
-def _map_error(doc: Document, path: str, message: str) -> ImportError_:
-    pos = doc.position(path)
+def _map_error(doc: Document, path: str, message: str, at_key: bool = False) -> ImportError_:
+    pos = doc.key_positions.get(path) if at_key else None
+    pos = pos or doc.position(path)
     where = f"{doc.file}:{pos.line}:{pos.column}" if pos else doc.file
     return ImportError_(f"{where}: {message}")
 
@@ -142,7 +144,8 @@ def _field_path(doc: Document, where: str, value: Any) -> str:
     fields = _fields()
     if not isinstance(value, str) or value not in fields:
         close = difflib.get_close_matches(str(value), list(fields), n=1, cutoff=0.6)
-        hint = f"; did you mean '{close[0]}'?" if close else " (the field paths are listed by 'rulecheck schema --markdown')"
+        hint = (f"; did you mean '{close[0]}'?" if close
+                else " (the field paths are listed by 'rulecheck schema --markdown')")
         raise _map_error(doc, where, f"{value!r} is not a spec field{hint}")
     if fields[value].get("type") == "array":
         raise _map_error(doc, where, f"'{value}' is a list; a column gives one value")
@@ -157,7 +160,8 @@ def _column(doc: Document, heading: str, entry: Any) -> ColumnMap:
         raise _map_error(doc, where, "give the spec field, or a mapping with 'field' (and 'unit', 'values')")
     unknown = [k for k in entry if k not in _COLUMN_KEYS]
     if unknown:
-        raise _map_error(doc, where, f"unknown key '{unknown[0]}' (known: {', '.join(_COLUMN_KEYS)})")
+        raise _map_error(doc, f"{where}.{unknown[0]}", f"unknown key '{unknown[0]}' (known: {', '.join(_COLUMN_KEYS)})",
+                         at_key=True)
     path = _field_path(doc, f"{where}.field" if "field" in entry else where, entry.get("field"))
     node = _fields()[path]
     unit = entry.get("unit")
@@ -175,7 +179,7 @@ def _column(doc: Document, heading: str, entry: Any) -> ColumnMap:
         raise _map_error(doc, f"{where}.values", "give the list's words and the spec values they mean, "
                          "e.g. {VSD: inverter}")
     return ColumnMap(heading, path, None if unit is None else str(unit),
-                     {str(k).strip().casefold(): v for k, v in values.items()})
+                     {str(k).strip().casefold(): v for k, v in values.items()}, tuple(str(k) for k in values))
 
 
 def read_mapping(path: str | os.PathLike[str]) -> Mapping:
@@ -192,7 +196,7 @@ def read_mapping(path: str | os.PathLike[str]) -> Mapping:
     if unknown:
         close = difflib.get_close_matches(str(unknown[0]), _MAP_KEYS, n=1)
         raise _map_error(doc, str(unknown[0]), f"unknown key '{unknown[0]}'" + (f"; did you mean '{close[0]}'?" if close
-                         else f" (known: {', '.join(_MAP_KEYS)})"))
+                         else f" (known: {', '.join(_MAP_KEYS)})"), at_key=True)
     columns = data.get("columns")
     if not isinstance(columns, dict) or not columns:
         raise _map_error(doc, "columns" if "columns" in data else "", "the mapping needs 'columns': column heading "
@@ -363,7 +367,7 @@ def _quantity(cell: Any, column: ColumnMap, kind_name: str, decimal_comma: bool)
     try:
         units.parse_quantity(value, kind_name)
     except units.QuantityError as exc:
-        expected = f"{kind.description}" + (f" in {unit}" if unit else "")
+        expected = kind.description.split(";")[0] + (f" in {unit}" if unit else "")
         raise _Bad(f"expected {expected}, e.g. {kind.example.split()[0] if unit else kind.example}; "
                    f"got {_text(cell)!r} ({exc.message})") from None
     return value
@@ -375,7 +379,7 @@ def _choice(cell: Any, column: ColumnMap, node: dict[str, Any]) -> Any:
     for option in node["enum"]:
         if str(option).casefold() == str(value).casefold():
             return option
-    words = f" (or the list's words: {', '.join(column.values)})" if column.values else ""
+    words = f" (or the list's words: {', '.join(column.words)})" if column.words else ""
     raise _Bad(f"expected one of: {', '.join(str(o) for o in node['enum'])}{words}; got {word!r}")
 
 
@@ -442,9 +446,16 @@ def safe_file_name(tag: str) -> str | None:
     return f"{name}.yaml"
 
 
-def _row(number: int, cells: list[Any], positions: dict[str, int], mapping: Mapping, list_name: str,
+def _row(number: int, cells: list[Any], positions: dict[str, Any], mapping: Mapping, list_name: str,
          map_name: str) -> RowResult:
     result = RowResult(number, list_name)
+    extra = [c for c in cells[len(positions["*"]):] if c is not None and str(c).strip()]
+    if extra:
+        result.errors.append(CellError(list_name, number, None, None,
+                                       f"the row has {len(positions['*']) + len(extra)} or more cells but the heading "
+                                       f"row has {len(positions['*'])}: a comma inside a value (a decimal comma?) "
+                                       "splits it; quote the value or use another delimiter"))
+        return result
     flat: dict[str, Any] = {}
     for key, value in mapping.defaults.items():
         flat[key] = value
@@ -462,9 +473,7 @@ def _row(number: int, cells: list[Any], positions: dict[str, int], mapping: Mapp
         result.origins[column.field] = (number, column.heading)
     tag = flat.get("tag")
     result.tag = tag if isinstance(tag, str) else None
-    if result.errors:
-        return result
-    result.data = _ordered(flat)
+    result.data = _ordered(flat)  # with a bad cell left out: the other cells are still checked
     header = f"# {result.tag or 'spec'}: imported from {Path(list_name).name}, row {number}, by 'rulecheck import' " \
              f"(mapping {Path(map_name).name}).\n"
     result.text = header + yaml.safe_dump(result.data, sort_keys=False, allow_unicode=True, width=120)
@@ -481,12 +490,13 @@ def _validate(result: RowResult, list_name: str) -> None:
         result.errors.append(CellError(list_name, result.row, None, None, exc.message))
         return
     quantities, unit_problems = read_quantities(doc)
+    bad = {e.field for e in result.errors if e.field}
     for problem in check_structure(doc) + unit_problems:
-        if problem.severity != "error":
-            continue
+        if problem.severity != "error" or any(f == problem.path or f.startswith(problem.path + ".") for f in bad):
+            continue  # a bad cell's field (or the section it leaves without a required key) is reported once
         origin = _origin(result.origins, problem.path)
         heading = origin[1] if origin else None
-        message = problem.message + (f" ({problem.hint})" if problem.hint else "")
+        message = problem.message.removeprefix(f"{problem.path}: ") + (f" ({problem.hint})" if problem.hint else "")
         if origin is None:
             message += "; map a column to it or give it under 'defaults' in the mapping"
         result.errors.append(CellError(list_name, result.row, heading, problem.path or None, message))
@@ -513,15 +523,16 @@ def import_rows(list_path: str | os.PathLike[str], mapping: Mapping) -> list[Row
     """Return every data row of the list as a :class:`RowResult` (spec text, origins, or errors)."""
     path = Path(list_path)
     headings, rows = _table(path, mapping)
-    positions: dict[str, int] = {}
+    positions: dict[str, Any] = {"*": headings}
     folded = {h.casefold(): i for i, h in reversed(list(enumerate(headings))) if h}
     for column in mapping.columns:
         index = folded.get(" ".join(column.heading.split()).casefold())
         if index is None:
             close = difflib.get_close_matches(column.heading, [h for h in headings if h], n=1)
+            known = ", ".join(h for h in headings if h)
             raise ImportError_(f"{path}: no column '{column.heading}' (mapping {mapping.file})"
                                + (f"; did you mean '{close[0]}'?" if close else
-                                  f"; the headings in row {mapping.header_row} are: {', '.join(h for h in headings if h)}"))
+                                  f"; the headings in row {mapping.header_row} are: {known}"))
         positions[column.heading] = index
     results: list[RowResult] = []
     seen: dict[str, int] = {}
