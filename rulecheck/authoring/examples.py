@@ -44,6 +44,7 @@ BASE: dict[str, Any] = {
     "motor.duty_type": "S1", "motor.temperature_rise": "80 K", "motor.insulated_bearing": True,
     "motor.shaft_grounding": True, "motor.starts_per_hour_max": 10, "motor.safe_stall_time": "12 s",
     "motor.constant_torque_speed_min": "750 r/min", "motor.ex_marking": "Ex ec IIC T3 Gc",
+    "motor.duty_cdf": "40 %", "motor.duty_time": "30 min",
     "motor.brake.kind": "spring-applied", "motor.brake.static_torque": "400 N*m", "motor.brake.inertia": "0.02 kg*m^2",
     "transmission.kind": "helical-bevel", "transmission.ratio": 24.0, "transmission.stages": 3,
     "transmission.efficiency": "96 %", "transmission.reverse_efficiency": "96 %",
