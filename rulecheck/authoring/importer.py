@@ -349,6 +349,11 @@ def _number(cell: Any, decimal_comma: bool) -> float | None:
     return float(text) if _NUMBER.match(text) else None
 
 
+def _number_text(number: float) -> str:
+    """Return a number at its full precision, as short as it reads back (45.0 → '45', 93.9 → '93.9')."""
+    return str(int(number)) if number.is_integer() and abs(number) < 1e15 else repr(number)
+
+
 def _quantity(cell: Any, column: ColumnMap, kind_name: str, decimal_comma: bool) -> Any:
     kind = units.KINDS[kind_name]
     unit = column.unit
@@ -359,7 +364,7 @@ def _quantity(cell: Any, column: ColumnMap, kind_name: str, decimal_comma: bool)
         if unit is None and kind_name != "fraction":
             raise _Bad(f"the number {_text(cell)} has no unit: give the column's unit in the mapping "
                        f"(unit: ...), {kind.description}")
-        value: Any = number if unit is None else f"{number:g} {unit}"
+        value: Any = number if unit is None else f"{_number_text(number)} {unit}"
     else:
         value = _text(cell)
         if _DECIMAL_COMMA.match(value.split(" ")[0]) and decimal_comma:
