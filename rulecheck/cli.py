@@ -1,4 +1,4 @@
-"""The command line: ``rulecheck check | rules | schema | mail``.
+"""The command line: ``rulecheck check | rules | schema | mail | new | import``.
 
 Exit codes: 0 nothing at or above the fail level; 1 findings at or above it
 (including specs that do not load); 2 usage errors (bad options, missing paths,
@@ -17,7 +17,7 @@ from collections.abc import Sequence
 from pathlib import Path
 from typing import Any, NoReturn
 
-from rulecheck import __version__
+from rulecheck import __version__, authoring
 from rulecheck.result import with_charts
 
 FORMATS = ("text", "json", "sarif", "junit", "markdown", "html", "annotations")
@@ -118,6 +118,7 @@ def _parser() -> _Parser:
     schema = sub.add_parser("schema", help="print a JSON Schema", description="Print a JSON Schema.")
     schema.add_argument("which", nargs="?", choices=("spec", "result", "rule"), default="spec")
     schema.add_argument("--markdown", action="store_true", help="the spec format as a Markdown reference")
+    authoring.add_commands(sub)  # new, import
     return parser
 
 
@@ -551,7 +552,7 @@ def main(argv: Sequence[str] | None = None) -> int:
         parser.print_help()
         return 2
     commands = {"check": _cmd_check, "baseline": _cmd_baseline, "mail": _cmd_mail, "rules": _cmd_rules,
-                "schema": _cmd_schema}
+                "schema": _cmd_schema, **authoring.COMMANDS}
     try:
         return commands[args.command](args)
     except _Usage as exc:

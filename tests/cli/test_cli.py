@@ -198,9 +198,9 @@ def test_jobs_1_and_2_give_identical_results(tmp_path: Path) -> None:
 def test_spec_files_are_never_modified(tmp_path: Path) -> None:
     folder = tmp_path / "d"
     shutil.copytree(DEMO, folder)
-    before = {p.name: p.read_bytes() for p in folder.iterdir()}
+    before = {p.relative_to(folder): p.read_bytes() for p in folder.rglob("*") if p.is_file()}
     run_cli("check", str(folder), "--format", "html", "-o", str(tmp_path / "r.html"), cwd=tmp_path)
-    assert {p.name: p.read_bytes() for p in folder.iterdir()} == before
+    assert {p.relative_to(folder): p.read_bytes() for p in folder.rglob("*") if p.is_file()} == before
 
 
 def test_mail_dry_run_and_eml(tmp_path: Path) -> None:
