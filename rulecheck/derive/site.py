@@ -13,7 +13,7 @@ __all__ = ["DEFAULT_DRIVE_AMBIENT_MAX", "LOCATION_MINIMUM_IP", "REFERENCE_AMBIEN
 REFERENCE_AMBIENT = 40.0  # °C: ambient assumed when none is given (IEC 60034-1 reference coolant temperature)
 DEFAULT_DRIVE_AMBIENT_MAX = 50.0  # °C: highest ambient of a drive with derating, when its data give none (common)
 
-# Default minimum IP code per kind of location (rulebook R28; the mapping is common practice).
+# Default minimum IP code per kind of location (docs/references.md R28; the mapping is common practice).
 LOCATION_MINIMUM_IP = {
     "indoor-clean": "IP23",
     "general-industrial": "IP54",

@@ -18,12 +18,12 @@ from rulecheck.physics import supply as sp
 
 __all__ = ["DOL_RUN_UP_END", "INTEGRATION_STEPS", "LOCKED_ROTOR_POWER_FACTOR", "derive_starting", "dol_motor_torque"]
 
-# Power factor of an induction motor at locked rotor when the datasheet gives none (rulebook R13: 0.3–0.4, C).
+# Power factor of an induction motor at locked rotor when the datasheet gives none (docs/references.md R13: 0.3–0.4, C).
 LOCKED_ROTOR_POWER_FACTOR = 0.35
 # A direct-on-line run-up is taken as finished at 95 % of rated speed: the last few per cent approach the
 # running point asymptotically and add little time (common practice).
 DOL_RUN_UP_END = 0.95
-INTEGRATION_STEPS = 50  # rulebook R11 asks for at least 20 speed steps
+INTEGRATION_STEPS = 50  # docs/references.md R11 asks for at least 20 speed steps
 
 
 def derive_starting(m: Model, spec: Spec) -> None:

@@ -9,7 +9,7 @@ from rulecheck.physics import transmission as tr
 
 __all__ = ["EFFICIENCY_BANDS", "derive_transmission"]
 
-# Plausible efficiency per stage, or per transmission, by kind (rulebook R33; bands are common practice).
+# Plausible efficiency per stage, or per transmission, by kind (docs/references.md R33; bands are common practice).
 EFFICIENCY_BANDS = {
     "helical": ((0.97, 0.99), True),
     "bevel": ((0.97, 0.99), True),
@@ -36,7 +36,7 @@ def derive_transmission(m: Model, spec: Spec) -> None:
         put(m, "transmission.application_service_factor",
             tr.application_service_factor(hours, shock, m.get("load.starts_per_hour") or 0.0),
             "application_service_factor", ("transmission.hours_per_day", "transmission.shock", "load.starts_per_hour"),
-            "AGMA-style table, uniform power source (rulebook R31, K32)")
+            "AGMA-style table, uniform power source (docs/references.md R31, K32)")
     if kind in EFFICIENCY_BANDS:
         (low, high), per_stage = EFFICIENCY_BANDS[kind]
         stages = m.get("transmission.stages") or 1 if per_stage else 1

@@ -591,7 +591,7 @@ def continuous_torque_capability(
 
     References
     ----------
-    Rulebook R06 (k_cool, k_fw, k_env; common practice) and R18 (field weakening, drives textbooks);
+    docs/references.md R06 (k_cool, k_fw, k_env; common practice) and R18 (field weakening, drives textbooks);
     servo motor datasheets give T_0 and T_N as the ends of the continuous (S1) curve (common practice).
     """
     ratio = np.abs(np.asarray(speed, dtype=float)) / base_speed

@@ -1,4 +1,4 @@
-"""The duty step against hand calculations (equivalent-torque method, drives textbooks; rulebook R07, R08)."""
+"""The duty step against hand calculations (equivalent-torque method, drives textbooks; docs/references.md R07, R08)."""
 
 from __future__ import annotations
 

@@ -1,4 +1,4 @@
-"""Derived values of the installation derive step, checked against hand calculations and rulebook check values."""
+"""Derived values of the installation derive step, checked against hand calculations and check values of docs/references.md."""
 
 from __future__ import annotations
 
@@ -39,7 +39,7 @@ def test_frames_and_nema_marks() -> None:
 
 
 def test_induction_current_at_rms_torque() -> None:
-    # rulebook R22: I = √(I_0² + (T/T_N)²·(I_N² − I_0²)), I_0 = 0.35·I_N (common practice)
+    # docs/references.md R22: I = √(I_0² + (T/T_N)²·(I_N² − I_0²)), I_0 = 0.35·I_N (common practice)
     # T_N = 7500 W ÷ 152.367 rad/s = 49.223 N·m; T = 40 N·m → I = √(26.112 + 0.66036·187.048) = 12.233 A
     m = model({"drive": {"kind": "inverter"}, "motor": BASE_MOTOR,
                "load": {"model": "constant-torque", "torque": "40 N*m", "speed_max": "1455 r/min"}})
@@ -56,7 +56,7 @@ def test_pm_current_from_kt() -> None:
 
 
 def test_application_service_factor_k32() -> None:
-    # rulebook K32: 10 h moderate 1.25, 24 h heavy 1.75; > 10 starts/h at 24 h heavy: 2.0
+    # docs/references.md K32: 10 h moderate 1.25, 24 h heavy 1.75; > 10 starts/h at 24 h heavy: 2.0
     for hours, shock, starts, expected in ((10, "moderate", 0, 1.25), (24, "heavy", 0, 1.75), (24, "heavy", 20, 2.0)):
         m = model({"motor": {"kind": "induction"},
                    "transmission": {"kind": "helical", "ratio": 10, "hours_per_day": hours, "shock": shock},
@@ -72,7 +72,7 @@ def test_efficiency_band_per_stage() -> None:
 
 
 def test_braking_energy_and_power_k39() -> None:
-    # rulebook K39: J 2 kg·m², 1500 → 0 r/min → 24.67 kJ; peak (J·ω/t)·ω over 10 s = 4935 W
+    # docs/references.md K39: J 2 kg·m², 1500 → 0 r/min → 24.67 kJ; peak (J·ω/t)·ω over 10 s = 4935 W
     m = model({"supply": {"voltage": "400 V"}, "drive": {"kind": "inverter"},
                "motor": {"kind": "induction", "rated_power": "15 kW", "rated_speed": "1470 r/min",
                          "inertia": "0.1 kg*m^2"},
@@ -87,7 +87,7 @@ def test_braking_energy_and_power_k39() -> None:
 
 
 def test_hoist_regenerates_steadily() -> None:
-    # rulebook K39: 1000 kg lowered at 0.5 m/s, η 0.85 → 4168 W returned
+    # docs/references.md K39: 1000 kg lowered at 0.5 m/s, η 0.85 → 4168 W returned
     m = model({"supply": {"voltage": "400 V"}, "drive": {"kind": "inverter"}, "motor": {"kind": "induction"},
                "load": {"model": "hoist", "mass": "1000 kg", "drum_diameter": "0.4 m", "line_speed": "0.5 m/s",
                         "efficiency": "85 %"}})

@@ -1,4 +1,4 @@
-"""Derived values of the machine derive step, checked against hand calculations and rulebook check values."""
+"""Derived values of the machine derive step, checked against hand calculations and check values of docs/references.md."""
 
 from __future__ import annotations
 
@@ -35,7 +35,7 @@ def test_catalogue_holds_the_new_paths() -> None:
 
 
 def test_electrical_input_forms() -> None:
-    # rulebook K42: 7.5 kW, 400 V, cosφ 0.82, η 0.904 → 14.60 A, so the input is 7.5 kW/0.904 = 8296.5 W
+    # docs/references.md K42: 7.5 kW, 400 V, cosφ 0.82, η 0.904 → 14.60 A, so the input is 7.5 kW/0.904 = 8296.5 W
     # (within the rounding of 14.60 A: √3·400·14.6·0.82 = 8294.5 W)
     three = model({"motor": {"kind": "induction", "rated_power": "7.5 kW", "rated_voltage": "400 V",
                              "rated_current": "14.6 A", "power_factor": 0.82}})
@@ -65,7 +65,7 @@ def test_cooling_table_flag_follows_cooling_and_declared_range() -> None:
 
 
 def test_peak_torque_at_drive_overload_current() -> None:
-    # T(I) = T_N·√((I² − I_0²)/(I_N² − I_0²)) (rulebook R07) with I = 18 A × 150 % = 27 A, I_0 = 0.35 × 14.8 A:
+    # T(I) = T_N·√((I² − I_0²)/(I_N² − I_0²)) (docs/references.md R07) with I = 18 A × 150 % = 27 A, I_0 = 0.35 × 14.8 A:
     # 49.22·√((729 − 26.83)/(219.04 − 26.83)) = 94.08 N·m; the motor limit at rated speed is T_bd = 145 N·m.
     m = model({"drive": {"kind": "inverter", "output_voltage_max": "400 V", "rated_current": "18 A",
                          "overload": {"current": "150 %"}},

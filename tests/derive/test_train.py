@@ -28,7 +28,7 @@ def test_referred_through_a_gear() -> None:
 
 def test_continuous_margin_at_low_speed_uses_the_cooling_table() -> None:
     # T_N = 15000/(1460·2π/60) = 98.11 N·m; on an inverter at 146–1460 r/min the worst is n/n_b = 0.1:
-    # k_cool 0.60 (rulebook R06), T_cont 58.87 N·m against 50 N·m → margin 1.177
+    # k_cool 0.60 (docs/references.md R06), T_cont 58.87 N·m against 50 N·m → margin 1.177
     m = model_of({"motor": MOTOR, "drive": {"kind": "inverter"},
                   "load": {"model": "constant-torque", "torque": "50 N*m", "speed_max": "1460 r/min",
                            "speed_min": "146 r/min"}})

@@ -344,7 +344,7 @@ def test_efficiency_limits_unknown_and_unverified():
 
 
 def test_cooling_factor_of_an_array_is_the_factor_of_each_ratio() -> None:
-    # rulebook R06 table (common practice): 0.05 → 0.5 (near standstill), 0.1 → 0.60, 0.215 → midway 0.675,
+    # docs/references.md R06 table (common practice): 0.05 → 0.5 (near standstill), 0.1 → 0.60, 0.215 → midway 0.675,
     # 0.5 → 0.85, 0.8 and above → 1.00 (0.95 when not inverter-rated); a CT range down to 0.1 → 1.0
     import numpy as np
 
@@ -355,7 +355,7 @@ def test_cooling_factor_of_an_array_is_the_factor_of_each_ratio() -> None:
 
 
 def test_continuous_torque_capability_worked_by_hand() -> None:
-    # T_N 100 N·m, n_b 150 rad/s, k_env 0.9 (rulebook R06, common practice):
+    # T_N 100 N·m, n_b 150 rad/s, k_env 0.9 (docs/references.md R06, common practice):
     # self-ventilated on a drive at n/n_b 0.5: 100 × 0.85 × 0.9 = 76.5 N·m; at 2·n_b: 100 × ½ × 0.9 = 45 N·m
     # PM servo T_0 120 N·m at standstill, 110 at n_b/2 (midway to T_N), 50 at 2·n_b
     cap = machines.continuous_torque_capability
