@@ -151,7 +151,7 @@ def _cooling_table(m: Model) -> None:
     used = m.get("motor.kind") == "induction" and shaft_cooled and ct_limit is None
     put(m, "train.cooling_table_default", used, "cooling_basis",
         ("motor.kind", "drive.kind", "motor.cooling", "motor.constant_torque_speed_min"),
-        "common-practice k_cool table (docs/references.md R06)" if used else "k_cool = 1 or the declared constant-torque range")
+        "common-practice k_cool table (references R06)" if used else "k_cool = 1 or the declared constant-torque range")
 
 
 def _continuous(m: Model) -> None:

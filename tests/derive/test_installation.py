@@ -1,4 +1,4 @@
-"""Derived values of the installation derive step, checked against hand calculations and check values of docs/references.md."""
+"""Derived values of the installation derive step, against hand calculations and docs/references.md check values."""
 
 from __future__ import annotations
 

@@ -1,4 +1,4 @@
-"""Derived values of the machine derive step, checked against hand calculations and check values of docs/references.md."""
+"""Derived values of the machine derive step, against hand calculations and docs/references.md check values."""
 
 from __future__ import annotations
 
@@ -65,7 +65,7 @@ def test_cooling_table_flag_follows_cooling_and_declared_range() -> None:
 
 
 def test_peak_torque_at_drive_overload_current() -> None:
-    # T(I) = T_N·√((I² − I_0²)/(I_N² − I_0²)) (docs/references.md R07) with I = 18 A × 150 % = 27 A, I_0 = 0.35 × 14.8 A:
+    # T(I) = T_N·√((I² − I_0²)/(I_N² − I_0²)) (references R07) with I = 18 A × 150 % = 27 A, I_0 = 0.35 × 14.8 A:
     # 49.22·√((729 − 26.83)/(219.04 − 26.83)) = 94.08 N·m; the motor limit at rated speed is T_bd = 145 N·m.
     m = model({"drive": {"kind": "inverter", "output_voltage_max": "400 V", "rated_current": "18 A",
                          "overload": {"current": "150 %"}},
