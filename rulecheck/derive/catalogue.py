@@ -94,6 +94,7 @@ CATALOGUE: dict[str, tuple[str | None, str]] = {
     "train.continuous_capability_worst": ("torque", "continuous capability at that speed"),
     "train.output_frequency_required": ("frequency", "drive output frequency at the highest motor speed"),
     "train.back_emf_at_max": ("voltage", "PM: line-to-line RMS back-EMF at the highest speed"),
+    "train.armature_emf_at_max": ("voltage", "DC back-EMF at the top operating speed (rated EMF above base speed)"),
     "train.armature_voltage_required": ("voltage", "DC: E(n_max) + I_a·R_a + V_br"),
     "train.motor_current_required": ("current", "motor current at the continuous (RMS) torque"),
     "train.motor_current_peak": ("current", "motor current at the peak torque"),

@@ -97,6 +97,8 @@ def _at_top_speed(m: Model, wmax: float) -> None:
     # above base speed the field is weakened, so E stays at its rated value
     e = mc.dc_back_emf_at_speed(m.get("motor.rated_back_emf"), m.get("motor.rated_speed"),
                                 min(wmax, m.get("motor.rated_speed")))
+    put(m, "train.armature_emf_at_max", e, "dc_back_emf_at_speed", ("motor.rated_back_emf", "train.speed_max"),
+        "E_N × min(n_max, n_N) ÷ n_N (field weakened above base speed)")
     ia, ra = m.get("motor.armature_current"), m.get("motor.armature_resistance")
     if ia is not None and ra is not None:
         put(m, "train.armature_voltage_required", mc.dc_armature_voltage(e, ia, ra, m.get("motor.brush_drop")),
