@@ -25,7 +25,7 @@ CATALOGUE: dict[str, tuple[str | None, str]] = {
     "drive.dc_bus_voltage": ("voltage", "DC bus of a six-pulse diode front end at nominal supply, loaded"),
     "drive.dc_bus_voltage_min": ("voltage", "DC bus at the lowest supply voltage, loaded"),
     "drive.dc_bus_voltage_max": ("voltage", "DC bus at the highest supply voltage, no load (√2·V_LL)"),
-    "drive.output_voltage_max": ("voltage", "highest fundamental output voltage at nominal supply (SVPWM linear)"),
+    "drive.output_voltage_max": ("voltage", "highest output voltage (given, else U_in: datasheets 0…U_in)"),
     "drive.overload_current": ("current", "short-time overload current"),
     "drive.armature_voltage_max": ("voltage", "highest armature voltage of a controlled bridge"),
     "drive.firing_angle_min": ("angle", "smallest firing angle of the bridge (default 15°)"),

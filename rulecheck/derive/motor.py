@@ -12,10 +12,12 @@ from rulecheck.derive.record import Spec, default, put
 from rulecheck.model import Model
 from rulecheck.physics import machines as mc
 
-__all__ = ["DEFAULT_BRUSH_DROP", "MAGNETISING_SHARE", "derive_motor", "ip_digits", "large_frame", "nema_rated"]
+__all__ = ["DEFAULT_BRUSH_DROP", "MAGNETISING_SHARE", "VOLTAGE_ZONE_A", "derive_motor", "ip_digits", "large_frame",
+           "nema_rated"]
 
 MAGNETISING_SHARE = 0.35  # no-load current of an induction motor ÷ rated current: common practice (0.25–0.45)
 DEFAULT_BRUSH_DROP = 2.0  # V, brush drop of a DC machine: common practice
+VOLTAGE_ZONE_A = 0.05  # IEC 60034-1 zone A (±5 % voltage, ±2 % frequency): rated torque without derating
 
 _IP = re.compile(r"^IP([0-6X])([0-9X]|9K)")
 _EX_TCLASS = re.compile(r"\bT([1-6])\b")
@@ -76,11 +78,12 @@ def _base_speed(m: Model) -> None:
     if n is None:
         return
     vn, vout = m.get("motor.rated_voltage"), m.get("drive.output_voltage_max")
-    if m.get("motor.kind") == "induction" and vn and vout and vout < vn:
+    if m.get("motor.kind") == "induction" and vn and vout and vout < vn * (1 - VOLTAGE_ZONE_A):
         put(m, "motor.base_speed", n * vout / vn, "voltage_limit",
             ("motor.rated_speed", "drive.output_voltage_max", "motor.rated_voltage"),
-            "rated speed × V_out,max ÷ V_N (the drive cannot reach rated voltage)")
+            "rated speed × V_out,max ÷ V_N (the drive falls short of rated voltage by more than zone A, ±5 %)")
     else:
+        # within IEC 60034-1 zone A the motor delivers rated torque at rated speed: no field weakening below it
         put(m, "motor.base_speed", n, "rated_speed", ("motor.rated_speed",), "rated speed")
 
 

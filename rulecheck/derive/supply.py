@@ -48,9 +48,10 @@ def derive_drive(m: Model, spec: Spec) -> None:
             ("supply.voltage_min",), "3√2/π × lowest supply voltage")
         put(m, "drive.dc_bus_voltage_max", pe.dc_bus_voltage_no_load(vmax), "dc_bus_voltage_no_load",
             ("supply.voltage_max",), "√2 × highest supply voltage (no load)")
-        # at nominal supply: the datasheet's output voltage, when given, replaces this estimate
-        put(m, "drive.output_voltage_max", pe.output_voltage_max_svpwm(m.get("drive.dc_bus_voltage")),
-            "output_voltage_max_svpwm", ("drive.dc_bus_voltage",), "V_dc ÷ √2 (SVPWM linear range, nominal supply)")
+        # Drive datasheets give the output as 0…U_in: with overmodulation the drive reaches its supply voltage
+        # (the no-load bus is √2·V_LL); V_dc/√2 of the linear SVPWM range understates it. A given value wins.
+        put(m, "drive.output_voltage_max", v, "supply_voltage", ("supply.voltage",),
+            "drive output up to the supply voltage (datasheets: 0…U_in)")
     rated, share = m.get("drive.rated_current"), m.get("drive.overload.current")
     if rated is not None and share is not None:
         put(m, "drive.overload_current", rated * share, "product", ("drive.rated_current", "drive.overload.current"),

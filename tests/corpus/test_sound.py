@@ -35,15 +35,13 @@ HAND_TOLERANCE = 0.005
 # Remove an entry when its fix lands: strict xfail then fails the test until the entry is gone.
 FALSE_ALARMS: dict[str, tuple[tuple[str, ...], str]] = {
     "tb-p-101-cooling-water-pump.yaml": (
-        ("base-speed-voltage-match", "inverter-insulation-reflected-wave"),
-        "issue 15 point 1: base-speed-voltage-match warning (drive output derived as 382 V < 400 V, base speed "
-        "1399 r/min; the drive gives 0 … U_in = 400 V); issue 17 reflected wave: inverter-insulation-reflected-wave "
-        "warning 1245 V > 1000 V (NEMA Part 30 limit held against an ordinary 400 V IEC motor)"),
+        ("inverter-insulation-reflected-wave",),
+        "issue 17 reflected wave: inverter-insulation-reflected-wave warning 1245 V > 1000 V (NEMA Part 30 limit "
+        "held against an ordinary 400 V IEC motor)"),
     "tb-cv-105-limestone-incline-belt.yaml": (
-        ("holding-brake-vertical", "base-speed-voltage-match"),
+        ("holding-brake-vertical",),
         "issue 16 brakes: holding-brake-vertical error (crane rule demands a 146.8 N·m spring brake on a belt held "
-        "by a backstop; the format has no backstop field); issue 15 point 1: base-speed-voltage-match warning "
-        "(382 V, base speed 1413 r/min)"),
+        "by a backstop; the format has no backstop field)"),
     "tb-cv-106-quarry-downhill-belt.yaml": (
         ("torque-peak", "holding-brake-vertical"),
         "issue 15 point 5: torque-peak error (-323.3 N·m required read as margin -2.556 on an overhauling belt); "
@@ -52,18 +50,6 @@ FALSE_ALARMS: dict[str, tuple[tuple[str, ...], str]] = {
     "tb-p-110-river-intake-pump.yaml": (
         ("supply-voltage-frequency",),
         "issue 15 point 6: supply-voltage-frequency error (690 V x 1.1 = 759.0000000000001 > 759 V drive limit)"),
-    "tb-sv-111-sample-lift-axis.yaml": (
-        ("base-speed-voltage-match",),
-        "issue 15 point 1: base-speed-voltage-match warning on a PM servo (382 V derived; 'base speed falls to "
-        "3000 r/min' = no fall at all)"),
-    "tb-f-112-kiln-id-fan-pm.yaml": (
-        ("pm-back-emf-headroom", "base-speed-voltage-match"),
-        "issue 15 point 1: pm-back-emf-headroom error (350 V > 0.9 x 382 V = 343.8 V; with the drive's 400 V the "
-        "limit is 360 V) and base-speed-voltage-match warning (382 V)"),
-    "tb-f-115-kiln-id-fan.yaml": (
-        ("torque-peak", "base-speed-voltage-match"),
-        "issue 15 point 1: torque-peak warning (margin 1.216: 2258 N·m available after field weakening from the "
-        "derived 382 V; hand 2360 N·m, margin 1.27) and base-speed-voltage-match warning (base speed 947.3 r/min)"),
     "tb-m-116-slurry-agitator.yaml": (
         ("inverter-insulation-reflected-wave",),
         "issue 17 reflected wave: inverter-insulation-reflected-wave error (1245 V > 3.1 x 400 V = 1240 V, the "
@@ -97,14 +83,6 @@ FALSE_ALARMS: dict[str, tuple[tuple[str, ...], str]] = {
 
 # spec file → (derived paths, reason): values the current tool gets wrong against the hand calculation
 WRONG_DERIVATIONS: dict[str, tuple[tuple[str, ...], str]] = {
-    "tb-p-101-cooling-water-pump.yaml": (
-        ("drive.output_voltage_max", "motor.base_speed", "train.peak_torque_drive"),
-        "issue 15 point 1: drive.output_voltage_max 381.97 V (hand 400 V), motor.base_speed 1398.97 r/min "
-        "(hand 1465), train.peak_torque_drive 86.34 N·m (hand 90.10, no field weakening at 1460 r/min)"),
-    "tb-cv-105-limestone-incline-belt.yaml": (
-        ("drive.output_voltage_max", "motor.base_speed", "train.peak_torque_drive"),
-        "issue 15 point 1: drive.output_voltage_max 381.97 V (hand 400), motor.base_speed 1413.3 r/min "
-        "(hand 1480), train.peak_torque_drive 409.57 N·m (hand 421.7)"),
     "tb-cv-106-quarry-downhill-belt.yaml": (
         ("train.load_torque", "train.motor_current_required"),
         "issue 15 point 5: train.load_torque -386.07 N·m = T/(i·η) (hand T·η/i = -355.8 N·m, the load drives), "
@@ -113,13 +91,6 @@ WRONG_DERIVATIONS: dict[str, tuple[tuple[str, ...], str]] = {
         ("duty.rms_torque",),
         "issue 15 point 4: duty.rms_torque 1.658 N·m (standstill time halved on a non-ventilated IC410 servo; "
         "hand 1.359 N·m, every second counts fully)"),
-    "tb-f-112-kiln-id-fan-pm.yaml": (
-        ("drive.output_voltage_max",),
-        "issue 15 point 1: drive.output_voltage_max 381.97 V (hand 400 V)"),
-    "tb-f-115-kiln-id-fan.yaml": (
-        ("drive.output_voltage_max", "motor.base_speed", "train.peak_torque_drive"),
-        "issue 15 point 1: drive.output_voltage_max 381.97 V (hand 400), motor.base_speed 947.29 r/min "
-        "(hand 992), train.peak_torque_drive 2258.1 N·m (hand 2360)"),
     "tb-t-117-kiln-car-transfer.yaml": (
         ("duty.rms_torque", "train.braking_energy", "train.braking_power_mean"),
         "issue 15 point 5 (direction of power flow): a duty segment's torque is referred through "

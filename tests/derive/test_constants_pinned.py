@@ -22,6 +22,7 @@ CONSTANTS = [
     (supply, "DEFAULT_VOLTAGE_TOLERANCE", 0.11),  # supply.voltage_min/max → supply-voltage-frequency
     (supply, "DEFAULT_FREQUENCY_TOLERANCE", 0.03),  # supply.frequency_tolerance → supply-voltage-frequency
     (supply, "DEFAULT_FIRING_ANGLE_MIN", math.radians(20.0)),  # drive.armature_voltage_max → dc-armature-voltage
+    (motor, "VOLTAGE_ZONE_A", 0.03),  # motor.base_speed → base-speed-voltage-match (415 V motor on 400 V)
     (motor, "MAGNETISING_SHARE", 0.45),  # I_0 → train.motor_current_* → drive-current-continuous
     # motor.rated_back_emf → dc-armature-voltage
     (motor, "DEFAULT_BRUSH_DROP", 3.0, [test_motor.test_dc_back_emf_with_the_default_brush_drop]),

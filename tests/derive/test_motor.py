@@ -33,3 +33,27 @@ def test_induction_nameplate_worked_through() -> None:
     assert m.get("motor.magnetising_current") == pytest.approx(5.18, rel=1e-12)
     assert m.get("motor.electrical_input") == pytest.approx(math.sqrt(3) * 400 * 14.8 * 0.82, rel=1e-12)
     assert m.get("motor.electrical_input") == pytest.approx(8408.0, rel=1e-4)
+
+
+def _induction_on_400_v_drive(rated_voltage: str) -> dict:
+    return {"supply": {"voltage": "400 V", "frequency": "50 Hz"}, "drive": {"kind": "inverter"},
+            "motor": {"kind": "induction", "rated_power": "11 kW", "rated_speed": "1465 r/min",
+                      "rated_voltage": rated_voltage, "rated_frequency": "50 Hz", "poles": 4}}
+
+
+def test_400_v_motor_on_a_400_v_drive_keeps_its_rated_speed_as_base_speed() -> None:
+    # drive output 0…U_in (drive datasheets) = 400 V = V_N: n_b = n_N = 1465 r/min, no field weakening below it
+    m = model_of(_induction_on_400_v_drive("400 V"))
+    assert m.get("motor.base_speed") == pytest.approx(1465 * RPM, rel=1e-12)
+
+
+def test_a_deficit_inside_zone_a_is_no_derating() -> None:
+    # 415 V motor, 400 V drive: 400/415 = 0.964, 3.6 % short, inside IEC 60034-1 zone A (±5 %): n_b = 1465 r/min
+    m = model_of(_induction_on_400_v_drive("415 V"))
+    assert m.get("motor.base_speed") == pytest.approx(1465 * RPM, rel=1e-12)
+
+
+def test_a_deficit_beyond_zone_a_lowers_the_base_speed() -> None:
+    # 440 V motor, 400 V drive: 400 < 0.95 × 440 = 418 V: n_b = 1465 × 400/440 = 1331.8 r/min (V/f law)
+    m = model_of(_induction_on_400_v_drive("440 V"))
+    assert m.get("motor.base_speed") / RPM == pytest.approx(1331.82, abs=0.01)
