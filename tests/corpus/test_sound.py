@@ -35,10 +35,9 @@ HAND_TOLERANCE = 0.005
 # Remove an entry when its fix lands: strict xfail then fails the test until the entry is gone.
 FALSE_ALARMS: dict[str, tuple[tuple[str, ...], str]] = {
     "tb-p-101-cooling-water-pump.yaml": (
-        ("base-speed-voltage-match", "inverter-insulation-reflected-wave"),
+        ("base-speed-voltage-match",),
         "issue 15 point 1: base-speed-voltage-match warning (drive output derived as 382 V < 400 V, base speed "
-        "1399 r/min; the drive gives 0 … U_in = 400 V); issue 17 reflected wave: inverter-insulation-reflected-wave "
-        "warning 1245 V > 1000 V (NEMA Part 30 limit held against an ordinary 400 V IEC motor)"),
+        "1399 r/min; the drive gives 0 … U_in = 400 V)"),
     "tb-cv-105-limestone-incline-belt.yaml": (
         ("holding-brake-vertical", "base-speed-voltage-match"),
         "issue 16 brakes: holding-brake-vertical error (crane rule demands a 146.8 N·m spring brake on a belt held "
@@ -64,10 +63,6 @@ FALSE_ALARMS: dict[str, tuple[tuple[str, ...], str]] = {
         ("torque-peak", "base-speed-voltage-match"),
         "issue 15 point 1: torque-peak warning (margin 1.216: 2258 N·m available after field weakening from the "
         "derived 382 V; hand 2360 N·m, margin 1.27) and base-speed-voltage-match warning (base speed 947.3 r/min)"),
-    "tb-m-116-slurry-agitator.yaml": (
-        ("inverter-insulation-reflected-wave",),
-        "issue 17 reflected wave: inverter-insulation-reflected-wave error (1245 V > 3.1 x 400 V = 1240 V, the "
-        "NEMA Part 31 figure applied to an IEC motor, 0.4 % apart)"),
     "tb-be-119-clinker-bucket-elevator.yaml": (
         ("holding-brake-vertical",),
         "issue 16 brakes: holding-brake-vertical error (crane rule demands a 105.6 N·m spring brake on a bucket "
