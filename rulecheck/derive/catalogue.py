@@ -140,6 +140,7 @@ CATALOGUE: dict[str, tuple[str | None, str]] = {
     'site.drive_derating_default_used': ('flag', "a common-practice default was used for the drive's site derating"),
     # cable
     "cable.voltage_drop": ("fraction", "voltage drop of the motor cable at rated current (Annex G)"),
+    "cable.rise_time": ("time", "drive output voltage rise time (default 0.1 µs, common practice)"),
     "cable.critical_length": ("length", "cable length above which reflections double the voltage"),
     "cable.motor_peak_voltage": ("voltage", "estimated peak voltage at the motor terminals"),
     # protection

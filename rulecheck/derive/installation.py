@@ -6,7 +6,7 @@ from __future__ import annotations
 
 import math
 
-from rulecheck.derive.record import Spec, put
+from rulecheck.derive.record import Spec, default, put
 from rulecheck.model import Model
 from rulecheck.physics import machines as mc
 from rulecheck.physics import power_electronics as pe
@@ -40,7 +40,10 @@ def _cable_protection(m: Model) -> None:
            ("motor.rated_current", "cable.length", "cable.conductor_area", "motor.power_factor"),
            "IEC 60364-5-52 Annex G: b·(ρ₁·L·cosφ/S + λ·L·sinφ)·I ÷ U₀")
     if m.get("drive.kind") == "inverter":
-        rise = m.get("cable.rise_time", DEFAULT_RISE_TIME)
+        if not m.has("cable.rise_time"):
+            # recorded, so the insulation limit a rule picks is read at the same rise time as the peak estimate
+            default(m, "cable.rise_time", DEFAULT_RISE_TIME, "IGBT output rise time 0.1 µs (common practice)")
+        rise = m.get("cable.rise_time")
         crit = pe.reflected_wave_critical_length(CABLE_PROPAGATION_SPEED, rise)
         put(m, "cable.critical_length", crit, "reflected_wave_critical_length", ("cable.rise_time",),
            "v·t_r ÷ 2 with v = 150 m/µs (common practice)")

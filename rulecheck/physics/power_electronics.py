@@ -268,8 +268,8 @@ def inverter_duty_insulation_peak_limit(rated_voltage: float) -> float:
     ----------
     rated_voltage : motor rated line-to-line voltage V_N, ≤ 600 V class [V]
 
-    Method: V_pk ≤ 3.1·V_N (= 1.1·2·√2·V_N), at rise times of 0.1 µs or more. A general-purpose motor
-    (Part 30) is good for 1000 V peak at rise times of 2 µs or more.
+    Method: V_pk ≤ 3.1·V_N (1.1·2·√2 = 3.11, stated as 3.1: compare at that precision), at rise times of
+    0.1 µs or more. A general-purpose motor (Part 30) is good for 1000 V peak at rise times of 2 µs or more.
 
     References
     ----------

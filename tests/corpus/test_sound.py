@@ -34,10 +34,6 @@ HAND_TOLERANCE = 0.005
 # spec file → (rule ids, reason): the false findings the current rules give it (numbers, issue point that fixes it).
 # Remove an entry when its fix lands: strict xfail then fails the test until the entry is gone.
 FALSE_ALARMS: dict[str, tuple[tuple[str, ...], str]] = {
-    "tb-p-101-cooling-water-pump.yaml": (
-        ("inverter-insulation-reflected-wave",),
-        "issue 17 reflected wave: inverter-insulation-reflected-wave warning 1245 V > 1000 V (NEMA Part 30 limit "
-        "held against an ordinary 400 V IEC motor)"),
     "tb-cv-105-limestone-incline-belt.yaml": (
         ("holding-brake-vertical",),
         "issue 16 brakes: holding-brake-vertical error (crane rule demands a 146.8 N·m spring brake on a belt held "
@@ -50,10 +46,6 @@ FALSE_ALARMS: dict[str, tuple[tuple[str, ...], str]] = {
     "tb-p-110-river-intake-pump.yaml": (
         ("supply-voltage-frequency",),
         "issue 15 point 6: supply-voltage-frequency error (690 V x 1.1 = 759.0000000000001 > 759 V drive limit)"),
-    "tb-m-116-slurry-agitator.yaml": (
-        ("inverter-insulation-reflected-wave",),
-        "issue 17 reflected wave: inverter-insulation-reflected-wave error (1245 V > 3.1 x 400 V = 1240 V, the "
-        "NEMA Part 31 figure applied to an IEC motor, 0.4 % apart)"),
     "tb-be-119-clinker-bucket-elevator.yaml": (
         ("holding-brake-vertical",),
         "issue 16 brakes: holding-brake-vertical error (crane rule demands a 105.6 N·m spring brake on a bucket "
