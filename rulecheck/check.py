@@ -44,7 +44,8 @@ BUILTIN_RULES: dict[str, dict[str, Any]] = {
         "topic": "data-integrity", "severity": "error", "safety": False,
         "description": "Each quantity parses to the kind its field declares: torque is not energy, shaft speed is "
                        "not frequency, a temperature rise is not a temperature. Bare numbers, decimal commas, "
-                       "unknown units and non-finite values are refused; ambiguous tokens are reported.",
+                       "unknown units and non-finite values are refused; an apparent power (kVA) is refused for a real "
+                       "power; a bare hp is read as mechanical horsepower with an info note.",
         "basis": [{"source": "pint unit definitions; NIST SP 811 (2008) App. B", "status": "V*"},
                   {"source": "common practice", "status": "C"}],
     },

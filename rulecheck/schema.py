@@ -462,5 +462,5 @@ def read_quantities(doc: Document) -> tuple[Quantities, list[Problem]]:
         q.kinds[path] = kind_name
         q.written[path] = str(value)
         for note in units.ambiguity_notes(value, kind_name):
-            problems.append(Problem("units-and-dimensions", path, f"{path}: {note}", severity="warning"))
+            problems.append(Problem("units-and-dimensions", path, f"{path}: {note}", severity="info"))
     return q, problems

@@ -111,6 +111,7 @@ def registry() -> Any:
     ureg.define("hp_mech = 550 * foot * force_pound / second")  # NIST SP 811 B.8
     ureg.define("hp_metric = 75 * force_kilogram * meter / second")
     ureg.define("hp_elec = 746 * watt")
+    ureg.define("HP = hp_mech")  # a nameplate's capital HP is the same mechanical horsepower
     return ureg
 
 
@@ -266,8 +267,8 @@ _LBF = _LB * 9.80665  # N, exact from the standard gravity
 # Common unit spellings by kind, converted without building the pint registry (start-up costs ~0.3 s).
 # Every entry is checked against pint's definitions in tests/foundation/test_units.py.
 FAST_UNITS: dict[str, dict[str, float]] = {
-    "power": {"W": 1.0, "kW": 1e3, "MW": 1e6, "hp": 550 * _FT * _LBF, "hp_mech": 550 * _FT * _LBF,
-              "hp_metric": 75 * 9.80665, "hp_elec": 746.0},
+    "power": {"W": 1.0, "kW": 1e3, "MW": 1e6, "hp": 550 * _FT * _LBF, "HP": 550 * _FT * _LBF,
+              "hp_mech": 550 * _FT * _LBF, "hp_metric": 75 * 9.80665, "hp_elec": 746.0},
     "apparent_power": {"VA": 1.0, "kVA": 1e3, "MVA": 1e6},
     "torque": {"N*m": 1.0, "N·m": 1.0, "Nm": 1.0, "kN*m": 1e3, "kN·m": 1e3, "kNm": 1e3, "lbf*ft": _LBF * _FT,
                "lbf*in": _LBF * _IN, "ft*lbf": _LBF * _FT},
@@ -307,12 +308,23 @@ def _conversion(unit_text: str, kind_name: str) -> tuple[float, float]:
     unit_text = unit_text.replace("²", "^2").replace("³", "^3")
     if kind_name == "temperature" and unit_text in _FAST_TEMPERATURE:
         return _FAST_TEMPERATURE[unit_text]
+    if kind_name == "power" and _APPARENT_POWER.search(unit_text):
+        raise QuantityError(
+            f"{unit_text!r} is an apparent (or reactive) power, not a real power in watts such as a motor's shaft "
+            "power: volt-amperes include the reactive part and say nothing about the torque on the shaft",
+            "write the shaft (output) power from the nameplate in kW or hp; a drive or transformer rating "
+            "in kVA belongs in an apparent-power field",
+        )
     table = FAST_UNITS.get(kind_name)
     if table is not None:
         key = _SPEED_FORMS.get(unit_text.replace(" ", ""), "") if kind_name == "rotational_speed" else unit_text
         if key in table:
             return table[key], 0.0
     return _pint_conversion(unit_text, kind_name)
+
+
+# VA, kVA, MVA (and var): pint reads a volt-ampere as a watt; a shaft power never is one.
+_APPARENT_POWER = re.compile(r"(?<![A-Za-z_])[kMm]?(VA|var)(?![A-Za-z_])")
 
 
 def _pint_conversion(unit_text: str, kind_name: str) -> tuple[float, float]:
@@ -484,15 +496,18 @@ def _parse_quantity(value: Any, kind_name: str) -> float:
 
 def ambiguity_notes(value: Any, kind_name: str) -> list[str]:
     """Return advisory notes for a parsable but ambiguous quantity (docs/references.md R01)."""
-    if kind_name != "power" or not isinstance(value, str) or "hp" not in value:
+    if kind_name != "power" or not isinstance(value, str) or ("hp" not in value and "HP" not in value):
         return []  # the one ambiguity noted is a bare 'hp' power
     unit = value.strip()
     m = _NUMBER.match(unit)
     unit = unit[m.end() :].strip() if m else unit
     notes = []
-    if kind_name == "power" and re.search(r"(?<![A-Za-z_])hp(?![A-Za-z_])", unit):
+    if kind_name == "power" and re.search(r"(?<![A-Za-z_])(hp|HP)(?![A-Za-z_])", unit):
+        # A nameplate's hp is mechanical horsepower (NEC and NEMA MG 1 tables treat 745.7 W and 746 W alike):
+        # an info note only, never a warning.
         notes.append(
-            "bare 'hp' read as mechanical horsepower (745.7 W); write hp_mech, hp_metric (735.5 W) or hp_elec (746 W)"
+            "'hp' read as mechanical horsepower (745.7 W, NIST SP 811); write hp_metric (735.5 W) for metric "
+            "horsepower (PS, CV)"
         )
     return notes
 

@@ -39,6 +39,13 @@ _BINARY = {"Add": "+", "Sub": "-", "Div": "/"}  # plain Python operators (jinja'
 _GUARDED = {"Mul": "_mul", "Pow": "_pow", "Mod": "_mod", "FloorDiv": "_floordiv"}
 _COMPARE = {"eq": "==", "ne": "!=", "gt": ">", "gteq": ">=", "lt": "<", "lteq": "<=", "in": "in",
             "notin": "not in"}
+# Comparisons of two numbers go through these helpers: they compare at the data's precision (REL_TOL below).
+_NUMERIC_COMPARE = {"eq": "_eq", "ne": "_ne", "gt": "_gt", "gteq": "_ge", "lt": "_lt", "lteq": "_le"}
+
+# Two numbers within this relative distance of each other compare as equal: 690 V x 1.1 = 759.0000000000001 is
+# 759 V. Spec data carry at most about 6 significant figures and a double's rounding is ~1e-16 per operation, so
+# 1e-9 absorbs the arithmetic of any rule expression and lies far below any printed resolution.
+REL_TOL = 1e-9
 
 
 # jinja's own tests that are one Python expression: written inline (as jinja's functions read), not called
@@ -219,12 +226,19 @@ class _Writer:
         return f"(not {self.visit(node.node)})"
 
     def visit_Compare(self, node: nodes.Compare) -> str:
-        text = self.visit(node.expr)
         for operand in node.ops:
             if operand.op not in _COMPARE:
                 raise TranslationError(f"operator {operand.op!r} is not allowed in a rule expression")
-            text += f" {_COMPARE[operand.op]} {self.visit(operand.expr)}"
-        return f"({text})"
+        left = self.visit(node.expr)
+        if len(node.ops) == 1:
+            operand = node.ops[0]
+            right = self.visit(operand.expr)
+            if operand.op in _NUMERIC_COMPARE:
+                return f"{_NUMERIC_COMPARE[operand.op]}({left}, {right})"
+            return f"({left} {_COMPARE[operand.op]} {right})"
+        # a chain (1 < x < 2): each later operand is evaluated only when the comparison before it held, as in Python
+        parts = "".join(f", {self.constant(o.op)}, lambda: {self.visit(o.expr)}" for o in node.ops)
+        return f"_chain({left}{parts})"
 
     def _boolean(self, node: Any) -> str:
         left, right = self.visit(node.left), self.visit(node.right)
@@ -357,7 +371,69 @@ def _operators(magnitude: Any, max_exponent: float, max_magnitude: float) -> dic
             raise SecurityError("power too large in a rule expression")
         return left**right
 
-    return {"_mul": _mul, "_mod": _mod, "_floordiv": _floordiv, "_pow": _pow, "_call": _call}
+    return {"_mul": _mul, "_mod": _mod, "_floordiv": _floordiv, "_pow": _pow, "_call": _call, **_COMPARISONS}
+
+
+# --- comparisons at the data's precision -----------------------------------------------------------------------
+
+
+def _numbers(left: Any, right: Any) -> bool:
+    """True when both operands are plain numbers (not flags): the only operands compared with a tolerance."""
+    return type(left) in _PLAIN and type(right) in _PLAIN
+
+
+def _close(left: float, right: float) -> bool:
+    return abs(left - right) <= REL_TOL * max(abs(left), abs(right))
+
+
+def _eq(left: Any, right: Any) -> Any:
+    return _close(left, right) if _numbers(left, right) else left == right
+
+
+def _ne(left: Any, right: Any) -> Any:
+    return not _close(left, right) if _numbers(left, right) else left != right
+
+
+def _lt(left: Any, right: Any) -> Any:
+    return left < right and not _close(left, right) if _numbers(left, right) else left < right
+
+
+def _le(left: Any, right: Any) -> Any:
+    return left <= right or _close(left, right) if _numbers(left, right) else left <= right
+
+
+def _gt(left: Any, right: Any) -> Any:
+    return left > right and not _close(left, right) if _numbers(left, right) else left > right
+
+
+def _ge(left: Any, right: Any) -> Any:
+    return left >= right or _close(left, right) if _numbers(left, right) else left >= right
+
+
+def _in(left: Any, right: Any) -> Any:
+    return left in right
+
+
+def _notin(left: Any, right: Any) -> Any:
+    return left not in right
+
+
+_BY_OPERATOR = {"eq": _eq, "ne": _ne, "gt": _gt, "gteq": _ge, "lt": _lt, "lteq": _le, "in": _in, "notin": _notin}
+
+
+def _chain(left: Any, *rest: Any) -> Any:
+    """Evaluate ``a op1 b op2 c …`` as Python does (stop at the first false link), each link at the data's precision."""
+    result: Any = True
+    for i in range(0, len(rest), 2):
+        right = rest[i + 1]()
+        result = _BY_OPERATOR[rest[i]](left, right)
+        if not result:
+            return result
+        left = right
+    return result
+
+
+_COMPARISONS = {"_eq": _eq, "_ne": _ne, "_lt": _lt, "_le": _le, "_gt": _gt, "_ge": _ge, "_chain": _chain}
 
 
 def _filters_and_tests(env: Any, missing_type: type) -> dict[str, Any]:

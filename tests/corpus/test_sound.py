@@ -43,33 +43,23 @@ FALSE_ALARMS: dict[str, tuple[tuple[str, ...], str]] = {
         "issue 15 point 5: torque-peak error (-323.3 N·m required read as margin -2.556 on an overhauling belt); "
         "issue 16 declining belts: holding-brake-vertical not-checked (load.holding_torque not derived for a "
         "negative incline)"),
-    "tb-p-110-river-intake-pump.yaml": (
-        ("supply-voltage-frequency",),
-        "issue 15 point 6: supply-voltage-frequency error (690 V x 1.1 = 759.0000000000001 > 759 V drive limit)"),
     "tb-be-119-clinker-bucket-elevator.yaml": (
         ("holding-brake-vertical",),
         "issue 16 brakes: holding-brake-vertical error (crane rule demands a 105.6 N·m spring brake on a bucket "
         "elevator held by a backstop; the format has no backstop field)"),
-    "pr-f-201-cooling-tower-fan.yaml": (
-        ("units-and-dimensions",),
-        "issue 15 point 7: units-and-dimensions warning on bare 'hp' in motor.rated_power"),
     "pr-x-202-extruder-dc.yaml": (
-        ("units-and-dimensions", "conductor-and-protection-sizing", "cable-voltage-drop"),
-        "issue 15 point 7: units-and-dimensions warnings on bare 'hp' (motor.rated_power, "
-        "transmission.thermal_power); issue 17 NEC tables: conductor-and-protection-sizing not-checked (no NEC "
+        ("conductor-and-protection-sizing", "cable-voltage-drop"),
+        "issue 17 NEC tables: conductor-and-protection-sizing not-checked (no NEC "
         "Table 430.247 DC full-load current; 75 hp 500 V = 118 A); issue 17 cable voltage drop: cable-voltage-drop "
         "not-checked (no DC formula: asks for a power factor a DC motor does not have)"),
     "pr-p-203-process-water-pump.yaml": (
-        ("units-and-dimensions", "regen-braking-energy"),
-        "issue 15 point 7: units-and-dimensions warning on bare 'hp'; issue 16 regenerated energy: "
+        ("regen-braking-energy",),
+        "issue 16 regenerated energy: "
         "regen-braking-energy not-checked asking for drive.dc_bus_capacitance although the pump coasts "
         "(drive.stop: coast, nothing regenerates)"),
-    "pr-cv-204-chip-belt-dol.yaml": (
-        ("units-and-dimensions",),
-        "issue 15 point 7: units-and-dimensions warning on bare 'hp' in motor.rated_power"),
     "pr-l-205-paper-roll-lift.yaml": (
-        ("units-and-dimensions", "conductor-and-protection-sizing"),
-        "issue 15 point 7: units-and-dimensions warning on bare 'hp'; issue 17 NEC tables: "
+        ("conductor-and-protection-sizing",),
+        "issue 17 NEC tables: "
         "conductor-and-protection-sizing not-checked (15 hp not held in Table 430.250; 460 V FLC 21 A)"),
 }
 

@@ -34,13 +34,30 @@ def test_other_horsepowers() -> None:
     assert parse_quantity("1 hp_mech", "power") == pytest.approx(745.69987158, rel=1e-9)
 
 
-def test_bare_hp_is_reported_as_ambiguous() -> None:
-    # docs/references.md R01 / pitfall 5: mechanical, metric and electrical horsepower differ
-    # (NIST SP 811 (2008) B.8: 745.699 87 W, 735.498 75 W, 746 W); the note says which was read and names the others
-    (note,) = ambiguity_notes("10 hp", "power")
-    assert "mechanical horsepower (745.7 W)" in note and "735.5 W" in note and "746 W" in note
+def test_bare_hp_is_read_as_mechanical_horsepower_with_a_note() -> None:
+    # NIST SP 811 (2008) B.8: horsepower (550 ft·lbf/s) = 745.699 872 W; metric horsepower 735.498 75 W.
+    # A nameplate's hp (or HP) is mechanical horsepower; NEC and NEMA MG 1 tables treat 745.7 W and 746 W alike,
+    # so the note only says which was read and how to write metric horsepower.
+    for text in ("10 hp", "10 HP"):
+        assert parse_quantity(text, "power") == pytest.approx(7456.99872, rel=1e-9), text
+        (note,) = ambiguity_notes(text, "power")
+        assert "mechanical horsepower (745.7 W" in note and "735.5 W" in note
+    assert parse_quantity("1 hp_metric", "power") == pytest.approx(735.49875, rel=1e-9)
     assert not ambiguity_notes("10 hp_mech", "power")
+    assert not ambiguity_notes("10 hp_metric", "power")
     assert not ambiguity_notes("7.5 kW", "power")
+
+
+@pytest.mark.parametrize("text", ["100 kVA", "1 MVA", "500 VA", "20 kvar"])
+def test_apparent_power_is_refused_for_a_power(text: str) -> None:
+    # a volt-ampere has the dimension of a watt, but S = U·I includes the reactive part: not a shaft power
+    with pytest.raises(QuantityError) as caught:
+        parse_quantity(text, "power")
+    assert "apparent" in caught.value.message and "shaft" in caught.value.message
+    assert "kW or hp" in caught.value.hint
+    unit = text.split()[1]
+    if "VA" in unit:  # the apparent-power fields still take it
+        assert parse_quantity(text, "apparent_power") > 0
 
 
 def test_revolution_per_minute_in_rad_per_second() -> None:

@@ -167,3 +167,55 @@ def test_values_shown_as_text_read_as_the_values_would() -> None:
     assert bare.fn(shown, expr.spec_parent(ENV, {})) == "margin 1.231 at 1200 r/min"
     mixed = _display_names(_Rule(), (bare, other), ns, {}, values, "si")
     assert mixed["margin"] == "1.231" and isinstance(mixed["speed"], Shown)  # 'speed' has another use there
+
+
+# --- comparisons at the data's precision (the one place the translation departs from jinja on purpose) ----------
+# 690 V x 1.1 in binary floating point is 759.0000000000001; the limit a drive datasheet prints is 759 V.
+# A rule compares two numbers with a relative tolerance of 1e-9 (compiler.REL_TOL): far below any printed
+# resolution (a nameplate gives at most about 6 significant figures), far above double rounding (~1e-16).
+
+
+def _value(text: str, **names: Any) -> Any:
+    return _ours(text, {**_names(), **names})
+
+
+def test_rounding_of_the_data_does_not_cross_a_limit() -> None:
+    v = 690 * 1.1
+    assert v == 759.0000000000001 and v > 759  # plain Python: the float is just above the limit
+    assert _value("v <= 759", v=v) == ("value", True)
+    assert _value("v > 759", v=v) == ("value", False)
+    assert _value("v == 759", v=v) == ("value", True)
+    assert _value("v != 759", v=v) == ("value", False)
+    assert _value("759 >= v", v=v) == ("value", True)
+    assert _value("759 < v", v=v) == ("value", False)
+    # the other side of the limit: 759 - 1e-13 is 759 too
+    assert _value("w >= 759", w=759 - 1e-13) == ("value", True)
+    assert _value("w < 759", w=759 - 1e-13) == ("value", False)
+
+
+def test_a_real_excess_still_fails() -> None:
+    # 760 V against 759 V: 1.3e-3 relative, six orders of magnitude beyond the tolerance
+    assert _value("v <= 759", v=760.0) == ("value", False)
+    assert _value("v > 759", v=760.0) == ("value", True)
+    assert _value("v == 759", v=760.0) == ("value", False)
+    # just beyond the tolerance: 759 x (1 + 1e-8) is above the limit
+    assert _value("v > 759", v=759 * (1 + 1e-8)) == ("value", True)
+    assert _value("v <= 759", v=759 * (1 + 1e-8)) == ("value", False)
+    # zero is compared exactly (a relative tolerance around 0 is 0)
+    assert _value("v > 0", v=1e-300) == ("value", True)
+    assert _value("v < 0", v=-1e-300) == ("value", True)
+
+
+def test_chains_compare_at_precision_and_stop_at_the_first_false_link() -> None:
+    v = 690 * 1.1
+    assert _value("621 <= v <= 759", v=v) == ("value", True)
+    assert _value("621 <= v < 759", v=v) == ("value", False)
+    # the second link is not evaluated when the first is false, as in Python: no missing input is reported
+    assert _value("v > 800 > motor.nameplate_current", v=v) == ("value", False)
+    assert _value("v > 700 > motor.nameplate_current", v=v) == ("missing", ("motor.nameplate_current",))
+
+
+def test_text_and_flags_compare_exactly() -> None:
+    assert _value("motor.kind == 'induction'") == ("value", True)
+    assert _value("flag == 1") == ("value", True)  # True == 1 as in Python; flags take no tolerance
+    assert _value("motor.kind in ['induction']") == ("value", True)
