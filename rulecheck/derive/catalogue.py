@@ -39,7 +39,7 @@ CATALOGUE: dict[str, tuple[str | None, str]] = {
     'motor.base_speed': ('rotational_speed', "speed at which the drive's voltage limit is reached"),
     "motor.magnetising_current": ("current", "no-load current (default 35 % of rated, common practice)"),
     "motor.electrical_output": ("power", "√3·V·I·cosφ·η"),
-    "motor.implied_efficiency": ("fraction", "P_N/(√3·V·I·cosφ)"),
+    "motor.implied_efficiency": ("fraction", "P_N ÷ rated electrical input (three-phase, single-phase or DC armature)"),
     "motor.back_emf_constant_ll_rms": ("back_emf_constant", "Ke normalised to line-to-line RMS per rad/s"),
     "motor.torque_constant_from_emf": ("torque_constant", "Kt = √3·Ke (sinusoidal PM machine)"),
     "motor.rated_back_emf": ("voltage", "DC: E_N = V_aN − I_aN·R_a − V_br"),

@@ -105,16 +105,18 @@ def _powers(m: Model) -> None:
     put(m, "motor.electrical_output", out, "three_phase_output_power",
         ("motor.rated_voltage", "motor.rated_current", "motor.power_factor", "motor.efficiency"),
         "√3·V·I·cosφ·η" if three else "V·I·cosφ·η")
-    if p is not None:
-        imp = (mc.implied_efficiency_three_phase(p, v, i_n, pf) if three
-               else mc.implied_efficiency_single_phase(p, v, i_n, pf))
-        put(m, "motor.implied_efficiency", imp, "implied_efficiency",
-            ("motor.rated_power", "motor.rated_voltage", "motor.rated_current", "motor.power_factor"),
-            "P_N ÷ (√3·V·I·cosφ)")
 
 
 def _electrical_input(m: Model) -> None:
-    """The rated electrical input the nameplate implies (for the nameplate power check)."""
+    """The rated electrical input the nameplate implies, and the efficiency it implies (nameplate power check)."""
+    _input(m)
+    p, p_in = m.get("motor.rated_power"), m.get("motor.electrical_input")
+    if p is not None and p_in:
+        put(m, "motor.implied_efficiency", p / p_in, "ratio", ("motor.rated_power", "motor.electrical_input"),
+            "P_N ÷ electrical input (√3·V·I·cosφ, V·I·cosφ or V_a·I_a)")
+
+
+def _input(m: Model) -> None:
     kind = m.get("motor.kind")
     if kind == "dc":
         va = m.get("motor.armature_voltage", m.get("motor.rated_voltage"))
