@@ -92,6 +92,7 @@ CATALOGUE: dict[str, tuple[str | None, str]] = {
     "train.continuous_speed_worst": ("rotational_speed", "motor speed of the smallest continuous margin"),
     "train.continuous_required_worst": ("torque", "required torque at that speed"),
     "train.continuous_capability_worst": ("torque", "continuous capability at that speed"),
+    "train.continuous_cooling_worst": ("fraction", "k_cool at the speed of the smallest margin (table)"),
     "train.output_frequency_required": ("frequency", "drive output frequency at the highest motor speed"),
     "train.back_emf_at_max": ("voltage", "PM: line-to-line RMS back-EMF at the highest speed"),
     "train.armature_emf_at_max": ("voltage", "DC back-EMF at the top operating speed (rated EMF above base speed)"),

@@ -185,3 +185,10 @@ def _continuous(m: Model) -> None:
         "T_L ÷ (i·η) at that speed")
     put(m, "train.continuous_capability_worst", float(available[k]), "continuous_margin", inputs,
         "T_N × k_cool × k_fw × k_env at that speed")
+    shaft_cooled, ct_limit = _cooling(m)
+    if m.get("motor.kind") == "induction" and shaft_cooled and ct_limit is None:
+        ratio = float(speeds[k] * i) / m.get("motor.base_speed")
+        put(m, "train.continuous_cooling_worst",
+            mc.self_ventilated_cooling_factor(ratio, bool(m.get("motor.inverter_rated", False)), None),
+            "self_ventilated_cooling_factor", (*inputs, "motor.inverter_rated"),
+            "k_cool(n/n_b) at the speed of the smallest margin (common-practice table, references R06)")
