@@ -18,6 +18,7 @@ from pathlib import Path
 from typing import Any, NoReturn
 
 from rulecheck import __version__, authoring
+from rulecheck.files import publish, write_atomic
 from rulecheck.result import with_charts
 
 FORMATS = ("text", "json", "sarif", "junit", "markdown", "html", "annotations")
@@ -152,14 +153,6 @@ def _progress(args: argparse.Namespace) -> Any:
     return show
 
 
-def _publish(tmp: str, target: str | Path) -> None:
-    """Give a finished temporary report ordinary permissions and rename it onto its target (atomic)."""
-    umask = os.umask(0)
-    os.umask(umask)
-    os.chmod(tmp, 0o666 & ~umask)  # mkstemp makes the file private; a report is an ordinary file
-    os.replace(tmp, target)
-
-
 def _write(path: str | None, text: str | bytes) -> None:
     """Write a report to ``path`` atomically (temporary file, then rename), or to standard output."""
     if path is None or path == "-":
@@ -170,24 +163,13 @@ def _write(path: str | None, text: str | bytes) -> None:
         sys.stdout.flush()
         return
     target = Path(path)
-    folder = target.parent if str(target.parent) else Path(".")
     data = text.encode("utf-8") if isinstance(text, str) else text
     if target.exists() and not target.is_file():
         # a device or pipe (/dev/null, a FIFO): write to it; never rename a temporary file over it
         with open(target, "wb") as handle:
             handle.write(data)
         return
-    fd, tmp = tempfile.mkstemp(prefix=f".{target.name}.", suffix=".tmp", dir=folder)
-    try:
-        with os.fdopen(fd, "wb") as handle:
-            handle.write(data)
-        _publish(tmp, target)
-    except BaseException:
-        try:
-            os.unlink(tmp)
-        except OSError:
-            pass
-        raise
+    write_atomic(target, data)
 
 
 def _colour(args: argparse.Namespace) -> bool:
@@ -334,7 +316,7 @@ class _Sink:
         if not self.to_stdout:
             self.handle.close()
         if self.tmp:
-            _publish(self.tmp, self.file)
+            publish(self.tmp, self.file)
             self.tmp = None
 
     def abort(self) -> None:

@@ -9,15 +9,14 @@ option, an unusable mapping or list, a row that could not be imported).
 from __future__ import annotations
 
 import argparse
-import os
 import sys
-import tempfile
 from pathlib import Path
 from typing import Any
 
 __all__ = ["COMMANDS", "add_commands"]
 
 from rulecheck.authoring.words import LOADS, MOTORS, STARTERS
+from rulecheck.files import write_atomic
 
 
 def _loads() -> tuple[str, ...]:
@@ -55,21 +54,7 @@ def _write_text(path: str, text: str, force: bool) -> None:
     target = Path(path)
     if target.exists() and not force:
         raise OSError(f"{path} exists; use --force to overwrite it")
-    folder = target.parent if str(target.parent) else Path(".")
-    fd, tmp = tempfile.mkstemp(prefix=f".{target.name}.", suffix=".tmp", dir=folder)
-    try:
-        with os.fdopen(fd, "w", encoding="utf-8") as handle:
-            handle.write(text)
-        umask = os.umask(0)
-        os.umask(umask)
-        os.chmod(tmp, 0o666 & ~umask)
-        os.replace(tmp, target)
-    except BaseException:
-        try:
-            os.unlink(tmp)
-        except OSError:
-            pass
-        raise
+    write_atomic(target, text.encode("utf-8"))
 
 
 def cmd_new(args: argparse.Namespace) -> int:

@@ -31,7 +31,6 @@ import io
 import math
 import os
 import re
-import tempfile
 import zipfile
 from collections.abc import Iterator
 from dataclasses import dataclass, field
@@ -41,6 +40,7 @@ from typing import Any
 import yaml
 
 from rulecheck import units
+from rulecheck.files import write_atomic
 from rulecheck.load import Document, LoadError, load_text
 from rulecheck.schema import check_structure, read_quantities
 
@@ -579,19 +579,9 @@ def write_rows(results: list[RowResult], out_dir: str | os.PathLike[str], force:
             result.errors.append(CellError(result.file, result.row, None, None,
                                            f"{target} exists; use --force to overwrite it"))
             continue
-        fd, tmp = tempfile.mkstemp(prefix=f".{result.file_name}.", suffix=".tmp", dir=folder)
         try:
-            with os.fdopen(fd, "w", encoding="utf-8") as handle:
-                handle.write(result.text)
-            umask = os.umask(0)
-            os.umask(umask)
-            os.chmod(tmp, 0o666 & ~umask)
-            os.replace(tmp, target)
+            write_atomic(target, result.text.encode("utf-8"))
         except OSError as exc:
-            try:
-                os.unlink(tmp)
-            except OSError:
-                pass
             raise ImportError_(f"{target}: cannot write: {exc.strerror or exc}") from None
         written.append(target)
     return written
