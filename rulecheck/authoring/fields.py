@@ -346,7 +346,8 @@ def _provenance(spec: dict[str, Any]) -> tuple[dict[str, tuple[str, ...]], dict[
     return inputs, dict(model.values)
 
 
-def _nest(flat: dict[str, Any]) -> dict[str, Any]:
+def nest(flat: dict[str, Any]) -> dict[str, Any]:
+    """Return a flat mapping of dotted paths nested by their parts."""
     out: dict[str, Any] = {}
     for path, value in flat.items():
         node = out
@@ -388,7 +389,7 @@ def _model_links(facts: dict[str, Any], candidates: dict[str, dict[str, Any]], e
     inputs: dict[str, tuple[str, ...]] = {}
     values: dict[str, Any] = {}
     for _round in range(4):
-        inputs, values = _provenance(_nest({p: v for p, v in full.items() if p not in left_out}))
+        inputs, values = _provenance(nest({p: v for p, v in full.items() if p not in left_out}))
         settled = {p for p in left_out if inputs.get(p)}
         if settled == left_out:
             break
@@ -411,7 +412,7 @@ def fields_for(choice: Choice, examples: dict[str, Any], rules_folder: str | Non
                   if in_scope(p, n, facts) and p not in facts and not p.startswith(("margins", "waivers"))}
     plain, plain_values = _model_links(facts, candidates, examples, lists=False)
     with_lists, _values = _model_links(facts, candidates, examples, lists=True)
-    _bare_inputs, bare_values = _provenance(_nest({"format": 1, "tag": "T-1", **facts}))
+    _bare_inputs, bare_values = _provenance(nest({"format": 1, "tag": "T-1", **facts}))
     # derived values the choice alone decides: the same with no inputs and with every input given
     known: dict[str, Any] = dict(facts)
     for path, value in bare_values.items():
@@ -459,7 +460,7 @@ def _promote(result: FieldSet, rules_folder: str | None, facts: dict[str, Any], 
     rules = {r.id: r for r in rule_reads(rules_folder)}
     for _round in range(4):
         given = {p: examples[p] for p in result.core if p in examples and not isinstance(examples[p], list)}
-        _inputs, values = _provenance(_nest({"format": 1, "tag": "T-1", **facts, **given}))
+        _inputs, values = _provenance(nest({"format": 1, "tag": "T-1", **facts, **given}))
         promoted = [r for r in result.rules_optional
                     if rules[r].applies is not None and evaluate(rules[r].applies, values, closed=True) is True]
         if not promoted:

@@ -21,7 +21,7 @@ from typing import Any
 
 from rulecheck import units
 from rulecheck.authoring.examples import examples_for
-from rulecheck.authoring.fields import LOADS, MOTORS, STARTERS, Choice, FieldSet, fields_for, schema_fields
+from rulecheck.authoring.fields import LOADS, MOTORS, STARTERS, Choice, FieldSet, fields_for, nest, schema_fields
 
 __all__ = ["PLACEHOLDER", "Template", "fill_examples", "placeholder", "write_template"]
 
@@ -134,14 +134,8 @@ class _Writer:
 
 
 def _tree(paths: list[str]) -> dict[str, Any]:
-    tree: dict[str, Any] = {}
-    for path in paths:
-        node = tree
-        parts = path.split(".")
-        for part in parts[:-1]:
-            node = node.setdefault(part, {})
-        node[parts[-1]] = path
-    return tree
+    """Return the paths nested by their dotted parts, each leaf holding its own path."""
+    return nest({path: path for path in paths})
 
 
 def _leaves(tree: dict[str, Any]) -> list[str]:

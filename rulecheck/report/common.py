@@ -13,6 +13,7 @@ from collections.abc import Iterable, Mapping
 from dataclasses import dataclass
 from typing import Any
 
+from rulecheck.result import SEVERITY_RANK
 from rulecheck.units import KINDS, QuantityError, format_value, parse_quantity
 
 __all__ = [
@@ -90,7 +91,6 @@ ORDER_STATEMENT = (
     "then by tag."
 )
 
-_SEVERITY_RANK = {"error": 0, "warning": 1, "info": 2}
 
 
 def plain(text: Any, limit: int = 2000) -> str:
@@ -247,7 +247,7 @@ def group_outcomes(spec: Mapping[str, Any]) -> OutcomeGroups:
     """Return the spec's outcomes grouped by kind; failures by severity, safety-relevant first, then rule id."""
 
     def sev_key(o: Mapping[str, Any]) -> tuple:
-        return (_SEVERITY_RANK.get(o.get("severity"), 3), o.get("safety") is not True, plain(o.get("rule")))
+        return (-SEVERITY_RANK.get(o.get("severity"), 0), o.get("safety") is not True, plain(o.get("rule")))
 
     groups = OutcomeGroups([], [], [], [], [])
     for o in _outcomes(spec):
