@@ -30,15 +30,41 @@ from typing import Any
 
 __all__ = [
     "KINDS",
+    "REL_TOL",
     "Kind",
     "QuantityError",
+    "at_least",
+    "at_most",
+    "close",
     "format_value",
     "kind",
     "parse_quantity",
+    "printed_resolution",
     "registry",
 ]
 
 MAX_QUANTITY_LENGTH = 80
+
+# Two numbers within this relative distance of each other compare as equal: 690 V x 1.1 = 759.0000000000001 is
+# 759 V. Spec data carry at most about 6 significant figures and a double's rounding is ~1e-16 per operation, so
+# 1e-9 absorbs the arithmetic of any expression and lies far below any printed resolution. The one definition:
+# the rule engine's comparisons and the physics' limit tests (supply zones) both use it.
+REL_TOL = 1e-9
+
+
+def close(left: float, right: float) -> bool:
+    """Return whether two numbers are equal at the data's precision (relative :data:`REL_TOL`)."""
+    return abs(left - right) <= REL_TOL * max(abs(left), abs(right))
+
+
+def at_most(value: float, limit: float) -> bool:
+    """Return ``value <= limit`` at the data's precision: 759.0000000000001 is at most 759."""
+    return value <= limit or close(value, limit)
+
+
+def at_least(value: float, limit: float) -> bool:
+    """Return ``value >= limit`` at the data's precision."""
+    return value >= limit or close(value, limit)
 
 
 class QuantityError(ValueError):
@@ -118,6 +144,15 @@ def registry() -> Any:
 # --- strict pattern ----------------------------------------------------------
 
 _DECIMAL_COMMA = re.compile(r"[+-]?\d+,\d+")
+# SI digit grouping (SI Brochure, 9th edition 2019, 5.4.4): groups of three digits on either side of the decimal
+# marker, separated by a space (also a thin, no-break or narrow no-break space), never by a dot or a comma; the last
+# group after the decimal marker may be shorter. "12 100 kg" is one number, 12100 kg.
+_GROUP_SEPARATOR = "[ \u2009\u00a0\u202f]"
+_GROUPED_NUMBER = re.compile(
+    rf"\s*([+-]?\d{{1,3}}(?:{_GROUP_SEPARATOR}\d{{3}})+"
+    rf"(?:\.(?:\d{{3}}(?:{_GROUP_SEPARATOR}\d{{3}})*{_GROUP_SEPARATOR}\d{{1,3}}|\d+))?"
+    rf"(?:[eE][+-]?\d{{1,3}})?)(?![\d.,])\s*"
+)
 _NUMBER = re.compile(r"\s*([+-]?(?:\d+(?:\.\d*)?|\.\d+)(?:[eE][+-]?\d{1,3})?)\s*")
 _TOKEN = re.compile(
     r"\s*(?:(?P<name>[A-Za-z_°µΩ][A-Za-z_°µΩ0-9]*)|(?P<op>\*\*|[*·/^()])|(?P<int>-?\d{1,4})|(?P<pct>%))"
@@ -145,6 +180,10 @@ _ALIASES = {
     "lbin": "lbf*in",
     "t": "metric_ton",
 }
+
+# Metric horsepower (75 kgf·m/s = 735.498 75 W, NIST SP 811 B.8) as nameplates write it: PS (Pferdestärke),
+# CV (cheval-vapeur, caballo de vapor). In a power field only: elsewhere 'PS' is pint's petasiemens.
+_POWER_ALIASES = {"PS": "hp_metric", "CV": "hp_metric"}
 
 _SPEED_NAMES = {"rpm", "krpm", "rps", "rev", "revolution", "r", "rad", "radian", "turn", "min", "s", "minute", "second"}
 
@@ -175,7 +214,7 @@ def _check_grammar(tokens: list[tuple[str, str]], unit_text: str) -> None:
                 raise QuantityError(f"exponent must be a small whole number in unit {unit_text!r}")
             prev = "operand"
         elif typ == "int":
-            prev = _grammar_number(val, prev, i + 1 < len(tokens), unit_text)
+            prev = _grammar_number(val, prev, tokens[i + 1][1] if i + 1 < len(tokens) else "", unit_text)
         elif val in ("(", ")"):
             depth += 1 if val == "(" else -1
             prev = _grammar_parenthesis(val, prev, depth, unit_text)
@@ -187,17 +226,22 @@ def _check_grammar(tokens: list[tuple[str, str]], unit_text: str) -> None:
         raise QuantityError(f"unit {unit_text!r} is incomplete")
 
 
-def _grammar_number(val: str, prev: str, more: bool, unit_text: str) -> str:
-    """Check a number token: an exponent after '^'/'**', else a numerator or scale; return what it was."""
+def _grammar_number(val: str, prev: str, following: str, unit_text: str) -> str:
+    """Check a number token: an exponent after '^'/'**', else the numerator of '1/…'; return what it was.
+
+    A numeric scale factor inside a unit ('100 kg', 'V/(1000 rpm)') is refused: '12 100 kg' would otherwise
+    read as 12 × 100 kg, and a mistyped digit group would silently scale the value.
+    """
     if prev == "pow":
         if abs(int(val)) > 4:
             raise QuantityError(f"exponent {val} is too large in unit {unit_text!r}")
         return "exponent"
-    # a bare number may only stand as the numerator of '1/min' or a scale like (1000 rpm)
-    if val.lstrip("-") not in ("1", "10", "100", "1000") or val.startswith("-"):
-        raise QuantityError(f"unexpected number {val} in unit {unit_text!r}")
-    if not more:
-        raise QuantityError(f"unit {unit_text!r} ends in a number")
+    if val != "1" or following != "/" or prev not in ("start", "open"):
+        raise QuantityError(
+            f"unexpected number {val} in unit {unit_text!r}: a unit may not carry a numeric scale factor",
+            "write the whole number before the unit (digits may be grouped in threes: '12 100 kg'), and a "
+            "prefixed unit instead of a factor ('V/krpm', not 'V/(1000 rpm)')",
+        )
     return "operand"
 
 
@@ -268,7 +312,8 @@ _LBF = _LB * 9.80665  # N, exact from the standard gravity
 # Every entry is checked against pint's definitions in tests/foundation/test_units.py.
 FAST_UNITS: dict[str, dict[str, float]] = {
     "power": {"W": 1.0, "kW": 1e3, "MW": 1e6, "hp": 550 * _FT * _LBF, "HP": 550 * _FT * _LBF,
-              "hp_mech": 550 * _FT * _LBF, "hp_metric": 75 * 9.80665, "hp_elec": 746.0},
+              "hp_mech": 550 * _FT * _LBF, "hp_metric": 75 * 9.80665, "PS": 75 * 9.80665, "CV": 75 * 9.80665,
+              "hp_elec": 746.0},
     "apparent_power": {"VA": 1.0, "kVA": 1e3, "MVA": 1e6},
     "torque": {"N*m": 1.0, "N·m": 1.0, "Nm": 1.0, "kN*m": 1e3, "kN·m": 1e3, "kNm": 1e3, "lbf*ft": _LBF * _FT,
                "lbf*in": _LBF * _IN, "ft*lbf": _LBF * _FT},
@@ -335,6 +380,8 @@ def _pint_conversion(unit_text: str, kind_name: str) -> tuple[float, float]:
     if text == "":
         raise QuantityError("a unit is required")
     text = _ALIASES.get(text, text)
+    if kind_name == "power":
+        text = _POWER_ALIASES.get(text, text)
     pint_unit = _speed_pint_unit(text) if kind_name == "rotational_speed" else _pint_unit_text(text, kind_name)
     return _pint_scale(text, pint_unit, kind_name)
 
@@ -475,11 +522,7 @@ def _parse_quantity(value: Any, kind_name: str) -> float:
         raise QuantityError(f"quantity text is longer than {MAX_QUANTITY_LENGTH} characters")
     if _DECIMAL_COMMA.match(text):
         raise QuantityError(f"{value!r} uses a decimal comma", "write the decimal point: '0.75 kW'")
-    m = _NUMBER.match(text)
-    if not m:
-        raise QuantityError(f"{value!r} does not start with a number", f"for example '{k.example}'")
-    number_text = m.group(1)
-    unit_text = text[m.end() :]
+    number_text, unit_text = _split_number(text, value, k)
     if unit_text.startswith(("*", "^", "e", "E")) and unit_text[:1] in "*^" :
         raise QuantityError(f"{value!r}: arithmetic is not allowed in a quantity", f"for example '{k.example}'")
     magnitude = float(number_text)
@@ -492,6 +535,59 @@ def _parse_quantity(value: Any, kind_name: str) -> float:
     if not math.isfinite(result):
         raise QuantityError(f"{value!r} is too large to be a physical value")
     return result
+
+
+def _split_number(text: str, value: Any, k: Kind) -> tuple[str, str]:
+    """Return (the number without its digit-group separators, the unit text) of a quantity string.
+
+    A number followed by more digits is either SI digit grouping ('12 100 kg', '1 100 kW', thin or no-break
+    spaces too: one number) or refused; only the unit '1/min' (and '1/s') may start with a digit.
+    """
+    m = _NUMBER.match(text)
+    if not m:
+        raise QuantityError(f"{value!r} does not start with a number", f"for example '{k.example}'")
+    rest = text[m.end() :]
+    if not rest[:1].isdigit():
+        return m.group(1), rest
+    grouped = _GROUPED_NUMBER.match(text)
+    if grouped:
+        return re.sub(_GROUP_SEPARATOR, "", grouped.group(1)), text[grouped.end() :]
+    if re.match(r"1\s*/", rest):
+        return m.group(1), rest  # '1455 1/min'
+    raise QuantityError(
+        f"{value!r}: digits after the number {m.group(1)!r} are neither SI digit groups nor a unit",
+        "group digits in threes with a space ('12 100 kg' is 12100 kg) or write the number without spaces "
+        f"('12100 kg'); for example '{k.example}'",
+    )
+
+
+def printed_resolution(text: Any, kind_name: str) -> float | None:
+    """Return half a unit of the last printed digit of a quantity, in the kind's SI unit; None if not a number.
+
+    '14.6 A' → 0.05 A, '400 V' → 0.5 V, '90.4 %' → 0.0005, 0.82 → 0.005, '7.5 kW' → 50 W: the rounding a
+    printed value may carry. Integers are read as exact to their last digit ('1400 A' → 0.5 A, the tighter
+    reading). Used for nameplate consistency bands.
+    """
+    if isinstance(text, bool):
+        return None
+    if isinstance(text, (int, float)):
+        number, unit_text = repr(text), ""
+    elif isinstance(text, str):
+        try:
+            number, unit_text = _split_number(text.strip(), text, KINDS[kind_name])
+        except QuantityError:
+            return None
+        number = re.sub(_GROUP_SEPARATOR, "", number)
+    else:
+        return None
+    mantissa, _, exponent = number.lower().partition("e")
+    decimals = len(mantissa.partition(".")[2])
+    step = 10.0 ** (int(exponent or 0) - decimals)
+    try:
+        scale, _offset = _conversion(unit_text.strip(), kind_name) if unit_text.strip() else (1.0, 0.0)
+    except QuantityError:
+        return None
+    return 0.5 * step * scale
 
 
 def ambiguity_notes(value: Any, kind_name: str) -> list[str]:

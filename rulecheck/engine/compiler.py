@@ -33,6 +33,8 @@ from jinja2 import tests as jinja_tests
 from jinja2.exceptions import SecurityError
 from jinja2.runtime import Undefined
 
+from rulecheck.units import REL_TOL
+
 __all__ = ["Translation", "TranslationError", "runtime", "translate"]
 
 _BINARY = {"Add": "+", "Sub": "-", "Div": "/"}  # plain Python operators (jinja's sandbox leaves them alone)
@@ -42,10 +44,8 @@ _COMPARE = {"eq": "==", "ne": "!=", "gt": ">", "gteq": ">=", "lt": "<", "lteq": 
 # Comparisons of two numbers go through these helpers: they compare at the data's precision (REL_TOL below).
 _NUMERIC_COMPARE = {"eq": "_eq", "ne": "_ne", "gt": "_gt", "gteq": "_ge", "lt": "_lt", "lteq": "_le"}
 
-# Two numbers within this relative distance of each other compare as equal: 690 V x 1.1 = 759.0000000000001 is
-# 759 V. Spec data carry at most about 6 significant figures and a double's rounding is ~1e-16 per operation, so
-# 1e-9 absorbs the arithmetic of any rule expression and lies far below any printed resolution.
-REL_TOL = 1e-9
+# Two numbers within REL_TOL (rulecheck.units, 1e-9: the one definition, shared with the physics' limit tests) of
+# each other compare as equal: 690 V x 1.1 = 759.0000000000001 is 759 V.
 
 
 # jinja's own tests that are one Python expression: written inline (as jinja's functions read), not called

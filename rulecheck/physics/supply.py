@@ -11,6 +11,7 @@ import math
 import numpy as np
 
 from rulecheck.physics._method import method
+from rulecheck.units import REL_TOL, at_least, at_most
 
 SQRT3 = math.sqrt(3.0)
 
@@ -222,8 +223,11 @@ def _inside_convex(point: tuple[float, float], vertices: tuple[tuple[float, floa
     for k in range(n):
         x1, y1 = vertices[k]
         x2, y2 = vertices[(k + 1) % n]
-        # counter-clockwise polygon: inside (or on an edge) when every cross product is ≥ 0
-        if (x2 - x1) * (y - y1) - (y2 - y1) * (x - x1) < -1e-12:
+        # counter-clockwise polygon: inside (or on an edge) when every cross product is ≥ 0. On an edge at the
+        # data's precision counts as on it: the tolerance is REL_TOL (the rule engine's) of the terms' magnitude,
+        # so (Δf, ΔV) = (0, 0.050000000000000044) from 420 V / 400 V lies on the +5 % edge.
+        scale = abs(x2 - x1) * (abs(y) + abs(y1)) + abs(y2 - y1) * (abs(x) + abs(x1))
+        if (x2 - x1) * (y - y1) - (y2 - y1) * (x - x1) < -REL_TOL * scale:
             return False
     return True
 
@@ -264,10 +268,11 @@ def in_iec_zone_b(voltage_deviation: float, frequency_deviation: float) -> bool:
     ----------
     IEC 60034-1 zone B axis values (±10 %, −5/+3 %) verified; the V/f approximation is docs/references.md R25 (M).
     """
-    if abs(voltage_deviation) > 0.10 + 1e-12 or not -0.05 - 1e-12 <= frequency_deviation <= 0.03 + 1e-12:
+    if not (at_most(abs(voltage_deviation), 0.10) and at_least(frequency_deviation, -0.05)
+            and at_most(frequency_deviation, 0.03)):
         return False
     v_over_f = (1.0 + voltage_deviation) / (1.0 + frequency_deviation)
-    return 0.90 - 1e-12 <= v_over_f <= 1.10 + 1e-12
+    return at_least(v_over_f, 0.90) and at_most(v_over_f, 1.10)
 
 
 @method(returns="fraction", voltage_deviation="fraction", frequency_deviation="fraction")
@@ -285,9 +290,8 @@ def within_nema_variation(voltage_deviation: float, frequency_deviation: float) 
     ----------
     NEMA MG 1, 12.44 (variation from rated voltage and frequency); docs/references.md R25 and K25.
     """
-    eps = 1e-12
     dv, df = abs(voltage_deviation), abs(frequency_deviation)
-    return dv <= 0.10 + eps and df <= 0.05 + eps and dv + df <= 0.10 + eps
+    return at_most(dv, 0.10) and at_most(df, 0.05) and at_most(dv + df, 0.10)
 
 
 @method(returns="fraction", voltage_a="voltage", voltage_b="voltage", voltage_c="voltage")
@@ -329,7 +333,7 @@ def unbalance_derating_factor(unbalance: float) -> float | None:
     ----------
     NEMA MG 1 derating curve for voltage unbalance (curve values from memory; docs/references.md R26).
     """
-    if unbalance > _UNBALANCE_POINTS[-1] + 1e-12:
+    if not at_most(unbalance, _UNBALANCE_POINTS[-1]):
         return None
     return float(np.interp(unbalance, _UNBALANCE_POINTS, _UNBALANCE_FACTORS))
 
@@ -353,6 +357,24 @@ _NEC_430_250 = {
     (100.0, 230): 248.0,
 }
 
+# 746 W (electrical horsepower) and 745.7 W (mechanical, NIST SP 811 B.8) differ by 0.04 %: NEC and NEMA MG 1 tables
+# treat them alike. A rating within 0.1 % of a table's hp is that hp; metric horsepower (735.5 W, 1.4 % less) is not.
+NEC_HP_MATCH = 0.001
+
+
+def nec_table_horsepower(rated_power: float, ratings: tuple[float, ...]) -> float | None:
+    """Return the hp rating of an hp-keyed table that a power [W] stands for, or None.
+
+    7457 W (10 hp at 745.7 W) and 7460 W (10 hp at 746 W) are both the table's 10 hp (within
+    :data:`NEC_HP_MATCH`); 7355 W (10 PS, metric) matches no rating.
+    """
+    hp = rated_power / HP_MECHANICAL
+    for rating in ratings:
+        if abs(hp - rating) <= NEC_HP_MATCH * rating:
+            return rating
+    return None
+
+
 # The table's voltages are motor ratings; the heading permits them for these system ranges (from memory).
 _NEC_VOLTAGE_COLUMNS = ((220.0, 240.0, 230), (440.0, 480.0, 460))
 
@@ -367,17 +389,17 @@ def nec_full_load_current(rated_power: float, voltage: float) -> float | None:
     voltage : motor rated voltage or system voltage [V]; 220–240 V reads the 230 V column, 440–480 V the
         460 V column
 
-    Method: table look-up keyed by hp rating (not by watts; pitfall 5). Use table FLC for conductors and
-    short-circuit protection, nameplate FLA for overloads (pitfall 18).
+    Method: table look-up keyed by hp rating (not by watts; pitfall 5); 746 W and 745.7 W per hp alike. Use
+    table FLC for conductors and short-circuit protection, nameplate FLA for overloads (pitfall 18).
 
     References
     ----------
     NFPA 70 (NEC) 2008, Table 430.250, as reproduced in docs/references.md K19 (only those entries are held).
     """
-    hp = round(rated_power / HP_MECHANICAL, 3)
     for low, high, column in _NEC_VOLTAGE_COLUMNS:
-        if low <= voltage <= high:
-            return _NEC_430_250.get((hp, column))
+        if at_least(voltage, low) and at_most(voltage, high):
+            hp = nec_table_horsepower(rated_power, tuple(h for h, c in _NEC_430_250 if c == column))
+            return _NEC_430_250.get((hp, column)) if hp is not None else None
     return None
 
 
@@ -437,7 +459,7 @@ def nec_overload_trip_max(
     ----------
     NFPA 70 (NEC) 2008, 430.32(A)(1); docs/references.md R24 and K22.
     """
-    generous = service_factor >= 1.15 - 1e-9 or (temperature_rise is not None and temperature_rise <= 40.0 + 1e-9)
+    generous = at_least(service_factor, 1.15) or (temperature_rise is not None and at_most(temperature_rise, 40.0))
     return (1.25 if generous else 1.15) * nameplate_current
 
 

@@ -190,3 +190,80 @@ def test_fast_unit_table_agrees_with_pint() -> None:
     for unit, (scale, offset) in _FAST_TEMPERATURE.items():
         ref = _pint_conversion(unit, "temperature")
         assert scale == pytest.approx(ref[0], rel=1e-12) and offset == pytest.approx(ref[1], abs=1e-9), unit
+
+
+# --- digit grouping and scale factors (issue 20 point 2) -------------------------------------------------------
+# SI Brochure, 9th edition (2019), 5.4.4: digits may be divided into groups of three by a space, never by a dot or
+# comma; the groups run both ways from the decimal marker ("43 279.168 29"). A grouped number is one number.
+
+@pytest.mark.parametrize("space", [" ", "\u2009", "\u00a0", "\u202f"], ids=["space", "thin", "no-break", "narrow"])
+def test_si_digit_groups_are_one_number(space: str) -> None:
+    assert parse_quantity(f"12{space}100 kg", "mass") == pytest.approx(12100.0, rel=REL)  # not 12 × 100 kg
+    assert parse_quantity(f"1{space}100 kW", "power") == pytest.approx(1.1e6, rel=REL)  # not 100 kW
+    assert parse_quantity(f"1{space}000{space}000 W", "power") == pytest.approx(1e6, rel=REL)
+    assert parse_quantity(f"43{space}279.168{space}29 m", "length") == pytest.approx(43279.16829, rel=REL)
+    assert parse_quantity(f"1{space}100 1/min", "rotational_speed") == pytest.approx(1100 * 2 * math.pi / 60,
+                                                                                     rel=REL)
+
+
+@pytest.mark.parametrize("text", ["12 10 kg", "12 1000 kg", "1 0000 W", "12\u200910 kg", "12 100,5 kg",
+                                  "2 10 N*m", "5 kg 100", "1 V/(1000 rpm)", "3 (10 kW)"])
+def test_digits_that_are_not_si_groups_or_scale_factors_are_refused(text: str) -> None:
+    kind_name = {"kg": "mass", "W": "power", "N*m": "torque", "V/(": "back_emf_constant", "kW)": "power"}
+    name = next(v for k, v in kind_name.items() if k in text)
+    with pytest.raises(QuantityError) as caught:
+        parse_quantity(text, name)
+    assert "digit groups" in caught.value.message or "scale factor" in caught.value.message
+
+
+def test_a_misgrouped_number_is_refused_at_its_location(tmp_path) -> None:
+    from rulecheck.check import check_file  # noqa: PLC0415 (only this test needs the whole check)
+
+    spec = tmp_path / "belt.yaml"
+    spec.write_text("format: 1\nmotor:\n  kind: induction\n  rated_power: 1 10 kW\n", encoding="utf-8")
+    result = check_file(spec, _context())
+    (problem,) = [o for o in result["outcomes"] if o["rule"] == "units-and-dimensions" and o["outcome"] == "fail"]
+    assert problem["location"]["line"] == 4 and problem["location"]["column"] >= 3
+    assert "SI digit groups" in problem["message"]
+
+
+def _context():
+    import datetime as dt  # noqa: PLC0415
+
+    from rulecheck.config import Config  # noqa: PLC0415
+    from rulecheck.run import prepare  # noqa: PLC0415
+
+    return prepare(Config(), [], dt.date(2026, 12, 1), "si", None).context
+
+
+def test_metric_horsepower_only_as_ps_cv_or_hp_metric() -> None:
+    # NIST SP 811 (2008) B.8: metric horsepower = 75 kgf·m/s = 735.498 75 W (PS, CV on European nameplates)
+    for text in ("10 PS", "10 CV", "10 hp_metric"):
+        assert parse_quantity(text, "power") == pytest.approx(7354.9875, rel=REL), text
+        assert not ambiguity_notes(text, "power")
+    with pytest.raises(QuantityError):
+        parse_quantity("10 ps", "power")  # no lower-case spelling: 'ps' is a picosecond in pint
+    with pytest.raises(QuantityError):
+        parse_quantity("10 PS", "apparent_power")
+
+
+def test_printed_resolution_is_half_the_last_digit() -> None:
+    from rulecheck.units import printed_resolution  # noqa: PLC0415
+
+    assert printed_resolution("14.6 A", "current") == pytest.approx(0.05, rel=REL)
+    assert printed_resolution("400 V", "voltage") == pytest.approx(0.5, rel=REL)
+    assert printed_resolution("90.4 %", "fraction") == pytest.approx(0.0005, rel=REL)
+    assert printed_resolution(0.82, "fraction") == pytest.approx(0.005, rel=REL)
+    assert printed_resolution("7.5 kW", "power") == pytest.approx(50.0, rel=REL)
+    assert printed_resolution("1.2e3 V", "voltage") == pytest.approx(50.0, rel=REL)
+    assert printed_resolution("12 100 kg", "mass") == pytest.approx(0.5, rel=REL)
+    assert printed_resolution("x kg", "mass") is None
+
+
+def test_limit_comparisons_share_the_engine_tolerance() -> None:
+    from rulecheck.engine import compiler  # noqa: PLC0415
+    from rulecheck.units import REL_TOL, at_least, at_most  # noqa: PLC0415
+
+    assert compiler.REL_TOL is REL_TOL  # one definition
+    assert at_most(690 * 1.1, 759.0) and not at_most(760.0, 759.0)
+    assert at_least(1.15 * (1 - 1e-12), 1.15) and not at_least(1.14, 1.15)
