@@ -49,6 +49,17 @@ CATALOGUE: dict[str, tuple[str | None, str]] = {
     "motor.rated_torque_given": ("flag", "the spec gives the rated torque itself (not derived from power and speed)"),
     "motor.electrical_input": ("power", "rated electrical input the nameplate implies: √3·V·I·cosφ (three-phase), "
                                         "V·I·cosφ (single-phase), V_a·I_a (DC armature)"),
+    "motor.breakdown_torque": ("torque", "breakdown torque (given, or breakdown_torque_ratio × rated torque)"),
+    "motor.peak_torque": ("torque", "peak torque (given, or peak_torque_ratio × rated torque)"),
+    "motor.field.power": ("power", "DC: field power (given, or field voltage × field current; 0 for a permanent-magnet "
+                          "or series field)"),
+    "motor.field_power_needed": ("flag", "DC: the field is separately excited, shunt or compound (or not stated) and "
+                                 "its power is part of the nameplate's electrical input"),
+    "motor.armature_input": ("power", "DC: armature input V_a·I_a at rated load"),
+    "motor.armature_implied_efficiency": ("fraction", "DC: P_N ÷ V_a·I_a, an upper bound of the efficiency (the "
+                                          "field's power is all loss)"),
+    "motor.nameplate_band": ("fraction", "largest |η_impl − η_decl| a true nameplate can show: printed resolution of "
+                             "V, I, cosφ, η (and field power) plus the IEC 60034-1 tolerances on η and cosφ"),
     "motor.nema_rated": ("flag", "the motor is rated to NEMA MG 1 (design letter A–D, NEMA frame or service factor)"),
     "motor.large_frame": ("flag", "IEC frame ≥ 280 or NEMA frame ≥ 500 (bearing-current trigger)"),
     "motor.enclosure_solids": (None, "first IP digit of the motor enclosure (X → 0)"),

@@ -8,16 +8,26 @@ import math
 import re
 from typing import Any
 
+from rulecheck import units
 from rulecheck.derive.record import Spec, default, put
 from rulecheck.model import Model
 from rulecheck.physics import machines as mc
 
-__all__ = ["DEFAULT_BRUSH_DROP", "MAGNETISING_SHARE", "VOLTAGE_ZONE_A", "derive_motor", "ip_digits", "large_frame",
+__all__ = ["DEFAULT_BRUSH_DROP", "IEC_EFFICIENCY_BREAKPOINT", "IEC_EFFICIENCY_TOLERANCE", "IEC_POWER_FACTOR_TOLERANCE",
+           "MAGNETISING_SHARE", "VOLTAGE_ZONE_A", "derive_motor", "ip_digits", "large_frame", "nameplate_band",
            "nema_rated"]
 
 MAGNETISING_SHARE = 0.35  # no-load current of an induction motor ÷ rated current: common practice (0.25–0.45)
 DEFAULT_BRUSH_DROP = 2.0  # V, brush drop of a DC machine: common practice
 VOLTAGE_ZONE_A = 0.05  # IEC 60034-1 zone A (±5 % voltage, ±2 % frequency): rated torque without derating
+
+# IEC 60034-1 schedule of tolerances (Table 20 in the 2010 edition; from memory, not verified against the text; older
+# editions put the efficiency breakpoint at 50 kW): efficiency −15 % of (1 − η) up to 150 kW, −10 % of (1 − η)
+# above; power factor of induction machines −(1 − cosφ)/6, at least 0.02 and at most 0.07 (absolute).
+IEC_EFFICIENCY_TOLERANCE = (0.15, 0.10)  # share of (1 − η): up to and above the breakpoint
+IEC_EFFICIENCY_BREAKPOINT = 150e3  # W
+IEC_POWER_FACTOR_TOLERANCE = (1.0 / 6.0, 0.02, 0.07)  # share of (1 − cosφ), smallest, largest
+_FIELD_WITHOUT_POWER = ("permanent-magnet", "series")  # no separate excitation input: 0 W beside V_a·I_a
 
 _IP = re.compile(r"^IP([0-6X])([0-9X]|9K)")
 _EX_TCLASS = re.compile(r"\bT([1-6])\b")
@@ -29,10 +39,13 @@ _IEC_FRAME = re.compile(r"^(\d{2,3})(S|M|L|MA|MB|LA|LB|SA|SB)?$")
 def derive_motor(m: Model, spec: Spec) -> None:
     """Every motor value an engineer works out from the nameplate."""
     _rated_torque(m)
+    _torque_ratios(m)
     _speeds(m)
     _base_speed(m)
     _powers(m)
+    _field_power(m)
     _electrical_input(m)
+    _nameplate_band(m, spec)
     _dc(m)
     _pm(m)
     _efficiency_class(m)
@@ -51,6 +64,23 @@ def _rated_torque(m: Model) -> None:
         given = m.provenance["motor.rated_torque"].source == "given"
         put(m, "motor.rated_torque_given", given, "provenance", ("motor.rated_torque",),
             "rated torque given in the spec" if given else "rated torque derived from power and speed")
+
+
+def _torque_ratios(m: Model) -> None:
+    """Breakdown and peak torque given as a datasheet multiple of rated torque (2.9, '290 %'): resolved here, once."""
+    tn = m.get("motor.rated_torque")
+    for name in ("breakdown_torque", "peak_torque"):
+        ratio = m.get(f"motor.{name}_ratio")
+        if ratio is None or tn is None:
+            continue
+        if m.has(f"motor.{name}"):  # both given: the torque wins; a contradiction is said
+            given = m.get(f"motor.{name}")
+            if abs(given - ratio * tn) > 0.05 * given:
+                m.notes.append(f"motor.{name} and motor.{name}_ratio disagree ({given:.4g} N·m against "
+                               f"{ratio:g} × {tn:.4g} N·m): motor.{name} is used")
+            continue
+        put(m, f"motor.{name}", ratio * tn, "ratio_of_rated_torque", (f"motor.{name}_ratio", "motor.rated_torque"),
+            f"{name.replace('_', ' ')} ratio × rated torque (datasheet multiple)")
 
 
 def _speeds(m: Model) -> None:
@@ -113,7 +143,93 @@ def _electrical_input(m: Model) -> None:
     p, p_in = m.get("motor.rated_power"), m.get("motor.electrical_input")
     if p is not None and p_in:
         put(m, "motor.implied_efficiency", p / p_in, "ratio", ("motor.rated_power", "motor.electrical_input"),
-            "P_N ÷ electrical input (√3·V·I·cosφ, V·I·cosφ or V_a·I_a)")
+            "P_N ÷ electrical input (√3·V·I·cosφ, V·I·cosφ or V_a·I_a + P_f)")
+    p_arm = m.get("motor.armature_input")
+    if p is not None and p_arm:
+        put(m, "motor.armature_implied_efficiency", p / p_arm, "ratio", ("motor.rated_power", "motor.armature_input"),
+            "P_N ÷ V_a·I_a (an upper bound: the field's power is all loss)")
+
+
+def nameplate_band(implied: float, declared: float, rated_power: float, input_rounding: float,
+                   efficiency_rounding: float, power_factor: float | None = None) -> float:
+    """Return the largest |η_impl − η_decl| [1] a true nameplate can show, in efficiency points.
+
+    Parameters
+    ----------
+    implied : η_impl, the efficiency the nameplate's V, I, cosφ imply [1]
+    declared : η_decl, the declared efficiency [1]
+    rated_power : P_N [W], for the IEC breakpoint
+    input_rounding : relative rounding of the implied input from the printed digits of V, I, cosφ (and P_f) [1]
+    efficiency_rounding : half the last printed digit of the declared η [1]
+    power_factor : declared cosφ of an induction machine (None: no power-factor tolerance applies)
+
+    Method: the worst case summed linearly, applied on both sides (the IEC tolerances allow the tested machine to
+    fall short of the declared η and cosφ; a nameplate may print a tested current beside declared η and cosφ, or
+    the reverse): η_impl·r_in + δη + k_η·(1 − η_decl) + η_impl·Δcosφ/cosφ, Δcosφ = (1 − cosφ)/6 within
+    [0.02, 0.07], k_η = 0.15 up to 150 kW and 0.10 above.
+
+    References
+    ----------
+    IEC 60034-1, schedule of tolerances (Table 20 in the 2010 edition; from memory: docs/references.md R03).
+    """
+    share = IEC_EFFICIENCY_TOLERANCE[0] if rated_power <= IEC_EFFICIENCY_BREAKPOINT else IEC_EFFICIENCY_TOLERANCE[1]
+    band = implied * input_rounding + efficiency_rounding + share * (1.0 - declared)
+    if power_factor:
+        k, low, high = IEC_POWER_FACTOR_TOLERANCE
+        band += implied * min(max(k * (1.0 - power_factor), low), high) / power_factor
+    return band
+
+
+def _rounding(spec: Spec, path: str, kind_name: str) -> float:
+    """Half the last printed digit of a given value, relative to the value (0 for a derived or unreadable one)."""
+    written, value = spec.quantities.written.get(path), spec.quantities.values.get(path)
+    half = units.printed_resolution(written, kind_name) if written is not None else None
+    return half / abs(value) if half and value else 0.0
+
+
+def _nameplate_band(m: Model, spec: Spec) -> None:
+    eff, p = m.get("motor.implied_efficiency", m.get("motor.armature_implied_efficiency")), m.get("motor.rated_power")
+    if eff is None or p is None:
+        return
+    declared = m.get("motor.efficiency", eff)
+    written = spec.quantities.written.get("motor.efficiency")
+    d_eta = units.printed_resolution(written, "fraction") if written is not None else None
+    if m.get("motor.kind") == "dc":
+        va = "motor.armature_voltage" if m.has("motor.armature_voltage") else "motor.rated_voltage"
+        ia = "motor.armature_current" if m.has("motor.armature_current") else "motor.rated_current"
+        r_arm = _rounding(spec, va, "voltage") + _rounding(spec, ia, "current")
+        p_arm, pf = m.get("motor.armature_input"), m.get("motor.field.power") or 0.0
+        given = spec.quantity("motor.field.power") is not None
+        field = _rounding(spec, "motor.field.power", "power") if given else (
+            _rounding(spec, "motor.field.voltage", "voltage") + _rounding(spec, "motor.field.current", "current"))
+        r_in = (r_arm * p_arm + field * pf) / (p_arm + pf)
+        inputs: tuple[str, ...] = (va, ia, "motor.field.power", "motor.efficiency")
+        cos_phi = None
+    else:
+        r_in = sum(_rounding(spec, path, k) for path, k in (("motor.rated_voltage", "voltage"),
+                   ("motor.rated_current", "current"), ("motor.power_factor", "fraction")))
+        inputs = ("motor.rated_voltage", "motor.rated_current", "motor.power_factor", "motor.efficiency")
+        cos_phi = m.get("motor.power_factor") if m.get("motor.kind") == "induction" else None
+    put(m, "motor.nameplate_band", nameplate_band(eff, declared, p, r_in, d_eta or 0.0, cos_phi), "nameplate_band",
+        inputs,
+        "printed resolution + IEC 60034-1 tolerances on η (and cosφ of an induction machine), from memory")
+
+
+def _field_power(m: Model) -> None:
+    """DC: the field's power, given or V_f·I_f; none for a permanent-magnet or series field (the series field is in
+    the armature circuit, inside V_a·I_a)."""
+    if m.get("motor.kind") != "dc":
+        return
+    field_kind = m.get("motor.field.kind")
+    put(m, "motor.field_power_needed", field_kind not in _FIELD_WITHOUT_POWER, "field_kind", ("motor.field.kind",),
+        "separately excited, shunt or compound field (or none stated): its power is part of the input")
+    if field_kind in _FIELD_WITHOUT_POWER:
+        put(m, "motor.field.power", 0.0, "field_kind", ("motor.field.kind",),
+            f"{field_kind} field: no excitation input beside the armature")
+        return
+    vf, i_f = m.get("motor.field.voltage"), m.get("motor.field.current")
+    if vf is not None and i_f is not None:
+        put(m, "motor.field.power", vf * i_f, "product", ("motor.field.voltage", "motor.field.current"), "V_f·I_f")
 
 
 def _input(m: Model) -> None:
@@ -121,9 +237,14 @@ def _input(m: Model) -> None:
     if kind == "dc":
         va = m.get("motor.armature_voltage", m.get("motor.rated_voltage"))
         ia = m.get("motor.armature_current", m.get("motor.rated_current"))
-        if va is not None and ia is not None:
-            put(m, "motor.electrical_input", va * ia, "product",
-                ("motor.armature_voltage", "motor.armature_current"), "V_a·I_a (armature; field power excluded)")
+        if va is None or ia is None:
+            return
+        put(m, "motor.armature_input", va * ia, "product", ("motor.armature_voltage", "motor.armature_current"),
+            "V_a·I_a")
+        pf = m.get("motor.field.power")
+        if pf is not None:
+            put(m, "motor.electrical_input", va * ia + pf, "sum",
+                ("motor.armature_voltage", "motor.armature_current", "motor.field.power"), "V_a·I_a + P_f")
         return
     v, i_n, pf = m.get("motor.rated_voltage"), m.get("motor.rated_current"), m.get("motor.power_factor")
     if kind not in ("induction", "pm-synchronous") or None in (v, i_n, pf):

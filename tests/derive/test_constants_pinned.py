@@ -23,7 +23,11 @@ CONSTANTS = [
     (supply, "DEFAULT_FREQUENCY_TOLERANCE", 0.03),  # supply.frequency_tolerance → supply-voltage-frequency
     (supply, "DEFAULT_FIRING_ANGLE_MIN", math.radians(20.0)),  # drive.armature_voltage_max → dc-armature-voltage
     (motor, "VOLTAGE_ZONE_A", 0.03),  # motor.base_speed → base-speed-voltage-match (415 V motor on 400 V)
-    (motor, "MAGNETISING_SHARE", 0.45),  # I_0 → train.motor_current_* → drive-current-continuous
+    (motor, "MAGNETISING_SHARE", 0.45),
+    # motor.nameplate_band → nameplate-electrical-power (IEC 60034-1 tolerances, band values in its examples)
+    (motor, "IEC_EFFICIENCY_TOLERANCE", (0.20, 0.10)),
+    (motor, "IEC_EFFICIENCY_BREAKPOINT", 200e3),
+    (motor, "IEC_POWER_FACTOR_TOLERANCE", (0.2, 0.02, 0.07)),  # I_0 → train.motor_current_* → drive-current-continuous
     # motor.rated_back_emf → dc-armature-voltage
     (motor, "DEFAULT_BRUSH_DROP", 3.0, [test_motor.test_dc_back_emf_with_the_default_brush_drop]),
     (site, "REFERENCE_AMBIENT", 35.0, [test_site.test_38_degrees_at_500_m_is_inside_the_rating]),
