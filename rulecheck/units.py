@@ -353,6 +353,12 @@ def _conversion(unit_text: str, kind_name: str) -> tuple[float, float]:
     unit_text = unit_text.replace("²", "^2").replace("³", "^3")
     if kind_name == "temperature" and unit_text in _FAST_TEMPERATURE:
         return _FAST_TEMPERATURE[unit_text]
+    if kind_name == "torque" and _TORQUE_MULTIPLE.search(unit_text):
+        raise QuantityError(
+            f"{unit_text!r} is a multiple of rated torque, not a torque",
+            "a datasheet's multiple goes in breakdown_torque_ratio or peak_torque_ratio, as a plain number (2.9) or "
+            "a percentage ('290 %'); here write the torque itself, e.g. '142 N*m'",
+        )
     if kind_name == "power" and _APPARENT_POWER.search(unit_text):
         raise QuantityError(
             f"{unit_text!r} is an apparent (or reactive) power, not a real power in watts such as a motor's shaft "
@@ -367,6 +373,9 @@ def _conversion(unit_text: str, kind_name: str) -> tuple[float, float]:
             return table[key], 0.0
     return _pint_conversion(unit_text, kind_name)
 
+
+# '290 %', '2.9 × rated', '2.9 x T_N': a multiple of rated torque written in a torque field.
+_TORQUE_MULTIPLE = re.compile(r"%|×|(?<![A-Za-z_])(?:x\s*)?(?:rated|T_?N|Tn)(?![A-Za-z_])")
 
 # VA, kVA, MVA (and var): pint reads a volt-ampere as a watt; a shaft power never is one.
 _APPARENT_POWER = re.compile(r"(?<![A-Za-z_])[kMm]?(VA|var)(?![A-Za-z_])")

@@ -267,3 +267,11 @@ def test_limit_comparisons_share_the_engine_tolerance() -> None:
     assert compiler.REL_TOL is REL_TOL  # one definition
     assert at_most(690 * 1.1, 759.0) and not at_most(760.0, 759.0)
     assert at_least(1.15 * (1 - 1e-12), 1.15) and not at_least(1.14, 1.15)
+
+
+@pytest.mark.parametrize("text", ["290 %", "2.9 × rated", "2.9 x rated", "2.9 T_N"])
+def test_a_torque_multiple_in_a_torque_field_points_to_the_ratio_fields(text: str) -> None:
+    with pytest.raises(QuantityError) as caught:
+        parse_quantity(text, "torque")
+    assert "multiple of rated torque" in caught.value.message and "breakdown_torque_ratio" in caught.value.hint
+    assert parse_quantity("290 %", "fraction") == pytest.approx(2.9, rel=REL)  # the ratio fields' spelling
