@@ -45,8 +45,13 @@ def test_electrical_input_forms() -> None:
                     "motor": {"kind": "induction", "rated_voltage": "230 V", "rated_current": "10 A",
                               "power_factor": 0.9}})
     assert single.get("motor.electrical_input") == pytest.approx(230 * 10 * 0.9, rel=1e-9)
+    # DC: V_a·I_a = 30 kW from the armature; the whole input adds the field's power, unknown until given
     dc = model({"motor": {"kind": "dc", "armature_voltage": "500 V", "armature_current": "60 A"}})
-    assert dc.get("motor.electrical_input") == pytest.approx(30000.0, rel=1e-9)
+    assert dc.get("motor.armature_input") == pytest.approx(30000.0, rel=1e-9)
+    assert not dc.has("motor.electrical_input")
+    dc_pm = model({"motor": {"kind": "dc", "armature_voltage": "500 V", "armature_current": "60 A",
+                             "field": {"kind": "permanent-magnet"}}})
+    assert dc_pm.get("motor.electrical_input") == pytest.approx(30000.0, rel=1e-9)
 
 
 def test_rated_torque_given_flag() -> None:
