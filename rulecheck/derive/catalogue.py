@@ -49,8 +49,8 @@ CATALOGUE: dict[str, tuple[str | None, str]] = {
     "motor.rated_torque_given": ("flag", "the spec gives the rated torque itself (not derived from power and speed)"),
     "motor.electrical_input": ("power", "rated electrical input the nameplate implies: √3·V·I·cosφ (three-phase), "
                                         "V·I·cosφ (single-phase), V_a·I_a (DC armature)"),
-    "motor.breakdown_torque": ("torque", "breakdown torque (given, or breakdown_torque_ratio × rated torque)"),
-    "motor.peak_torque": ("torque", "peak torque (given, or peak_torque_ratio × rated torque)"),
+    "motor.breakdown_torque": ("torque", "breakdown_torque_ratio × rated torque"),
+    "motor.peak_torque": ("torque", "peak_torque_ratio × rated torque"),
     "motor.field.power": ("power", "DC: field power (given, or field voltage × field current; 0 for a permanent-magnet "
                           "or series field)"),
     "motor.field_power_needed": ("flag", "DC: the field is separately excited, shunt or compound (or not stated) and "
