@@ -146,3 +146,25 @@ def test_k20_to_k23_nec_multipliers():
     assert supply.nec_short_circuit_protection_max(10) == pytest.approx(25.0)
     with pytest.raises(ValueError):
         supply.nec_short_circuit_protection_max(10, "fuse")
+
+
+def test_nec_hp_table_takes_746_and_745_7_watts_alike() -> None:
+    # NFPA 70 (NEC) 2008 Table 430.250 (docs/references.md K19): 10 hp, 460 V → 14 A. 10 hp is 7457.0 W at
+    # 745.7 W/hp (NIST SP 811 B.8) and 7460 W at 746 W/hp: 0.04 % apart, the same table row (NEC and NEMA practice).
+    assert supply.nec_full_load_current(7456.9987, 460.0) == 14.0
+    assert supply.nec_full_load_current(7460.0, 460.0) == 14.0
+    assert supply.nec_full_load_current(74600.0, 230.0) == 248.0
+    # 10 PS (metric, 735.5 W) = 7355 W is 9.86 hp: no row of the table
+    assert supply.nec_full_load_current(7354.9875, 460.0) is None
+
+
+def test_zone_edges_compare_at_the_engine_tolerance() -> None:
+    # 420 V on a 400 V motor is +5 % (IEC 60034-1 zone A edge, boundary included), though 420/400 − 1 is
+    # 0.050000000000000044 in floating point; 440 V is +10 %, the zone B edge; 0.1 + 1e-6 is outside.
+    assert supply.in_iec_zone_a(420 / 400 - 1, 0.0)
+    assert supply.in_iec_zone_a(380 / 400 - 1, -0.02)
+    assert supply.in_iec_zone_b(440 / 400 - 1, 0.0)
+    assert supply.in_iec_zone_b(360 / 400 - 1, 0.0)
+    assert not supply.in_iec_zone_b(0.10 + 1e-6, 0.0)
+    assert supply.within_nema_variation(506 / 460 - 1, 0.0)  # +10 %
+    assert not supply.within_nema_variation(0.05, 0.05 + 1e-6)
