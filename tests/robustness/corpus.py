@@ -206,6 +206,13 @@ def static_cases() -> list[Case]:
              "units-and-dimensions", _line_of(CONVEYOR, "rated_power")),
         Case("decimal-comma.yaml", _sub("rated_power: 7.5 kW", "rated_power: 7,5 kW"), ("decimal comma",),
              "units-and-dimensions", _line_of(CONVEYOR, "rated_power")),
+        # issue 20 point 2: '7 5 kW' is neither SI digit groups (threes) nor a unit: refused, never read as 7 × 5 kW
+        Case("digit-group-not-three.yaml", _sub("rated_power: 7.5 kW", "rated_power: 7 5 kW"),
+             ("digit groups",), "units-and-dimensions", _line_of(CONVEYOR, "rated_power")),
+        Case("digit-group-thin-space.yaml", _sub("rated_power: 7.5 kW", "rated_power: 1\u2009 10 kW"),
+             ("digit groups",), "units-and-dimensions", _line_of(CONVEYOR, "rated_power")),
+        Case("unit-scale-factor.yaml", _sub("rated_power: 7.5 kW", "rated_power: 7.5 (10 W)"),
+             ("scale factor",), "units-and-dimensions", _line_of(CONVEYOR, "rated_power")),
         Case("yaml11-bool.yaml", _sub("status: for-review", "status: yes"), ("quotes",), "spec-schema", 4),
         Case("yaml11-norway.yaml", _sub("ingress_required: IP54", "ingress_required: NO"), ("ingress_required",),
              "spec-schema", _line_of(CONVEYOR, "ingress_required")),
