@@ -188,6 +188,9 @@ def _rules_command(sub: Any) -> None:
                               description="Validate and dimension-check every rule file in a folder; problems are "
                                           "printed as file:line:column. Exit 1 when there are problems.")
     lint.add_argument("folder", metavar="DIR", help="the folder of rule files")
+    lint.add_argument("--strict", action="store_true",
+                      help="also reject a message, fix or pass message that can show a value the rule does not "
+                           "need to reach it (it would print '(message needs …)')")
 
 
 def _speed_options(parser: argparse.ArgumentParser) -> None:
@@ -710,7 +713,7 @@ def _cmd_rules(args: argparse.Namespace) -> int:
     if args.action == "show":
         return show_rule(args.rule, args.rule_paths)
     if args.action == "lint":
-        return lint_folder(args.folder)
+        return lint_folder(args.folder, strict=args.strict)
     return list_rules(args.rule_paths)
 
 
