@@ -45,9 +45,9 @@ def test_changed_since_outside_a_repository_gives_gits_reason(tmp_path: Path) ->
 def test_changed_since_an_unknown_revision_gives_gits_reason(tmp_path: Path) -> None:
     shutil.copy(CLEAN, tmp_path / "s.yaml")
     env = {"GIT_AUTHOR_NAME": "t", "GIT_AUTHOR_EMAIL": "t@t.invalid", "GIT_COMMITTER_NAME": "t",
-           "GIT_COMMITTER_EMAIL": "t@t.invalid"}
+           "GIT_COMMITTER_EMAIL": "t@t.invalid", "PATH": "/usr/bin:/bin", "HOME": str(tmp_path)}
     for args in (("init", "-q"), ("add", "-A"), ("commit", "-q", "-m", "one")):
-        subprocess.run(["git", *args], cwd=tmp_path, check=True, capture_output=True, env={**env, "PATH": "/usr/bin:/bin"})
+        subprocess.run(["git", *args], cwd=tmp_path, check=True, capture_output=True, env=env)
     proc = run_cli("check", "s.yaml", "--no-cache", "--changed-since", "HEAD~1", cwd=tmp_path)
     assert proc.returncode == 2
     assert "unknown revision 'HEAD~1'" in proc.stderr and "(git: fatal:" in proc.stderr
