@@ -175,15 +175,18 @@ def _rules_command(sub: Any) -> None:
                            description="List the rules (the default), show one, or lint a folder of rule files.")
     actions = rules.add_subparsers(dest="action", parser_class=_Parser, metavar="ACTION")
     extra_help = "an extra folder of rule files (may be repeated)"
-    for parser in (rules, actions.add_parser("list", help="list every rule with its topic and severity",
-                                             description="List every rule: id, topic, severity, safety, title.")):
-        parser.add_argument("--rules", dest="rule_paths", action="append", default=[], metavar="DIR",
-                            help=extra_help)
+    rules.add_argument("--rules", dest="rule_paths", action="append", default=[], metavar="DIR", help=extra_help)
+    listing = actions.add_parser("list", help="list every rule with its topic and severity",
+                                 description="List every rule: id, topic, severity, safety, title.")
+    # SUPPRESS: a subcommand's own --rules adds to those given before it (rulecheck rules --rules DIR show ID)
+    listing.add_argument("--rules", dest="rule_paths", action="append", default=argparse.SUPPRESS, metavar="DIR",
+                         help=extra_help)
     show = actions.add_parser("show", help="show what a rule checks, why, and its examples",
                               description="Show a rule: what it checks, its formula, parameters, basis and "
                                           "examples.")
     show.add_argument("rule", metavar="RULE", help="the rule id (or an alias)")
-    show.add_argument("--rules", dest="rule_paths", action="append", default=[], metavar="DIR", help=extra_help)
+    show.add_argument("--rules", dest="rule_paths", action="append", default=argparse.SUPPRESS, metavar="DIR",
+                      help=extra_help)
     lint = actions.add_parser("lint", help="lint a folder of rule files",
                               description="Validate and dimension-check every rule file in a folder; problems are "
                                           "printed as file:line:column. Exit 1 when there are problems.")
@@ -205,7 +208,8 @@ def _speed_options(parser: argparse.ArgumentParser) -> None:
 
 def _progress(args: argparse.Namespace) -> Any:
     """Return a progress callback for long runs on a terminal (never in CI logs or when piped)."""
-    if getattr(args, "no_progress", False) or not sys.stderr.isatty() or os.environ.get("CI"):
+    if (getattr(args, "no_progress", False) or getattr(args, "quiet", False) or not sys.stderr.isatty()
+            or os.environ.get("CI")):
         return None
     state = {"shown": False}
 
