@@ -426,17 +426,34 @@ def _lint_missing_in_messages(lint: _Lint, rule: Rule, full_ns: dict[str, Any], 
     for where, template, upto in templates:
         if template is None:
             continue
+        shown = [p for p in _template_reads(lint, template, rule, full, read, ns, fast)
+                 if _can_reach(lint, rule, full, p, upto, fast)]
+        if shown:
+            problems.append(_error(rule, where, f"shows {', '.join(shown)}, which the rule does not need to reach "
+                                   "this text: on a spec without it the text would say '(message needs …)' instead "
+                                   "of the finding; read it in a value the checks use, or guard it with "
+                                   "'{% if … is defined %}'"))
+
+
+def _template_reads(lint: _Lint, template: Any, rule: Rule, full: dict[str, Any], read: set[str], ns: dict[str, Any],
+                    fast: bool) -> list[str]:
+    """Return the paths a template reads beyond ``read`` (rendering again with each one found present)."""
+    extra: list[str] = []
+    for _ in range(_MAX_PATHS):
         try:
             template.render(**ns)
+            return extra
         except expr.MissingInput as exc:
-            shown = [p for p in exc.paths if p in paths and _can_reach(lint, rule, full, p, upto, fast)]
-            if shown:
-                problems.append(_error(rule, where, f"shows {', '.join(shown)}, which the rule does not need to "
-                                       "reach this text: on a spec without it the text would say '(message "
-                                       "needs …)' instead of the finding; read it in a value the checks use, "
-                                       "or guard it with '{% if … is defined %}'"))
+            new = [p for p in exc.paths if p in full["_paths"] and p not in extra]
+            if not new:
+                return extra
+            extra += new
+            ns = _partial_namespace(rule, full, read | set(extra))
+            for name, _compiled, text, _kind in rule.values:
+                ns[name] = expr.evaluate(lint.compile(text, fast=fast), ns)
         except Exception:  # noqa: BLE001 - a template that cannot be shown is reported by _lint_templates
-            continue
+            return extra
+    return extra
 
 
 def _can_reach(lint: _Lint, rule: Rule, full: dict[str, Any], path: str, upto: int, fast: bool) -> bool:
