@@ -81,17 +81,19 @@ def load(text: str, name: str = "baseline") -> Counter[Key]:
 
 
 def merge(old: list[dict[str, Any]], result: dict[str, Any], *, prune: bool,
-          file_of: Callable[[str], str] | None = None) -> tuple[list[dict[str, Any]], dict[str, int]]:
+          file_of: Callable[[str], str] | None = None,
+          gone: Callable[[str], bool] | None = None) -> tuple[list[dict[str, Any]], dict[str, int]]:
     """Return the entries of an updated baseline and what changed (``added``, ``removed``, ``kept``).
 
-    Entries of files not checked in ``result`` are kept as they are. For the files checked: update
-    (``prune`` False) takes the current findings; prune keeps an old entry only while the finding still
-    occurs (as many times as it occurs) and adds nothing.
+    Entries of files not checked in ``result`` are kept as they are, unless their file is ``gone`` (deleted):
+    those are removed. For the files checked: update (``prune`` False) takes the current findings; prune
+    keeps an old entry only while the finding still occurs (as many times as it occurs) and adds nothing.
     """
     checked = {file_of(s["file"]) if file_of else s["file"] for s in result["specs"]}
     current = _entries(result, file_of)
-    kept = [f for f in old if f["file"] not in checked]
-    previous = [f for f in old if f["file"] in checked]
+    deleted = {f["file"] for f in old if f["file"] not in checked and gone is not None and gone(f["file"])}
+    kept = [f for f in old if f["file"] not in checked and f["file"] not in deleted]
+    previous = [f for f in old if f["file"] in checked or f["file"] in deleted]
     if prune:
         occurring = Counter((f["rule"], f["file"], f["path"]) for f in current)
         survivors = []
@@ -110,8 +112,9 @@ def merge(old: list[dict[str, Any]], result: dict[str, Any], *, prune: bool,
 class Matcher:
     """Marks the findings a baseline knows, one spec at a time; what is left of the checked specs is fixed."""
 
-    def __init__(self, known: Counter[Key], name: str) -> None:
+    def __init__(self, known: Counter[Key], name: str, gone: Callable[[str], bool] | None = None) -> None:
         self.remaining = Counter(known)
+        self.gone = gone  # whether a spec file no longer exists: its entries are fixed
         self.name = name
         self.new = 0
         self.matched = 0
@@ -145,9 +148,9 @@ class Matcher:
 
     def summary(self) -> dict[str, Any]:
         """Return the baseline's part of the run summary: known (matched) and new findings, the known fails by
-        severity, and the fixed entries (of the specs checked in this run only)."""
+        severity, and the fixed entries (of the specs checked in this run, or deleted)."""
         fixed = [{"rule": r, "file": f, "path": p} for (r, f, p), n in sorted(self.remaining.items())
-                 if f in self.files for _ in range(n)]
+                 if (f in self.files or (self.gone is not None and self.gone(f))) for _ in range(n)]
         return {"file": self.name, "matched": self.matched, "new": self.new, "known": dict(self.known),
                 "fixed": fixed}
 
@@ -167,10 +170,10 @@ def _verdict(spec: dict[str, Any], unknown: list[dict[str, Any]]) -> str:
 
 
 def apply(result: dict[str, Any], known: Counter[Key], name: str,
-          file_of: Callable[[str], str] | None = None) -> None:
+          file_of: Callable[[str], str] | None = None, gone: Callable[[str], bool] | None = None) -> None:
     """Mark the findings of ``result`` that the baseline knows; record new, known and fixed ones in the
     summary (the exit code and failure counts leave the known findings out)."""
-    matcher = Matcher(known, name)
+    matcher = Matcher(known, name, gone)
     result["specs"] = [matcher.mark(spec, file_of(spec["file"]) if file_of else None) for spec in result["specs"]]
     summarise(result)
     matcher.adjust(result["summary"])

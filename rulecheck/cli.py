@@ -287,6 +287,10 @@ class _Paths:
         self.plain = self.same and not self.piped  # every path shows as the run gives it
         self._machine: dict[str, str] = {}
 
+    def gone(self, file: str) -> bool:
+        """Return whether a spec named from the repository root (a baseline entry) no longer exists."""
+        return file != "<stdin>" and not os.path.exists(os.path.join(self.root, file))
+
     def machine(self, file: str) -> str:
         """Return a spec's path relative to the repository root (absolute when it lies outside)."""
         if file in self.piped:
@@ -514,7 +518,7 @@ def _stream_check(args: argparse.Namespace, outputs: list[tuple[str, str | None]
         stream = run_stream(options, progress=_progress(args))
     except UsageError as exc:
         raise _Usage(str(exc)) from None
-    matcher = baseline.Matcher(known, args.baseline) if known is not None else None
+    matcher = baseline.Matcher(known, args.baseline, shown.gone) if known is not None else None
     tally = Tally(stream.header["settings"]["fail_on"])
     sinks: list[_Sink] = []
     try:
@@ -554,7 +558,7 @@ def _whole_check(args: argparse.Namespace, outputs: list[tuple[str, str | None]]
     if known is not None:
         from rulecheck import baseline
 
-        baseline.apply(result, known, args.baseline, shown.machine)
+        baseline.apply(result, known, args.baseline, shown.machine, shown.gone)
     rendered = [(file, render(shown.result(result, f), f, args, charts)) for f, file in outputs]
     markdown = render(shown.result(result, "markdown"), "markdown", args) if step_summary else None
     for file, text in rendered:  # every report is rendered before any is written: no partial set
@@ -651,7 +655,7 @@ def _cmd_baseline(args: argparse.Namespace) -> int:
     with _inputs(args) as (paths, shown):
         result, _charts = _run(args, paths)
     if args.update or args.prune:
-        entries, change = baseline.merge(old, result, prune=args.prune, file_of=shown.machine)
+        entries, change = baseline.merge(old, result, prune=args.prune, file_of=shown.machine, gone=shown.gone)
         text = baseline.render_entries(entries, result["tool"]["version"])
         what = f"{change['added']} added, {change['removed']} removed, {change['kept']} of specs not checked kept"
     else:

@@ -184,3 +184,17 @@ def test_baseline_update_keeps_unchecked_specs_and_prune_only_removes(repo: Path
     assert _run("baseline", "specs", "--prune", "--no-cache", cwd=repo).returncode == 0
     assert json.loads(base.read_text(encoding="utf-8"))["findings"] == pruned
     assert _run("baseline", "specs", "--prune", "-o", "missing.json", "--no-cache", cwd=repo).returncode == 2
+
+
+def test_findings_of_a_deleted_spec_are_fixed_and_pruned(repo: Path) -> None:
+    base = repo / ".rulecheck-baseline.json"
+    assert _run("baseline", "specs", "--no-cache", cwd=repo).returncode == 0
+    _git(repo, "rm", "-q", "specs/hoist.yaml")
+    proc = _run("check", "specs", "--no-cache", "--changed-since", "HEAD", "--baseline", str(base), "--format",
+                "json", cwd=repo)
+    fixed = _json(proc)["summary"]["baseline"]["fixed"]
+    assert [(f["file"], f["rule"]) for f in fixed] == [("specs/hoist.yaml", "holding-brake-vertical"),
+                                                       ("specs/hoist.yaml", "regen-braking-energy")]
+    proc = _run("baseline", "specs/conveyor.yaml", "--prune", "--no-cache", cwd=repo)
+    assert proc.returncode == 0 and "2 removed" in proc.stderr, proc.stderr
+    assert {f["file"] for f in json.loads(base.read_text(encoding="utf-8"))["findings"]} == {"specs/conveyor.yaml"}
