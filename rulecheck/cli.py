@@ -567,12 +567,26 @@ def _whole_check(args: argparse.Namespace, outputs: list[tuple[str, str | None]]
         except OSError as exc:
             raise _Usage(f"cannot write {file}: {exc.strerror or exc}") from None
     if step_summary and markdown is not None:
+        markdown = _fit_step_summary(markdown)
         try:
             with open(step_summary, "a", encoding="utf-8") as handle:  # the runner's file: append, never replace
                 handle.write(markdown + "\n")
         except OSError as exc:
             raise _Usage(f"cannot write the step summary {step_summary}: {exc.strerror or exc}") from None
     return result["summary"]
+
+
+STEP_SUMMARY_BYTES = 1_000_000  # a job step's summary is refused above 1 MiB: stay below it
+
+
+def _fit_step_summary(markdown: str) -> str:
+    """Return the Markdown report cut at a line so that it fits a step summary, saying so when cut."""
+    data = markdown.encode("utf-8")
+    if len(data) <= STEP_SUMMARY_BYTES:
+        return markdown
+    cut = data[:STEP_SUMMARY_BYTES - 200].decode("utf-8", "ignore").rsplit("\n", 1)[0]
+    return cut + "\n\n*(The report is cut here to fit the step summary; write the whole report with " \
+                 "`--report markdown=FILE`.)*\n"
 
 
 def ci_runner(environ: Mapping[str, str]) -> bool:

@@ -198,3 +198,13 @@ def test_findings_of_a_deleted_spec_are_fixed_and_pruned(repo: Path) -> None:
     proc = _run("baseline", "specs/conveyor.yaml", "--prune", "--no-cache", cwd=repo)
     assert proc.returncode == 0 and "2 removed" in proc.stderr, proc.stderr
     assert {f["file"] for f in json.loads(base.read_text(encoding="utf-8"))["findings"]} == {"specs/conveyor.yaml"}
+
+
+def test_a_step_summary_too_large_for_the_runner_is_cut_at_a_line() -> None:
+    from rulecheck import cli
+
+    long = "".join(f"| spec-{i:06d}.yaml | pass |\n" for i in range(60_000))
+    cut = cli._fit_step_summary(long)
+    assert len(cut.encode("utf-8")) <= cli.STEP_SUMMARY_BYTES < len(long.encode("utf-8"))
+    assert cut.endswith("`--report markdown=FILE`.)*\n") and "| spec-000000.yaml | pass |\n" in cut
+    assert cli._fit_step_summary("short\n") == "short\n"
