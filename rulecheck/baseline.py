@@ -1,99 +1,179 @@
 """Baselines: record a repository's current findings so that only new ones fail a pull request.
 
-A finding's identity is its rule, its file and its spec key path — never its line,
-so an edit that moves lines keeps the finding matched. Findings of the baseline
-that no longer occur are reported as fixed.
+A finding's identity is its rule, its file (relative to the repository root) and its spec key path — never
+its line, so an edit that moves lines keeps the finding matched. A finding the baseline knows is reported as
+known: it does not fail the run, does not count among the run's failures and does not make its spec's
+verdict. A baseline entry whose spec was checked and no longer has the finding is fixed; the entries of
+specs that were not checked in this run (a changed-only run, another folder) are neither new nor fixed.
+
+``rulecheck baseline`` writes a new baseline; ``--update`` replaces the entries of the specs it checks and
+keeps the others; ``--prune`` only removes the entries that are fixed.
 """
 
 from __future__ import annotations
 
 import json
 from collections import Counter
+from collections.abc import Callable, Iterable
 from typing import Any
 
-from rulecheck.result import is_finding, summarise
+from rulecheck.result import counts_of, is_finding, summarise, verdict_of
 
-__all__ = ["BaselineError", "apply", "identity", "load", "render"]
+__all__ = ["BaselineError", "Matcher", "apply", "identity", "load", "load_entries", "merge", "render",
+           "render_entries"]
 
 _FORMAT = "rulecheck-baseline"
+
+Key = tuple[str, str, str]
 
 
 class BaselineError(ValueError):
     """A baseline file that cannot be used."""
 
 
-def identity(spec: dict[str, Any], outcome: dict[str, Any]) -> tuple[str, str, str]:
-    """Return the stable identity of a finding: (rule, file, spec path)."""
-    return (outcome["rule"], spec["file"], (outcome.get("location") or {}).get("path") or "")
+def identity(spec: dict[str, Any], outcome: dict[str, Any], file: str | None = None) -> Key:
+    """Return the stable identity of a finding: (rule, file, spec path); ``file`` overrides the spec's."""
+    return (outcome["rule"], spec["file"] if file is None else file, (outcome.get("location") or {}).get("path") or "")
 
 
-def render(result: dict[str, Any]) -> str:
-    """Return the baseline document for the findings of ``result``."""
+def _entries(result: dict[str, Any], file_of: Callable[[str], str] | None = None) -> list[dict[str, Any]]:
+    """Return the baseline entries of the findings of ``result`` (``file_of`` maps a spec's file)."""
     findings = []
     for spec in result["specs"]:
+        file = file_of(spec["file"]) if file_of else spec["file"]
         for o in spec["outcomes"]:
             if is_finding(o):
-                rule, file, path = identity(spec, o)
+                rule, file, path = identity(spec, o, file)
                 findings.append({"rule": rule, "file": file, "path": path, "outcome": o["outcome"],
                                  "severity": o["severity"], "message": o["message"]})
-    findings.sort(key=lambda f: (f["file"], f["rule"], f["path"]))
-    doc = {"format": _FORMAT, "version": 1, "tool_version": result["tool"]["version"], "findings": findings}
+    return findings
+
+
+def render_entries(entries: Iterable[dict[str, Any]], tool_version: str) -> str:
+    """Return the baseline document of ``entries`` (sorted by file, rule, path)."""
+    findings = sorted(entries, key=lambda f: (f["file"], f["rule"], f["path"]))
+    doc = {"format": _FORMAT, "version": 1, "tool_version": tool_version, "findings": findings}
     return json.dumps(doc, indent=2, ensure_ascii=False) + "\n"
 
 
-def load(text: str, name: str = "baseline") -> Counter[tuple[str, str, str]]:
-    """Return the finding identities of a baseline document (with their counts)."""
+def render(result: dict[str, Any], file_of: Callable[[str], str] | None = None) -> str:
+    """Return the baseline document for the findings of ``result``."""
+    return render_entries(_entries(result, file_of), result["tool"]["version"])
+
+
+def load_entries(text: str, name: str = "baseline") -> list[dict[str, Any]]:
+    """Return the entries of a baseline document; BaselineError when it is not one."""
     try:
         doc = json.loads(text)
     except ValueError as exc:
         raise BaselineError(f"{name}: not a baseline file (invalid JSON: {exc})") from None
     if not isinstance(doc, dict) or doc.get("format") != _FORMAT or not isinstance(doc.get("findings"), list):
         raise BaselineError(f"{name}: not a rulecheck baseline file (write one with 'rulecheck baseline')")
-    out: Counter[tuple[str, str, str]] = Counter()
     for i, f in enumerate(doc["findings"]):
         if not isinstance(f, dict) or not all(isinstance(f.get(k), str) for k in ("rule", "file", "path")):
             raise BaselineError(f"{name}: findings[{i}] needs rule, file and path")
-        out[(f["rule"], f["file"], f["path"])] += 1
-    return out
+    return list(doc["findings"])
+
+
+def load(text: str, name: str = "baseline") -> Counter[Key]:
+    """Return the finding identities of a baseline document (with their counts)."""
+    return Counter((f["rule"], f["file"], f["path"]) for f in load_entries(text, name))
+
+
+def merge(old: list[dict[str, Any]], result: dict[str, Any], *, prune: bool,
+          file_of: Callable[[str], str] | None = None,
+          gone: Callable[[str], bool] | None = None) -> tuple[list[dict[str, Any]], dict[str, int]]:
+    """Return the entries of an updated baseline and what changed (``added``, ``removed``, ``kept``).
+
+    Entries of files not checked in ``result`` are kept as they are, unless their file is ``gone`` (deleted):
+    those are removed. For the files checked: update (``prune`` False) takes the current findings; prune
+    keeps an old entry only while the finding still occurs (as many times as it occurs) and adds nothing.
+    """
+    checked = {file_of(s["file"]) if file_of else s["file"] for s in result["specs"]}
+    current = _entries(result, file_of)
+    deleted = {f["file"] for f in old if f["file"] not in checked and gone is not None and gone(f["file"])}
+    kept = [f for f in old if f["file"] not in checked and f["file"] not in deleted]
+    previous = [f for f in old if f["file"] in checked or f["file"] in deleted]
+    if prune:
+        occurring = Counter((f["rule"], f["file"], f["path"]) for f in current)
+        survivors = []
+        for f in previous:
+            key = (f["rule"], f["file"], f["path"])
+            if occurring[key] > 0:
+                occurring[key] -= 1
+                survivors.append(f)
+        return kept + survivors, {"added": 0, "removed": len(previous) - len(survivors), "kept": len(kept)}
+    before = Counter((f["rule"], f["file"], f["path"]) for f in previous)
+    after = Counter((f["rule"], f["file"], f["path"]) for f in current)
+    return kept + current, {"added": sum((after - before).values()), "removed": sum((before - after).values()),
+                            "kept": len(kept)}
 
 
 class Matcher:
-    """Marks the findings a baseline knows, one spec at a time; what is left over has been fixed."""
+    """Marks the findings a baseline knows, one spec at a time; what is left of the checked specs is fixed."""
 
-    def __init__(self, known: Counter[tuple[str, str, str]], name: str) -> None:
+    def __init__(self, known: Counter[Key], name: str, gone: Callable[[str], bool] | None = None) -> None:
         self.remaining = Counter(known)
+        self.gone = gone  # whether a spec file no longer exists: its entries are fixed
         self.name = name
         self.new = 0
         self.matched = 0
+        self.known = dict.fromkeys(("error", "warning", "info"), 0)  # known fails by severity
+        self.files: set[str] = set()
 
-    def mark(self, spec: dict[str, Any]) -> dict[str, Any]:
-        """Return one spec with the findings the baseline knows marked (``baseline: true``; the spec given is
-        left as it is: a copy is returned when something is marked); count the new findings."""
+    def mark(self, spec: dict[str, Any], file: str | None = None) -> dict[str, Any]:
+        """Return one spec with the findings the baseline knows marked (``baseline: true``) and its verdict
+        worked out from the other findings; count the new findings. The spec given is left as it is (a copy
+        is returned when something is marked). ``file``: the spec's file as the baseline names it."""
+        self.files.add(spec["file"] if file is None else file)
         marked = None
         for i, o in enumerate(spec["outcomes"]):
             if not is_finding(o):
                 continue
-            key = identity(spec, o)
+            key = identity(spec, o, file)
             if self.remaining[key] > 0:
                 self.remaining[key] -= 1
                 if marked is None:
                     marked = list(spec["outcomes"])
                 marked[i] = {**o, "baseline": True}
                 self.matched += 1
+                if o["outcome"] == "fail":
+                    self.known[o["severity"]] += 1
             else:
                 self.new += 1
-        return spec if marked is None else {**spec, "outcomes": marked}
+        if marked is None:
+            return spec
+        unknown = [o for o in marked if not o.get("baseline")]
+        return {**spec, "outcomes": marked, "verdict": _verdict(spec, unknown)}
 
     def summary(self) -> dict[str, Any]:
-        """Return the baseline's part of the run summary."""
+        """Return the baseline's part of the run summary: known (matched) and new findings, the known fails by
+        severity, and the fixed entries (of the specs checked in this run, or deleted)."""
         fixed = [{"rule": r, "file": f, "path": p} for (r, f, p), n in sorted(self.remaining.items())
-                 for _ in range(n)]
-        return {"file": self.name, "matched": self.matched, "new": self.new, "fixed": fixed}
+                 if (f in self.files or (self.gone is not None and self.gone(f))) for _ in range(n)]
+        return {"file": self.name, "matched": self.matched, "new": self.new, "known": dict(self.known),
+                "fixed": fixed}
+
+    def adjust(self, summary: dict[str, Any]) -> None:
+        """Record the baseline in a run summary: known fails leave the failure counts and are counted as known."""
+        for level, n in self.known.items():
+            summary["fail"][level] = max(0, summary["fail"][level] - n)
+        summary["baseline"] = self.summary()
 
 
-def apply(result: dict[str, Any], known: Counter[tuple[str, str, str]], name: str) -> None:
-    """Mark the findings of ``result`` that the baseline knows; record new and fixed ones in the summary."""
-    matcher = Matcher(known, name)
-    result["specs"] = [matcher.mark(spec) for spec in result["specs"]]
-    result.setdefault("summary", {})["baseline"] = matcher.summary()
+def _verdict(spec: dict[str, Any], unknown: list[dict[str, Any]]) -> str:
+    """Return a spec's verdict from the findings a baseline does not know (a spec that did not load stays
+    invalid)."""
+    if spec.get("status") != "checked":
+        return str(spec.get("verdict") or "invalid")
+    return verdict_of("checked", counts_of(unknown), unknown)
+
+
+def apply(result: dict[str, Any], known: Counter[Key], name: str,
+          file_of: Callable[[str], str] | None = None, gone: Callable[[str], bool] | None = None) -> None:
+    """Mark the findings of ``result`` that the baseline knows; record new, known and fixed ones in the
+    summary (the exit code and failure counts leave the known findings out)."""
+    matcher = Matcher(known, name, gone)
+    result["specs"] = [matcher.mark(spec, file_of(spec["file"]) if file_of else None) for spec in result["specs"]]
     summarise(result)
+    matcher.adjust(result["summary"])

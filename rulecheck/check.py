@@ -6,6 +6,7 @@ import contextlib
 import copy
 import datetime as _dt
 import os
+import re
 import signal
 import threading
 from dataclasses import dataclass, field
@@ -335,6 +336,8 @@ def _check_document(doc: Document, ctx: CheckContext,
     spec_margins, margin_outcomes = _read_margins(margins, ctx.ruleset)
     findings += [finding(o, BUILTIN_RULES["margins-check"], doc) for o in margin_outcomes]
     rule_outcomes = _evaluate_rules(model, spec_margins, ctx)
+    if status == "invalid":
+        rule_outcomes = _not_checked_on_invalid(doc, problems, quantities, rule_outcomes, spec_margins, ctx, base_dir)
     waiver_outcomes = _apply_waivers(data.get("waivers"), rule_outcomes, ctx)
     rules = ctx.ruleset.rules
     findings += [finding(outcome, rules[rule_id].metadata(), doc) for rule_id, outcome in rule_outcomes.items()]
@@ -342,6 +345,94 @@ def _check_document(doc: Document, ctx: CheckContext,
     result = SpecResult(doc.file, status, tuple(findings), _text(data, "tag"), _text(data, "title"),
                         _text(data, "status"), doc.sha256, _derived_dict(model), tuple(model.notes))
     return result, _charts(model) if ctx.charts else None
+
+
+def _probes(doc: Document, path: str, quantities: Any) -> list[Any] | None:
+    """Return two stand-in values for a field that failed validation (SI floats for a quantity, two choices
+    of an enumeration, true and false for a flag), or None when the field has no stand-ins."""
+    from rulecheck.schema import fields
+
+    if "[" in path:
+        return None  # a field inside a list: no stand-in is put there
+    for _parts, value, node, field_path in fields(doc.data):
+        if field_path != path or not isinstance(node, dict):
+            continue
+        if node.get("x-dimension"):
+            found = re.match(r"\s*[-+]?(\d+(?:\.\d*)?(?:[eE][-+]?\d+)?)", str(value))
+            base = float(found.group(1)) if found and float(found.group(1)) > 0 else 1.0
+            return [("q", node["x-dimension"], base), ("q", node["x-dimension"], 1.5 * base)]
+        if isinstance(node.get("enum"), list) and len(node["enum"]) >= 2:
+            return [("v", None, node["enum"][0]), ("v", None, node["enum"][1])]
+        if node.get("type") == "boolean":
+            return [("v", None, True), ("v", None, False)]
+    return None
+
+
+def _probe_outcomes(doc: Document, problems: list[Any], quantities: Any, probes: dict[str, Any], spec_margins: Any,
+                    ctx: CheckContext, base_dir: Path | None) -> dict[str, Outcome]:
+    """Return every rule's outcome with the failed fields given the stand-in values ``probes`` (path → probe)."""
+    from rulecheck.derive import build_model
+
+    data = _without(doc.data, problems)
+    q = copy.copy(quantities)
+    q.values, q.kinds, q.written = dict(quantities.values), dict(quantities.kinds), dict(quantities.written)
+    for path, (how, kind_name, value) in probes.items():
+        node = data
+        parts = path.split(".")
+        for part in parts[:-1]:
+            node = node.setdefault(part, {}) if isinstance(node, dict) else {}
+        if not isinstance(node, dict):
+            continue
+        if how == "q":
+            q.values[path], q.kinds[path], q.written[path] = float(value), kind_name, str(doc_value(doc, parts))
+            node[parts[-1]] = doc_value(doc, parts)
+        else:
+            node[parts[-1]] = value
+    model = build_model(doc.with_data(data), q, base_dir=base_dir)
+    return _evaluate_rules(model, spec_margins, ctx)
+
+
+def doc_value(doc: Document, parts: list[str]) -> Any:
+    """Return the value at a key path of a spec as written (None when absent)."""
+    node: Any = doc.data
+    for part in parts:
+        if not isinstance(node, dict) or part not in node:
+            return None
+        node = node[part]
+    return node
+
+
+def _signature(o: Outcome) -> tuple[Any, ...]:
+    return (o.outcome, o.severity, tuple(sorted(o.values.items())), tuple(o.missing))
+
+
+def _not_checked_on_invalid(doc: Document, problems: list[Any], quantities: Any, outcomes: dict[str, Outcome],
+                            spec_margins: Any, ctx: CheckContext, base_dir: Path | None) -> dict[str, Outcome]:
+    """Return the outcomes with every rule that depends on a field that failed validation made not-checked,
+    naming that field: the rules ran with the field left out, and a rule that falls back to another value
+    when a field is absent would otherwise report a finding about a value the spec does not give.
+
+    A rule depends on the failed fields when its outcome changes once they are given stand-in values (two
+    sets, and their absence): an outcome that is the same whatever they are does not depend on them."""
+    failed = sorted({p.path for p in problems if p.severity == "error" and p.parts and p.path})
+    stand_ins = {path: _probes(doc, path, quantities) for path in failed}
+    if not failed or any(v is None for v in stand_ins.values()):
+        return outcomes  # a field without stand-ins (a list, free text): the outcomes stay as they are
+    runs = [_probe_outcomes(doc, problems, quantities, {p: v[i] for p, v in stand_ins.items()}, spec_margins, ctx,
+                            base_dir) for i in (0, 1)]
+    reason = ", ".join(failed)
+    changed: dict[str, Outcome] = {}
+    for rule_id, outcome in outcomes.items():
+        signatures = {_signature(outcome), *(_signature(run[rule_id]) for run in runs if rule_id in run)}
+        if len(signatures) == 1:
+            changed[rule_id] = outcome
+            continue
+        rule = ctx.ruleset.rules[rule_id]
+        missing = [*failed, *(m for m in outcome.missing if m not in failed)]
+        changed[rule_id] = Outcome(rule_id, "not-checked", "warning" if rule.safety else "info",
+                                   f"not checked: it depends on {reason}, which failed validation; correct "
+                                   f"{'it' if len(failed) == 1 else 'them'} first", rule.location, missing=missing)
+    return changed
 
 
 def _charts(model: Any) -> dict[str, Any]:

@@ -1,8 +1,13 @@
-"""The command line: ``rulecheck check | rules | schema | mail | new | import``.
+"""The command line: ``rulecheck check | baseline | mail | rules | schema | completion | new | import``.
 
-Exit codes: 0 nothing at or above the fail level; 1 findings at or above it
-(including specs that do not load); 2 usage errors (bad options, missing paths,
-unusable configuration or rule files); 130 interrupted.
+Exit codes: 0 nothing at or above the fail level (findings a baseline knows do not count); 1 findings at or
+above it (including specs that do not load); 2 usage errors (bad options, missing paths, a PATH without spec
+files unless --allow-empty, an unknown git revision or no repository for --changed-since, unusable
+configuration or rule files); 130 interrupted.
+
+Under GitHub Actions (GITHUB_ACTIONS=true) ``check`` writes annotation lines to standard output (unless a
+format or output file is given), a one-line summary to standard error and a Markdown summary appended to
+$GITHUB_STEP_SUMMARY. Machine-readable reports and baselines name specs relative to the repository root.
 """
 
 from __future__ import annotations
@@ -13,7 +18,8 @@ import difflib
 import os
 import sys
 import tempfile
-from collections.abc import Sequence
+from collections.abc import Iterator, Mapping, Sequence
+from contextlib import contextmanager
 from pathlib import Path
 from typing import Any, NoReturn
 
@@ -49,52 +55,110 @@ class _Parser(argparse.ArgumentParser):
         self.exit(2, f"{self.prog}: error: {message}{hint}\n")
 
 
+FAIL_ON = ("error", "warning", "info")
+_FORMAT_HELP = "one of " + ", ".join(FORMATS)
+
+
 def _parser() -> _Parser:
     parser = _Parser(prog="rulecheck", description="Design-rule checks for electric drive-train specifications.",
                      epilog="A screening aid: local codes and the authority having jurisdiction govern; "
                             "safety-relevant designs need licensed review.")
     parser.add_argument("--version", action="version", version=f"rulecheck {__version__}")
     sub = parser.add_subparsers(dest="command", parser_class=_Parser, metavar="COMMAND")
+    _check_command(sub)
+    _baseline_command(sub)
+    _mail_command(sub)
+    _rules_command(sub)
+    schema = sub.add_parser("schema", help="print a JSON Schema",
+                            description="Print a JSON Schema: the spec format (the file shipped as "
+                                        "rulecheck/schemas/spec.schema.json, for editors), the JSON result or a "
+                                        "rule file.")
+    schema.add_argument("which", nargs="?", choices=("spec", "result", "rule"), default="spec",
+                        help="which schema (default: spec)")
+    schema.add_argument("--markdown", action="store_true", help="the spec format as a Markdown reference")
+    completion = sub.add_parser("completion", help="print a shell completion script",
+                                description="Print a completion script for a shell, e.g. "
+                                            "'rulecheck completion bash > ~/.local/share/bash-completion/"
+                                            "completions/rulecheck'.")
+    completion.add_argument("shell", choices=("bash", "zsh", "tcsh"), help="the shell: bash, zsh or tcsh")
+    authoring.add_commands(sub)  # new, import
+    return parser
 
+
+def _run_options(parser: argparse.ArgumentParser, *, fail_on: bool = True) -> None:
+    """Add the options every command that checks specs shares: configuration, rules, date, speed."""
+    parser.add_argument("paths", nargs="+", metavar="PATH",
+                        help="spec files or folders (folders are searched for *.yaml, *.yml); '-' reads one spec "
+                             "from standard input")
+    parser.add_argument("--config", metavar="FILE", help="configuration file (default: found by walking up)")
+    parser.add_argument("--rules", dest="rule_paths", action="append", default=[], metavar="DIR",
+                        help="an extra folder of rule files (may be repeated)")
+    parser.add_argument("--today", metavar="YYYY-MM-DD", help="date for waiver expiry (default: today)")
+    if fail_on:
+        parser.add_argument("--fail-on", choices=FAIL_ON, default=None, metavar="LEVEL",
+                            help="lowest severity that makes the exit code 1: error, warning or info "
+                                 "(default: error, or the configuration's)")
+    parser.add_argument("--allow-empty", action="store_true",
+                        help="a PATH without spec files is not an error (exit 0 with nothing checked)")
+    parser.add_argument("--root", metavar="DIR",
+                        help="the folder paths in machine-readable reports are relative to (default: the git "
+                             "top level, else the current folder)")
+    parser.add_argument("--quiet", "-q", action="store_true",
+                        help="print findings and errors only (no summary or progress lines)")
+    _speed_options(parser)
+
+
+def _check_command(sub: Any) -> None:
     check = sub.add_parser("check", help="check spec files and folders", description="Check drive specifications.")
-    check.add_argument("paths", nargs="+", metavar="PATH", help="spec files or folders (searched for *.yaml, *.yml)")
-    check.add_argument("--format", "-f", choices=FORMATS, default=None,
-                       help="output format (default: text, or annotations when a CI runner is detected)")
+    _run_options(check)
+    check.add_argument("--format", "-f", choices=FORMATS, default=None, metavar="FORMAT",
+                       help=f"output format, {_FORMAT_HELP} (default: text; annotations under GitHub Actions)")
     check.add_argument("--output", "-o", metavar="FILE", help="write the report to FILE (written atomically)")
-    check.add_argument("--fail-on", choices=("error", "warning", "info"), default=None,
-                       help="lowest severity that makes the exit code 1 (default: error)")
-    check.add_argument("--config", metavar="FILE", help="configuration file (default: found by walking up)")
-    check.add_argument("--rules", dest="rule_paths", action="append", default=[], metavar="DIR",
-                       help="an extra folder of rule files (may be repeated)")
     check.add_argument("--units", choices=("si", "customary"), default=None, help="how values are shown")
     check.add_argument("--show-derived", action="store_true", help="list derived values with their provenance")
     check.add_argument("--verbose", "-v", action="store_true", help="also show passes, waivers and all not-checked")
-    check.add_argument("--no-color", action="store_true", help="never colour the output")
+    _colour_options(check)
     check.add_argument("--no-charts", action="store_true", help="leave charts out of the HTML report")
-    check.add_argument("--today", metavar="YYYY-MM-DD", help="date for waiver expiry (default: today)")
     check.add_argument("--report", action="append", default=[], metavar="FORMAT=FILE",
                        help="also write a report in FORMAT to FILE (may be repeated), e.g. sarif=out.sarif")
-    check.add_argument("--baseline", metavar="FILE", help="findings recorded in FILE do not fail the run")
+    check.add_argument("--baseline", metavar="FILE",
+                       help="findings recorded in FILE are reported as known and do not fail the run")
     check.add_argument("--changed-since", metavar="REV",
                        help="check only specs changed since git revision REV (all, if rules or configuration changed)")
-    _speed_options(check)
 
+
+def _colour_options(parser: argparse.ArgumentParser) -> None:
+    parser.add_argument("--color", "--colour", dest="color", choices=("auto", "always", "never"), default="auto",
+                        metavar="WHEN",
+                        help="colour the text report: auto (default: on a terminal, unless NO_COLOR is set or "
+                             "TERM=dumb; FORCE_COLOR turns it on), always or never")
+    parser.add_argument("--no-color", dest="color", action="store_const", const="never",
+                        help="same as --color=never")
+
+
+def _baseline_command(sub: Any) -> None:
     baseline = sub.add_parser("baseline", help="record the current findings in a baseline file",
-                              description="Write the current findings of specs to a baseline file.")
-    baseline.add_argument("paths", nargs="+", metavar="PATH")
+                              description="Write the current findings of specs to a baseline file, or update or "
+                                          "prune an existing one. A finding is known by its rule, file and spec "
+                                          "key (not its line).")
+    _run_options(baseline, fail_on=False)
     baseline.add_argument("--output", "-o", metavar="FILE", default=".rulecheck-baseline.json",
                           help="baseline file to write (default: .rulecheck-baseline.json)")
-    baseline.add_argument("--config", metavar="FILE")
-    baseline.add_argument("--rules", dest="rule_paths", action="append", default=[], metavar="DIR")
-    baseline.add_argument("--today", metavar="YYYY-MM-DD")
-    _speed_options(baseline)
+    mode = baseline.add_mutually_exclusive_group()
+    mode.add_argument("--update", action="store_true",
+                      help="rewrite FILE with the current findings of the specs checked; entries of specs not "
+                           "checked now are kept")
+    mode.add_argument("--prune", action="store_true",
+                      help="remove from FILE the findings that no longer occur (fixed ones); add nothing new")
 
+
+def _mail_command(sub: Any) -> None:
     mail = sub.add_parser("mail", help="write or send the findings report as an e-mail",
                           description="Write the findings report as an e-mail (.eml) or send it over SMTP. "
                                       "SMTP settings come from RULECHECK_SMTP_HOST, RULECHECK_SMTP_PORT, "
                                       "RULECHECK_SMTP_SECURITY (starttls|tls|none), RULECHECK_SMTP_USER and "
                                       "RULECHECK_SMTP_PASSWORD, never from a spec file.")
-    mail.add_argument("paths", nargs="+", metavar="PATH")
+    _run_options(mail)
     mail.add_argument("--to", action="append", required=True, metavar="ADDRESS", help="recipient (may be repeated)")
     mail.add_argument("--from", dest="sender", default=os.environ.get("RULECHECK_MAIL_FROM", "rulecheck@localhost"),
                       metavar="ADDRESS", help="sender (default: RULECHECK_MAIL_FROM or rulecheck@localhost)")
@@ -103,24 +167,33 @@ def _parser() -> _Parser:
     mail.add_argument("--html", metavar="FILE", help="also write the HTML report to FILE (before anything is sent)")
     mail.add_argument("--send", action="store_true", help="send the message over SMTP")
     mail.add_argument("--dry-run", action="store_true", help="show what would be sent, without connecting")
-    mail.add_argument("--config", metavar="FILE")
-    mail.add_argument("--rules", dest="rule_paths", action="append", default=[], metavar="DIR")
-    mail.add_argument("--units", choices=("si", "customary"), default=None)
-    mail.add_argument("--today", metavar="YYYY-MM-DD")
-    mail.add_argument("--fail-on", choices=("error", "warning", "info"), default=None)
-    _speed_options(mail)
+    mail.add_argument("--units", choices=("si", "customary"), default=None, help="how values are shown")
 
-    rules = sub.add_parser("rules", help="list, show or lint rules", description="List, show or lint rules.")
-    rules.add_argument("action", nargs="?", choices=("list", "show", "lint"), default="list")
-    rules.add_argument("target", nargs="?", help="rule id (show) or folder (lint)")
-    rules.add_argument("--rules", dest="rule_paths", action="append", default=[], metavar="DIR",
-                       help="an extra folder of rule files")
 
-    schema = sub.add_parser("schema", help="print a JSON Schema", description="Print a JSON Schema.")
-    schema.add_argument("which", nargs="?", choices=("spec", "result", "rule"), default="spec")
-    schema.add_argument("--markdown", action="store_true", help="the spec format as a Markdown reference")
-    authoring.add_commands(sub)  # new, import
-    return parser
+def _rules_command(sub: Any) -> None:
+    rules = sub.add_parser("rules", help="list, show or lint rules",
+                           description="List the rules (the default), show one, or lint a folder of rule files.")
+    actions = rules.add_subparsers(dest="action", parser_class=_Parser, metavar="ACTION")
+    extra_help = "an extra folder of rule files (may be repeated)"
+    rules.add_argument("--rules", dest="rule_paths", action="append", default=[], metavar="DIR", help=extra_help)
+    listing = actions.add_parser("list", help="list every rule with its topic and severity",
+                                 description="List every rule: id, topic, severity, safety, title.")
+    # SUPPRESS: a subcommand's own --rules adds to those given before it (rulecheck rules --rules DIR show ID)
+    listing.add_argument("--rules", dest="rule_paths", action="append", default=argparse.SUPPRESS, metavar="DIR",
+                         help=extra_help)
+    show = actions.add_parser("show", help="show what a rule checks, why, and its examples",
+                              description="Show a rule: what it checks, its formula, parameters, basis and "
+                                          "examples.")
+    show.add_argument("rule", metavar="RULE", help="the rule id (or an alias)")
+    show.add_argument("--rules", dest="rule_paths", action="append", default=argparse.SUPPRESS, metavar="DIR",
+                      help=extra_help)
+    lint = actions.add_parser("lint", help="lint a folder of rule files",
+                              description="Validate and dimension-check every rule file in a folder; problems are "
+                                          "printed as file:line:column. Exit 1 when there are problems.")
+    lint.add_argument("folder", metavar="DIR", help="the folder of rule files")
+    lint.add_argument("--strict", action="store_true",
+                      help="also reject a message, fix or pass message that can show a value the rule does not "
+                           "need to reach it (it would print '(message needs …)')")
 
 
 def _speed_options(parser: argparse.ArgumentParser) -> None:
@@ -135,7 +208,8 @@ def _speed_options(parser: argparse.ArgumentParser) -> None:
 
 def _progress(args: argparse.Namespace) -> Any:
     """Return a progress callback for long runs on a terminal (never in CI logs or when piped)."""
-    if getattr(args, "no_progress", False) or not sys.stderr.isatty() or os.environ.get("CI"):
+    if (getattr(args, "no_progress", False) or getattr(args, "quiet", False) or not sys.stderr.isatty()
+            or os.environ.get("CI")):
         return None
     state = {"shown": False}
 
@@ -172,9 +246,80 @@ def _write(path: str | None, text: str | bytes) -> None:
     write_atomic(target, data)
 
 
+def colour_wanted(choice: str, environ: Mapping[str, str], isatty: bool) -> bool:
+    """Return whether the text report is coloured.
+
+    ``--color=always``/``never`` decide (the command line overrides the environment). ``auto``: NO_COLOR set to
+    any non-empty value turns colour off (an empty NO_COLOR counts as unset, no-color.org); otherwise
+    FORCE_COLOR set to any non-empty value turns it on (force-color.org); otherwise TERM=dumb turns it off and
+    a terminal turns it on.
+    """
+    if choice in ("always", "never"):
+        return choice == "always"
+    if environ.get("NO_COLOR"):
+        return False
+    if environ.get("FORCE_COLOR"):
+        return True
+    if environ.get("TERM") == "dumb":
+        return False
+    return isatty
+
+
 def _colour(args: argparse.Namespace) -> bool:
-    return (not args.no_color and "NO_COLOR" not in os.environ and sys.stdout.isatty()
-            and args.output in (None, "-"))
+    return args.output in (None, "-") and colour_wanted(getattr(args, "color", "auto"), os.environ,
+                                                        sys.stdout.isatty())
+
+
+class _Paths:
+    """How a run shows spec paths: the terminal report as given (relative to the current folder), the
+    machine-readable reports and baselines relative to the repository root; a spec read from standard input
+    or a pipe under the name it was given as."""
+
+    MACHINE = ("json", "sarif", "junit", "annotations", "markdown")
+
+    def __init__(self, root: Path, piped: dict[str, str]) -> None:
+        from rulecheck.check import display_path
+
+        self.cwd = os.getcwd()
+        self.root = str(root)
+        self.piped = {display_path(Path(k), Path(self.cwd)): v for k, v in piped.items()}
+        self.same = os.path.realpath(self.cwd) == self.root
+        self.plain = self.same and not self.piped  # every path shows as the run gives it
+        self._machine: dict[str, str] = {}
+
+    def gone(self, file: str) -> bool:
+        """Return whether a spec named from the repository root (a baseline entry) no longer exists."""
+        return file != "<stdin>" and not os.path.exists(os.path.join(self.root, file))
+
+    def machine(self, file: str) -> str:
+        """Return a spec's path relative to the repository root (absolute when it lies outside)."""
+        if file in self.piped:
+            return self.piped[file]
+        if self.same:
+            return file
+        shown = self._machine.get(file)
+        if shown is None:
+            absolute = os.path.normpath(os.path.join(self.cwd, file))
+            rel = os.path.relpath(absolute, self.root)
+            shown = absolute if rel == ".." or rel.startswith(".." + os.sep) else rel
+            shown = self._machine[file] = shown.replace(os.sep, "/")
+        return shown
+
+    def terminal(self, file: str) -> str:
+        return self.piped.get(file, file)
+
+    def spec(self, spec: Any, fmt: str) -> Any:
+        """Return a spec result with its path as the format ``fmt`` shows it."""
+        if self.plain:
+            return spec
+        file = self.machine(spec["file"]) if fmt in self.MACHINE else self.terminal(spec["file"])
+        return spec if file == spec["file"] else {**spec, "file": file}
+
+    def result(self, result: dict[str, Any], fmt: str) -> dict[str, Any]:
+        """Return a whole result with its spec paths as ``fmt`` shows them."""
+        if self.plain:
+            return result
+        return {**result, "specs": [self.spec(s, fmt) for s in result["specs"]]}
 
 
 def render(result: dict[str, Any], fmt: str, args: argparse.Namespace, charts: list[Any] | None = None) -> str:
@@ -207,6 +352,9 @@ def render(result: dict[str, Any], fmt: str, args: argparse.Namespace, charts: l
         return annotations.render(result, min_severity="warning")
     from rulecheck.report import text
 
+    if getattr(args, "quiet", False):
+        report = text.TextReport(colour=_colour(args), verbose=False, show_derived=args.show_derived, units=units)
+        return "".join(report.spec(spec) for spec in result["specs"])
     return text.render(result, colour=_colour(args), verbose=args.verbose, show_derived=args.show_derived)
 
 
@@ -233,6 +381,30 @@ def _options(args: argparse.Namespace, paths: list[str]) -> Any:
                       today=_today(args), jobs=args.jobs, cache_dir=None if args.no_cache else _cache_dir(args),
                       changed_since=getattr(args, "changed_since", None),
                       charts=getattr(args, "_charts", True), code_cache_dir=_code_cache_dir(args))
+
+
+@contextmanager
+def _inputs(args: argparse.Namespace) -> Iterator[tuple[list[str], _Paths]]:
+    """Yield the paths a run checks and how it shows them: standard input (``-``) and pipes read once into a
+    temporary folder (removed afterwards); every PATH must hold a spec file unless ``--allow-empty``."""
+    from rulecheck.run import UsageError
+    from rulecheck.run.discovery import has_specs, read_piped, repository_root
+
+    if getattr(args, "quiet", False) and getattr(args, "verbose", False):
+        raise _Usage("--quiet and --verbose exclude each other")
+    with tempfile.TemporaryDirectory(prefix="rulecheck-stdin-") as folder:
+        try:
+            paths, piped = read_piped(args.paths, Path(folder), sys.stdin.buffer.read)
+            root = repository_root(getattr(args, "root", None), Path.cwd())
+        except UsageError as exc:
+            raise _Usage(str(exc)) from None
+        for given, path in zip(args.paths, paths, strict=True):
+            if not os.path.exists(path):
+                raise _Usage(f"{given}: no such file or directory")
+            if not args.allow_empty and not has_specs(path):
+                raise _Usage(f"{given}: no spec files found (*.yaml, *.yml; hidden folders and links are "
+                             "skipped); name spec files or folders that hold them, or give --allow-empty")
+        yield paths, _Paths(root, piped)
 
 
 def _run(args: argparse.Namespace, paths: list[str]) -> tuple[dict[str, Any], list[Any] | None]:
@@ -266,8 +438,10 @@ STREAMED = ("text", "json", "annotations")  # formats written spec by spec: memo
 class _Sink:
     """One report being written as the specs arrive; a file is written to a temporary name, then renamed."""
 
-    def __init__(self, fmt: str, file: str | None, args: argparse.Namespace, header: dict[str, Any]) -> None:
-        self.fmt, self.file, self.tmp = fmt, file, None
+    def __init__(self, fmt: str, file: str | None, args: argparse.Namespace, header: dict[str, Any],
+                 paths: _Paths) -> None:
+        self.fmt, self.file, self.tmp, self.paths = fmt, file, None, paths
+        self.quiet = bool(getattr(args, "quiet", False))
         self.to_stdout = file in (None, "-")
         target = Path(file) if file and not self.to_stdout else None
         if target is not None and target.exists() and not target.is_file():
@@ -298,6 +472,7 @@ class _Sink:
         return lambda data: self.handle.write(data.decode("utf-8"))
 
     def spec(self, spec: dict[str, Any]) -> None:
+        spec = self.paths.spec(spec, self.fmt)
         if self.fmt == "json":
             self.json.spec(spec)
         elif self.fmt == "text":
@@ -310,7 +485,7 @@ class _Sink:
     def finish(self, summary: dict[str, Any]) -> None:
         if self.fmt == "json":
             self.json.end(summary)
-        elif self.fmt == "text":
+        elif self.fmt == "text" and not self.quiet:
             self.handle.write(self.text.footer(summary))
         self.handle.flush()
         if not self.to_stdout:
@@ -329,34 +504,35 @@ class _Sink:
                 pass
 
 
-def _stream_check(args: argparse.Namespace, outputs: list[tuple[str, str | None]], known: Any) -> dict[str, Any]:
+def _stream_check(args: argparse.Namespace, outputs: list[tuple[str, str | None]], known: Any,
+                  paths: list[str], shown: _Paths) -> dict[str, Any]:
     """Check and write the streamed formats spec by spec; return the summary."""
     from rulecheck import baseline
     from rulecheck.result import Tally
     from rulecheck.run import UsageError, run_stream
 
-    options = _options(args, args.paths)
+    options = _options(args, paths)
     # a JSON report copies cached results as they are: they need not be parsed
-    options.lazy_cached = known is None and all(fmt == "json" for fmt, _file in outputs)
+    options.lazy_cached = known is None and shown.plain and all(fmt == "json" for fmt, _file in outputs)
     try:
         stream = run_stream(options, progress=_progress(args))
     except UsageError as exc:
         raise _Usage(str(exc)) from None
-    matcher = baseline.Matcher(known, args.baseline) if known is not None else None
+    matcher = baseline.Matcher(known, args.baseline, shown.gone) if known is not None else None
     tally = Tally(stream.header["settings"]["fail_on"])
     sinks: list[_Sink] = []
     try:
         for fmt, file in outputs:
-            sinks.append(_Sink(fmt, file, args, stream.header))
+            sinks.append(_Sink(fmt, file, args, stream.header, shown))
         for spec in stream.specs:
             if matcher is not None:
-                spec = matcher.mark(spec)
+                spec = matcher.mark(spec, shown.machine(spec["file"]))
             tally.add(spec)
             for sink in sinks:
                 sink.spec(spec)
         summary = tally.result()
         if matcher is not None:
-            summary["baseline"] = matcher.summary()
+            matcher.adjust(summary)
         stream.add_cache_counts(summary)
         for sink in sinks:
             sink.finish(summary)
@@ -375,55 +551,103 @@ def _stream_check(args: argparse.Namespace, outputs: list[tuple[str, str | None]
     return summary
 
 
-def _cmd_check(args: argparse.Namespace) -> int:
-    reports: list[tuple[str, str]] = []
+def _whole_check(args: argparse.Namespace, outputs: list[tuple[str, str | None]], known: Any,
+                 paths: list[str], shown: _Paths, step_summary: str | None) -> dict[str, Any]:
+    """Check every spec, then render and write every report (and the CI step summary); return the summary."""
+    result, charts = _run(args, paths)
+    if known is not None:
+        from rulecheck import baseline
+
+        baseline.apply(result, known, args.baseline, shown.machine, shown.gone)
+    rendered = [(file, render(shown.result(result, f), f, args, charts)) for f, file in outputs]
+    markdown = render(shown.result(result, "markdown"), "markdown", args) if step_summary else None
+    for file, text in rendered:  # every report is rendered before any is written: no partial set
+        try:
+            _write(file, text)
+        except OSError as exc:
+            raise _Usage(f"cannot write {file}: {exc.strerror or exc}") from None
+    if step_summary and markdown is not None:
+        markdown = _fit_step_summary(markdown)
+        try:
+            with open(step_summary, "a", encoding="utf-8") as handle:  # the runner's file: append, never replace
+                handle.write(markdown + "\n")
+        except OSError as exc:
+            raise _Usage(f"cannot write the step summary {step_summary}: {exc.strerror or exc}") from None
+    return result["summary"]
+
+
+STEP_SUMMARY_BYTES = 1_000_000  # a job step's summary is refused above 1 MiB: stay below it
+
+
+def _fit_step_summary(markdown: str) -> str:
+    """Return the Markdown report cut at a line so that it fits a step summary, saying so when cut."""
+    data = markdown.encode("utf-8")
+    if len(data) <= STEP_SUMMARY_BYTES:
+        return markdown
+    cut = data[:STEP_SUMMARY_BYTES - 200].decode("utf-8", "ignore").rsplit("\n", 1)[0]
+    return cut + "\n\n*(The report is cut here to fit the step summary; write the whole report with " \
+                 "`--report markdown=FILE`.)*\n"
+
+
+def ci_runner(environ: Mapping[str, str]) -> bool:
+    """Return whether the run is under a CI runner that reads annotation lines (GitHub Actions)."""
+    from rulecheck.report.annotations import detect_ci_annotations
+
+    return detect_ci_annotations(environ)
+
+
+def summary_line(summary: dict[str, Any]) -> str:
+    """Return the one-line summary of a run: specs, findings that fail it, known ones, exit code."""
+    n = summary["specs"]
+    fail = summary["fail"]
+    text = (f"rulecheck: {n} spec{'s' if n != 1 else ''}, {fail['error']} error{'s' if fail['error'] != 1 else ''}, "
+            f"{fail['warning']} warning{'s' if fail['warning'] != 1 else ''}, {summary['not-checked']} not checked")
+    if "baseline" in summary:
+        b = summary["baseline"]
+        text += f"; baseline {b['file']}: {b['matched']} known, {b['new']} new, {len(b['fixed'])} fixed"
+    verdict = "fails" if summary["exit_code"] else "passes"
+    return text + f"; the run {verdict} at --fail-on {summary['fail_on']} (exit {summary['exit_code']})"
+
+
+def _load_baseline(args: argparse.Namespace) -> Any:
+    if not args.baseline:
+        return None
+    from rulecheck import baseline
+
+    try:
+        return baseline.load(Path(args.baseline).read_text(encoding="utf-8"), args.baseline)
+    except OSError as exc:
+        raise _Usage(f"--baseline {args.baseline}: {exc.strerror or exc}") from None
+    except baseline.BaselineError as exc:
+        raise _Usage(str(exc)) from None
+
+
+def _outputs(args: argparse.Namespace, ci: bool) -> list[tuple[str, str | None]]:
+    reports: list[tuple[str, str | None]] = []
     for entry in args.report:
         fmt, sep, file = entry.partition("=")
         if not sep or fmt not in FORMATS or not file:
             raise _Usage(f"--report {entry!r}: write FORMAT=FILE with FORMAT one of {', '.join(FORMATS)}")
         reports.append((fmt, file))
-    fmt = args.format
-    if fmt is None:
-        from rulecheck.report.annotations import detect_ci_annotations
+    fmt = args.format or ("annotations" if ci and not args.output else "text")
+    return [(fmt, args.output), *reports]
 
-        fmt = "annotations" if detect_ci_annotations(os.environ) and not args.output else "text"
-    outputs: list[tuple[str, str | None]] = [(fmt, args.output), *reports]
+
+def _cmd_check(args: argparse.Namespace) -> int:
+    ci = ci_runner(os.environ)
+    outputs = _outputs(args, ci)
     # chart series are computed beside the results only for a report that draws them
     args._charts = any(f == "html" for f, _file in outputs) and not args.no_charts
-    known = None
-    if args.baseline:
-        from rulecheck import baseline
-
-        try:
-            known = baseline.load(Path(args.baseline).read_text(encoding="utf-8"), args.baseline)
-        except OSError as exc:
-            raise _Usage(f"--baseline {args.baseline}: {exc.strerror or exc}") from None
-        except baseline.BaselineError as exc:
-            raise _Usage(str(exc)) from None
-    if all(f in STREAMED for f, _file in outputs):
-        summary = _stream_check(args, outputs, known)
-    else:
-        result, charts = _run(args, args.paths)
-        if known is not None:
-            from rulecheck import baseline
-
-            baseline.apply(result, known, args.baseline)
-        rendered = [(f, file, render(result, f, args, charts)) for f, file in outputs]
-        for _f, file, text in rendered:  # every report is rendered before any is written: no partial set
-            try:
-                _write(file, text)
-            except OSError as exc:
-                raise _Usage(f"cannot write {file}: {exc.strerror or exc}") from None
-        summary = result["summary"]
+    known = _load_baseline(args)
+    step_summary = os.environ.get("GITHUB_STEP_SUMMARY") if ci else None
+    with _inputs(args) as (paths, shown):
+        if all(f in STREAMED for f, _file in outputs) and not step_summary:
+            summary = _stream_check(args, outputs, known, paths, shown)
+        else:
+            summary = _whole_check(args, outputs, known, paths, shown, step_summary)
     written = [file for _f, file in outputs if file not in (None, "-")]
-    if written and (fmt != "text" or reports):
-        print(f"rulecheck: {summary['specs']} spec{'s' if summary['specs'] != 1 else ''}, "
-              f"{summary['fail']['error']} errors, {summary['fail']['warning']} warnings, "
-              f"{summary['not-checked']} not checked; wrote " + ", ".join(written), file=sys.stderr)
-    if args.baseline:
-        b = summary["baseline"]
-        print(f"rulecheck: baseline {args.baseline}: {b['matched']} known, {b['new']} new, "
-              f"{len(b['fixed'])} fixed", file=sys.stderr)
+    if not args.quiet and (ci or args.baseline or written and (outputs[0][0] != "text" or len(outputs) > 1)):
+        print(summary_line(summary) + ("; wrote " + ", ".join(written) if written else ""), file=sys.stderr)
     return int(summary["exit_code"])
 
 
@@ -431,22 +655,43 @@ def _cmd_baseline(args: argparse.Namespace) -> int:
     from rulecheck import baseline
 
     args._charts = False
-    result, _charts = _run(args, args.paths)
-    text = baseline.render(result)
+    old: list[dict[str, Any]] = []
+    if args.update or args.prune:
+        try:
+            old = baseline.load_entries(Path(args.output).read_text(encoding="utf-8"), args.output)
+        except FileNotFoundError:
+            if args.prune:
+                raise _Usage(f"--prune: {args.output} does not exist (write one with 'rulecheck baseline')") from None
+        except OSError as exc:
+            raise _Usage(f"{args.output}: {exc.strerror or exc}") from None
+        except baseline.BaselineError as exc:
+            raise _Usage(str(exc)) from None
+    with _inputs(args) as (paths, shown):
+        result, _charts = _run(args, paths)
+    if args.update or args.prune:
+        entries, change = baseline.merge(old, result, prune=args.prune, file_of=shown.machine, gone=shown.gone)
+        text = baseline.render_entries(entries, result["tool"]["version"])
+        what = f"{change['added']} added, {change['removed']} removed, {change['kept']} of specs not checked kept"
+    else:
+        text = baseline.render(result, shown.machine)
+        what = "written"
     try:
         _write(args.output, text)
     except OSError as exc:
         raise _Usage(f"cannot write {args.output}: {exc.strerror or exc}") from None
-    count = text.count('"rule":')
-    print(f"rulecheck: wrote {args.output} with {count} findings of {result['summary']['specs']} specs",
-          file=sys.stderr)
+    if not args.quiet:
+        count = text.count('"rule":')
+        print(f"rulecheck: {args.output}: {count} findings ({what}); {result['summary']['specs']} specs checked",
+              file=sys.stderr)
     return 0
 
 
 def _cmd_mail(args: argparse.Namespace) -> int:
     from rulecheck.report import mail
 
-    result, charts = _run(args, args.paths)
+    with _inputs(args) as (paths, shown):
+        result, charts = _run(args, paths)
+    result = shown.result(result, "text")
     try:
         drawn = with_charts(result, charts if charts is not None else [None] * len(result["specs"]))
         message = mail.build_message(drawn, sender=args.sender, recipients=args.to, subject=args.subject,
@@ -487,42 +732,41 @@ def _cmd_mail(args: argparse.Namespace) -> int:
 def _cmd_rules(args: argparse.Namespace) -> int:
     from rulecheck.rules_cmd import lint_folder, list_rules, show_rule
 
-    if args.action == "list":
-        return list_rules(args.rule_paths)
     if args.action == "show":
-        if not args.target:
-            print("rulecheck: rules show needs a rule id", file=sys.stderr)
-            return 2
-        return show_rule(args.target, args.rule_paths)
-    if not args.target:
-        print("rulecheck: rules lint needs a folder", file=sys.stderr)
-        return 2
-    return lint_folder(args.target)
+        return show_rule(args.rule, args.rule_paths)
+    if args.action == "lint":
+        return lint_folder(args.folder, strict=args.strict)
+    return list_rules(args.rule_paths)
 
 
 def _cmd_schema(args: argparse.Namespace) -> int:
     import json
+    from importlib import resources
 
     if args.markdown:
         from rulecheck.docs import spec_format_markdown
 
         sys.stdout.write(spec_format_markdown())
         return 0
-    if args.which == "spec":
-        from rulecheck.schema import schema_json
-
-        sys.stdout.write(schema_json())
+    if args.which == "spec":  # the shipped file itself: what an editor's modeline points at
+        sys.stdout.write(resources.files("rulecheck").joinpath("schemas/spec.schema.json").read_text(encoding="utf-8"))
     elif args.which == "result":
         from rulecheck.report import jsonout
 
         sys.stdout.write(json.dumps(jsonout.schema(), indent=2, ensure_ascii=False) + "\n")
     else:
-        from importlib import resources
-
         import yaml
 
         text = resources.files("rulecheck").joinpath("schemas/rule.schema.yaml").read_text(encoding="utf-8")
         sys.stdout.write(json.dumps(yaml.safe_load(text), indent=2, ensure_ascii=False) + "\n")
+    return 0
+
+
+def _cmd_completion(args: argparse.Namespace) -> int:
+    """Print the shell completion script, generated from the parser itself (shtab)."""
+    import shtab
+
+    sys.stdout.write(shtab.complete(_parser(), shell=args.shell))
     return 0
 
 
@@ -534,7 +778,7 @@ def main(argv: Sequence[str] | None = None) -> int:
         parser.print_help()
         return 2
     commands = {"check": _cmd_check, "baseline": _cmd_baseline, "mail": _cmd_mail, "rules": _cmd_rules,
-                "schema": _cmd_schema, **authoring.COMMANDS}
+                "schema": _cmd_schema, "completion": _cmd_completion, **authoring.COMMANDS}
     try:
         return commands[args.command](args)
     except _Usage as exc:

@@ -9,9 +9,9 @@ from pathlib import Path
 from rulecheck.check import BUILTIN_RULES
 from rulecheck.derive import catalogue  # the catalogue rule expressions may read besides the spec's fields
 from rulecheck.engine.lint import lint_rule
-from rulecheck.engine.ruleset import RuleError, load_rules, rule_files, shipped_rules_dir
+from rulecheck.engine.ruleset import RuleError, load_rules, rule_files, rules_digest, shipped_rules_dir
 
-__all__ = ["lint_folder", "list_rules", "show_rule"]
+__all__ = ["is_shipped_rules", "lint_folder", "list_rules", "show_rule"]
 
 _STATUS = {"V": "verified", "V*": "verified numerically", "P": "derivation", "M": "from memory",
            "C": "common practice"}
@@ -89,27 +89,45 @@ def show_rule(rule_id: str, extra: list[str]) -> int:
     return 0
 
 
-def lint_folder(folder: str) -> int:
+def is_shipped_rules(folder: Path) -> bool:
+    """Return whether a folder is (a copy of) the shipped rules: the same folder, the same rule files (names
+    and bytes), or a source tree's copy holding a file of every shipped rule file's name."""
+    shipped = shipped_rules_dir()
+    if folder.resolve() == shipped.resolve():
+        return True
+    mine = {p.name for p in rule_files(folder)}
+    theirs = {p.name for p in rule_files(shipped)}
+    if not theirs or not theirs <= mine:
+        return False
+    return mine == theirs and rules_digest([folder]) == rules_digest([shipped]) or (
+        folder.resolve().parent / "rulecheck" / "__init__.py").is_file()
+
+
+def lint_folder(folder: str, strict: bool = False) -> int:
     """Validate and dimension-check every rule file in ``folder``; print problems as file:line:col.
 
-    A folder other than the shipped one is checked as ``check --rules`` would load it: beside the
-    shipped rules, so an id that repeats a shipped rule's is reported.
+    A folder other than the shipped rules is checked as ``check --rules`` would load it: beside the
+    shipped rules, so an id that repeats a shipped rule's is reported. A folder that is the shipped rules
+    (the same folder, the same files, or a source tree's copy holding a file of every shipped rule's name,
+    such as the repository's ``rules/`` while an installed copy exists) is linted on its own.
+    ``strict``: also reject a message that can show a value the rule does not need to reach it.
     """
     path = Path(folder)
     if not path.is_dir():
         print(f"rulecheck: {folder}: not a folder", file=sys.stderr)
         return 2
     shipped = shipped_rules_dir().resolve()
-    folders = [path] if path.resolve() == shipped else [shipped_rules_dir(), path]
+    alone = is_shipped_rules(path)
+    folders = [path] if alone else [shipped_rules_dir(), path]
     ruleset, problems = load_rules(folders)
-    problems = [p for p in problems if path.resolve() == shipped or not p.file.startswith(str(shipped))]
+    problems = [p for p in problems if alone or not p.file.startswith(str(shipped))]
     files = rule_files(path)
     for rule in ruleset.rules.values():
         if Path(rule.file).resolve().parent != path.resolve():
             continue
         if rule.id in BUILTIN_RULES:
             problems.append(RuleError(rule.file, f"rule id '{rule.id}' is the id of a built-in check"))
-        _kinds, found = lint_rule(rule, catalogue(), ruleset.compile_cache)
+        _kinds, found = lint_rule(rule, catalogue(), ruleset.compile_cache, messages=strict)
         problems.extend(found)
         outcomes = {e["outcome"] for e in rule.examples}
         if "pass" not in outcomes or "fail" not in outcomes:

@@ -229,26 +229,33 @@ def _run(lint: _Lint, rule: Rule, where: str, text: str, ns: dict[str, Any], fas
         raise _error(rule, where, f"{exc} in {text!r}") from None
 
 
-def lint_rule(rule: Rule, derived: Derived,
-              cache: expr.CompileCache | None = None) -> tuple[dict[str, str | None], list[RuleError]]:
+def lint_rule(rule: Rule, derived: Derived, cache: expr.CompileCache | None = None,
+              messages: bool = False) -> tuple[dict[str, str | None], list[RuleError]]:
     """Return (kinds of the rule's named values, problems found) for one compiled rule.
 
     ``derived``: the derive stage's catalogue (path → kind, or path → (kind, meaning)), the paths besides the
     spec format's that expressions may read. ``cache``: the compile cache to translate with.
     A first pass evaluates with :class:`dims.Dim` samples (no pint); a rule it finds anything in, or is
     unsure of, is checked again with pint quantities, whose findings (and wording) are the ones kept.
+    ``messages``: also report a message, fix or pass message that can show a value the rule does not need to
+    reach it (:func:`_lint_missing_in_messages`).
     """
-    return _lint_both(_Lint(derived, cache), rule)
+    return _lint_both(_Lint(derived, cache), rule, messages)
 
 
-def _lint_both(lint: _Lint, rule: Rule) -> tuple[dict[str, str | None], list[RuleError]]:
+def _lint_both(lint: _Lint, rule: Rule, messages: bool = False) -> tuple[dict[str, str | None], list[RuleError]]:
     try:
         kinds, problems = _lint_rule(lint, rule, fast=True)
-        if not problems:
-            return kinds, problems
     except Unsure:
-        pass
-    return _lint_rule(lint, rule, fast=False)
+        problems = [None]  # type: ignore[list-item]
+    if problems:
+        kinds, problems = _lint_rule(lint, rule, fast=False)
+    if messages and not problems:
+        # with pint quantities: a missing value used in arithmetic raises MissingInput, as in a run
+        ns = lint.namespace(False)
+        _rule_names(rule, ns, False)
+        _lint_missing_in_messages(lint, rule, ns, False, problems)
+    return kinds, problems
 
 
 def _rule_names(rule: Rule, ns: dict[str, Any], fast: bool) -> None:
@@ -356,6 +363,132 @@ def _lint_templates(rule: Rule, ns: dict[str, Any], problems: list[RuleError]) -
             problems.append(_error(rule, where, f"unknown name {', '.join(exc.paths)} in the template"))
         except Exception as exc:
             problems.append(_error(rule, where, f"template cannot be shown: {exc}"))
+
+
+_MAX_PATHS = 200  # paths a rule may read before the message check gives up (a bound on its loop)
+
+
+def _read_paths(lint: _Lint, rule: Rule, full: dict[str, Any], fast: bool) -> set[str]:
+    """Return the spec and derived paths the rule's ``applies_when``, values and checks read (every arm of their
+    conditionals), found by evaluating with no path present and adding each path a MissingInput names until
+    they all evaluate."""
+    paths = full["_paths"]
+    present: set[str] = set()
+    texts = ([rule.applies_text] if rule.applies_text else []) + [t for _n, _c, t, _k in rule.values] + \
+        [c.when_text for c in rule.checks]
+    for _ in range(_MAX_PATHS):
+        ns = _partial_namespace(rule, full, present)
+        try:
+            for name, _compiled, text, _kind in rule.values:
+                ns[name] = expr.evaluate(lint.compile(text, take_first=False, fast=fast), ns)
+                ns[name] = expr.evaluate(lint.compile(text, fast=fast), ns)
+            for text in texts:
+                for first in (True, False):
+                    expr.evaluate(lint.compile(text, take_first=first, fast=fast), ns)
+            return present
+        except expr.ExpressionError:
+            return present | set(paths)  # cannot tell here: take everything as read (no report)
+        except expr.MissingInput as exc:
+            added = {p for name in exc.paths for p in paths if p == name or p.startswith(name + ".")} - present
+            if not added:
+                return present | set(paths)  # a name the lint cannot place: take everything as read
+            present |= added
+    return present | set(paths)
+
+
+def _partial_namespace(rule: Rule, full: dict[str, Any], present: set[str]) -> dict[str, Any]:
+    """Return a lint namespace in which only the ``present`` paths have values (the rule's parameters too)."""
+    ns: dict[str, Any] = dict(expr.sections_from((p, v) for p, v in full["_paths"].items() if p in present))
+    for name in rule.params:
+        if name in full:
+            ns[name] = full[name]
+    return ns
+
+
+def _lint_missing_in_messages(lint: _Lint, rule: Rule, full_ns: dict[str, Any], fast: bool,
+                              problems: list[RuleError]) -> None:
+    """Report a message, fix or pass message that reads a spec or derived value which nothing else of the rule
+    reads: the checks never need it, so on a spec without it the text would say "(message needs …)" instead of
+    the finding. Read it in a value the checks use (the rule is then not-checked without it) or guard it in
+    the template (``{% if x is defined %}``)."""
+    paths = _all_paths(full_ns)
+    full = {**{name: full_ns[name] for name in rule.params if name in full_ns}, "_paths": paths}
+    read = _read_paths(lint, rule, full, fast)
+    if len(read) == len(paths):
+        return
+    ns = _partial_namespace(rule, full, read)
+    for name, _compiled, text, _kind in rule.values:
+        ns[name] = expr.evaluate(lint.compile(text, fast=fast), ns)
+    templates = [("message", rule.message, len(rule.checks)), ("fix", rule.fix, len(rule.checks)),
+                 ("pass_message", rule.pass_message, len(rule.checks)),
+                 *((f"checks[{i}].{part}", template, i) for i, c in enumerate(rule.checks)
+                   for part, template in (("message", c.message), ("fix", c.fix)))]
+    for where, template, upto in templates:
+        if template is None:
+            continue
+        shown = [p for p in _template_reads(lint, template, rule, full, read, ns, fast)
+                 if _can_reach(lint, rule, full, p, upto, fast)]
+        if shown:
+            problems.append(_error(rule, where, f"shows {', '.join(shown)}, which the rule does not need to reach "
+                                   "this text: on a spec without it the text would say '(message needs …)' instead "
+                                   "of the finding; read it in a value the checks use, or guard it with "
+                                   "'{% if … is defined %}'"))
+
+
+def _template_reads(lint: _Lint, template: Any, rule: Rule, full: dict[str, Any], read: set[str], ns: dict[str, Any],
+                    fast: bool) -> list[str]:
+    """Return the paths a template reads beyond ``read`` (rendering again with each one found present)."""
+    extra: list[str] = []
+    for _ in range(_MAX_PATHS):
+        try:
+            template.render(**ns)
+            return extra
+        except expr.MissingInput as exc:
+            new = [p for p in exc.paths if p in full["_paths"] and p not in extra]
+            if not new:
+                return extra
+            extra += new
+            ns = _partial_namespace(rule, full, read | set(extra))
+            for name, _compiled, text, _kind in rule.values:
+                ns[name] = expr.evaluate(lint.compile(text, fast=fast), ns)
+        except Exception:  # noqa: BLE001 - a template that cannot be shown is reported by _lint_templates
+            return extra
+    return extra
+
+
+def _can_reach(lint: _Lint, rule: Rule, full: dict[str, Any], path: str, upto: int, fast: bool) -> bool:
+    """Return whether the rule can reach its check ``upto`` (or its pass, ``upto`` = the number of checks) on a
+    spec without ``path``, every other value present: it applies, and the checks up to there can be decided."""
+    ns = _partial_namespace(rule, full, set(full["_paths"]) - {path})
+    try:
+        if rule.applies_text and not expr.evaluate(lint.compile(rule.applies_text, fast=fast), ns):
+            return False
+        for name, _compiled, text, _kind in rule.values:
+            try:
+                ns[name] = expr.evaluate(lint.compile(text, fast=fast), ns)
+            except expr.MissingInput as exc:
+                ns[name] = expr.Missing(paths=exc.paths)
+        for check in rule.checks[:upto + 1]:
+            expr.evaluate(lint.compile(check.when_text, fast=fast), ns)
+    except (expr.MissingInput, expr.ExpressionError):
+        return False  # not-checked (or a rule error, reported elsewhere) before the text is shown
+    return True
+
+
+def _all_paths(ns: dict[str, Any]) -> dict[str, Any]:
+    """Return every path → sample value of a lint namespace's sections."""
+    found: dict[str, Any] = {}
+
+    def walk(prefix: str, section: Any) -> None:
+        for key, value in section._values.items():
+            found[f"{prefix}.{key}"] = value
+        for key, child in section._children.items():
+            walk(f"{prefix}.{key}", child)
+
+    for name, value in ns.items():
+        if isinstance(value, expr.Section):
+            walk(name, value)
+    return found
 
 
 def lint_ruleset(ruleset: RuleSet, derived: Derived,

@@ -13,7 +13,7 @@ import re
 from collections.abc import Mapping
 from typing import Any
 
-from rulecheck.result import level_of
+from rulecheck.result import SEVERITY_RANK, level_of
 
 __all__ = ["RUNNERS", "detect_ci_annotations", "escape_message", "escape_property", "render"]
 
@@ -23,7 +23,6 @@ RUNNERS: tuple[tuple[str, str], ...] = (
     ("GITHUB_ACTIONS", "true"),
 )
 
-_RANK = {"info": 0, "notice": 0, "warning": 1, "error": 2}
 _COMMAND = {"info": "notice", "warning": "warning", "error": "error"}
 
 # C0 and C1 controls except TAB/LF/CR, and the characters other tools treat as line breaks.
@@ -60,13 +59,16 @@ def _finding(outcome: dict[str, Any]) -> tuple[str, str] | None:
     """Return (level, message body) of an outcome worth an annotation, or None.
 
     A finding is annotated at the level at which it counts toward failure (:func:`rulecheck.result.level_of`);
-    any other rule that could not be evaluated is a notice.
+    any other rule that could not be evaluated, and a finding a baseline knows, is a notice.
     """
     kind = _text(outcome.get("outcome"))
     if kind not in ("fail", "not-checked"):
         return None
     level = level_of(kind, _text(outcome.get("severity")), bool(outcome.get("safety")))
     level = level if level in _COMMAND else ("warning" if kind == "fail" else "info")
+    if outcome.get("baseline"):  # known to the baseline: a notice, never a failure
+        finding = _finding({**outcome, "baseline": False})
+        return ("info", "known (in baseline): " + finding[1]) if finding is not None else None
     if kind == "fail":
         body = _text(outcome.get("message"))
         if outcome.get("fix"):
@@ -98,13 +100,13 @@ def _line(spec: dict[str, Any], outcome: dict[str, Any], severity: str, body: st
 
 def render(result: dict[str, Any], *, min_severity: str = "warning") -> str:
     """Return the annotation lines of a result's findings at or above ``min_severity`` (error, warning, info)."""
-    if min_severity not in _RANK:
+    if min_severity not in SEVERITY_RANK:
         raise ValueError(f"min_severity must be one of error, warning, info, not {min_severity!r}")
-    floor = _RANK[min_severity]
+    floor = SEVERITY_RANK[min_severity]
     lines = []
     for spec in result.get("specs") or []:
         for outcome in spec.get("outcomes") or []:
             finding = _finding(outcome) if isinstance(outcome, dict) else None
-            if finding is not None and _RANK[finding[0]] >= floor:
+            if finding is not None and SEVERITY_RANK[finding[0]] >= floor:
                 lines.append(_line(spec, outcome, *finding))
     return "".join(line + "\n" for line in lines)

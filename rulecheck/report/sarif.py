@@ -240,7 +240,7 @@ def _location(spec: dict[str, Any], outcome: dict[str, Any], artifact_index: int
 
 
 def _result(spec: dict[str, Any], outcome: dict[str, Any], rule_index: dict[str, int],
-            artifact_index: int) -> dict[str, Any]:
+            artifact_index: int, baselined: bool = False) -> dict[str, Any]:
     """Return one SARIF result for a reported outcome."""
     rule_id = _text(outcome.get("rule"))
     where = outcome.get("location") if isinstance(outcome.get("location"), dict) else {}
@@ -258,6 +258,8 @@ def _result(spec: dict[str, Any], outcome: dict[str, Any], rule_index: dict[str,
     }
     if outcome.get("outcome") == "waived":
         entry["suppressions"] = [_suppression(outcome.get("waiver"))]
+    if baselined:  # the run compared against a baseline: a known finding is unchanged, any other one new
+        entry["baselineState"] = "unchanged" if outcome.get("baseline") else "new"
     return entry
 
 
@@ -310,6 +312,8 @@ def build(result: dict[str, Any], *, rules: list[dict[str, Any]] | None = None) 
     artifacts: list[dict[str, Any]] = []
     artifact_of: dict[str, int] = {}
     results: list[dict[str, Any]] = []
+    summary = result.get("summary") if isinstance(result.get("summary"), dict) else {}
+    baselined = isinstance(summary.get("baseline"), dict)
     for spec in result.get("specs") or []:
         file = _text(spec.get("file"))
         if file not in artifact_of:
@@ -317,7 +321,7 @@ def build(result: dict[str, Any], *, rules: list[dict[str, Any]] | None = None) 
             artifacts.append(_artifact(spec))
         for outcome in spec.get("outcomes") or []:
             if outcome.get("outcome") in _REPORTED:
-                results.append(_result(spec, outcome, rule_index, artifact_of[file]))
+                results.append(_result(spec, outcome, rule_index, artifact_of[file], baselined))
 
     invocation = _invocation(result)
     run: dict[str, Any] = {

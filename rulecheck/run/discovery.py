@@ -13,8 +13,8 @@ from rulecheck.config import CONFIG_NAME, Config, ConfigError, discover, read_co
 from rulecheck.engine.ruleset import shipped_rules_dir
 from rulecheck.run.options import UsageError
 
-__all__ = ["Configs", "changed_files", "collect_specs", "config_digest", "filter_changed", "rule_folders",
-           "shown_paths"]
+__all__ = ["Configs", "changed_files", "collect_specs", "config_digest", "filter_changed", "has_specs",
+           "read_piped", "repository_root", "rule_folders", "shown_paths"]
 
 SPEC_SUFFIXES = (".yaml", ".yml")
 
@@ -40,6 +40,79 @@ def collect_specs(paths: list[str]) -> list[Path]:
                 seen.add(real)
                 found.append(Path(shown))
     return found
+
+
+def has_specs(path: str) -> bool:
+    """Return whether ``path`` is a spec file, or a folder with a spec file somewhere below it (the files
+    :func:`collect_specs` would take); stops at the first one found."""
+    if not os.path.isdir(path):
+        return os.path.exists(path)
+    pending = [path]
+    while pending:
+        folder = pending.pop()
+        try:
+            with os.scandir(folder) as found:
+                entries = list(found)
+        except OSError:
+            continue
+        for entry in entries:
+            try:
+                if entry.name.startswith(".") or entry.is_symlink():
+                    continue
+                if entry.is_dir(follow_symlinks=False):
+                    pending.append(entry.path)
+                elif entry.name.endswith(SPEC_SUFFIXES) and entry.name != CONFIG_NAME:
+                    return True
+            except OSError:
+                continue
+    return False
+
+
+def read_piped(paths: list[str], folder: Path, stdin: Callable[[], bytes]) -> tuple[list[str], dict[str, str]]:
+    """Return ``paths`` with standard input (``-``) and every pipe or device named (``/dev/stdin``, a FIFO) read
+    once into a regular file in ``folder``, and a map from each such file's path to the name it was given as.
+
+    A spec is read more than once (for its cache key, then to check it): a pipe would be empty the second time.
+    ``stdin`` reads standard input (once, however often ``-`` is given).
+    """
+    out: list[str] = []
+    names: dict[str, str] = {}
+    done: dict[str, str] = {}
+    for raw in paths:
+        if raw != "-" and (not os.path.exists(raw) or os.path.isdir(raw) or os.path.isfile(raw)):
+            out.append(raw)
+            continue
+        key = "-" if raw == "-" else os.path.realpath(raw)
+        if key not in done:
+            try:
+                data = stdin() if raw == "-" else Path(raw).read_bytes()
+            except OSError as exc:
+                raise UsageError(f"{raw}: cannot read: {exc.strerror or exc}") from None
+            stem = "stdin" if raw == "-" else (Path(raw).stem or "spec")
+            target = folder / f"{len(done)}" / f"{stem}.yaml"
+            target.parent.mkdir()
+            target.write_bytes(data)
+            done[key] = str(target)
+            names[str(target)] = "<stdin>" if raw == "-" else raw
+        out.append(done[key])
+    return out, names
+
+
+def repository_root(root: str | None, cwd: Path) -> Path:
+    """Return the folder paths in machine-readable reports are relative to: ``root`` when given, else the git
+    top level of ``cwd``, else ``cwd`` (no git, or not in a repository)."""
+    if root:
+        folder = Path(root)
+        if not folder.is_dir():
+            raise UsageError(f"--root {root}: not a folder")
+        return Path(os.path.realpath(folder))
+    try:
+        proc = subprocess.run(["git", "rev-parse", "--show-toplevel"], cwd=cwd, capture_output=True, text=True,
+                              timeout=60)
+    except (OSError, subprocess.SubprocessError):
+        return Path(os.path.realpath(cwd))
+    top = proc.stdout.strip()
+    return Path(os.path.realpath(top)) if proc.returncode == 0 and top else Path(os.path.realpath(cwd))
 
 
 def _walk(folder: str, real: str) -> list[tuple[str, str]]:
@@ -132,27 +205,32 @@ def shown_paths(base_dir: Path) -> Callable[[Path], str]:
 # --- changed-only runs ---------------------------------------------------------------------------------
 
 
-def changed_files(rev: str, cwd: Path) -> set[Path] | None:
+def changed_files(rev: str, cwd: Path) -> set[Path]:
     """Return the files changed since git revision ``rev`` (committed, staged, unstaged, untracked).
 
-    Returns None when the folder is not in a git repository; raises UsageError for an unknown revision.
+    Raises UsageError with git's own reason when git is missing, ``cwd`` is not in a repository or the
+    revision is unknown.
     """
-    def git(*args: str) -> str:
-        proc = subprocess.run(["git", *args], cwd=cwd, capture_output=True, text=True, timeout=60)
+    def git(*args: str, what: str) -> str:
+        try:
+            proc = subprocess.run(["git", *args], cwd=cwd, capture_output=True, text=True, timeout=60)
+        except FileNotFoundError:
+            raise UsageError(f"--changed-since {rev}: needs git, which is not installed or not on PATH") from None
+        except (OSError, subprocess.SubprocessError) as exc:
+            raise UsageError(f"--changed-since {rev}: git could not run: {exc}") from None
         if proc.returncode != 0:
-            raise UsageError(f"--changed-since {rev}: git {' '.join(args[:2])} failed: "
-                             f"{proc.stderr.strip() or proc.stdout.strip()}")
+            reason = (proc.stderr.strip() or proc.stdout.strip() or f"exit code {proc.returncode}").splitlines()
+            raise UsageError(f"--changed-since {rev}: {what} (git: {reason[0]})")
         return proc.stdout
 
-    try:
-        top = Path(git("rev-parse", "--show-toplevel").strip())
-    except (OSError, subprocess.SubprocessError):
-        return None
-    if rev.startswith("-"):
+    if not rev or rev.startswith("-"):
         raise UsageError(f"--changed-since: '{rev}' is not a revision")
-    git("rev-parse", "--verify", "--quiet", f"{rev}^{{commit}}")
-    names = git("diff", "--name-only", "-z", rev, "--").split("\0")
-    names += git("ls-files", "--others", "--exclude-standard", "-z").split("\0")
+    top = Path(git("rev-parse", "--show-toplevel", what=f"{cwd} is not in a git repository").strip())
+    git("rev-parse", "--verify", "--end-of-options", f"{rev}^{{commit}}",
+        what=f"unknown revision '{rev}' (give a commit, branch or tag that exists in this clone; a shallow CI "
+             "checkout may need more history fetched)")
+    names = git("diff", "--name-only", "-z", rev, "--", what="git diff failed").split("\0")
+    names += git("ls-files", "--others", "--exclude-standard", "-z", what="git ls-files failed").split("\0")
     return {(top / n).resolve() for n in names if n}
 
 
@@ -179,8 +257,6 @@ def _spec_changed(spec: Path, changed: set[Path]) -> bool:
 def filter_changed(specs: list[Path], rev: str, configs: Configs, extra: list[Path]) -> list[Path]:
     """Return the specs a run since git revision ``rev`` checks (all, when rules or configuration changed)."""
     changed = changed_files(rev, Path.cwd())
-    if changed is None:
-        raise UsageError("--changed-since needs a git repository")
     if not specs or _rules_or_config_changed(specs, changed, configs, extra):
         return specs
     return [spec for spec in specs if _spec_changed(spec, changed)]
