@@ -96,6 +96,15 @@ CATALOGUE: dict[str, tuple[str | None, str]] = {
     "train.inertia_ratio": (None, "referred load inertia ÷ motor inertia"),
     "train.holding_torque": ("torque", "torque at the motor shaft to hold the load at rest"),
     "train.acceleration_torque": ("torque", "J_tot·ω_max/t_acc"),
+    "train.deceleration_torque": ("torque", "J_tot·ω_max/t_dec of a ramped stop on a drive"),
+    "train.inertia_known": ("inertia", "inertia at the motor shaft without the rotor (a lower bound of the total)"),
+    "train.acceleration_torque_min": ("torque", "J_known·ω_max/t_acc: lower bound when the rotor inertia is unknown"),
+    "train.deceleration_torque_min": ("torque", "J_known·ω_max/t_dec: lower bound when the rotor inertia is unknown"),
+    "train.load_overhauling": ("flag", "the running load drives the motor (T_L·ω_L < 0)"),
+    "train.peak_torque_braking": ("flag", "the largest torque is a braking torque (the load drives)"),
+    "train.peak_torque_lower_bound": ("flag", "the rotor inertia is unknown: the peak torque is a lower bound"),
+    "train.standstill_torque_available": ("torque", "short-time torque available at standstill: the lower of motor "
+                                                    "peak torque and the torque at the drive's overload current"),
     "train.peak_torque_required": ("torque", "largest torque the motor must give"),
     "train.speed_at_peak": ("rotational_speed", "motor speed where the largest torque is needed"),
     "train.continuous_torque_required": ("torque", "continuous (RMS) torque the motor must give"),
@@ -142,7 +151,11 @@ CATALOGUE: dict[str, tuple[str | None, str]] = {
     "duty.max_speed": ("rotational_speed", "highest motor speed of the cycle"),
     "duty.regenerative_energy": ("energy", "energy returned by the motor per cycle"),
     "duty.peak_braking_power": ("power", "largest regenerative power"),
-    "duty.utilisation": (None, "speed-aware thermal utilisation U of the continuous capability"),
+    "duty.utilisation": (None, "thermal utilisation U: of the continuous capability (speed-aware), or of the duty "
+                               "rating of a motor rated S3–S6 (needs motor.duty_cdf)"),
+    "duty.utilisation_duty_rating": (None, "utilisation of a motor rated S3–S6 against its duty rating"),
+    "duty.rated_intermittent": ("flag", "the motor is rated for an intermittent duty (S3–S6)"),
+    "duty.lower_bound": ("flag", "the rotor inertia is unknown: the cycle's torques are lower bounds"),
     "duty.holding_at_standstill": ("flag", "torque is held at standstill during the cycle"),
     "duty.standstill_torque": ("torque", "largest torque held at standstill"),
     # site

@@ -31,10 +31,7 @@ def derive_train(m: Model, spec: Spec) -> None:
     if m.get("train.speed_max") is not None:
         _at_top_speed(m, m.get("train.speed_max"))
     _speed_limits(m, i)
-    jt, tacc, wmax = m.get("train.inertia_total"), m.get("load.acceleration_time"), m.get("train.speed_max")
-    if jt is not None and tacc and wmax is not None:
-        put(m, "train.acceleration_torque", dyn.acceleration_torque(jt, wmax, tacc), "acceleration_torque",
-            ("train.inertia_total", "train.speed_max", "load.acceleration_time"), "J_tot × ω_max ÷ t_acc")
+    _acceleration(m)
     _cooling_table(m)
     _continuous(m)
 
@@ -51,14 +48,26 @@ def _speeds_and_torques(m: Model, i: float) -> None:
         put(m, "train.speed_min", nmin * i, "ratio", ("load.speed_min", "transmission.ratio"), "load speed_min × i")
     tl = m.get("load.torque_running")
     if tl is not None and eff:
-        put(m, "train.load_torque", tr.motor_torque_motoring(tl, i, eff), "motor_torque_motoring",
-            ("load.torque_running", "transmission.ratio", "transmission.efficiency"), "T_L ÷ (i·η)")
+        if tl * (nmax if nmax is not None else 1.0) >= 0:
+            put(m, "train.load_torque", tr.motor_torque_motoring(tl, i, eff), "motor_torque_motoring",
+                ("load.torque_running", "transmission.ratio", "transmission.efficiency"), "T_L ÷ (i·η)")
+        else:  # the load drives the motor: the gear losses are supplied by the load
+            put(m, "train.load_torque", tr.motor_torque_overhauling(tl, i, _reverse_efficiency(m)),
+                "motor_torque_overhauling",
+                ("load.torque_running", "transmission.ratio", "transmission.reverse_efficiency"),
+                "T_L·η_rev ÷ i (overhauling: the load drives, negative = braking torque)")
+        put(m, "train.load_overhauling", tl * (nmax if nmax is not None else 1.0) < 0, "power_flow",
+            ("load.torque_running", "load.speed_max"), "sign of T_L·ω_L at the running point")
         put(m, "train.gear_output_torque", tl, "load", ("load.torque_running",), "running load torque")
     hold = m.get("load.holding_torque")
     if hold is not None:
-        rev = m.get("transmission.reverse_efficiency", eff)
-        put(m, "train.holding_torque", hold * (rev or 1.0) / i, "motor_torque_overhauling",
+        put(m, "train.holding_torque", hold * _reverse_efficiency(m) / i, "motor_torque_overhauling",
             ("load.holding_torque", "transmission.ratio", "transmission.reverse_efficiency"), "T_hold·η_rev ÷ i")
+
+
+def _reverse_efficiency(m: Model) -> float:
+    """η_rev of the transmission when the load drives: the declared value, else the forward efficiency."""
+    return m.get("transmission.reverse_efficiency", m.get("transmission.efficiency")) or 1.0
 
 
 def _inertia(m: Model, i: float) -> None:
@@ -66,10 +75,16 @@ def _inertia(m: Model, i: float) -> None:
         jl = (m.get("load.inertia") or 0.0) + (m.get("load.mass_inertia") or 0.0)
         put(m, "train.inertia_load", tr.reflected_inertia(jl, i), "reflected_inertia",
             ("load.inertia", "load.mass_inertia", "transmission.ratio"), "J_L ÷ i²")
+    if not m.has("train.inertia_load"):
+        return
+    # what is known without the rotor: a lower bound of the total (never zero for the unknown rotor)
+    known = m.get("train.inertia_load") + (m.get("transmission.inertia") or 0.0) + (m.get("motor.brake.inertia") or 0.0)
+    put(m, "train.inertia_known", known, "sum",
+        ("train.inertia_load", "transmission.inertia", "motor.brake.inertia"),
+        "J_brake + J_gear + J_L ÷ i² (without the rotor)")
     jm = m.get("motor.inertia")
-    if jm is not None and m.has("train.inertia_load"):
-        total = jm + m.get("train.inertia_load") + (m.get("transmission.inertia") or 0.0) + (
-            m.get("motor.brake.inertia") or 0.0)
+    if jm is not None:
+        total = jm + known
         put(m, "train.inertia_total", total, "sum",
             ("motor.inertia", "train.inertia_load", "transmission.inertia", "motor.brake.inertia"),
             "J_m + J_brake + J_gear + J_L ÷ i²")
@@ -105,6 +120,36 @@ def _at_top_speed(m: Model, wmax: float) -> None:
             "dc_armature_voltage", ("motor.rated_back_emf", "train.speed_max", "motor.armature_current",
                                     "motor.armature_resistance", "motor.brush_drop"),
             "E(n_max) + I_a·R_a + V_br at rated armature current")
+
+
+def _acceleration(m: Model) -> None:
+    """J·ω/t of the acceleration (and of a ramped stop); with the rotor inertia unknown, the lower bound from the
+    inertia that is known."""
+    jt, wmax = m.get("train.inertia_total"), m.get("train.speed_max")
+    tacc, tdec = m.get("load.acceleration_time"), m.get("load.deceleration_time")
+    if wmax is None:
+        return
+    # the motor gives the deceleration torque only when a drive ramps it down (not coasting, not direct on line)
+    ramped = m.get("drive.kind") in ("inverter", "dc-converter") and m.get("drive.stop") != "coast"
+    if jt is not None:
+        if tacc:
+            put(m, "train.acceleration_torque", dyn.acceleration_torque(jt, wmax, tacc), "acceleration_torque",
+                ("train.inertia_total", "train.speed_max", "load.acceleration_time"), "J_tot × ω_max ÷ t_acc")
+        if tdec and ramped:
+            put(m, "train.deceleration_torque", dyn.acceleration_torque(jt, wmax, tdec), "acceleration_torque",
+                ("train.inertia_total", "train.speed_max", "load.deceleration_time"), "J_tot × ω_max ÷ t_dec")
+        return
+    jk = m.get("train.inertia_known")
+    if jk is None:
+        return
+    if tacc:
+        put(m, "train.acceleration_torque_min", dyn.acceleration_torque(jk, wmax, tacc), "acceleration_torque",
+            ("train.inertia_known", "train.speed_max", "load.acceleration_time"),
+            "J_known × ω_max ÷ t_acc: a lower bound, motor.inertia not given")
+    if tdec and ramped:
+        put(m, "train.deceleration_torque_min", dyn.acceleration_torque(jk, wmax, tdec), "acceleration_torque",
+            ("train.inertia_known", "train.speed_max", "load.deceleration_time"),
+            "J_known × ω_max ÷ t_dec: a lower bound, motor.inertia not given")
 
 
 def _speed_limits(m: Model, i: float) -> None:
@@ -169,7 +214,9 @@ def _continuous(m: Model) -> None:
         t = m.get("load.torque_running")
         load_fn = lambda n: t  # noqa: E731 - the running torque at every speed
     speeds = np.linspace(m.get("load.speed_min", nmax), nmax, MARGIN_SWEEP_POINTS)
-    required = np.array([abs(float(load_fn(s))) for s in speeds.tolist()]) / (i * eff)
+    load = np.array([float(load_fn(s)) for s in speeds.tolist()])
+    # motoring T_L/(i·η); where the load drives (T_L·ω_L < 0) the braking torque |T_L|·η_rev/i
+    required = np.where(load * speeds >= 0, np.abs(load) / (i * eff), np.abs(load) * _reverse_efficiency(m) / i)
     available = np.asarray(cap(speeds * i), dtype=float)
     with np.errstate(divide="ignore", invalid="ignore"):
         margins = np.where(required > 0, available / np.maximum(required, 1e-12), np.inf)
@@ -182,7 +229,7 @@ def _continuous(m: Model) -> None:
     put(m, "train.continuous_speed_worst", float(speeds[k] * i), "continuous_margin", inputs,
         "motor speed of the smallest margin")
     put(m, "train.continuous_required_worst", float(required[k]), "continuous_margin", inputs,
-        "T_L ÷ (i·η) at that speed")
+        "|T_L| ÷ (i·η) at that speed (|T_L|·η_rev ÷ i where the load drives)")
     put(m, "train.continuous_capability_worst", float(available[k]), "continuous_margin", inputs,
         "T_N × k_cool × k_fw × k_env at that speed")
     shaft_cooled, ct_limit = _cooling(m)

@@ -31,6 +31,8 @@ __all__ = [
     "braking_energy",
     "dol_acceleration_time",
     "duty_cycle_torques",
+    "duty_cycle_torques_lower_bound",
+    "duty_rating_utilisation",
     "kinetic_energy",
     "potential_energy",
     "read_profile_csv",
@@ -247,6 +249,63 @@ def duty_cycle_torques(segments: Sequence[Segment]) -> list[SegmentTorque]:
     Newton's second law for rotation; docs/references.md R07 and R08.
     """
     return [_segment_torque(k, seg) for k, seg in enumerate(segments, start=1)]
+
+
+def _least_torque(number: int, seg: Segment) -> SegmentTorque:
+    """The segment's torque of least magnitude over every inertia J ≥ seg.inertia."""
+    exact = _segment_torque(number, seg)
+    rate = (seg.speed_to - seg.speed_from) / seg.duration
+    # T(J) = T_L + J·α is linear in J: where it would cross zero at some J above the known part, |T| can be 0
+    if seg.load_torque * rate < 0 and abs(seg.load_torque) > abs(rate) * seg.inertia:
+        return SegmentTorque(seg, -seg.load_torque, 0.0)
+    return exact
+
+
+def duty_cycle_torques_lower_bound(segments: Sequence[Segment]) -> list[SegmentTorque]:
+    """Return each segment with the least torque magnitude [N*m] it can need when its inertia is only a lower bound.
+
+    Parameters
+    ----------
+    segments : duty-cycle segments at the motor shaft; ``inertia`` the part of the total inertia that is known
+        (the rotor's unknown), so the true inertia is J ≥ that
+
+    Method: T(J) = T_L + J·α is linear in J. Where T_L and α have the same sign (accelerating a load that resists,
+    or a steady segment) |T| grows with J and its least value is at the known J; where they have opposite signs
+    |T| falls to zero at J* = −T_L/α, so the least value is 0 if J* lies above the known J. Each segment's least
+    |T| bounds the peak and (its square summed over the cycle) the RMS torque from below: any larger rotor
+    inertia only raises them (Σ min ≤ min Σ).
+
+    References
+    ----------
+    Newton's second law for rotation; docs/references.md R07 and R08 (bounds derived here, P).
+    """
+    return [_least_torque(k, seg) for k, seg in enumerate(segments, start=1)]
+
+
+@method(returns="fraction", mean_square_root_torque="torque", rated_torque="torque", rated_cdf="fraction")
+def duty_rating_utilisation(mean_square_root_torque: float, rated_torque: float, rated_cdf: float) -> float:
+    """Return the thermal utilisation [1] of a motor rated for intermittent duty (S3–S6) by a duty cycle.
+
+    Parameters
+    ----------
+    mean_square_root_torque : √(Σ T_i²·t_i ÷ t_cycle) over one cycle, every second counted (no standstill
+        factor) [N*m]
+    rated_torque : T_N of the duty rating (S3–S6 at its rated CDF) [N*m]
+    rated_cdf : the rating's cyclic duration factor [1], 0 < CDF ≤ 1
+
+    Method: the rating lets the motor carry T_N for CDF of each cycle and rest the remainder: a mean square torque
+    of T_N²·CDF. The cycle's is Σ T_i²·t_i/t_cycle, so U = √(Σ T_i²·t_i ÷ t_cycle) ÷ (T_N·√CDF). At the rated
+    CDF and torque U = 1; at another CDF this is the usual conversion T_perm = T_N·√(CDF_rated/CDF) (losses
+    taken ∝ T², no-load losses neglected). The rest cools as in the rating, so no standstill factor is applied.
+
+    References
+    ----------
+    IEC 60034-1 duty types S3–S6 (definitions); CDF conversion by equal mean square torque: docs/references.md R08
+    (common practice, from memory).
+    """
+    if not 0 < rated_cdf <= 1:
+        raise ValueError("the rated cyclic duration factor must be in (0, 1]")
+    return mean_square_root_torque / (rated_torque * math.sqrt(rated_cdf))
 
 
 def _power_split(power_from: np.ndarray, power_to: np.ndarray, dt: np.ndarray) -> tuple[float, float]:
