@@ -13,21 +13,50 @@ CYCLE = [{"duration": "10 s", "speed_to": "1000 r/min"}, {"duration": "20 s", "s
          {"duration": "10 s", "speed_to": "0 r/min"}, {"duration": "20 s", "speed_to": "0 r/min"}]
 
 
+# J = 0.05 (rotor) + 0.45 (load) = 0.5 kg·m²; ω = 1000 r/min = 104.720 rad/s; 10 s ramps: J·ω/t = 5.2360 N·m.
+# Segments 105.236 N·m (10 s), 100 (20 s), 94.764 (10 s), 0 at standstill (20 s):
+# Σ T²·t = 110 746.1 + 200 000 + 89 802.2 = 400 548.3 N²·m²·s
+MOTOR = {"kind": "induction", "rated_power": "15 kW", "rated_speed": "1460 r/min", "inertia": "0.05 kg*m^2"}
+ACC = 0.5 * 1000 * 2 * math.pi / 60 / 10
+SQUARE = (100 + ACC) ** 2 * 10 + 100**2 * 20 + (100 - ACC) ** 2 * 10
+
+
 def test_rms_torque_counts_half_the_standstill_of_a_self_ventilated_motor() -> None:
-    # 100 N·m for 40 s, nothing held for 20 s at standstill, β = 0.5 (common practice, self-ventilated):
-    # T_rms = √(100² × 40 / (40 + 0.5 × 20)) = √8000 = 89.443 N·m; cdf = 40/60
-    m = model_of({"motor": {"kind": "induction", "rated_power": "15 kW", "rated_speed": "1460 r/min"},
-                  "load": {**LOAD, "duty": CYCLE}})
-    assert m.get("duty.rms_torque") == pytest.approx(math.sqrt(8000.0), rel=1e-12)
+    # β = 0.5 (common practice, self-ventilated): T_rms = √(400 548.3 / (40 + 0.5 × 20)) = 89.504 N·m; cdf = 40/60
+    m = model_of({"motor": MOTOR, "load": {**LOAD, "inertia": "0.45 kg*m^2", "duty": CYCLE}})
+    assert SQUARE == pytest.approx(400548.3, abs=0.1)
+    assert m.get("duty.rms_torque") == pytest.approx(math.sqrt(SQUARE / 50), rel=1e-12)
     assert m.get("duty.cdf") == pytest.approx(40 / 60, rel=1e-12)
     assert m.get("train.continuous_torque_required") == m.get("duty.rms_torque")
+    assert m.get("duty.lower_bound") is False
 
 
 def test_forced_cooling_counts_all_the_standstill() -> None:
-    # β = 1: T_rms = √(100² × 40 / 60) = 81.650 N·m
-    m = model_of({"motor": {"kind": "induction", "rated_power": "15 kW", "rated_speed": "1460 r/min",
-                            "cooling": "forced"}, "load": {**LOAD, "duty": CYCLE}})
-    assert m.get("duty.rms_torque") == pytest.approx(100 * math.sqrt(40 / 60), rel=1e-12)
+    # β = 1: T_rms = √(400 548.3 / 60) = 81.706 N·m
+    m = model_of({"motor": {**MOTOR, "cooling": "forced"}, "load": {**LOAD, "inertia": "0.45 kg*m^2", "duty": CYCLE}})
+    assert m.get("duty.rms_torque") == pytest.approx(math.sqrt(SQUARE / 60), rel=1e-12)
+
+
+def test_a_non_ventilated_motor_counts_all_the_standstill() -> None:
+    # IC410 (no fan): standstill cools as running does, β = 1: the same 81.706 N·m as forced ventilation
+    m = model_of({"motor": {**MOTOR, "cooling": "non-ventilated"},
+                  "load": {**LOAD, "inertia": "0.45 kg*m^2", "duty": CYCLE}})
+    assert m.get("duty.rms_torque") == pytest.approx(math.sqrt(SQUARE / 60), rel=1e-12)
+
+
+def test_unknown_rotor_inertia_gives_lower_bounds_not_zero() -> None:
+    # rotor inertia not given: the load's 0.45 kg·m² is known, J ≥ 0.45: J·ω/t ≥ 4.7124 N·m.
+    # Accelerating (T_L and α both positive) |T| grows with J: ≥ 104.712 N·m; the stop (α < 0) could need 0 with a
+    # large enough rotor: 0. Peak ≥ 104.712 N·m; RMS ≥ √((104.712²·10 + 100²·20)/50) = √(309 646/50) = 78.695 N·m
+    m = model_of({"motor": {k: v for k, v in MOTOR.items() if k != "inertia"},
+                  "load": {**LOAD, "inertia": "0.45 kg*m^2", "duty": CYCLE}})
+    acc = 0.45 * 1000 * 2 * math.pi / 60 / 10
+    assert m.get("duty.lower_bound") is True
+    assert m.get("train.peak_torque_lower_bound") is True
+    assert m.get("duty.peak_torque") == pytest.approx(100 + acc, rel=1e-12)
+    assert m.get("duty.rms_torque") == pytest.approx(math.sqrt(((100 + acc) ** 2 * 10 + 100**2 * 20) / 50), rel=1e-12)
+    assert m.get("duty.rms_torque") == pytest.approx(78.695, abs=5e-4)
+    assert not m.has("duty.regenerative_energy")  # the energies of lower-bound torques bound nothing
 
 
 def test_a_segment_with_negative_torque_marks_the_load_overhauling() -> None:
