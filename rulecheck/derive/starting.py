@@ -159,6 +159,11 @@ def _breakaway(m: Model) -> None:
     put(m, "train.breakaway_torque", start, "breakaway",
        ("load.breakaway_torque", "load.model", "transmission.ratio", "transmission.efficiency"),
        "larger of the load model at rest and the given breakaway torque, ÷ (i·η)")
+    available = _available(m)
+    if available is not None and m.get("drive.kind") in ("inverter", "dc-converter"):
+        put(m, "train.standstill_torque_available", available(0.0), "minimum",
+           ("motor.peak_torque", "motor.breakdown_torque", "drive.overload_current", "motor.rated_current"),
+           "lower of the motor's short-time torque and the torque at the drive's overload current, at standstill")
 
 
 def dol_motor_torque(rated_torque: float, breakdown_torque: float, rated_slip: float, synchronous_speed: float,
