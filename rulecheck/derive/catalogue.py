@@ -155,6 +155,7 @@ CATALOGUE: dict[str, tuple[str | None, str]] = {
                                "rating of a motor rated S3–S6 (needs motor.duty_cdf)"),
     "duty.utilisation_duty_rating": (None, "utilisation of a motor rated S3–S6 against its duty rating"),
     "duty.rated_intermittent": ("flag", "the motor is rated for an intermittent duty (S3–S6)"),
+    "duty.cycle_given": ("flag", "a duty cycle (load.duty) or profile (load.duty_profile) is given"),
     "duty.lower_bound": ("flag", "the rotor inertia is unknown: the cycle's torques are lower bounds"),
     "duty.holding_at_standstill": ("flag", "torque is held at standstill during the cycle"),
     "duty.standstill_torque": ("torque", "largest torque held at standstill"),

@@ -51,6 +51,9 @@ def _refer(m: Model, t_load: float, direction: float, i: float) -> float:
 def derive_duty(m: Model, spec: Spec) -> None:
     """Reduce the duty cycle or profile; then the peak and continuous torque the train must give."""
     i, eff = m.get("transmission.ratio"), m.get("transmission.efficiency")
+    load = spec.data.get("load") or {}
+    given = isinstance(load.get("duty"), list) or bool(load.get("duty_profile"))
+    put(m, "duty.cycle_given", given, "duty", ("load.duty", "load.duty_profile"), "a duty cycle or profile is given")
     if isinstance((spec.data.get("load") or {}).get("duty"), list) and i and eff:
         found = _cycle(m, spec, i)
         if found is None:

@@ -170,9 +170,11 @@ def _cooling(m: Model) -> tuple[bool, float | None]:
     """Return (whether k_cool applies: a shaft-cooled motor at varied speed, the lowest n/n_b of a
     constant-torque range or None) for the motor's continuous capability."""
     kind, cooling = m.get("motor.kind"), m.get("motor.cooling", "self-ventilated")
-    shaft_cooled = kind not in ("pm-synchronous", "dc") and m.get("drive.kind") in ("inverter", "dc-converter")
+    # only a shaft-mounted fan cools less at low speed; a non-ventilated (IC410) motor's rating is without one
+    shaft_cooled = (kind not in ("pm-synchronous", "dc") and m.get("drive.kind") in ("inverter", "dc-converter")
+                    and cooling == "self-ventilated")
     ct_min, nb = m.get("motor.constant_torque_speed_min"), m.get("motor.base_speed")
-    ct_limit = 0.0 if cooling in ("forced", "liquid") else (ct_min / nb if ct_min is not None else None)
+    ct_limit = 0.0 if cooling in ("forced", "liquid", "non-ventilated") else (ct_min / nb if ct_min is not None else None)
     return shaft_cooled, ct_limit
 
 
