@@ -169,3 +169,36 @@ def test_property_rms_at_least_mean_abs_torque(torque, beta):
     r = dy.reduce_profile(t, speed, torque, standstill_factor=beta)
     assert r.rms_torque >= r.mean_abs_torque * (1 - 1e-12) - 1e-12
     assert r.peak_torque >= r.rms_torque * math.sqrt(r.effective_time / r.cycle_time) * (1 - 1e-12) - 1e-12
+
+
+# --- lower bounds with an unknown part of the inertia; intermittent duty ratings --------------------------------
+
+
+def test_least_torque_over_every_larger_inertia():
+    # T(J) = T_L + J·α; α = 100 rad/s ÷ 1 s. Accelerating a resisting load (T_L 10, α > 0): grows with J, least at
+    # J = 0.2: 30 N·m. Stopping it (α < 0): 10 − 100·J reaches 0 at J* = 0.1 < 0.2, so beyond the known 0.2 the
+    # magnitude only grows: least 10 − 20 = −10 N·m. With J ≥ 0.05 only, J* = 0.1 lies above: least 0.
+    up = dy.Segment(1.0, 0.0, 100.0, 10.0, 0.2)
+    down = dy.Segment(1.0, 100.0, 0.0, 10.0, 0.2)
+    down_small = dy.Segment(1.0, 100.0, 0.0, 10.0, 0.05)
+    least = [s.torque for s in dy.duty_cycle_torques_lower_bound([up, down, down_small])]
+    assert least == pytest.approx([30.0, -10.0, 0.0], abs=1e-12)
+
+
+@settings(max_examples=60, deadline=None)
+@given(st.floats(-50, 50), st.floats(-200, 200), st.floats(0.0, 2.0), st.floats(0.0, 5.0))
+def test_property_least_torque_bounds_every_larger_inertia(load, speed_to, known, extra):
+    # whatever the unknown part of the inertia, |T| is never below the bound
+    seg = dy.Segment(0.5, 0.0, speed_to, load, known)
+    bound = abs(dy.duty_cycle_torques_lower_bound([seg])[0].torque)
+    actual = abs(dy.duty_cycle_torques([seg._replace(inertia=known + extra)])[0].torque)
+    assert bound <= actual + 1e-9
+
+
+def test_duty_rating_utilisation_at_the_rating_is_one():
+    # the rating itself: T_N for 40 % of the cycle, rest the remainder: √(T_N²·0.4) ÷ (T_N·√0.4) = 1 (IEC 60034-1 S3)
+    assert dy.duty_rating_utilisation(math.sqrt(49.22**2 * 0.4), 49.22, 0.4) == pytest.approx(1.0, rel=1e-12)
+    # the same torque for 25 % of the cycle on an S3 40 % motor: √0.25/√0.4 = 0.7906 (T_perm = T_N·√(0.4/0.25))
+    assert dy.duty_rating_utilisation(math.sqrt(49.22**2 * 0.25), 49.22, 0.4) == pytest.approx(0.790569, rel=1e-6)
+    with pytest.raises(ValueError):
+        dy.duty_rating_utilisation(10.0, 49.22, 0.0)
