@@ -64,3 +64,64 @@ def test_a_segment_with_negative_torque_marks_the_load_overhauling() -> None:
     for torque, overhauling in (("-50 N*m", True), ("-0.05 kN*m", True), ("50 N*m", False)):
         cycle = [*CYCLE[:2], {**CYCLE[2], "torque": torque}, CYCLE[3]]
         assert model_of({"load": {**LOAD, "duty": cycle}}).get("load.overhauling") is overhauling
+
+
+# --- point 3 (braked standstill, duty ratings) and point 5 (direction of power flow) ---------------------------
+
+HOIST = {"model": "hoist", "mass": "4000 kg", "reeving": 2, "drum_diameter": "0.4 m", "line_speed": "0.25 m/s",
+         "efficiency": "95 %", "inertia": "2 kg*m^2",
+         "duty": [{"duration": "1 s", "speed_to": "23.87 r/min"}, {"duration": "20 s", "speed_to": "23.87 r/min"},
+                  {"duration": "1 s", "speed_to": "0 r/min"}, {"duration": "30 s", "speed_to": "0 r/min"}]}
+HOIST_MOTOR = {"kind": "induction", "rated_power": "15 kW", "rated_speed": "1465 r/min", "inertia": "0.095 kg*m^2",
+               "brake": {"kind": "spring-applied", "static_torque": "150 N*m"}}
+GEAR = {"ratio": 60, "efficiency": "94 %"}
+
+
+def test_a_sequenced_hoist_brake_carries_the_load_at_standstill() -> None:
+    # brake set at every stop by a declared sequence (crane practice): the rest at the top needs no motor torque
+    m = model_of({"motor": HOIST_MOTOR, "transmission": GEAR, "load": HOIST,
+                  "protection": {"brake_sequencing": True}})
+    assert m.lists["duty.segments"][3]["torque"] == 0.0
+    assert m.get("duty.holding_at_standstill") is False
+
+
+def test_without_a_brake_sequence_the_motor_holds_the_hoist() -> None:
+    # holding 4000·9.80665/2·0.2 = 3923 N·m at the drum; the load drives: 3923·0.94/60 = 61.46 N·m at the motor
+    m = model_of({"motor": HOIST_MOTOR, "transmission": GEAR, "load": HOIST})
+    holding = 4000 * 9.80665 / 2 * 0.2 * 0.94 / 60
+    assert m.lists["duty.segments"][3]["torque"] == pytest.approx(holding, rel=1e-9)
+    assert m.get("duty.standstill_torque") == pytest.approx(61.46, abs=5e-3)
+
+
+def test_friction_turns_with_the_direction_of_travel() -> None:
+    # horizontal load, 100 N·m of friction (no gear): travelling back (−1000 r/min) needs −100 N·m, motoring
+    cycle = [{"duration": "10 s", "speed_to": "-1000 r/min"}, {"duration": "20 s", "speed_to": "-1000 r/min"},
+             {"duration": "10 s", "speed_to": "0 r/min"}, {"duration": "20 s", "speed_to": "0 r/min"}]
+    m = model_of({"motor": MOTOR, "load": {**LOAD, "inertia": "0.45 kg*m^2", "duty": cycle}})
+    torques = [s["torque"] for s in m.lists["duty.segments"]]
+    assert torques == pytest.approx([-100 - ACC, -100.0, -100 + ACC, 0.0], rel=1e-12)
+
+
+def test_a_given_reverse_torque_is_referred_by_its_own_power_flow() -> None:
+    # −141.2 N·m at −23.87 r/min: T·ω > 0, motoring: −141.2/(60·0.94) = −2.5035 N·m (tb-t-117), not T·η/i = −2.212
+    cycle = [{"duration": "20 s", "speed_to": "-23.87 r/min", "torque": "-141.2 N*m"}]
+    m = model_of({"motor": MOTOR, "transmission": GEAR,
+                  "load": {"model": "constant-torque", "torque": "141.2 N*m", "speed_max": "23.87 r/min",
+                           "inertia": "480 kg*m^2", "duty": cycle}})
+    seg = m.lists["duty.segments"][0]
+    acc = (0.05 + 480 / 3600) * 23.87 * 60 * 2 * math.pi / 60 / 20
+    assert seg["torque"] == pytest.approx(-141.2 / (60 * 0.94) - acc, rel=1e-9)
+
+
+def test_an_s3_motor_is_judged_against_its_duty_rating() -> None:
+    # T_N = 15000/(1460·2π/60) = 98.11 N·m for 40 % of the cycle (IEC 60034-1 S3 40 %):
+    # U = √(Σ T²·t ÷ t_cycle) ÷ (T_N·√0.4) = √(400 548.3/60) ÷ (98.11·0.63246) = 81.706/62.051 = 1.3168
+    m = model_of({"motor": {**MOTOR, "duty_type": "S3", "duty_cdf": "40 %"},
+                  "load": {**LOAD, "inertia": "0.45 kg*m^2", "duty": CYCLE}})
+    t_n = 15000 / (1460 * 2 * math.pi / 60)
+    assert m.get("duty.rated_intermittent") is True
+    assert m.get("duty.utilisation") == pytest.approx(math.sqrt(SQUARE / 60) / (t_n * math.sqrt(0.4)), rel=1e-12)
+    assert m.get("duty.utilisation") == pytest.approx(1.3168, abs=5e-4)
+    # without the rated CDF there is nothing to judge against: no utilisation (the rule is then not checked)
+    m = model_of({"motor": {**MOTOR, "duty_type": "S3"}, "load": {**LOAD, "inertia": "0.45 kg*m^2", "duty": CYCLE}})
+    assert not m.has("duty.utilisation")
