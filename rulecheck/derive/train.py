@@ -174,8 +174,9 @@ def _cooling(m: Model) -> tuple[bool, float | None]:
     shaft_cooled = (kind not in ("pm-synchronous", "dc") and m.get("drive.kind") in ("inverter", "dc-converter")
                     and cooling == "self-ventilated")
     ct_min, nb = m.get("motor.constant_torque_speed_min"), m.get("motor.base_speed")
-    ct_limit = 0.0 if cooling in ("forced", "liquid", "non-ventilated") else (ct_min / nb if ct_min is not None else None)
-    return shaft_cooled, ct_limit
+    if cooling in ("forced", "liquid", "non-ventilated"):
+        return shaft_cooled, 0.0
+    return shaft_cooled, (ct_min / nb if ct_min is not None else None)
 
 
 def capability(m: Model) -> Callable[[Any], Any] | None:
