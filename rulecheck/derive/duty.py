@@ -53,7 +53,8 @@ def derive_duty(m: Model, spec: Spec) -> None:
     i, eff = m.get("transmission.ratio"), m.get("transmission.efficiency")
     load = spec.data.get("load") or {}
     given = isinstance(load.get("duty"), list) or bool(load.get("duty_profile"))
-    put(m, "duty.cycle_given", given, "duty", ("load.duty", "load.duty_profile"), "a duty cycle or profile is given")
+    # always derivable (false without a cycle): it asks for no input, so a template never asks for a cycle for it
+    put(m, "duty.cycle_given", given, "duty", (), "whether load.duty or load.duty_profile is given")
     if isinstance((spec.data.get("load") or {}).get("duty"), list) and i and eff:
         found = _cycle(m, spec, i)
         if found is None:
