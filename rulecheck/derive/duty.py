@@ -210,10 +210,10 @@ def _without_cycle(m: Model) -> None:
     bound = not exact and (acc is not None or dec is not None or m.has("load.acceleration_time"))
     inputs = ("train.load_torque", f"train.acceleration_torque{suffix}", f"train.deceleration_torque{suffix}")
     put(m, "train.peak_torque_required", abs(torque), "peak", inputs,
-        f"|{how}|" + (": a lower bound, motor.inertia not given" if bound else ""))
+        f"|{how}|" + (": a lower bound, the total inertia is not known" if bound else ""))
     put(m, "train.peak_torque_braking", torque < 0, "peak", inputs, "the peak is a braking torque (load drives)")
     put(m, "train.peak_torque_lower_bound", bound, "peak", ("motor.inertia",),
-        "the rotor inertia is unknown: the peak is the least the train can need")
+        "the total inertia is not known (rotor or load): the peak is the least the train can need")
     put(m, "train.speed_at_peak", m.get("train.speed_max"), "duty", ("train.speed_max",),
         "top speed (end of acceleration, start of a ramped stop)")
     put(m, "train.continuous_torque_required", tl, "load", ("train.load_torque",), "running load torque")
@@ -221,7 +221,7 @@ def _without_cycle(m: Model) -> None:
 
 def _reduced(m: Model, r: dyn.DutyReduction, source: tuple[str, ...], bound: bool) -> None:
     """Record a cycle's reduction; with the rotor inertia unknown (``bound``) only the torques, as lower bounds."""
-    note = ": a lower bound, motor.inertia not given" if bound else ""
+    note = ": a lower bound, the total inertia is not known" if bound else ""
     put(m, "duty.peak_torque", r.peak_torque, "reduce_duty_cycle", source, "largest |T| of the cycle" + note)
     put(m, "duty.speed_at_peak", r.speed_at_peak, "reduce_duty_cycle", source, "speed at the peak torque")
     put(m, "duty.rms_torque", r.rms_torque, "reduce_duty_cycle", source, "√(Σ T²·t ÷ Σ t_eff)" + note)
@@ -230,7 +230,7 @@ def _reduced(m: Model, r: dyn.DutyReduction, source: tuple[str, ...], bound: boo
     put(m, "duty.standstill_time", r.standstill_time, "reduce_duty_cycle", source, "time at zero speed")
     put(m, "duty.max_speed", r.max_speed, "reduce_duty_cycle", source, "highest speed of the cycle")
     put(m, "duty.lower_bound", bound, "reduce_duty_cycle", ("motor.inertia",),
-        "the rotor inertia is unknown: torques are the least the cycle can need")
+        "the total inertia is not known (rotor or load): torques are the least the cycle can need")
     if not bound:  # energies of lower-bound torques bound nothing: left to be derived with the rotor inertia
         put(m, "duty.regenerative_energy", r.regenerative_energy, "reduce_duty_cycle", source, "∫ max(0, −T·ω) dt")
         put(m, "duty.peak_braking_power", r.peak_braking_power, "reduce_duty_cycle", source, "max(−T·ω)")
@@ -243,7 +243,7 @@ def _reduced(m: Model, r: dyn.DutyReduction, source: tuple[str, ...], bound: boo
              "√(Σ (T ÷ T_cont(n))²·t ÷ Σ t_eff) against the continuous (S1) capability") + note)
     put(m, "train.peak_torque_required", r.peak_torque, "duty", ("duty.peak_torque",), "duty-cycle peak torque" + note)
     put(m, "train.peak_torque_lower_bound", bound, "duty", ("motor.inertia",),
-        "the rotor inertia is unknown: the peak is the least the train can need")
+        "the total inertia is not known (rotor or load): the peak is the least the train can need")
     put(m, "train.speed_at_peak", r.speed_at_peak, "duty", ("duty.speed_at_peak",), "speed at the duty-cycle peak")
     put(m, "train.continuous_torque_required", r.rms_torque, "duty", ("duty.rms_torque",),
         "duty-cycle RMS torque" + note)

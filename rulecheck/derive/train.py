@@ -145,11 +145,11 @@ def _acceleration(m: Model) -> None:
     if tacc:
         put(m, "train.acceleration_torque_min", dyn.acceleration_torque(jk, wmax, tacc), "acceleration_torque",
             ("train.inertia_known", "train.speed_max", "load.acceleration_time"),
-            "J_known × ω_max ÷ t_acc: a lower bound, motor.inertia not given")
+            "J_known × ω_max ÷ t_acc: a lower bound, motor.inertia not given (J_known: the load side)")
     if tdec and ramped:
         put(m, "train.deceleration_torque_min", dyn.acceleration_torque(jk, wmax, tdec), "acceleration_torque",
             ("train.inertia_known", "train.speed_max", "load.deceleration_time"),
-            "J_known × ω_max ÷ t_dec: a lower bound, motor.inertia not given")
+            "J_known × ω_max ÷ t_dec: a lower bound, motor.inertia not given (J_known: the load side)")
 
 
 def _speed_limits(m: Model, i: float) -> None:
