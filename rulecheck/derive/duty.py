@@ -75,9 +75,9 @@ def _segment_torque(m: Model, spec: Spec, k: int, speed: float, to: float, i: fl
     t_load = spec.quantity(f"load.duty[{k}].torque")
     if t_load is not None:
         return _refer(m, t_load, direction or 1.0, i)  # held at standstill: referred as motoring (the larger)
-    if not (speed or to):  # at standstill: the holding torque, unless a sequenced brake holds the load
-        return 0.0 if _braked_at_standstill(m) else (m.get("train.holding_torque") or 0.0)
     tl = m.get("load.torque_running")
+    if not (speed or to):  # at standstill: the holding torque, unless a sequenced brake holds the load
+        return _standstill_torque(m, tl, i)
     if tl is None:
         return None
     if direction >= 0:
@@ -88,6 +88,16 @@ def _segment_torque(m: Model, spec: Spec, k: int, speed: float, to: float, i: fl
         # (a segment that gives its torque is referred by its own power flow)
         return tr.motor_torque_motoring(tl, i, m.get("transmission.efficiency"))
     return _refer(m, -tl, direction, i)  # friction and process forces turn with the direction of travel
+
+
+def _standstill_torque(m: Model, tl: float | None, i: float) -> float | None:
+    """Motor torque [N*m] while the shaft stands: 0 under a sequenced hoist brake or without gravity; else the holding
+    torque, or — where it is not derived — the running torque referred as motoring, its upper bound (never zero)."""
+    if _braked_at_standstill(m) or not m.get("load.gravity"):
+        return 0.0
+    if m.get("train.holding_torque") is not None:
+        return m.get("train.holding_torque")
+    return None if tl is None else abs(tr.motor_torque_motoring(tl, i, m.get("transmission.efficiency")))
 
 
 def _known_inertia(m: Model) -> float:

@@ -125,3 +125,16 @@ def test_an_s3_motor_is_judged_against_its_duty_rating() -> None:
     # without the rated CDF there is nothing to judge against: no utilisation (the rule is then not checked)
     m = model_of({"motor": {**MOTOR, "duty_type": "S3"}, "load": {**LOAD, "inertia": "0.45 kg*m^2", "duty": CYCLE}})
     assert not m.has("duty.utilisation")
+
+
+def test_a_gravity_load_held_at_standstill_without_a_derived_holding_torque_is_never_zero() -> None:
+    # declining belt (no holding torque derived for a negative incline): at rest the motor holds at most the running
+    # pull referred as motoring, 25 000·9.80665·(sin 6° − 0.012·cos 6°)·0.4 = 9080.4 N·m ÷ (24.5·0.96) = 386.07 N·m
+    belt = {"model": "conveyor", "mass": "25000 kg", "incline": "-6 deg", "friction_coefficient": 0.012,
+            "pulley_diameter": "0.8 m", "line_speed": "2.5 m/s", "efficiency": "100 %", "inertia": "150 kg*m^2",
+            "duty": [{"duration": "20 s", "speed_to": "59.68 r/min"}, {"duration": "60 s", "speed_to": "59.68 r/min"},
+                     {"duration": "20 s", "speed_to": "0 r/min"}, {"duration": "30 s", "speed_to": "0 r/min"}]}
+    m = model_of({"motor": MOTOR, "transmission": {"ratio": 24.5, "efficiency": "96 %"}, "load": belt})
+    pull = 25000 * 9.80665 * (math.sin(math.radians(6)) - 0.012 * math.cos(math.radians(6))) * 0.4
+    assert m.lists["duty.segments"][3]["torque"] == pytest.approx(pull / (24.5 * 0.96), rel=1e-9)
+    assert m.lists["duty.segments"][3]["torque"] == pytest.approx(386.07, abs=5e-3)
