@@ -154,6 +154,7 @@ CATALOGUE: dict[str, tuple[str | None, str]] = {
     "duty.peak_braking_power": ("power", "largest regenerative power"),
     "duty.utilisation": (None, "thermal utilisation U: of the continuous capability (speed-aware), or of the duty "
                                "rating of a motor rated S3–S6 (needs motor.duty_cdf)"),
+    "duty.rms_torque_duty_rating": ("torque", "RMS torque over the cycle, every second counted (S3–S6 ratings)"),
     "duty.utilisation_duty_rating": (None, "utilisation of a motor rated S3–S6 against its duty rating"),
     "duty.rated_intermittent": ("flag", "the motor is rated for an intermittent duty (S3–S6)"),
     "duty.cycle_given": ("flag", "a duty cycle (load.duty) or profile (load.duty_profile) is given"),

@@ -162,6 +162,8 @@ def _duty_rating(m: Model, reduction: dyn.DutyReduction) -> None:
         return
     # √(Σ T²·t ÷ t_cycle), every second counted: the rating's rest already includes the standstill cooling
     mean_square_root = reduction.rms_torque * math.sqrt(reduction.effective_time / reduction.cycle_time)
+    put(m, "duty.rms_torque_duty_rating", mean_square_root, "reduce_duty_cycle", ("load.duty",),
+        "√(Σ T²·t ÷ t_cycle): every second counted, as the duty rating counts them")
     put(m, "duty.utilisation_duty_rating",
         dyn.duty_rating_utilisation(mean_square_root, tn * m.get("site.motor_derating", 1.0), cdf),
         "duty_rating_utilisation", ("load.duty", "motor.rated_torque", "motor.duty_cdf", "site.motor_derating"),
