@@ -109,25 +109,83 @@ def default_cache_dir() -> Path:
     return Path(base) / "rulecheck"
 
 
+def key_path() -> Path:
+    """Return where this user's key for signing cache entries is kept: in the user's state folder
+    (``XDG_STATE_HOME``, else ``~/.local/state``), never in a cache folder. A cache folder may lie inside a
+    checkout (CI caching setups point ``RULECHECK_CACHE_DIR`` or ``XDG_CACHE_HOME`` there), where a pull
+    request could plant a key of its own beside entries signed with it."""
+    base = os.environ.get("XDG_STATE_HOME") or os.path.join(os.path.expanduser("~"), ".local", "state")
+    return Path(base) / "rulecheck" / "cache-key"
+
+
+KEY_BYTES = 32
+_KEY: list[bytes] = []  # this process's key, read once (forked workers inherit it)
+KEY_PROBLEMS: list[str] = []  # why the key file was refused (the cache is then good for this run alone)
+
+
+def _refusal(path: Path, info: os.stat_result) -> str | None:
+    """Return why an existing key file cannot be trusted, or None."""
+    import stat
+
+    if not stat.S_ISREG(info.st_mode):
+        return "is not a regular file"
+    if hasattr(os, "geteuid") and info.st_uid != os.geteuid():
+        return "belongs to another user"
+    if info.st_mode & 0o077:
+        return f"may be read or written by others (mode {stat.S_IMODE(info.st_mode):04o}; 0600 is required)"
+    if info.st_size != KEY_BYTES:
+        return f"holds {info.st_size} bytes, not {KEY_BYTES}"
+    return None
+
+
+def _read_key(path: Path) -> bytes | None:
+    """Return the key kept at ``path`` if it can be trusted; None if there is none; record why it is refused."""
+    try:
+        fd = os.open(path, os.O_RDONLY | getattr(os, "O_NOFOLLOW", 0) | getattr(os, "O_NONBLOCK", 0))
+    except FileNotFoundError:
+        return None
+    except OSError as exc:
+        KEY_PROBLEMS.append(f"cache key {path} cannot be opened ({exc.strerror or exc})")
+        return b""
+    with os.fdopen(fd, "rb") as handle:
+        why = _refusal(path, os.fstat(handle.fileno()))
+        data = b"" if why else handle.read(KEY_BYTES + 1)
+    if why or len(data) != KEY_BYTES:
+        KEY_PROBLEMS.append(f"cache key {path} {why or 'changed while read'}: cached results are not reused; "
+                            "remove the file and rulecheck makes a new one")
+        return b""
+    return data
+
+
+def _inside(path: Path, folder: Path) -> bool:
+    try:
+        return path.resolve().is_relative_to(folder.resolve())
+    except (OSError, RuntimeError, ValueError):
+        return True  # a folder that cannot be resolved (a link loop) is not trusted either
+
+
 def _secret() -> bytes:
-    """Return this user's key for signing cache entries (created on first use, readable by the user only)."""
-    path = default_cache_dir() / "signing-key"
-    try:
-        data = path.read_bytes()
-        if len(data) >= 32:
-            return data
-    except OSError:
-        pass
-    data = os.urandom(32)
-    try:
-        path.parent.mkdir(parents=True, exist_ok=True)
-        fd = os.open(path, os.O_WRONLY | os.O_CREAT | os.O_EXCL, 0o600)
-        with os.fdopen(fd, "wb") as handle:
-            handle.write(data)
-    except FileExistsError:
-        return path.read_bytes()
-    except OSError:
-        pass  # a key kept in memory only: entries are valid for this process alone
+    """Return this user's key for signing cache entries: read from :func:`key_path` when that file can be
+    trusted (a regular file of this user, mode 0600, 32 bytes), created there on first use; otherwise a key
+    kept in memory (entries written with it are good for this run alone, and nothing found on disk verifies)."""
+    if _KEY:
+        return _KEY[0]
+    path = key_path()
+    data = _read_key(path)
+    if data is None:  # no key yet: make one
+        data = os.urandom(KEY_BYTES)
+        try:
+            path.parent.mkdir(parents=True, exist_ok=True, mode=0o700)
+            fd = os.open(path, os.O_WRONLY | os.O_CREAT | os.O_EXCL | getattr(os, "O_NOFOLLOW", 0), 0o600)
+            with os.fdopen(fd, "wb") as handle:
+                handle.write(data)
+        except FileExistsError:  # another process made it first
+            data = _read_key(path) or os.urandom(KEY_BYTES)
+        except OSError:
+            pass  # kept in memory only
+    elif not data:
+        data = os.urandom(KEY_BYTES)
+    _KEY.append(data)
     return data
 
 
@@ -156,6 +214,10 @@ class ResultCache:
         self.misses = 0
         self.usable = True
         self._key = _secret()
+        if _inside(key_path(), folder):  # a key among the entries proves nothing about them
+            KEY_PROBLEMS.append(f"cache key {key_path()} lies inside the cache folder {folder}: cached results "
+                                "are not reused; keep XDG_STATE_HOME outside the cache folder")
+            self._key = os.urandom(KEY_BYTES)
         self._folders: set[Path] = set()  # subfolders known to exist
         self._index: dict[str, tuple[str, int, int]] | None = None  # key → (pack, offset, length)
         self._readers: dict[str, int] = {}  # pack → open descriptor

@@ -518,6 +518,8 @@ def _stream_check(args: argparse.Namespace, outputs: list[tuple[str, str | None]
         stream = run_stream(options, progress=_progress(args))
     except UsageError as exc:
         raise _Usage(str(exc)) from None
+    for warning in stream.warnings:
+        print(f"rulecheck: warning: {warning}", file=sys.stderr)
     matcher = baseline.Matcher(known, args.baseline, shown.gone) if known is not None else None
     tally = Tally(stream.header["settings"]["fail_on"])
     sinks: list[_Sink] = []

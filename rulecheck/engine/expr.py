@@ -22,10 +22,7 @@ naming the inputs that would allow the check. ``x is defined`` tests it.
 
 from __future__ import annotations
 
-import base64
-import marshal
 import math
-import types
 from collections.abc import Callable
 from typing import Any
 
@@ -392,38 +389,35 @@ def _runtime(env: Any) -> dict[str, Any]:
 
 class CompileCache:
     """What compiling rule text keeps for reuse: jinja's parsed trees (one parse per text per run: the run and
-    the lint's two passes translate the same tree), and the Python source of each translation with its compiled
-    form (marshal, base64), keyed by :func:`source_key`.
+    the lint's two passes translate the same tree), and the Python source of each translation, which
+    is compiled anew from that source by each run (no marshalled code is ever loaded: ``marshal`` is not
+    made for data others may have written), keyed by :func:`source_key`.
 
-    The caller owns it and passes it to :func:`compile_expression` and :func:`compile_template`. Sources and
-    codes may be kept between runs: the caller loads them only from entries it has verified as its own
-    (signed with the user's key, keyed by the tool's code and the Python version: marshal's format is its
-    own), with :meth:`load`, and saves :meth:`export` when ``dirty``. Anything else is compiled from the
-    rule's text. A kept source that no longer compiles is dropped and the text translated anew."""
+    The caller owns it and passes it to :func:`compile_expression` and :func:`compile_template`. Sources
+    may be kept between runs: the caller loads them only from entries it has verified as its own
+    (signed with the user's key, which lives apart from every cache folder; keyed by the tool's code), with
+    :meth:`load`, and saves :meth:`export` when ``dirty``. Anything else is translated from the rule's text.
+    A kept source that no longer compiles is dropped and the text translated anew."""
 
     TREES_LIMIT = 8192
 
-    __slots__ = ("sources", "codes", "trees", "dirty")
+    __slots__ = ("sources", "trees", "dirty")
 
     def __init__(self) -> None:
         self.sources: dict[str, str] = {}
-        self.codes: dict[str, str] = {}
         self.trees: dict[tuple[bool, str], Any] = {}
         self.dirty = False
 
     def load(self, entry: Any) -> None:
-        """Take the sources and codes of a verified entry (``{"sources": {...}, "codes": {...}}``); text only."""
+        """Take the sources of a verified entry (``{"sources": {...}}``); text only."""
         sources = entry.get("sources") if isinstance(entry, dict) else None
         if isinstance(sources, dict):
             self.sources.update({k: v for k, v in sources.items() if isinstance(k, str) and isinstance(v, str)})
-            codes = entry.get("codes")
-            if isinstance(codes, dict):
-                self.codes.update({k: v for k, v in codes.items() if isinstance(v, str) and k in self.sources})
         self.dirty = False
 
     def export(self) -> dict[str, dict[str, str]]:
-        """Return the sources and codes to keep (``load``'s form)."""
-        return {"sources": dict(self.sources), "codes": dict(self.codes)}
+        """Return the sources to keep (``load``'s form)."""
+        return {"sources": dict(self.sources)}
 
     def parse(self, env: Any, text: str, template: bool) -> Any:
         """Return jinja's tree of an expression (or template), parsed once (the translator only reads it)."""
@@ -435,27 +429,14 @@ class CompileCache:
             tree = self.trees[key] = _parse_anew(env, text, template)
         return tree
 
-    def code(self, key: str) -> Any:
-        """Return the kept compiled form of a source, or None."""
-        packed = self.codes.get(key)
-        if packed is None:
-            return None
-        try:
-            code = marshal.loads(base64.b64decode(packed))
-        except (ValueError, EOFError, TypeError):
-            return None
-        return code if isinstance(code, types.CodeType) else None
-
-    def keep(self, key: str, source: str, code: Any) -> None:
-        """Keep a fresh translation and its compiled form."""
+    def keep(self, key: str, source: str) -> None:
+        """Keep a fresh translation."""
         self.sources[key] = source
-        self.codes[key] = base64.b64encode(marshal.dumps(code)).decode("ascii")
         self.dirty = True
 
     def forget(self, key: str) -> None:
-        """Drop a kept source (and its code) that no longer compiles."""
+        """Drop a kept source that no longer compiles."""
         self.sources.pop(key, None)
-        self.codes.pop(key, None)
         self.dirty = True
 
 
@@ -499,20 +480,17 @@ def _build(env: Any, kind: str, text: str, cache: CompileCache) -> Compiled:
     fresh = source is None
     if source is None:
         source = _translate(env, kind, text, cache)
-    code = None if fresh else cache.code(key)
     namespace = dict(_runtime(env))
     try:
-        if code is None:
-            code = compile(source, "<rule>", "exec")
-        exec(code, namespace)  # noqa: S102 - our own translation, no builtins
+        exec(compile(source, "<rule>", "exec"), namespace)  # noqa: S102 - our own translation, no builtins
         names, bare = frozenset(namespace["_NAMES"]), frozenset(namespace["_BARE"])
     except (SyntaxError, RecursionError, ValueError, MemoryError, KeyError, TypeError) as exc:
         if not fresh:  # a kept source that no longer compiles (or lacks its names): translate anew
             cache.forget(key)
             return _build(env, kind, text, cache)
         raise ExpressionError(f"cannot compile: {type(exc).__name__}") from None
-    if fresh or key not in cache.codes:
-        cache.keep(key, source, code)
+    if fresh:
+        cache.keep(key, source)
     if kind == "template":
         return CompiledTemplate(namespace["_compiled"], env, text, names, bare)
     return Compiled(namespace["_compiled"], env, text, names)

@@ -43,6 +43,7 @@ class Stream:
     specs: Iterator[Any]
     cache: ResultCache | None = None
     charts: list[dict[str, Any] | None] = field(default_factory=list)
+    warnings: list[str] = field(default_factory=list)  # for the user, before the results (a refused cache key)
 
     def add_cache_counts(self, summary: dict[str, Any]) -> None:
         """Record the cache's hits and misses in a summary."""
@@ -315,7 +316,10 @@ def run_stream(options: RunOptions, progress: Callable[[int, int], None] | None 
     head = header(s.fail_on, s.units, digest, rule_count(rules.prepared, s.first_cfg, s.extra),
                   rules_block(rules.prepared, s.first_cfg, s.extra, s.code_cache, digest))
     charts: list[dict[str, Any] | None] = []
-    return Stream(head, iter(_Results(s, plan, rules, todo, pool, charts, tick)), s.cache, charts)
+    from rulecheck.cache import KEY_PROBLEMS
+
+    return Stream(head, iter(_Results(s, plan, rules, todo, pool, charts, tick)), s.cache, charts,
+                  list(dict.fromkeys(KEY_PROBLEMS)))
 
 
 def run_with_charts(options: RunOptions,
