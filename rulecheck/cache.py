@@ -20,6 +20,7 @@ from functools import lru_cache
 from pathlib import Path
 from typing import Any
 
+from rulecheck.files import READ_CAP, read_limited
 from rulecheck.result import SpecTally, decode, encode
 
 __all__ = ["CachedEntry", "CachedResult", "ResultCache", "charts_key", "code_digest", "default_cache_dir",
@@ -54,8 +55,8 @@ def spec_key(spec_bytes: bytes, spec_path: Path, display: str, context_key: str)
     for match in _PROFILE.finditer(spec_bytes):
         # a measured profile beside the spec is part of what the result depends on
         profile = spec_path.parent / match.group(1).decode("ascii", "replace")
-        try:
-            h.update(hashlib.sha256(profile.read_bytes()).digest())
+        try:  # bounded, regular files only: a spec may name /dev/zero or a FIFO
+            h.update(hashlib.sha256(read_limited(profile, READ_CAP)).digest())
         except OSError:
             h.update(b"missing")
     return h.hexdigest()

@@ -4,16 +4,23 @@ Found by walking up from each spec's folder (the nearest wins), or named with
 ``--config``. It may add rule folders (explicitly, and only inside the folder
 that holds the configuration), switch rules off, set parameters and
 severities, and adjust limits within safe bounds. Unknown keys, rule ids and
-parameters are errors naming the file and key.
+parameters, and values of the wrong type, are errors naming the file and key.
+
+Limits: a configuration found beside the specs (which a pull request may add
+or edit) may lower a loader limit but not raise it above its default; only
+the configuration named with ``--config`` (chosen by whoever runs the check)
+may raise one, up to its cap.
 """
 
 from __future__ import annotations
 
+import re
 import tomllib
 from dataclasses import dataclass, field
 from pathlib import Path
 from typing import Any
 
+from rulecheck.files import read_limited
 from rulecheck.load import Limits, LoadError, load_file
 
 __all__ = ["CONFIG_NAME", "Config", "ConfigError", "discover", "read_config"]
@@ -58,7 +65,7 @@ class Config:
         return self.positions.get(key)
 
 
-def _from_mapping(data: Any, file: str, root: Path, positions: dict[str, int]) -> Config:
+def _from_mapping(data: Any, file: str, root: Path, positions: dict[str, int], explicit: bool = False) -> Config:
     if data is None:
         data = {}
     if not isinstance(data, dict):
@@ -67,7 +74,10 @@ def _from_mapping(data: Any, file: str, root: Path, positions: dict[str, int]) -
     for key in data:
         if key not in _KEYS:
             raise ConfigError(file, f"unknown key '{key}' (known: {', '.join(sorted(_KEYS))})", positions.get(key))
-    cfg.rule_paths = _rule_paths(data.get("rule_paths") or [], file, root, positions)
+    rule_paths = data.get("rule_paths") or []
+    if not isinstance(rule_paths, list):
+        raise ConfigError(file, "rule_paths must be a list of folder names", positions.get("rule_paths"))
+    cfg.rule_paths = _rule_paths(rule_paths, file, root, positions)
     disable = data.get("disable") or []
     if not isinstance(disable, list) or not all(isinstance(x, str) for x in disable):
         raise ConfigError(file, "disable must be a list of rule ids", positions.get("disable"))
@@ -79,11 +89,19 @@ def _from_mapping(data: Any, file: str, root: Path, positions: dict[str, int]) -
     cfg.parameters = params
     for key, allowed in (("fail_on", _SEVERITIES), ("units", {"si", "customary"})):
         value = data.get(key)
-        if value is not None and value not in allowed:
-            raise ConfigError(file, f"{key}: '{value}' is not one of {', '.join(sorted(allowed))}", positions.get(key))
+        if value is not None and (not isinstance(value, str) or value not in allowed):
+            raise ConfigError(file, f"{key} must be one of {', '.join(sorted(allowed))}, not {_shown(value)}",
+                              positions.get(key))
     cfg.fail_on, cfg.units = data.get("fail_on"), data.get("units")
-    cfg.limits = _limits(data.get("limits") or {}, file, positions)
+    cfg.limits = _limits(data.get("limits") or {}, file, positions, explicit)
     return cfg
+
+
+def _shown(value: Any) -> str:
+    """Return a short, printable account of a value a configuration gave (for a message)."""
+    if isinstance(value, str):
+        return repr(value[:60])
+    return f"a {type(value).__name__}" if isinstance(value, (list, dict)) else repr(value)[:60]
 
 
 def _rule_paths(entries: Any, file: str, root: Path, positions: dict[str, int]) -> list[Path]:
@@ -107,14 +125,15 @@ def _severity(severity: Any, file: str, positions: dict[str, int]) -> dict[str, 
     if not isinstance(severity, dict):
         raise ConfigError(file, "severity must map rule ids to error, warning or info", positions.get("severity"))
     for rule_id, level in severity.items():
-        if level not in _SEVERITIES:
-            raise ConfigError(file, f"severity.{rule_id}: '{level}' is not error, warning or info",
+        if not isinstance(rule_id, str) or not isinstance(level, str) or level not in _SEVERITIES:
+            raise ConfigError(file, f"severity.{rule_id}: {_shown(level)} is not error, warning or info",
                               positions.get(f"severity.{rule_id}"))
     return dict(severity)
 
 
-def _limits(limits: Any, file: str, positions: dict[str, int]) -> Limits:
-    """Return the loader limits ``limits`` sets, each a whole number within its cap."""
+def _limits(limits: Any, file: str, positions: dict[str, int], explicit: bool = False) -> Limits:
+    """Return the loader limits ``limits`` sets, each a whole number within its cap; above its default only in
+    a configuration named with ``--config`` (``explicit``)."""
     if not isinstance(limits, dict):
         raise ConfigError(file, "limits must be a mapping", positions.get("limits"))
     values = {}
@@ -125,22 +144,29 @@ def _limits(limits: Any, file: str, positions: dict[str, int]) -> Limits:
         if not isinstance(value, int) or isinstance(value, bool) or not 1 <= value <= _LIMIT_CAPS[key]:
             raise ConfigError(file, f"limits.{key} must be a whole number from 1 to {_LIMIT_CAPS[key]}",
                               positions.get(f"limits.{key}"))
+        default = getattr(Limits(), key)
+        if value > default and not explicit:
+            raise ConfigError(file, f"limits.{key}: a configuration found beside the specs may lower a limit but not "
+                              f"raise it above its default {default}; name the file with --config to raise it",
+                              positions.get(f"limits.{key}"))
         values[key] = value
     return Limits(**values)
 
 
-def read_config(path: Path) -> Config:
-    """Return the configuration in ``path`` (``.rulecheck.yaml`` or ``pyproject.toml``)."""
+def read_config(path: Path, explicit: bool = False) -> Config:
+    """Return the configuration in ``path`` (``.rulecheck.yaml`` or ``pyproject.toml``); ``explicit`` when it was
+    named with ``--config`` (only then may it raise a limit)."""
     file = str(path)
     if path.name == "pyproject.toml":
         try:
-            data = tomllib.loads(path.read_text(encoding="utf-8"))
+            data = tomllib.loads(read_limited(path, _MAX_TOML).decode("utf-8"))
         except (OSError, UnicodeDecodeError) as exc:
-            raise ConfigError(file, f"cannot read: {exc}") from None
+            raise ConfigError(file, f"cannot read: {getattr(exc, 'strerror', None) or exc}") from None
         except tomllib.TOMLDecodeError as exc:
             raise ConfigError(file, f"invalid TOML: {exc}") from None
-        section = data.get("tool", {}).get("rulecheck", {})
-        return _from_mapping(section, file, path.parent, {})
+        tool = data.get("tool", {})
+        section = tool.get("rulecheck", {}) if isinstance(tool, dict) else {}
+        return _from_mapping(section, file, path.parent, {}, explicit)
     try:
         doc = load_file(path, display_name=file)
     except LoadError as exc:
@@ -148,14 +174,25 @@ def read_config(path: Path) -> Config:
             return _from_mapping({}, file, path.parent, {})
         raise ConfigError(file, exc.message, exc.line) from None
     positions = {k: p.line for k, p in doc.key_positions.items()}
-    return _from_mapping(doc.data, file, path.parent, positions)
+    return _from_mapping(doc.data, file, path.parent, positions, explicit)
+
+
+_MAX_TOML = 1_048_576
+_SECTION = re.compile(rb"^\s*\[\s*tool\s*\.\s*(\"rulecheck\"|'rulecheck'|rulecheck)\s*[\].]", re.MULTILINE)
 
 
 def _has_section(pyproject: Path) -> bool:
+    """Return whether a pyproject.toml holds a [tool.rulecheck] table. One that cannot be parsed but shows the
+    table's heading counts too, so that reading it reports the TOML error instead of dropping the section."""
     try:
-        return "rulecheck" in tomllib.loads(pyproject.read_text(encoding="utf-8")).get("tool", {})
-    except (OSError, UnicodeDecodeError, tomllib.TOMLDecodeError):
+        raw = read_limited(pyproject, _MAX_TOML)
+    except OSError:
         return False
+    try:
+        tool = tomllib.loads(raw.decode("utf-8")).get("tool", {})
+        return isinstance(tool, dict) and "rulecheck" in tool
+    except (UnicodeDecodeError, tomllib.TOMLDecodeError):
+        return bool(_SECTION.search(raw))
 
 
 def discover(start: Path) -> Path | None:

@@ -26,6 +26,8 @@ from typing import Any
 
 import yaml
 
+from rulecheck.files import read_head
+
 try:  # the C composer is several times faster; both give the same nodes
     from yaml import CSafeLoader as _BaseLoader
 except ImportError:  # pragma: no cover - depends on how PyYAML was built
@@ -404,13 +406,9 @@ def load_file(path: str | os.PathLike[str], limits: Limits | None = None, displa
     limits = limits or Limits()
     name = display_name or os.fspath(path)
     try:
-        with open(path, "rb") as handle:
-            # read what the file holds (a read of the whole limit would allocate a megabyte for each spec);
-            # a file that grew since its size was taken is read on, up to the limit
-            size = os.fstat(handle.fileno()).st_size
-            data = handle.read(min(size, limits.max_bytes) + 1)
-            if len(data) > size:
-                data += handle.read(limits.max_bytes + 1 - len(data))
+        # what the file holds, up to one byte past the limit; regular files (and a pipe named on the command
+        # line) only: a device would never end
+        data = read_head(path, limits.max_bytes, pipes=True)
     except OSError as exc:
         raise LoadError(f"cannot read the file: {exc.strerror or exc}", rule="unreadable") from None
     whole = len(data) <= limits.max_bytes  # a file past the limit was read only in part

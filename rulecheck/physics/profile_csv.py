@@ -20,6 +20,7 @@ from pathlib import Path
 
 import numpy as np
 
+from rulecheck.files import read_head
 from rulecheck.units import QuantityError, parse_quantity
 
 __all__ = ["COLUMN_KINDS", "DutyProfile", "ProfileError", "read_profile_csv"]
@@ -123,11 +124,11 @@ def read_profile_csv(path: str | os.PathLike[str], max_bytes: int = MAX_FILE_BYT
     """
     name = str(path)
     file_path = Path(path)
-    try:
-        size = file_path.stat().st_size
-        if size > max_bytes:
-            raise ProfileError(name, None, f"file is {size} bytes, more than the limit of {max_bytes}")
-        text = file_path.read_text(encoding="utf-8-sig")
+    try:  # regular files only, at most max_bytes: a spec may name /dev/zero or a FIFO
+        data = read_head(file_path, max_bytes)
+        if len(data) > max_bytes:
+            raise ProfileError(name, None, f"file holds more than the limit of {max_bytes} bytes")
+        text = data.decode("utf-8-sig")
     except ProfileError:
         raise
     except UnicodeDecodeError:

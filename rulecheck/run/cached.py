@@ -16,6 +16,7 @@ from rulecheck import __version__
 from rulecheck.cache import CachedEntry, ResultCache, charts_key, code_digest, entry_of, spec_key
 from rulecheck.check import CheckContext, check_spec
 from rulecheck.config import Config
+from rulecheck.files import READ_CAP, read_head
 from rulecheck.run.discovery import config_digest
 
 __all__ = ["check_and_store", "context_key", "key_now", "stored"]
@@ -35,7 +36,7 @@ def key_now(spec: Path, shown: str, context: str) -> str | None:
 
     try:
         data = last_read(spec)
-        return spec_key(data if data is not None else spec.read_bytes(), spec, shown, context)
+        return spec_key(data if data is not None else read_head(spec, READ_CAP), spec, shown, context)
     except OSError:
         return None
 

@@ -76,7 +76,7 @@ def _explicit_config(name: str | None) -> Config | None:
     if not path.is_file():
         raise UsageError(f"{name}: configuration file not found")
     try:
-        return read_config(path)
+        return read_config(path, explicit=True)
     except ConfigError as exc:
         raise UsageError(str(exc)) from None
 
@@ -150,9 +150,10 @@ def _plan(s: _Setup) -> _Plan:
 
 def _key_of(spec: Path, shown: str, context: str) -> str | None:
     from rulecheck.cache import spec_key
+    from rulecheck.files import READ_CAP, read_head
 
     try:
-        return spec_key(spec.read_bytes(), spec, shown, context)
+        return spec_key(read_head(spec, READ_CAP), spec, shown, context)
     except OSError:
         return None
 

@@ -74,7 +74,7 @@ def _worker_check(config_file: str | None, spec: str, key: str | None = None, sh
     """
     prepared = _WORKER["prepared"]
     if config_file not in prepared:
-        cfg = read_config(Path(config_file)) if config_file else Config()
+        cfg = read_config(Path(config_file), explicit=config_file == _WORKER["explicit"]) if config_file else Config()
         prepared[config_file] = prepare(cfg, _WORKER["extra"], _WORKER["today"], _WORKER["units"], _WORKER["base"],
                                         value_kinds=_WORKER["kinds"].get(config_file or ""))
         prepared[config_file].context.charts = _WORKER["charts"]
