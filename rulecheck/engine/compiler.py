@@ -26,6 +26,7 @@ from __future__ import annotations
 
 import keyword
 import math
+import reprlib
 from typing import Any, NamedTuple
 
 from jinja2 import nodes
@@ -37,8 +38,13 @@ from rulecheck.units import REL_TOL
 
 __all__ = ["Translation", "TranslationError", "runtime", "translate"]
 
-_BINARY = {"Add": "+", "Sub": "-", "Div": "/"}  # plain Python operators (jinja's sandbox leaves them alone)
-_GUARDED = {"Mul": "_mul", "Pow": "_pow", "Mod": "_mod", "FloorDiv": "_floordiv"}
+_BINARY = {"Sub": "-", "Div": "/"}  # plain Python operators (jinja's sandbox leaves them alone)
+_GUARDED = {"Add": "_add", "Mul": "_mul", "Pow": "_pow", "Mod": "_mod", "FloorDiv": "_floordiv"}
+# Text and lists a rule builds may not grow past these (values build on each other: doubling a text in each of 24
+# values would be 2**24 times its length). A message is shown to MAX_MESSAGE characters.
+MAX_TEXT = 1000
+MAX_ITEMS = 1000
+MAX_MESSAGE = 1000
 _COMPARE = {"eq": "==", "ne": "!=", "gt": ">", "gteq": ">=", "lt": "<", "lteq": "<=", "in": "in",
             "notin": "not in"}
 # Comparisons of two numbers go through these helpers: they compare at the data's precision (REL_TOL below).
@@ -123,7 +129,7 @@ class _Writer:
                     self.bare.add(child.name)
                 else:
                     parts.append(f"_text({self.visit(child)})")
-        return "''.join((" + "".join(p + ", " for p in parts) + "))"
+        return "_message((" + "".join(p + ", " for p in parts) + "))"
 
     def visit(self, node: nodes.Node) -> str:
         method = getattr(self, "visit_" + type(node).__name__, None)
@@ -214,7 +220,7 @@ class _Writer:
     visit_Add = visit_Sub = visit_Div = visit_Mul = visit_Pow = visit_Mod = visit_FloorDiv = _binary
 
     def visit_Concat(self, node: nodes.Concat) -> str:
-        return "''.join((" + "".join(f"_text({self.visit(n)}), " for n in node.nodes) + "))"
+        return "_cat((" + "".join(f"_text({self.visit(n)}), " for n in node.nodes) + "))"
 
     def visit_Neg(self, node: nodes.Neg) -> str:
         return f"(-{self.visit(node.node)})"
@@ -293,7 +299,7 @@ def runtime(env: Any, section_type: type, missing_type: type, magnitude: Any, ma
     """Return the globals of compiled expressions for ``env`` (no builtins: only these helpers)."""
     return {"__builtins__": {}, **_access(section_type, missing_type),
             **_operators(magnitude, max_exponent, max_magnitude), **_filters_and_tests(env, missing_type),
-            "_text": str, "_Undefined": Undefined, "_isinstance": isinstance}
+            "_text": _text, "_Undefined": Undefined, "_isinstance": isinstance}
 
 
 def _access(section_type: type, missing_type: type) -> dict[str, Any]:
@@ -335,6 +341,52 @@ def _refuse_sequences(operator: str, left: Any, right: Any) -> None:
 _PLAIN = (float, int)
 
 
+def _bounded(value: Any) -> Any:
+    """Return ``value``, refusing text longer than MAX_TEXT characters and lists longer than MAX_ITEMS."""
+    if isinstance(value, str):
+        if len(value) > MAX_TEXT:
+            raise SecurityError(f"text longer than {MAX_TEXT} characters in a rule expression")
+    elif isinstance(value, list | tuple | dict) and len(value) > MAX_ITEMS:
+        raise SecurityError(f"a list longer than {MAX_ITEMS} items in a rule expression")
+    return value
+
+
+def _add(left: Any, right: Any) -> Any:
+    if type(left) in _PLAIN and type(right) in _PLAIN:  # two numbers: nothing to bound
+        return left + right
+    if isinstance(left, str | list | tuple) and isinstance(right, str | list | tuple):
+        if isinstance(left, str) and len(left) + len(right) > MAX_TEXT:
+            raise SecurityError(f"text longer than {MAX_TEXT} characters in a rule expression")
+        if not isinstance(left, str) and len(left) + len(right) > MAX_ITEMS:
+            raise SecurityError(f"a list longer than {MAX_ITEMS} items in a rule expression")
+    return left + right
+
+
+_SHORT = reprlib.Repr()
+_SHORT.maxlevel, _SHORT.maxlist, _SHORT.maxtuple, _SHORT.maxdict, _SHORT.maxstring = 3, 20, 20, 20, MAX_TEXT
+
+
+def _text(value: Any) -> str:
+    """A value as text in a message or ``~``: lists shown to a bounded depth and length (a list nested in itself
+    24 times over would print 2**24 leaves)."""
+    if isinstance(value, list | tuple | dict | set | frozenset):
+        return _SHORT.repr(value)
+    return str(value)
+
+
+def _cat(parts: tuple[str, ...]) -> str:
+    """``a ~ b``: the texts joined, refused past MAX_TEXT characters (counted before they are joined)."""
+    if sum(map(len, parts)) > MAX_TEXT:
+        raise SecurityError(f"text longer than {MAX_TEXT} characters in a rule expression")
+    return "".join(parts)
+
+
+def _message(parts: tuple[str, ...]) -> str:
+    """A rendered message: its parts joined, shown to MAX_MESSAGE characters (each part is a bounded value)."""
+    text = "".join(parts)
+    return text if len(text) <= MAX_MESSAGE else text[:MAX_MESSAGE - 1] + "…"
+
+
 def _mul(left: Any, right: Any) -> Any:
     if type(left) in _PLAIN and type(right) in _PLAIN:  # two numbers: nothing to refuse
         return left * right
@@ -371,7 +423,8 @@ def _operators(magnitude: Any, max_exponent: float, max_magnitude: float) -> dic
             raise SecurityError("power too large in a rule expression")
         return left**right
 
-    return {"_mul": _mul, "_mod": _mod, "_floordiv": _floordiv, "_pow": _pow, "_call": _call, **_COMPARISONS}
+    return {"_add": _add, "_cat": _cat, "_message": _message, "_mul": _mul, "_mod": _mod, "_floordiv": _floordiv,
+            "_pow": _pow, "_call": _call, **_COMPARISONS}
 
 
 # --- comparisons at the data's precision -----------------------------------------------------------------------
@@ -450,8 +503,8 @@ def _filters_and_tests(env: Any, missing_type: type) -> dict[str, Any]:
     def _filter(name: str, value: Any, *args: Any, **kwargs: Any) -> Any:
         fn = plain_filters.get(name)
         if fn is not None:
-            return fn(value, *args, **kwargs)
-        return env.call_filter(name, value, args, kwargs)
+            return _bounded(fn(value, *args, **kwargs))
+        return _bounded(env.call_filter(name, value, args, kwargs))
 
     def _test(name: str, value: Any, *args: Any, **kwargs: Any) -> Any:
         fn = plain_tests.get(name)

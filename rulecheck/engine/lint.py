@@ -11,7 +11,10 @@ The same pass finds the kind of every named value, so messages show units.
 
 from __future__ import annotations
 
+import contextlib
 import difflib
+import signal
+import threading
 from collections.abc import Callable, Mapping
 from functools import lru_cache
 from typing import Any
@@ -243,7 +246,45 @@ def lint_rule(rule: Rule, derived: Derived, cache: expr.CompileCache | None = No
     return _lint_both(_Lint(derived, cache), rule, messages)
 
 
+# A rule file's lint is milliseconds; one that takes longer than this is refused (a hostile file may try to spend
+# the parent's time before any spec is checked).
+LINT_SECONDS = 5.0
+
+
+class _LintTimeout(BaseException):
+    """Raised by the lint's timer (a BaseException: nothing in an expression's evaluation catches it)."""
+
+
+@contextlib.contextmanager
+def _deadline(seconds: float) -> Any:
+    """Raise _LintTimeout in the block after ``seconds`` (POSIX main thread with no timer running; else no limit)."""
+    usable = (hasattr(signal, "setitimer") and threading.current_thread() is threading.main_thread()
+              and signal.getitimer(signal.ITIMER_REAL)[0] == 0)
+    if not usable:
+        yield
+        return
+
+    def expire(_signum: int, _frame: Any) -> None:
+        raise _LintTimeout
+
+    previous = signal.signal(signal.SIGALRM, expire)
+    signal.setitimer(signal.ITIMER_REAL, seconds)
+    try:
+        yield
+    finally:
+        signal.setitimer(signal.ITIMER_REAL, 0)
+        signal.signal(signal.SIGALRM, previous if previous is not None else signal.SIG_DFL)
+
+
 def _lint_both(lint: _Lint, rule: Rule, messages: bool = False) -> tuple[dict[str, str | None], list[RuleError]]:
+    try:
+        with _deadline(LINT_SECONDS):
+            return _lint_checked(lint, rule, messages)
+    except _LintTimeout:
+        return {}, [RuleError(rule.file, f"checking the rule took longer than {LINT_SECONDS:g} s: it is refused", 1, 1)]
+
+
+def _lint_checked(lint: _Lint, rule: Rule, messages: bool) -> tuple[dict[str, str | None], list[RuleError]]:
     try:
         kinds, problems = _lint_rule(lint, rule, fast=True)
     except Unsure:

@@ -85,3 +85,23 @@ EXPRESSIONS = {
     "unknown-section": "gearbox.ratio",
     "unknown-name": "os.system",
 }
+
+
+def growing_rule(join: str, levels: int = 24) -> str:
+    """Return the base rule with values that each double the text of the one before (``join``: how two are
+    joined, e.g. ``"{a} ~ {a}"``), and a message that shows the last: 2**levels times a 500-character text."""
+    lines = ["  t0: {expr: \"'" + "x" * 500 + "'\", kind: flag}"]
+    for n in range(1, levels + 1):
+        lines.append(f"  t{n}: {{expr: \"" + join.format(a=f"t{n - 1}") + "\", kind: flag}")
+    text = rule(message="{{ t%d }} {{ from_power }}" % levels)
+    return text.replace("values:\n", "values:\n" + "\n".join(lines) + "\n", 1)
+
+
+GROWING = {
+    "grow-concat": "{a} ~ {a}",
+    "grow-plus": "{a} + {a}",
+    "grow-join": "[{a}, {a}] | join",
+    "grow-list": "[{a}] + [{a}]",
+    "grow-format": "'%s%s' | format({a}, {a})",
+    "grow-replace": "{a} | replace('x', 'xx')",
+}

@@ -13,7 +13,7 @@ from rulecheck.derive import DERIVED
 from rulecheck.engine.lint import lint_rule
 from rulecheck.engine.ruleset import RuleError, load_rule_file, load_rules
 from tests.robustness.conftest import assert_no_traceback, run_cli
-from tests.robustness.hostile import EXPRESSIONS, rule
+from tests.robustness.hostile import EXPRESSIONS, GROWING, growing_rule, rule
 from tests.robustness.specs import CONVEYOR
 
 # Refusing a rule is parsing plus one dimensional evaluation (~10 ms); a second leaves room for a slow machine
@@ -44,6 +44,7 @@ FILES = {
     "id-not-file-name": rule(rule_id="another-rule"),
     "unknown-key": rule() + "run_as: root\n",
     "binary": "\x00\x01binary rule",
+    **{name: growing_rule(join) for name, join in GROWING.items()},
     "alias-bomb": "a0: &a0 [x,x,x,x,x,x,x,x,x,x]\n" + "".join(
         f"a{i}: &a{i} [" + ",".join([f"*a{i - 1}"] * 10) + "]\n" for i in range(1, 9)),
 }
@@ -149,3 +150,42 @@ def test_lint_reports_symlinks_and_shipped_duplicates(tmp_path: Path) -> None:
     lint = run_cli("rules", "lint", str(folder))
     assert_no_traceback(lint)
     assert lint.returncode != 0 and "passwd.yaml" in lint.stdout and "already" in lint.stdout
+
+
+def test_text_built_by_a_rule_is_bounded() -> None:
+    from jinja2.exceptions import SecurityError
+
+    from rulecheck.engine import expr
+    from rulecheck.engine.compiler import MAX_MESSAGE, MAX_TEXT
+
+    env = expr.environment()
+    long = "x" * (MAX_TEXT // 2 + 1)
+    for text in ("a ~ a", "a + a", "[a, a] | join", "[a] * 1"):
+        with pytest.raises(SecurityError):
+            expr.compile_expression(env, text)(a=long)
+    assert expr.compile_expression(env, "a ~ a")(a="x" * 10) == "x" * 20  # ordinary text is left alone
+    nested = expr.compile_expression(env, "[a, a]")(a=[[[[[[long]]]]]])
+    shown = expr.compile_expression(env, "'' ~ a")(a=nested)
+    assert len(shown) < 200  # a list is shown to a bounded depth
+    message = expr.compile_template(env, "{{ a }}" * 20).render(a="y" * 999)
+    assert len(message) == MAX_MESSAGE and message.endswith("…")
+
+
+def test_a_rule_whose_check_takes_too_long_is_refused(monkeypatch: pytest.MonkeyPatch, tmp_path: Path) -> None:
+    from rulecheck.engine import lint
+
+    folder = tmp_path / "rules"
+    folder.mkdir()
+    (folder / "hostile-rule.yaml").write_text(rule(), encoding="utf-8")
+    slow_lint = lint._lint_rule
+
+    def slow(*args, **kwargs):
+        time.sleep(5)
+        return slow_lint(*args, **kwargs)
+
+    monkeypatch.setattr(lint, "LINT_SECONDS", 0.3)
+    monkeypatch.setattr(lint, "_lint_rule", slow)
+    start = time.perf_counter()
+    errors = _refusals(folder)
+    assert time.perf_counter() - start < 2
+    assert any("took longer than 0.3 s" in str(e) for e in errors)
