@@ -156,8 +156,9 @@ def finding(o: Outcome, meta: dict[str, Any], doc: Document | None, at: Any = No
     if o.outcome == "not-applicable":
         return Finding(o.rule, title, topic, o.outcome, o.severity, safety, o.message, path=o.path)
     pos = at
-    # a pass points at nothing a reviewer must find: no line is looked up
-    if pos is None and doc is not None and o.path and o.outcome != "pass":
+    # a pass points at nothing a reviewer must find: no line is looked up; any other outcome points at its path,
+    # or at the top of the document when it has none (a required section missing)
+    if pos is None and doc is not None and o.outcome != "pass":
         pos = doc.position(o.path)
         if pos is None and o.rule == "spec-schema" and o.path in doc.key_positions:
             pos = doc.key_positions[o.path]

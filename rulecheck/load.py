@@ -20,6 +20,7 @@ import hashlib
 import math
 import operator
 import os
+import re
 from dataclasses import dataclass
 from functools import lru_cache
 from typing import Any
@@ -98,6 +99,7 @@ class Document:
         self.root = root
         self._maps: tuple[dict[str, Position], dict[str, Position], dict[str, tuple[str, str]]] | None = None
         self._memo: dict[str, Position | None] = {}
+        self.aliases = False  # whether the text may hold aliases (set by the loader)
         # whether a plain number is non-finite or beyond 1e15 (set by the loader; None: not known)
         self.odd_numbers: bool | None = None
 
@@ -221,6 +223,7 @@ _SCALAR_TAGS = {
     "tag:yaml.org,2002:null",
     "tag:yaml.org,2002:timestamp",
 }
+_NUMBER_TAGS = ("tag:yaml.org,2002:int", "tag:yaml.org,2002:float")
 _MAP_TAG = "tag:yaml.org,2002:map"
 _STR_TAG = "tag:yaml.org,2002:str"
 _SEQ_TAG = "tag:yaml.org,2002:seq"
@@ -250,11 +253,12 @@ class _Builder:
     def build(self, node: yaml.Node, depth: int) -> Any:
         self.nodes += 1
         if self.nodes > self.limits.max_nodes:
+            aliases = self.doc.aliases
             raise LoadError(
-                f"document expands to more than {self.limits.max_nodes} values (alias expansion?)",
-                *self._lc(node),
-                hint="remove repeated aliases; a drive spec needs no more than a few hundred values",
-            )
+                f"the document {'expands' if aliases else 'holds'} to more than {self.limits.max_nodes} values"
+                + (" through its aliases" if aliases else ""), *self._lc(node),
+                hint=("remove repeated aliases; " if aliases else "") + "a drive spec needs no more than a few "
+                     "hundred values")
         if depth > self.limits.max_depth:
             raise LoadError(f"nesting is deeper than {self.limits.max_depth} levels", *self._lc(node))
         if isinstance(node, yaml.MappingNode):
@@ -291,6 +295,8 @@ class _Builder:
             return node.value
         if node.tag == "tag:yaml.org,2002:timestamp":
             return node.value  # dates stay text; the schema checks their form
+        if ":" in node.value and node.tag in _NUMBER_TAGS:
+            return node.value  # YAML 1.1 base 60 ('3:1' is 181, '1:00' is 60): text, which the schema refuses
         try:
             # the safe constructor's own function for the tag (what construct_object would pick)
             value = _CONSTRUCTORS[node.tag](self.constructor, node)
@@ -355,6 +361,29 @@ def _decode(data: bytes) -> str:
                         hint="save the file as UTF-8") from None
 
 
+# A line that starts a value: a list item or a key. Each adds at least one value, so counting them bounds the
+# number of values before the composer builds a node for each (some 400 bytes apiece).
+_VALUE_LINE = re.compile(r"^[ \t]*(?:-(?:[ \t]|$)|[^#\s\-][^:\n]*:(?:[ \t]|$))", re.MULTILINE)
+
+
+def _refuse_many_values(decoded: str, limits: Limits) -> None:
+    """Raise LoadError when the text has more lines that start a value than the node limit allows."""
+    if len(decoded) // 2 <= limits.max_nodes:  # too short to hold that many values: nothing to count
+        return
+    for count, match in enumerate(_VALUE_LINE.finditer(decoded), 1):
+        if count > limits.max_nodes:
+            line, column = _line_column(decoded, match.start())
+            raise LoadError(f"the document holds more than {limits.max_nodes} values", line, column,
+                            hint="a drive spec needs no more than a few hundred values")
+
+
+def _line_column(decoded: str, offset: int) -> tuple[int, int]:
+    """Return the 1-based line and column of a character offset in the text."""
+    offset = max(0, min(offset, len(decoded)))
+    start = decoded.rfind("\n", 0, offset) + 1
+    return decoded.count("\n", 0, offset) + 1, offset - start + 1
+
+
 def load_text(text: str | bytes, file: str = "<string>", limits: Limits | None = None) -> Document:
     """Return the :class:`Document` for spec text; raise :class:`LoadError` with a position."""
     limits = limits or Limits()
@@ -368,12 +397,18 @@ def load_text(text: str | bytes, file: str = "<string>", limits: Limits | None =
         not line.strip() or line.lstrip().startswith("#") for line in decoded.splitlines()
     ):
         raise LoadError("the file is empty", 1, 1, hint="a spec starts with 'format: 1' and 'tag: ...'")
+    _refuse_many_values(decoded, limits)
     try:
         loader = _Loader(decoded)
         try:
             root = loader.get_single_node()
         finally:
             loader.dispose()
+    except yaml.reader.ReaderError as exc:  # a character YAML does not allow: at its line and column
+        line, column = _line_column(decoded, exc.position)
+        raise LoadError(f"the file contains the character U+{exc.character:04X}, which YAML does not allow "
+                        "(a control character or a non-character)", line, column,
+                        hint="remove it (an editor may show it as a box or nothing at all)") from None
     except yaml.MarkedYAMLError as exc:
         mark = exc.problem_mark or exc.context_mark
         problem = exc.problem or exc.context or "invalid YAML"
@@ -393,6 +428,7 @@ def load_text(text: str | bytes, file: str = "<string>", limits: Limits | None =
         raise LoadError(f"the top level is {kind}, not a mapping of sections", root.start_mark.line + 1,
                         root.start_mark.column + 1, hint="a spec is a mapping: 'format: 1', 'tag: ...', 'motor: ...'")
     doc.root = root
+    doc.aliases = "*" in decoded and "&" in decoded  # may hold aliases (the message of the node limit says so)
     doc.odd_numbers = False  # the builder sets it on the first odd number it constructs
     try:
         doc.data = _Builder(doc, limits).build(root, 0)

@@ -120,6 +120,18 @@ def _describe_type(expected: Any) -> str:
     return _TYPE_WORDS.get(expected, str(expected))
 
 
+def _base60(text: str) -> str:
+    """Return what YAML 1.1 makes of a base-60 text ('3:1' → 181), as text."""
+    total = 0.0
+    for part in text.replace("_", "").lstrip("+-").split(":"):
+        try:
+            total = total * 60 + float(part)
+        except ValueError:
+            return "a number"
+    total = -total if text.startswith("-") else total
+    return f"{total:g}"
+
+
 def _yaml11_hint(doc: Document, path: str, value: Any) -> str:
     raw = doc.raw.get(path)
     if raw is None:
@@ -127,8 +139,9 @@ def _yaml11_hint(doc: Document, path: str, value: Any) -> str:
     text, tag = raw
     if tag.endswith(":bool") and isinstance(value, bool):
         return f"YAML read the unquoted word '{text}' as {str(value).lower()}; put it in quotes"
-    if tag.endswith(":int") and ":" in text:
-        return f"YAML read '{text}' as the base-60 number {value}; put it in quotes"
+    if tag.endswith((":int", ":float")) and ":" in text:
+        return (f"'{text}' is a base-60 number in YAML 1.1 (read by some tools as {_base60(text)}), not a ratio or "
+                "a time; write the number itself (a ratio as 3, not 3:1), or a quantity with its unit in quotes")
     if tag.endswith(":int") and text.startswith("0") and len(text) > 1 and text.isdigit():
         return f"YAML read '{text}' as the octal number {value}; put it in quotes"
     if tag.endswith((":int", ":float")):
@@ -452,7 +465,9 @@ def read_quantities(doc: Document) -> tuple[Quantities, list[Problem]]:
         try:
             si = units.parse_quantity(value, kind_name)
         except units.QuantityError as exc:
-            problems.append(Problem("units-and-dimensions", path, f"{path}: {exc.message}", exc.hint, parts=parts))
+            base60 = isinstance(value, str) and ":" in value and _yaml11_hint(doc, path, value)
+            message = f"{path}: '{value}' is not a quantity" if base60 else f"{path}: {exc.message}"
+            problems.append(Problem("units-and-dimensions", path, message, base60 or exc.hint, parts=parts))
             continue
         problem = _range_problem(path, parts, si, kind_name, value)
         if problem:

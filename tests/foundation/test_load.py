@@ -97,7 +97,7 @@ def test_depth_and_size_limits() -> None:
 def test_yaml_11_scalars_keep_their_written_text() -> None:
     doc = load_text("format: 1\ntag: A\nx: no\ny: 1:30\nz: 2027-06-30\n")
     assert doc.data["x"] is False and doc.raw["x"] == ("no", "tag:yaml.org,2002:bool")
-    assert doc.data["y"] == 90 and doc.raw["y"][0] == "1:30"
+    assert doc.data["y"] == "1:30" and doc.raw["y"] == ("1:30", "tag:yaml.org,2002:int")  # base 60 stays text
     assert doc.data["z"] == "2027-06-30"  # dates stay text
 
 

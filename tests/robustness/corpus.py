@@ -104,6 +104,17 @@ def static_cases() -> list[Case]:
         Case("deep-flow-unclosed.yaml", ("format: 1\ntag: D\nx-deep: " + "{a: " * 20000 + "\n").encode(), ("",),
              "yaml-syntax"),
         Case("alias-bomb.yaml", laughs.encode(), ("alias",), "yaml-syntax"),
+        Case("control-del.yaml", _sub("title: Grit conveyor 2", "title: Grit\x7f conveyor 2"), ("U+007F",),
+             "yaml-syntax", _line_of(CONVEYOR, "title: Grit")),
+        Case("control-c0.yaml", _sub("title: Grit conveyor 2", "title: Grit\x01 conveyor 2"), ("U+0001",),
+             "yaml-syntax", _line_of(CONVEYOR, "title: Grit")),
+        Case("non-character.yaml", _sub("title: Grit conveyor 2", "title: Grit\ufffe conveyor 2"), ("U+FFFE",),
+             "yaml-syntax", _line_of(CONVEYOR, "title: Grit")),
+        Case("base-60-ratio.yaml", _sub("  ratio: 23.8", "  ratio: 3:1"), ("3:1",), "spec-schema",
+             _line_of(CONVEYOR, "  ratio: 23.8")),
+        Case("missing-section.yaml", b"format: 1\ntitle: no tag, no sections\n", ("tag",), "spec-schema", 1),
+        Case("many-values-no-aliases.yaml", ("format: 1\ntag: M\nx-list:\n" + "- 1\n" * 120_000).encode(),
+             ("holds more than",), "yaml-syntax", 100_001),  # the 100 001st line that starts a value
         Case("alias-bomb-in-spec.yaml", (CONVEYOR + "x-notes: &n [" + ", ".join(["n"] * 50) + "]\n" + "".join(
             f"x-n{i}: &n{i} [" + ", ".join([f"*n{i - 1}" if i else "*n"] * 50) + "]\n" for i in range(5))).encode(),
              ("alias",), "yaml-syntax"),

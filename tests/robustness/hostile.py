@@ -93,7 +93,7 @@ def growing_rule(join: str, levels: int = 24) -> str:
     lines = ["  t0: {expr: \"'" + "x" * 500 + "'\", kind: flag}"]
     for n in range(1, levels + 1):
         lines.append(f"  t{n}: {{expr: \"" + join.format(a=f"t{n - 1}") + "\", kind: flag}")
-    text = rule(message="{{ t%d }} {{ from_power }}" % levels)
+    text = rule(message="{{ t" + str(levels) + " }} {{ from_power }}")
     return text.replace("values:\n", "values:\n" + "\n".join(lines) + "\n", 1)
 
 
