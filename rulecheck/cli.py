@@ -3,7 +3,8 @@
 Exit codes: 0 nothing at or above the fail level (findings a baseline knows do not count); 1 findings at or
 above it (including specs that do not load); 2 usage errors (bad options, missing paths, a PATH without spec
 files unless --allow-empty, an unknown git revision or no repository for --changed-since, unusable
-configuration or rule files); 130 interrupted.
+configuration or rule files, and any other fault, with its reason); 130 interrupted; 141 the reader of standard
+output went away (a pipe into ``head``), as other command-line tools do.
 
 Under GitHub Actions (GITHUB_ACTIONS=true) ``check`` writes annotation lines to standard output (unless a
 format or output file is given), a one-line summary to standard error and a Markdown summary appended to
@@ -617,11 +618,13 @@ def _load_baseline(args: argparse.Namespace) -> Any:
     from rulecheck import baseline
 
     try:
-        return baseline.load(Path(args.baseline).read_text(encoding="utf-8"), args.baseline)
+        return baseline.load(_read_text(args.baseline, "baseline"), args.baseline)
     except OSError as exc:
         raise _Usage(f"--baseline {args.baseline}: {exc.strerror or exc}") from None
     except baseline.BaselineError as exc:
         raise _Usage(str(exc)) from None
+    except RecursionError:
+        raise _Usage(f"--baseline {args.baseline}: nested too deeply to be a baseline") from None
 
 
 def _outputs(args: argparse.Namespace, ci: bool) -> list[tuple[str, str | None]]:
@@ -660,7 +663,7 @@ def _cmd_baseline(args: argparse.Namespace) -> int:
     old: list[dict[str, Any]] = []
     if args.update or args.prune:
         try:
-            old = baseline.load_entries(Path(args.output).read_text(encoding="utf-8"), args.output)
+            old = baseline.load_entries(_read_text(args.output, "baseline"), args.output)
         except FileNotFoundError:
             if args.prune:
                 raise _Usage(f"--prune: {args.output} does not exist (write one with 'rulecheck baseline')") from None
@@ -772,8 +775,46 @@ def _cmd_completion(args: argparse.Namespace) -> int:
     return 0
 
 
+def _read_text(name: str, what: str) -> str:
+    """Return a UTF-8 text file the user named (a baseline), read within the size bound; a usage error if not."""
+    from rulecheck.files import READ_CAP, read_limited
+
+    try:
+        return read_limited(name, READ_CAP).decode("utf-8")
+    except UnicodeDecodeError as exc:
+        raise _Usage(f"{name}: the {what} is not UTF-8 text (byte {exc.start})") from None
+    except OSError as exc:
+        raise _Usage(f"{name}: cannot read the {what}: {exc.strerror or exc}") from None
+
+
+def _fault(exc: BaseException) -> str:
+    """Return the message for an exception no command turned into one (the one place faults become messages)."""
+    if isinstance(exc, OSError):
+        where = f"{exc.filename}: " if getattr(exc, "filename", None) else ""
+        return f"{where}{exc.strerror or exc}"
+    if isinstance(exc, RecursionError):
+        return "an input nests too deeply to be read"
+    if isinstance(exc, UnicodeError):
+        return f"text that cannot be read or written in this encoding ({exc})"
+    return (f"unexpected {type(exc).__name__}: {str(exc)[:300]} — a fault in rulecheck; run again with "
+            "RULECHECK_DEBUG=1 for the details and report it")
+
+
+def _tolerant_streams() -> None:
+    """Let standard output and error show what their encoding cannot (a Windows pipe in cp1252) as '?' rather
+    than fail on the first 'Δ' or 'N·m'."""
+    for stream in (sys.stdout, sys.stderr):
+        reconfigure = getattr(stream, "reconfigure", None)
+        if reconfigure is not None and (getattr(stream, "encoding", "") or "").lower().replace("-", "") != "utf8":
+            try:
+                reconfigure(errors="replace")
+            except (ValueError, OSError):
+                pass
+
+
 def main(argv: Sequence[str] | None = None) -> int:
     """Run the command line; return the exit code."""
+    _tolerant_streams()
     parser = _parser()
     args = parser.parse_args(argv)
     if args.command is None:
@@ -810,6 +851,11 @@ def main(argv: Sequence[str] | None = None) -> int:
         except OSError:
             pass
         return 141
+    except Exception as exc:  # noqa: BLE001 - every fault ends as a message and exit 2, never a traceback
+        if os.environ.get("RULECHECK_DEBUG"):
+            raise
+        print(f"rulecheck: {_fault(exc)}", file=sys.stderr)
+        return 2
 
 
 def entry() -> None:

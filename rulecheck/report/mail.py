@@ -18,6 +18,8 @@ Credentials are the caller's business (environment or configuration), never a sp
 
 from __future__ import annotations
 
+import email.errors
+
 import hashlib
 import smtplib
 import socket
@@ -56,7 +58,7 @@ def _addresses(value: str | Sequence[str], what: str) -> list[str]:
             raise MailError(f"{what} address {text!r} is not an e-mail address")
         try:
             Address(addr_spec=text.split("<")[-1].rstrip(">").strip())
-        except (ValueError, IndexError) as exc:
+        except (ValueError, IndexError, email.errors.MessageError) as exc:
             raise MailError(f"{what} address {text!r} is not valid: {exc}") from None
         out.append(text)
     if not out:
