@@ -19,7 +19,6 @@ Credentials are the caller's business (environment or configuration), never a sp
 from __future__ import annotations
 
 import email.errors
-
 import hashlib
 import smtplib
 import socket
