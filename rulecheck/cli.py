@@ -25,7 +25,7 @@ from pathlib import Path
 from typing import Any, NoReturn
 
 from rulecheck import __version__, authoring
-from rulecheck.files import publish, write_atomic
+from rulecheck.files import READ_CAP, publish, write_all, write_atomic
 from rulecheck.result import with_charts
 
 FORMATS = ("text", "json", "sarif", "junit", "markdown", "html", "annotations")
@@ -247,6 +247,21 @@ def _write(path: str | None, text: str | bytes) -> None:
     write_atomic(target, data)
 
 
+def _write_reports(rendered: list[tuple[str | None, str | bytes]]) -> None:
+    """Write reports: the files all or none (a failing second file leaves the first unwritten), then standard
+    output, devices and pipes."""
+    files, direct = [], []
+    for path, text in rendered:
+        target = Path(path) if path not in (None, "-") else None
+        if target is None or (target.exists() and not target.is_file()):
+            direct.append((path, text))
+        else:
+            files.append((target, text.encode("utf-8") if isinstance(text, str) else text))
+    write_all(files)
+    for path, text in direct:
+        _write(path, text)
+
+
 def colour_wanted(choice: str, environ: Mapping[str, str], isatty: bool) -> bool:
     """Return whether the text report is coloured.
 
@@ -395,7 +410,7 @@ def _inputs(args: argparse.Namespace) -> Iterator[tuple[list[str], _Paths]]:
         raise _Usage("--quiet and --verbose exclude each other")
     with tempfile.TemporaryDirectory(prefix="rulecheck-stdin-") as folder:
         try:
-            paths, piped = read_piped(args.paths, Path(folder), sys.stdin.buffer.read)
+            paths, piped = read_piped(args.paths, Path(folder), lambda: sys.stdin.buffer.read(READ_CAP + 1))
             root = repository_root(getattr(args, "root", None), Path.cwd())
         except UsageError as exc:
             raise _Usage(str(exc)) from None
@@ -406,6 +421,19 @@ def _inputs(args: argparse.Namespace) -> Iterator[tuple[list[str], _Paths]]:
                 raise _Usage(f"{given}: no spec files found (*.yaml, *.yml; hidden folders and links are "
                              "skipped); name spec files or folders that hold them, or give --allow-empty")
         yield paths, _Paths(root, piped)
+
+
+def _refuse_spec_outputs(files: list[str | None], paths: list[str]) -> None:
+    """Refuse a report file that is one of the specs being checked (it would be overwritten by the report)."""
+    from rulecheck.run.discovery import collect_specs
+
+    targets = {os.path.realpath(f): f for f in files if f not in (None, "-") and os.path.isfile(f)}
+    if not targets:
+        return
+    for spec in collect_specs(paths):
+        given = targets.get(os.path.realpath(spec))
+        if given is not None:
+            raise _Usage(f"{given}: this report file is one of the specs being checked; write the report elsewhere")
 
 
 def _run(args: argparse.Namespace, paths: list[str]) -> tuple[dict[str, Any], list[Any] | None]:
@@ -448,8 +476,12 @@ class _Sink:
         if target is not None and target.exists() and not target.is_file():
             self.handle: Any = open(target, "w", encoding="utf-8")  # a device or pipe: write straight to it
         elif target is not None:
-            fd, self.tmp = tempfile.mkstemp(prefix=f".{target.name}.", suffix=".tmp",
-                                            dir=target.parent if str(target.parent) else ".")
+            try:
+                fd, self.tmp = tempfile.mkstemp(prefix=f".{target.name}.", suffix=".tmp",
+                                                dir=target.parent if str(target.parent) else ".")
+            except OSError as exc:
+                exc.filename = file  # the report's name, not its temporary file's
+                raise
             self.handle = os.fdopen(fd, "w", encoding="utf-8")
         else:
             self.handle = sys.stdout
@@ -491,6 +523,9 @@ class _Sink:
         self.handle.flush()
         if not self.to_stdout:
             self.handle.close()
+
+    def publish(self) -> None:
+        """Rename the finished report into place."""
         if self.tmp:
             publish(self.tmp, self.file)
             self.tmp = None
@@ -505,11 +540,32 @@ class _Sink:
                 pass
 
 
+def _write_streamed(stream: Any, sinks: list[_Sink], matcher: Any, shown: _Paths) -> dict[str, Any]:
+    """Give each spec result to every report as it arrives; finish them all, then put them in place."""
+    from rulecheck.result import Tally
+
+    tally = Tally(stream.header["settings"]["fail_on"])
+    for spec in stream.specs:
+        if matcher is not None:
+            spec = matcher.mark(spec, shown.machine(spec["file"]))
+        tally.add(spec)
+        for sink in sinks:
+            sink.spec(spec)
+    summary = tally.result()
+    if matcher is not None:
+        matcher.adjust(summary)
+    stream.add_cache_counts(summary)
+    for sink in sinks:  # every report complete before any is renamed into place: all or none
+        sink.finish(summary)
+    for sink in sinks:
+        sink.publish()
+    return summary
+
+
 def _stream_check(args: argparse.Namespace, outputs: list[tuple[str, str | None]], known: Any,
                   paths: list[str], shown: _Paths) -> dict[str, Any]:
     """Check and write the streamed formats spec by spec; return the summary."""
     from rulecheck import baseline
-    from rulecheck.result import Tally
     from rulecheck.run import UsageError, run_stream
 
     options = _options(args, paths)
@@ -522,23 +578,11 @@ def _stream_check(args: argparse.Namespace, outputs: list[tuple[str, str | None]
     for warning in stream.warnings:
         print(f"rulecheck: warning: {warning}", file=sys.stderr)
     matcher = baseline.Matcher(known, args.baseline, shown.gone) if known is not None else None
-    tally = Tally(stream.header["settings"]["fail_on"])
     sinks: list[_Sink] = []
     try:
         for fmt, file in outputs:
             sinks.append(_Sink(fmt, file, args, stream.header, shown))
-        for spec in stream.specs:
-            if matcher is not None:
-                spec = matcher.mark(spec, shown.machine(spec["file"]))
-            tally.add(spec)
-            for sink in sinks:
-                sink.spec(spec)
-        summary = tally.result()
-        if matcher is not None:
-            matcher.adjust(summary)
-        stream.add_cache_counts(summary)
-        for sink in sinks:
-            sink.finish(summary)
+        summary = _write_streamed(stream, sinks, matcher, shown)
     except BrokenPipeError:
         for sink in sinks:
             sink.abort()
@@ -546,7 +590,7 @@ def _stream_check(args: argparse.Namespace, outputs: list[tuple[str, str | None]
     except OSError as exc:
         for sink in sinks:
             sink.abort()
-        raise _Usage(f"cannot write a report: {exc.strerror or exc}") from None
+        raise _Usage(f"cannot write {exc.filename or 'a report'}: {exc.strerror or exc}") from None
     except BaseException:
         for sink in sinks:
             sink.abort()
@@ -564,11 +608,10 @@ def _whole_check(args: argparse.Namespace, outputs: list[tuple[str, str | None]]
         baseline.apply(result, known, args.baseline, shown.machine, shown.gone)
     rendered = [(file, render(shown.result(result, f), f, args, charts)) for f, file in outputs]
     markdown = render(shown.result(result, "markdown"), "markdown", args) if step_summary else None
-    for file, text in rendered:  # every report is rendered before any is written: no partial set
-        try:
-            _write(file, text)
-        except OSError as exc:
-            raise _Usage(f"cannot write {file}: {exc.strerror or exc}") from None
+    try:  # every report is rendered before any is written, and the files are written all or none
+        _write_reports(rendered)
+    except OSError as exc:
+        raise _Usage(f"cannot write {exc.filename or 'a report'}: {exc.strerror or exc}") from None
     if step_summary and markdown is not None:
         markdown = _fit_step_summary(markdown)
         try:
@@ -646,6 +689,7 @@ def _cmd_check(args: argparse.Namespace) -> int:
     known = _load_baseline(args)
     step_summary = os.environ.get("GITHUB_STEP_SUMMARY") if ci else None
     with _inputs(args) as (paths, shown):
+        _refuse_spec_outputs([file for _f, file in outputs], paths)
         if all(f in STREAMED for f, _file in outputs) and not step_summary:
             summary = _stream_check(args, outputs, known, paths, shown)
         else:
@@ -777,7 +821,7 @@ def _cmd_completion(args: argparse.Namespace) -> int:
 
 def _read_text(name: str, what: str) -> str:
     """Return a UTF-8 text file the user named (a baseline), read within the size bound; a usage error if not."""
-    from rulecheck.files import READ_CAP, read_limited
+    from rulecheck.files import read_limited
 
     try:
         return read_limited(name, READ_CAP).decode("utf-8")

@@ -9,24 +9,44 @@ import stat
 import tempfile
 from pathlib import Path
 
-__all__ = ["READ_CAP", "ReadRefused", "publish", "read_head", "read_limited", "write_atomic"]
+__all__ = ["READ_CAP", "ReadRefused", "publish", "read_head", "read_limited", "write_all", "write_atomic"]
 
 
 def write_atomic(target: Path, data: bytes) -> None:
     """Write ``data`` to ``target`` through a temporary file in the same folder, renamed onto it once complete,
     with ordinary permissions (mkstemp makes the file private); the temporary file is removed on any failure."""
-    folder = target.parent if str(target.parent) else Path(".")
-    fd, tmp = tempfile.mkstemp(prefix=f".{target.name}.", suffix=".tmp", dir=folder)
+    write_all([(target, data)])
+
+
+def write_all(items: list[tuple[Path, bytes]]) -> None:
+    """Write several files so that either all are written or none is: each to a temporary file beside its
+    target first, then all renamed; on any failure before the renames every temporary file is removed."""
+    staged: list[tuple[str, Path]] = []
+    target = Path(".")
     try:
-        with os.fdopen(fd, "wb") as handle:
-            handle.write(data)
-        publish(tmp, target)
+        for target, data in items:
+            folder = target.parent if str(target.parent) else Path(".")
+            fd, tmp = tempfile.mkstemp(prefix=f".{target.name}.", suffix=".tmp", dir=folder)
+            staged.append((tmp, target))
+            with os.fdopen(fd, "wb") as handle:
+                handle.write(data)
+        for tmp, target in staged:
+            publish(tmp, target)
+    except OSError as exc:
+        _unlink_all(staged)
+        exc.filename = str(target)  # the report's name, not its temporary file's
+        raise
     except BaseException:
+        _unlink_all(staged)
+        raise
+
+
+def _unlink_all(staged: list[tuple[str, Path]]) -> None:
+    for tmp, _target in staged:
         try:
             os.unlink(tmp)
         except OSError:
             pass
-        raise
 
 
 def publish(tmp: str, target: str | Path) -> None:

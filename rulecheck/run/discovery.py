@@ -11,6 +11,7 @@ from pathlib import Path
 from rulecheck.check import display_path
 from rulecheck.config import CONFIG_NAME, Config, ConfigError, discover, read_config
 from rulecheck.engine.ruleset import shipped_rules_dir
+from rulecheck.files import READ_CAP, read_head
 from rulecheck.run.options import UsageError
 
 __all__ = ["Configs", "changed_files", "collect_specs", "config_digest", "filter_changed", "has_specs",
@@ -19,18 +20,19 @@ __all__ = ["Configs", "changed_files", "collect_specs", "config_digest", "filter
 SPEC_SUFFIXES = (".yaml", ".yml")
 
 
-def collect_specs(paths: list[str]) -> list[Path]:
+def collect_specs(paths: list[str], notes: list[str] | None = None) -> list[Path]:
     """Return the spec files named or found under ``paths`` (recursive, stable order, no duplicates).
 
-    Folders are searched for ``*.yaml``/``*.yml``; hidden folders and files, configuration
-    files and links are skipped there (a file named directly is always taken).
+    Folders are searched for ``*.yaml``/``*.yml`` (any case); hidden folders and files and configuration
+    files are skipped there. A link to a file inside the searched folder is taken; a link that leads out of
+    it, or to a folder, is skipped and said in ``notes`` (a file named directly is always taken).
     """
     found: list[Path] = []
     seen: set[str] = set()
     for raw in paths:
         path = Path(raw)
         if path.is_dir():
-            candidates = _walk(str(path), os.path.realpath(path))
+            candidates = _walk(str(path), os.path.realpath(path), os.path.realpath(path), notes)
         elif path.exists():
             candidates = [(str(path), os.path.realpath(path))]
         else:
@@ -61,7 +63,7 @@ def has_specs(path: str) -> bool:
                     continue
                 if entry.is_dir(follow_symlinks=False):
                     pending.append(entry.path)
-                elif entry.name.endswith(SPEC_SUFFIXES) and entry.name != CONFIG_NAME:
+                elif entry.name.lower().endswith(SPEC_SUFFIXES) and entry.name != CONFIG_NAME:
                     return True
             except OSError:
                 continue
@@ -85,9 +87,11 @@ def read_piped(paths: list[str], folder: Path, stdin: Callable[[], bytes]) -> tu
         key = "-" if raw == "-" else os.path.realpath(raw)
         if key not in done:
             try:
-                data = stdin() if raw == "-" else Path(raw).read_bytes()
+                data = stdin() if raw == "-" else read_head(raw, READ_CAP, pipes=True)
             except OSError as exc:
                 raise UsageError(f"{raw}: cannot read: {exc.strerror or exc}") from None
+            if len(data) > READ_CAP:
+                raise UsageError(f"{raw}: more than {READ_CAP} bytes: not a drive spec")
             stem = "stdin" if raw == "-" else (Path(raw).stem or "spec")
             target = folder / f"{len(done)}" / f"{stem}.yaml"
             target.parent.mkdir()
@@ -115,10 +119,10 @@ def repository_root(root: str | None, cwd: Path) -> Path:
     return Path(os.path.realpath(top)) if proc.returncode == 0 and top else Path(os.path.realpath(cwd))
 
 
-def _walk(folder: str, real: str) -> list[tuple[str, str]]:
+def _walk(folder: str, real: str, root: str, notes: list[str] | None) -> list[tuple[str, str]]:
     """Return (path, resolved path) of the spec files below ``folder``: its own files in name order, then
-    each subfolder's in name order; hidden names and links are skipped (so no path below is a link, and
-    the resolved path is the resolved folder's joined with the same names)."""
+    each subfolder's in name order; hidden names are skipped, and links but to a spec file inside ``root``
+    (said in ``notes``: a link is never followed out of the folder searched, nor into a folder)."""
     try:
         with os.scandir(folder) as found:
             entries = sorted(found, key=lambda e: e.name)
@@ -129,17 +133,37 @@ def _walk(folder: str, real: str) -> list[tuple[str, str]]:
     for entry in entries:
         name = entry.name
         try:
-            if name.startswith(".") or entry.is_symlink():
+            if name.startswith("."):
                 continue
-            if entry.is_dir(follow_symlinks=False):
+            spec_name = name.lower().endswith(SPEC_SUFFIXES) and name != CONFIG_NAME
+            if entry.is_symlink():
+                if spec_name or entry.is_dir():
+                    _linked(entry, root, files, notes)
+            elif entry.is_dir(follow_symlinks=False):
                 subfolders.append((entry.path, os.path.join(real, name)))
-            elif name.endswith(SPEC_SUFFIXES) and name != CONFIG_NAME and entry.is_file(follow_symlinks=False):
+            elif spec_name and entry.is_file(follow_symlinks=False):
                 files.append((entry.path, os.path.join(real, name)))
         except OSError:
             continue
     for sub, sub_real in subfolders:
-        files.extend(_walk(sub, sub_real))
+        files.extend(_walk(sub, sub_real, root, notes))
     return files
+
+
+def _linked(entry: os.DirEntry[str], root: str, files: list[tuple[str, str]], notes: list[str] | None) -> None:
+    """Take a link to a spec file inside ``root``; say why any other link is skipped."""
+    target = os.path.realpath(entry.path)
+    if entry.is_dir():
+        why = "is a link to a folder"
+    elif not (target == root or target.startswith(root.rstrip(os.sep) + os.sep)):
+        why = "is a link that leads out of the folder searched"
+    elif not os.path.isfile(target):
+        why = "is a link to something that is not a file"
+    else:
+        files.append((entry.path, target))
+        return
+    if notes is not None:
+        notes.append(f"{entry.path}: skipped: {why}; name it on the command line to check it")
 
 
 def rule_folders(cfg: Config, extra: list[Path]) -> list[Path]:

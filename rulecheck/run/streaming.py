@@ -67,6 +67,7 @@ class _Setup:
     units: str
     cache: ResultCache | None
     code_cache: ResultCache | None
+    notes: list[str] = field(default_factory=list)  # said to the user before the results (files skipped)
 
 
 def _explicit_config(name: str | None) -> Config | None:
@@ -92,7 +93,8 @@ def _extra_rule_folders(names: list[str]) -> list[Path]:
 
 
 def _setup(options: RunOptions) -> _Setup:
-    specs = collect_specs(options.paths)
+    notes: list[str] = []
+    specs = collect_specs(options.paths, notes)
     explicit = _explicit_config(options.config)
     extra = _extra_rule_folders(options.rule_paths)
     configs = Configs(explicit)
@@ -105,7 +107,7 @@ def _setup(options: RunOptions) -> _Setup:
         code_cache = ResultCache(Path(options.code_cache_dir))
     return _Setup(options, options.today or _dt.date.today(), specs, explicit, extra, configs, Path.cwd(), first_cfg,
                   options.fail_on or first_cfg.fail_on or "error", options.units or first_cfg.units or "si",
-                  cache, code_cache)
+                  cache, code_cache, notes)
 
 
 @dataclass(slots=True)
@@ -320,7 +322,7 @@ def run_stream(options: RunOptions, progress: Callable[[int, int], None] | None 
     from rulecheck.cache import KEY_PROBLEMS
 
     return Stream(head, iter(_Results(s, plan, rules, todo, pool, charts, tick)), s.cache, charts,
-                  list(dict.fromkeys(KEY_PROBLEMS)))
+                  [*s.notes, *dict.fromkeys(KEY_PROBLEMS)])
 
 
 def run_with_charts(options: RunOptions,
