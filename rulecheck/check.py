@@ -491,10 +491,10 @@ def _apply_waivers(waivers: Any, outcomes: dict[str, Outcome], ctx: CheckContext
             continue
         path = f"waivers[{i}]"
         rule_id = ctx.ruleset.resolve(waiver["rule"])
-        if rule_id is None:
+        if rule_id is None or rule_id not in outcomes:  # unknown, or disabled by the configuration (an alias too)
             findings.append(Outcome("waiver-check", "fail", "warning",
-                                    f"{path}: waiver names rule '{waiver['rule']}', which does not exist",
-                                    path + ".rule",
+                                    f"{path}: waiver names rule '{waiver['rule']}', which this run does not check "
+                                    "(no such rule, or the configuration disables it)", path + ".rule",
                                     hint="remove the waiver or correct the rule id ('rulecheck rules' lists them)"))
             continue
         try:

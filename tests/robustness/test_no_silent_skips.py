@@ -60,3 +60,25 @@ def test_a_device_named_as_a_spec_is_refused() -> None:
     proc = run_cli("check", "/dev/zero", timeout=30)
     assert_no_traceback(proc)
     assert proc.returncode == 2 and "character device" in proc.stderr
+
+
+def test_a_waiver_naming_an_alias_of_a_disabled_rule_is_a_warning_not_an_internal_error(tmp_path: Path) -> None:
+    from tests.robustness.hostile import rule
+    from tests.robustness.specs import CONVEYOR
+
+    project = tmp_path / "project"
+    (project / ".git").mkdir(parents=True)
+    (project / "rules").mkdir()
+    (project / "rules" / "hostile-rule.yaml").write_text(
+        rule().replace("title: Rated", "aliases: [old-nameplate-rule]\ntitle: Rated", 1), encoding="utf-8")
+    (project / ".rulecheck.yaml").write_text("rule_paths: [rules]\ndisable: [hostile-rule]\n", encoding="utf-8")
+    waiver = ("waivers:\n  - {rule: old-nameplate-rule, reason: checked at FAT, approved_by: J. Doe, "
+              "expires: 2099-01-01}\n")
+    (project / "cv-210.yaml").write_text(CONVEYOR + waiver, encoding="utf-8")
+    proc = run_cli("check", str(project / "cv-210.yaml"), "--no-cache", "-f", "json")
+    assert_no_traceback(proc)
+    import json
+
+    outcomes = json.loads(proc.stdout)["specs"][0]["outcomes"]
+    assert not [o for o in outcomes if o["rule"] == "internal-error"], outcomes
+    assert any(o["rule"] == "waiver-check" and "which this run does not check" in o["message"] for o in outcomes)
