@@ -259,10 +259,14 @@ def changed_files(rev: str, cwd: Path) -> set[Path]:
 
 
 def _rules_or_config_changed(specs: list[Path], changed: set[Path], configs: Configs, extra: list[Path]) -> bool:
-    """Return whether a configuration or a rule file of the run changed (which can change any spec's outcome)."""
+    """Return whether a configuration or a rule file of the run changed (which can change any spec's outcome):
+    the configuration a spec is checked under, or one added or deleted in a folder at or above a spec's."""
+    config_folders = {p.parent for p in changed if p.name in (CONFIG_NAME, "pyproject.toml")}
     for spec in specs:
         cfg = configs.for_spec(spec)
         if cfg.file and Path(cfg.file).resolve() in changed:
+            return True
+        if config_folders and any(f in config_folders for f in (spec.parent.resolve(), *spec.parent.resolve().parents)):
             return True
         for folder in rule_folders(cfg, extra)[1:]:
             if any(str(p).startswith(str(folder.resolve()) + os.sep) for p in changed):
@@ -274,13 +278,29 @@ def _spec_changed(spec: Path, changed: set[Path]) -> bool:
     """Return whether a spec changed, or a duty profile (CSV) beside a spec that names one."""
     if spec.resolve() in changed:
         return True
-    text = spec.read_bytes() if spec.is_file() else b""
+    try:
+        text = read_head(spec, READ_CAP)
+    except OSError:
+        text = b""
     return b"duty_profile" in text and any(p.parent == spec.parent.resolve() and p.suffix == ".csv" for p in changed)
 
 
+def _git_top(folder: Path) -> Path | None:
+    """Return the top of the git work tree that holds ``folder`` (the nearest folder with a ``.git``), or None."""
+    for candidate in (folder, *folder.parents):
+        if (candidate / ".git").exists():
+            return candidate
+    return None
+
+
 def filter_changed(specs: list[Path], rev: str, configs: Configs, extra: list[Path]) -> list[Path]:
-    """Return the specs a run since git revision ``rev`` checks (all, when rules or configuration changed)."""
-    changed = changed_files(rev, Path.cwd())
+    """Return the specs a run since git revision ``rev`` checks (all, when rules or configuration changed). Each
+    spec is compared in its own repository (the one holding it, wherever the run starts from)."""
+    tops = {_git_top(folder) for folder in {spec.parent.resolve() for spec in specs}} - {None}
+    if not tops:  # no spec in a repository (or none at all): git, run here, says why or checks the revision
+        changed = changed_files(rev, Path.cwd())
+    else:
+        changed = set().union(*(changed_files(rev, top) for top in sorted(tops)))  # type: ignore[type-var]
     if not specs or _rules_or_config_changed(specs, changed, configs, extra):
         return specs
     return [spec for spec in specs if _spec_changed(spec, changed)]

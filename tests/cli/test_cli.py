@@ -327,3 +327,26 @@ def test_a_run_that_draws_charts_reads_results_and_chart_series_from_the_cache(t
     assert json.loads((tmp_path / "2.json").read_text(encoding="utf-8"))["summary"]["cache"] == {"hits": 8,
                                                                                                  "misses": 0}
     assert (tmp_path / "1.html").read_bytes() == (tmp_path / "2.html").read_bytes()
+
+
+def test_changed_since_sees_a_deleted_configuration_and_works_from_another_repository(tmp_path: Path) -> None:
+    repo, other = tmp_path / "repo", tmp_path / "other"
+    (repo / "specs").mkdir(parents=True)
+    other.mkdir()
+    _spec(repo / "specs", "a.yaml", GOOD.replace("T-1", "A-1"))
+    _spec(repo / "specs", "b.yaml", GOOD.replace("T-1", "B-1"))
+    (repo / ".rulecheck.yaml").write_text("fail_on: error\n", encoding="utf-8")
+    for folder in (repo, other):
+        _git(folder, "init", "-q", "-b", "main")
+        (folder / "README").write_text("x\n", encoding="utf-8")
+        _git(folder, "add", "-A")
+        _git(folder, "commit", "-q", "-m", "start")
+    # from another repository: the specs' own repository is asked what changed
+    _spec(repo / "specs", "b.yaml", GOOD.replace("T-1", "B-1") + "  poles: 4\n")
+    proc = run_cli("check", str(repo / "specs"), "--no-cache", "--changed-since", "HEAD", "--format", "json",
+                   cwd=other)
+    assert [Path(s["file"]).name for s in json.loads(proc.stdout)["specs"]] == ["b.yaml"], proc.stderr
+    # a deleted configuration changes how every spec is checked: all are checked
+    (repo / ".rulecheck.yaml").unlink()
+    proc = run_cli("check", "specs", "--no-cache", "--changed-since", "HEAD", "--format", "json", cwd=repo)
+    assert len(json.loads(proc.stdout)["specs"]) == 2, proc.stderr
