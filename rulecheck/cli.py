@@ -17,15 +17,17 @@ import argparse
 import datetime as _dt
 import difflib
 import os
+import signal
 import sys
 import tempfile
+import threading
 from collections.abc import Iterator, Mapping, Sequence
 from contextlib import contextmanager
 from pathlib import Path
 from typing import Any, NoReturn
 
 from rulecheck import __version__, authoring
-from rulecheck.files import READ_CAP, publish, write_all, write_atomic
+from rulecheck.files import READ_CAP, publish, temporary_beside, write_all, write_atomic
 from rulecheck.result import with_charts
 
 FORMATS = ("text", "json", "sarif", "junit", "markdown", "html", "annotations")
@@ -477,8 +479,7 @@ class _Sink:
             self.handle: Any = open(target, "w", encoding="utf-8")  # a device or pipe: write straight to it
         elif target is not None:
             try:
-                fd, self.tmp = tempfile.mkstemp(prefix=f".{target.name}.", suffix=".tmp",
-                                                dir=target.parent if str(target.parent) else ".")
+                fd, self.tmp = temporary_beside(target)
             except OSError as exc:
                 exc.filename = file  # the report's name, not its temporary file's
                 raise
@@ -856,9 +857,37 @@ def _tolerant_streams() -> None:
                 pass
 
 
+def _stopped(what: str, code: int) -> int:
+    """Say the run was stopped; end any worker still alive (it would hold our output pipes open) and leave at once
+    rather than wait in the pool's exit handler. The reports' temporary files are already removed."""
+    print(f"rulecheck: {what}", file=sys.stderr)
+    sys.stderr.flush()
+    from rulecheck.run.pool import workers_running
+
+    if workers_running():
+        import multiprocessing
+
+        for child in multiprocessing.active_children():
+            child.terminate()
+        for child in multiprocessing.active_children():
+            child.join(timeout=2)
+        os._exit(code)
+    return code
+
+
+class _Terminated(BaseException):
+    """SIGTERM (a CI job cancelled, a container stopped): ends the run as Ctrl-C does, temporary files removed."""
+
+
+def _on_sigterm(_signum: int, _frame: Any) -> None:
+    raise _Terminated
+
+
 def main(argv: Sequence[str] | None = None) -> int:
     """Run the command line; return the exit code."""
     _tolerant_streams()
+    if threading.current_thread() is threading.main_thread():
+        signal.signal(signal.SIGTERM, _on_sigterm)
     parser = _parser()
     args = parser.parse_args(argv)
     if args.command is None:
@@ -871,22 +900,10 @@ def main(argv: Sequence[str] | None = None) -> int:
     except _Usage as exc:
         print(f"rulecheck: {exc}", file=sys.stderr)
         return 2
+    except _Terminated:
+        return _stopped("terminated", 143)
     except KeyboardInterrupt:
-        print("rulecheck: interrupted", file=sys.stderr)
-        sys.stderr.flush()
-        from rulecheck.run.pool import workers_running
-
-        if workers_running():
-            # end any worker still alive (it would hold our output pipes open), then leave at once
-            # rather than wait in the pool's exit handler
-            import multiprocessing
-
-            for child in multiprocessing.active_children():
-                child.terminate()
-            for child in multiprocessing.active_children():
-                child.join(timeout=2)
-            os._exit(130)
-        return 130
+        return _stopped("interrupted", 130)
     except BrokenPipeError:
         # the reader (head, less) has gone: stop quietly, as command-line tools do
         try:

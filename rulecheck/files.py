@@ -9,7 +9,43 @@ import stat
 import tempfile
 from pathlib import Path
 
-__all__ = ["READ_CAP", "ReadRefused", "publish", "read_head", "read_limited", "write_all", "write_atomic"]
+__all__ = ["READ_CAP", "ReadRefused", "publish", "read_head", "read_limited", "temporary_beside", "write_all",
+           "write_atomic"]
+
+
+def temporary_beside(target: Path) -> tuple[int, str]:
+    """Return (descriptor, path) of a new private temporary file beside ``target`` (``.NAME.PID.xxxx.tmp``),
+    after removing the ones a run that was killed left for the same target (their process no longer exists)."""
+    folder = target.parent if str(target.parent) else Path(".")
+    _sweep(folder, target.name)
+    return tempfile.mkstemp(prefix=f".{target.name}.{os.getpid()}.", suffix=".tmp", dir=folder)
+
+
+def _sweep(folder: Path, name: str) -> None:
+    """Remove ``.NAME.PID.*.tmp`` files in ``folder`` whose process is gone (a report killed mid-write)."""
+    prefix = f".{name}."
+    try:
+        with os.scandir(folder) as found:
+            leftovers = [e for e in found if e.name.startswith(prefix) and e.name.endswith(".tmp")]
+    except OSError:
+        return
+    for entry in leftovers:
+        pid = entry.name[len(prefix):].split(".", 1)[0]
+        if pid.isdigit() and int(pid) != os.getpid() and not _alive(int(pid)):
+            try:
+                os.unlink(entry.path)
+            except OSError:
+                pass
+
+
+def _alive(pid: int) -> bool:
+    try:
+        os.kill(pid, 0)
+    except ProcessLookupError:
+        return False
+    except (PermissionError, OSError, OverflowError):
+        return True  # someone else's, or cannot tell: leave it
+    return True
 
 
 def write_atomic(target: Path, data: bytes) -> None:
@@ -25,8 +61,7 @@ def write_all(items: list[tuple[Path, bytes]]) -> None:
     target = Path(".")
     try:
         for target, data in items:
-            folder = target.parent if str(target.parent) else Path(".")
-            fd, tmp = tempfile.mkstemp(prefix=f".{target.name}.", suffix=".tmp", dir=folder)
+            fd, tmp = temporary_beside(target)
             staged.append((tmp, target))
             with os.fdopen(fd, "wb") as handle:
                 handle.write(data)

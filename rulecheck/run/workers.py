@@ -54,6 +54,7 @@ def _worker_init(explicit: str | None, extra: list[str], today: str, units_syste
     from rulecheck.schema import use_fast_validator
 
     signal.signal(signal.SIGINT, signal.SIG_IGN)  # Ctrl-C is the parent's to handle: it stops the workers
+    signal.signal(signal.SIGTERM, signal.SIG_DFL)  # the parent's handler ends a run; a worker just ends
     _end_with_parent()
     keep_alarm_handler()
     use_fast_validator()
