@@ -222,7 +222,7 @@ def _mail_size_options(parser: argparse.ArgumentParser) -> None:
     parser.add_argument("--attach", choices=("pdf", "html"), default=None,
                         help="attach the full report as PDF or HTML (default: PDF when WeasyPrint is installed)")
     parser.add_argument("--max-size", type=float, default=10.0, metavar="MB",
-                        help="refuse a message larger than MB megabytes (default 10)")
+                        help="refuse a message larger than MB megabytes (default 10; 0: no limit)")
     parser.add_argument("--no-details", action="store_true",
                         help="leave charts, chart data and derived values out of the attached report")
 
@@ -729,13 +729,16 @@ def _cmd_baseline(args: argparse.Namespace) -> int:
 def _cmd_mail(args: argparse.Namespace) -> int:
     from rulecheck.report import mail
 
+    args._charts = not args.no_details
     with _inputs(args) as (paths, shown):
         result, charts = _run(args, paths)
     result = shown.result(result, "text")
     try:
         drawn = with_charts(result, charts if charts is not None else [None] * len(result["specs"]))
         message = mail.build_message(drawn, sender=args.sender, recipients=args.to, subject=args.subject,
-                                     units=result["settings"]["units"])
+                                     units=result["settings"]["units"], attach=args.attach,
+                                     details=not args.no_details, meta=_page_meta(args),
+                                     max_bytes=int(args.max_size * 2**20) if args.max_size > 0 else None)
     except (ValueError, mail.MailError) as exc:
         raise _Usage(str(exc)) from None
     for file, data in ((args.html, lambda: render(result, "html", args, charts)),

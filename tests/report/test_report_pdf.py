@@ -19,8 +19,6 @@ pdfium = pytest.importorskip("pypdfium2", reason="pypdfium2 (test extra) renders
 
 from rulecheck.report import pdf  # noqa: E402
 
-from . import sample  # noqa: E402
-
 ROOT = Path(__file__).resolve().parents[2]
 A4 = (595.28, 841.89)  # ISO 216: 210 mm × 297 mm in PostScript points (72 per inch)
 LETTER = (612.0, 792.0)  # ANSI: 8.5 in × 11 in
@@ -87,3 +85,14 @@ def test_no_word_is_broken_across_lines(demo_pdf):
 def test_bad_paper_is_refused(samples):
     with pytest.raises(ValueError, match="a4"):
         pdf.render(samples["conveyor"], meta={"paper": "a3"})
+
+
+def test_demo_email_is_under_one_megabyte(tmp_path):
+    # the issue's target: the demo's e-mail (summary body, the full report attached once as PDF) under 1 MB
+    eml = tmp_path / "demo.eml"
+    proc = subprocess.run([sys.executable, "-m", "rulecheck", "mail", "specs_demo/", "--to", "lead@plant.example",
+                           "--eml", str(eml), "--no-cache"], cwd=ROOT, capture_output=True, text=True)
+    assert proc.returncode == 1 and "Traceback" not in proc.stderr, proc.stderr  # the demo's seeded mistakes
+    data = eml.read_bytes()
+    assert len(data) < 2**20, len(data)
+    assert data.count(b"filename=") == 1 and b"application/pdf" in data
