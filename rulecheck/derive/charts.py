@@ -11,6 +11,8 @@ from typing import Any
 import numpy as np
 
 from rulecheck import units
+from rulecheck.derive.starting import _available as peak_available
+from rulecheck.derive.starting import _load_at_motor as load_at_motor
 from rulecheck.derive.train import capability
 from rulecheck.model import Model
 from rulecheck.physics import machines as mc
@@ -53,7 +55,11 @@ def _torque_speed(m: Model) -> dict[str, Any] | None:
         "torque_unit": "N*m",
         "motor_continuous": [[_r(s * RPM), _r(t)] for s, t in zip(speeds, cont, strict=True)],
     }
-    if peak_limit:
+    available = peak_available(m)
+    if available is not None:
+        # the short-time torque the peak rule compares with: the motor's, limited by the drive's overload current
+        out["motor_peak"] = [[_r(s * RPM), _r(available(float(s)))] for s in speeds]
+    elif peak_limit:
         bd = m.get("motor.breakdown_torque")
         peak = []
         for s in speeds:
@@ -67,6 +73,9 @@ def _torque_speed(m: Model) -> dict[str, Any] | None:
                 value = peak_limit / ratio
             peak.append([_r(s * RPM), _r(value)])
         out["motor_peak"] = peak
+    curve = _load_curve(m)
+    if curve:
+        out["load_curve"] = curve
     points = []
     i, eff = m.get("transmission.ratio"), m.get("transmission.efficiency")
     fn = m.functions.get("load_torque")
@@ -88,6 +97,19 @@ def _torque_speed(m: Model) -> dict[str, Any] | None:
         for s in m.lists.get("duty.segments", [])
     ][:200]
     return out
+
+
+def _load_curve(m: Model) -> list[list[float]]:
+    """Return the load torque at the motor shaft across the continuous speed range (the load model, referred
+    through the transmission as the continuous-margin sweep refers it), as [motor r/min, N*m] pairs."""
+    load = load_at_motor(m)
+    i = m.get("transmission.ratio", 1.0) or 1.0
+    nmax = m.get("load.speed_max")
+    if load is None or not nmax:
+        return []
+    nmin = m.get("load.speed_min") or 0.0
+    speeds = np.linspace(nmin * i, nmax * i, 25)
+    return [[_r(w * RPM), _r(load(float(w)))] for w in speeds]
 
 
 def _duty(m: Model) -> dict[str, Any] | None:
