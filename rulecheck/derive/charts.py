@@ -124,7 +124,16 @@ def _duty(m: Model) -> dict[str, Any] | None:
         samples = [[_r(t), _r(w * RPM), _r(q)] for t, w, q in m.lists["duty.profile"]]
     if not samples:
         return None
-    return {"time_unit": "s", "speed_unit": "r/min", "torque_unit": "N*m", "samples": samples}
+    out: dict[str, Any] = {"time_unit": "s", "speed_unit": "r/min", "torque_unit": "N*m", "samples": samples}
+    # the lines the RMS rule compares: the cycle's RMS torque (every second counted where the motor has an S3–S6
+    # rating, derived only then) and the motor's rated torque
+    rms = m.get("duty.rms_torque_duty_rating")
+    rms = rms if rms is not None else m.get("duty.rms_torque")
+    if rms is not None:
+        out["rms_torque"] = _r(rms)
+    if m.get("motor.rated_torque") is not None:
+        out["rated_torque"] = _r(m.get("motor.rated_torque"))
+    return out
 
 
 def _back_emf(m: Model) -> dict[str, Any] | None:

@@ -299,6 +299,8 @@ class _Duty:
     speed: _Axis
     torque: _Axis
     samples: list[tuple[float, float, float]]
+    rms: float | None = None
+    rated: float | None = None
 
 
 def _duty(data: Mapping[str, Any], units: str) -> _Duty:
@@ -310,7 +312,9 @@ def _duty(data: Mapping[str, Any], units: str) -> _Duty:
     if len(raw) < 2:
         raise ChartDataError("the duty cycle has fewer than two samples")
     samples = [(t * tm.factor, n * sp.factor, q * tq.factor) for t, n, q in raw]
-    return _Duty(tm, sp, tq, samples)
+    rms = _num(data["rms_torque"], "rms_torque") * tq.factor if data.get("rms_torque") is not None else None
+    rated = _num(data["rated_torque"], "rated_torque") * tq.factor if data.get("rated_torque") is not None else None
+    return _Duty(tm, sp, tq, samples, rms, rated)
 
 
 def _describe_duty(d: _Duty) -> ChartText:
@@ -319,13 +323,16 @@ def _describe_duty(d: _Duty) -> ChartText:
     torques = [q for _, _, q in s]
     description = (
         f"Duty cycle over {_fmt(s[-1][0] - s[0][0])} s in {len(s)} samples: speed {_fmt(min(speeds))} to "
-        f"{_fmt(max(speeds))} {d.speed.unit}, torque {_fmt(min(torques))} to {_fmt(max(torques))} {d.torque.unit}."
+        f"{_fmt(max(speeds))} {d.speed.unit}, torque {_fmt(min(torques))} to {_fmt(max(torques))} {d.torque.unit}"
+        + (f"; RMS torque {_fmt(d.rms)} {d.torque.unit}" if d.rms is not None else "")
+        + (f"; motor rated torque {_fmt(d.rated)} {d.torque.unit}" if d.rated is not None else "") + "."
     )
     rows = [[_fmt(t), _fmt(n), _fmt(q)] for t, n, q in s[:MAX_TABLE_ROWS]]
     note = f"First {MAX_TABLE_ROWS} of {len(s)} samples shown." if len(s) > MAX_TABLE_ROWS else ""
     return ChartText("duty", "Duty cycle: speed and torque over time", description,
                      ["time (s)", f"speed ({d.speed.unit})", f"torque ({d.torque.unit})"], rows, note,
-                     ["upper panel: shaft speed, solid line", "lower panel: torque, solid line; zero torque dotted"])
+                     ["upper panel: shaft speed, solid line", "lower panel: torque, solid line; zero torque dotted",
+                      "RMS torque: dashed line", "motor rated torque: dash-dot line"])
 
 
 def _draw_duty(fig: Any, d: _Duty) -> None:
@@ -339,6 +346,12 @@ def _draw_duty(fig: Any, d: _Duty) -> None:
     ax1.grid(True)
     ax2.plot(t, [p[2] for p in pts], color=_ACCENT, linewidth=1.6, marker=marker, markersize=3)
     ax2.axhline(0.0, color=_GREY, linewidth=0.8, linestyle=":")
+    for level, style, name in ((d.rms, "--", "RMS torque"), (d.rated, "-.", "Motor rated torque")):
+        if level is not None:
+            ax2.axhline(level, color=_INK, linewidth=1.2, linestyle=style,
+                        label=f"{name} {_fmt(level)} {d.torque.unit}")
+    if d.rms is not None or d.rated is not None:
+        ax2.legend(loc="best", fontsize=7.5)
     ax2.set_ylabel(f"Torque ({d.torque.unit})")
     ax2.set_xlabel("Time (s)")
     ax2.grid(True)

@@ -65,3 +65,19 @@ def test_no_chart_label_overlaps_another(demo):
                 boxes = [(t.get_text(), t.get_window_extent(renderer)) for t in ax.texts if t.get_text()]
                 for (ta, a), (tb, b) in itertools.combinations(boxes, 2):
                     assert not a.overlaps(b), (spec["tag"], key, ta, tb)
+
+
+def test_duty_chart_rms_line_is_the_rules_rms_torque(demo):
+    # the RMS line on the duty chart is the torque torque-rms-duty-cycle judges (every second counted for the
+    # S3 hoist's rating): not a second computation that could disagree with the finding
+    checked = 0
+    for spec, series in demo:
+        rule = next((o for o in spec["outcomes"] if o["rule"] == "torque-rms-duty-cycle"
+                     and o["outcome"] in ("pass", "fail")), None)
+        if rule is None or "duty" not in series:
+            continue
+        assert series["duty"]["rms_torque"] == pytest.approx(rule["values"]["rms_torque"]["value"], rel=1e-4)
+        text = charts.describe("duty", series["duty"]).description
+        assert "RMS torque" in text and "motor rated torque" in text
+        checked += 1
+    assert checked >= 2  # HR-H-310 and HR-SV-410
