@@ -6,6 +6,7 @@ All at the motor shaft: speeds in r/min, torques in N*m, voltages in V, times in
 
 from __future__ import annotations
 
+import inspect
 from typing import Any
 
 import numpy as np
@@ -154,6 +155,9 @@ def _back_emf(m: Model) -> dict[str, Any] | None:
         "speed": [_r(s * RPM) for s in speeds],
         "emf_line_rms": [_r(mc.back_emf_at_speed(ke, s)) for s in speeds],
         "rectified_peak": [_r(mc.uncontrolled_generation_voltage(ke, s)) for s in speeds],
+        # the factor the rectified peak carries (cold magnets and Ke tolerance), stated on the chart
+        "rectified_peak_factor": inspect.signature(mc.uncontrolled_generation_voltage).parameters[
+            "cold_factor"].default,
     }
     if m.get("drive.output_voltage_max") is not None:
         out["available_voltage"] = _r(m.get("drive.output_voltage_max"))

@@ -367,6 +367,7 @@ class _BackEmf:
     rect: list[float]
     available: float | None
     trip: float | None
+    factor: float | None = None
 
 
 def _back_emf(data: Mapping[str, Any], units: str) -> _BackEmf:
@@ -388,6 +389,8 @@ def _back_emf(data: Mapping[str, Any], units: str) -> _BackEmf:
         sp, vu, n[:MAX_PLOT_POINTS], emf[:MAX_PLOT_POINTS], rect[:MAX_PLOT_POINTS],
         None if available is None else _num(available, "available_voltage") * vu.factor,
         None if trip is None else _num(trip, "dc_bus_trip") * vu.factor,
+        None if data.get("rectified_peak_factor") is None else _num(data["rectified_peak_factor"],
+                                                                    "rectified_peak_factor"),
     )
 
 
@@ -398,7 +401,8 @@ def _describe_back_emf(d: _BackEmf) -> ChartText:
     if d.emf:
         parts.append(f"the line-to-line back-EMF (RMS) is {_fmt(d.emf[-1])} {v}")
     if d.rect:
-        parts.append(f"its rectified peak is {_fmt(d.rect[-1])} {v}")
+        parts.append(f"its rectified peak is {_fmt(d.rect[-1])} {v}" + (
+            f" (√2 × back-EMF × {_fmt(d.factor)} for cold magnets and tolerance)" if d.factor else ""))
     levels = []
     if d.available is not None:
         levels.append(f"available output voltage {_fmt(d.available)} {v}")
@@ -425,7 +429,8 @@ def _draw_back_emf(fig: Any, d: _BackEmf) -> None:
                 label="Back-EMF, line-to-line RMS")
     if d.rect:
         ax.plot(d.n, d.rect, color=_ACCENT, linestyle="--", linewidth=1.6, marker="s", markersize=3.5,
-                label="Rectified peak (into DC bus)")
+                label="Rectified peak (into DC bus)" + (f", √2·E × {_fmt(d.factor)} (cold magnets)" if d.factor
+                                                         else ""))
     for level, style, width, text in ((d.available, ":", 1.4, "Available output voltage"),
                                       (d.trip, "-.", 2.2, "DC-bus trip level")):
         if level is None:

@@ -81,3 +81,12 @@ def test_duty_chart_rms_line_is_the_rules_rms_torque(demo):
         assert "RMS torque" in text and "motor rated torque" in text
         checked += 1
     assert checked >= 2  # HR-H-310 and HR-SV-410
+
+
+def test_back_emf_chart_states_its_factor(demo):
+    # SV-410: Ke·ω gives 607.5 V line RMS at 4500 r/min; the rectified peak 902.1 V = √2 × 607.5 × 1.05, and the
+    # chart says so (1.05: cold magnets and tolerance, physics.machines default, docs/references.md R20)
+    spec, series = next(x for x in demo if x[0]["tag"] == "HR-SV-410")
+    data = series["back_emf"]
+    assert data["rectified_peak"][-1] == pytest.approx(2 ** 0.5 * data["emf_line_rms"][-1] * 1.05, rel=1e-3)
+    assert "× 1.05 for cold magnets" in charts.describe("back_emf", data).description
