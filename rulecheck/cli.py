@@ -30,7 +30,7 @@ from rulecheck import __version__, authoring
 from rulecheck.files import READ_CAP, publish, temporary_beside, write_all, write_atomic
 from rulecheck.result import with_charts
 
-FORMATS = ("text", "json", "sarif", "junit", "markdown", "html", "annotations")
+FORMATS = ("text", "json", "sarif", "junit", "markdown", "html", "annotations", "pdf")
 
 __all__ = ["main"]
 
@@ -128,6 +128,7 @@ def _check_command(sub: Any) -> None:
                        help="findings recorded in FILE are reported as known and do not fail the run")
     check.add_argument("--changed-since", metavar="REV",
                        help="check only specs changed since git revision REV (all, if rules or configuration changed)")
+    _report_page_options(check)
 
 
 def _colour_options(parser: argparse.ArgumentParser) -> None:
@@ -171,6 +172,8 @@ def _mail_command(sub: Any) -> None:
     mail.add_argument("--send", action="store_true", help="send the message over SMTP")
     mail.add_argument("--dry-run", action="store_true", help="show what would be sent, without connecting")
     mail.add_argument("--units", choices=("si", "customary"), default=None, help="how values are shown")
+    _report_page_options(mail)
+    _mail_size_options(mail)
 
 
 def _rules_command(sub: Any) -> None:
@@ -197,6 +200,34 @@ def _rules_command(sub: Any) -> None:
     lint.add_argument("--strict", action="store_true",
                       help="also reject a message, fix or pass message that can show a value the rule does not "
                            "need to reach it (it would print '(message needs …)')")
+
+
+def _report_page_options(parser: argparse.ArgumentParser) -> None:
+    """Options of the printed report (PDF, HTML print, e-mail): page header, paper, what the terminal shows."""
+    group = parser.add_argument_group("report page")
+    group.add_argument("--paper", choices=("a4", "letter"), default=None, help="paper size of the PDF (default a4)")
+    group.add_argument("--project", metavar="TEXT", help="project named in the report's page header")
+    group.add_argument("--revision", metavar="TEXT", help="revision named in the page header")
+    group.add_argument("--reviewer", metavar="NAME", help="reviewer named in the page header and sign-off block")
+    group.add_argument("--report-date", metavar="YYYY-MM-DD", help="date in the page header (default: generated)")
+    if parser.prog.endswith("check"):
+        group.add_argument("--requirements", action="store_true",
+                           help="show each drive train's requirements (needed, rating, margin) in the terminal")
+
+
+def _page_meta(args: argparse.Namespace) -> dict[str, Any]:
+    return {"paper": getattr(args, "paper", None), "project": getattr(args, "project", None),
+            "revision": getattr(args, "revision", None), "reviewer": getattr(args, "reviewer", None),
+            "date": getattr(args, "report_date", None)}
+
+
+def _mail_size_options(parser: argparse.ArgumentParser) -> None:
+    parser.add_argument("--attach", choices=("pdf", "html"), default=None,
+                        help="attach the full report as PDF or HTML (default: PDF when WeasyPrint is installed)")
+    parser.add_argument("--max-size", type=float, default=10.0, metavar="MB",
+                        help="refuse a message larger than MB megabytes (default 10; 0: no limit)")
+    parser.add_argument("--no-details", action="store_true",
+                        help="leave charts, chart data and derived values out of the attached report")
 
 
 def _speed_options(parser: argparse.ArgumentParser) -> None:
@@ -359,11 +390,17 @@ def render(result: dict[str, Any], fmt: str, args: argparse.Namespace, charts: l
         from rulecheck.report import markdown
 
         return markdown.render(result, units=units)
-    if fmt == "html":
-        from rulecheck.report import html
+    if fmt in ("html", "pdf"):
+        from rulecheck.report import html, pdf
 
         draw = charts is not None and not getattr(args, "no_charts", False)
-        return html.render(with_charts(result, charts) if draw else result, units=units, charts=draw)
+        view = with_charts(result, charts) if draw else result
+        if fmt == "pdf":
+            try:
+                return pdf.render(view, units=units, charts=draw, meta=_page_meta(args))  # type: ignore[return-value]
+            except pdf.PdfUnavailable as exc:
+                raise _Usage(str(exc)) from None
+        return html.render(view, units=units, charts=draw, meta=_page_meta(args))
     if fmt == "annotations":
         from rulecheck.report import annotations
 
@@ -371,9 +408,11 @@ def render(result: dict[str, Any], fmt: str, args: argparse.Namespace, charts: l
     from rulecheck.report import text
 
     if getattr(args, "quiet", False):
-        report = text.TextReport(colour=_colour(args), verbose=False, show_derived=args.show_derived, units=units)
+        report = text.TextReport(colour=_colour(args), verbose=False, show_derived=args.show_derived, units=units,
+                                 requirements=getattr(args, "requirements", False))
         return "".join(report.spec(spec) for spec in result["specs"])
-    return text.render(result, colour=_colour(args), verbose=args.verbose, show_derived=args.show_derived)
+    return text.render(result, colour=_colour(args), verbose=args.verbose, show_derived=args.show_derived,
+                       requirements=getattr(args, "requirements", False))
 
 
 def _today(args: argparse.Namespace) -> _dt.date | None:
@@ -495,7 +534,8 @@ class _Sink:
             from rulecheck.report.text import TextReport
 
             self.text = TextReport(colour=_colour(args) and self.to_stdout, verbose=args.verbose,
-                                   show_derived=args.show_derived, units=header["settings"]["units"])
+                                   show_derived=args.show_derived, units=header["settings"]["units"],
+                                   requirements=getattr(args, "requirements", False))
 
     def _bytes_writer(self) -> Any:
         """Return a function writing UTF-8 bytes to the handle (its binary buffer when it has one)."""
@@ -686,7 +726,7 @@ def _cmd_check(args: argparse.Namespace) -> int:
     ci = ci_runner(os.environ)
     outputs = _outputs(args, ci)
     # chart series are computed beside the results only for a report that draws them
-    args._charts = any(f == "html" for f, _file in outputs) and not args.no_charts
+    args._charts = any(f in ("html", "pdf") for f, _file in outputs) and not args.no_charts
     known = _load_baseline(args)
     step_summary = os.environ.get("GITHUB_STEP_SUMMARY") if ci else None
     with _inputs(args) as (paths, shown):
@@ -739,13 +779,16 @@ def _cmd_baseline(args: argparse.Namespace) -> int:
 def _cmd_mail(args: argparse.Namespace) -> int:
     from rulecheck.report import mail
 
+    args._charts = not args.no_details
     with _inputs(args) as (paths, shown):
         result, charts = _run(args, paths)
     result = shown.result(result, "text")
     try:
         drawn = with_charts(result, charts if charts is not None else [None] * len(result["specs"]))
         message = mail.build_message(drawn, sender=args.sender, recipients=args.to, subject=args.subject,
-                                     units=result["settings"]["units"])
+                                     units=result["settings"]["units"], attach=args.attach,
+                                     details=not args.no_details, meta=_page_meta(args),
+                                     max_bytes=int(args.max_size * 2**20) if args.max_size > 0 else None)
     except (ValueError, mail.MailError) as exc:
         raise _Usage(str(exc)) from None
     for file, data in ((args.html, lambda: render(result, "html", args, charts)),

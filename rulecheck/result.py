@@ -34,7 +34,7 @@ from rulecheck import __version__
 __all__ = [
     "FAIL_LEVELS", "FORMAT_VERSION", "OUTCOMES", "SEVERITY_RANK", "Finding", "SpecResult", "SpecTally", "Tally",
     "counts_of", "counts_toward_failure", "decode", "encode", "failure_level", "finish_spec", "header",
-    "is_finding", "summarise", "verdict_of", "with_charts",
+    "is_finding", "requirements_of", "summarise", "verdict_of", "with_charts",
 ]
 
 FORMAT_VERSION = 1
@@ -171,7 +171,10 @@ class SpecResult:
                   "outcomes": [f.to_json() for f in self.findings], "derived": dict(self.derived)}
         if self.notes:
             result["notes"] = list(self.notes)
-        return finish_spec(result)
+        finish_spec(result)
+        if self.status == "checked":
+            result["requirements"] = requirements_of(result["outcomes"])
+        return result
 
 
 def counts_of(outcomes: Iterable[Mapping[str, Any]]) -> dict[str, int]:
@@ -208,6 +211,91 @@ def finish_spec(result: dict[str, Any]) -> dict[str, Any]:
     result["verdict"] = verdict_of(result["status"], counts, outcomes)
     outcomes.sort(key=outcome_sort_key)
     return result
+
+
+# --- what a drive train needs ------------------------------------------------------------------------
+
+
+class Requirement(NamedTuple):
+    """One line of a drive train's purchase requirements: which rule's values give it and how they compare.
+
+    ``sense`` is ``"at-least"`` when the rating must reach the requirement (a torque, a current) and
+    ``"at-most"`` when the value must stay under a limit (a voltage drop, a peak voltage). The names are the
+    rule's own value names; a row whose rule did not report them is left out (nothing is guessed).
+    """
+
+    item: str
+    rule: str
+    needed: str
+    rating: str | None = None
+    margin: str | None = None
+    at: str | None = None
+    sense: str = "at-least"
+
+
+REQUIREMENTS: tuple[Requirement, ...] = (
+    Requirement("continuous torque at the motor shaft (worst speed)", "torque-margin-continuous", "required",
+                "capability", "margin", "worst_speed"),
+    Requirement("peak torque at the motor shaft", "torque-peak", "required", "available", "margin", "speed"),
+    Requirement("RMS torque over the duty cycle", "torque-rms-duty-cycle", "rms_torque"),
+    Requirement("drive continuous current at the site", "drive-current-continuous", "i_req", "i_drive", "margin"),
+    Requirement("drive overload current", "drive-overload-duty", "i_pk", "i_ol"),
+    Requirement("gearbox rated torque with service factor", "gearbox-service-factor", "t2_req", "t2_rated", "margin"),
+    Requirement("gearbox peak output torque", "gearbox-peak-speed-thermal", "t2_pk", "t2_max"),
+    Requirement("holding brake torque", "holding-brake-vertical", "t_required", "t_brake", "margin"),
+    Requirement("braking energy into the DC bus", "regen-braking-energy", "e_bus", "e_cap", sense="at-most"),
+    Requirement("braking resistor power (mean)", "regen-braking-energy", "p_req"),
+    Requirement("braking resistor peak power", "regen-braking-energy", "p_pk"),
+    Requirement("braking resistance (largest)", "regen-braking-energy", "r_max", sense="at-most"),
+    Requirement("supply conductor ampacity", "conductor-and-protection-sizing", "supply_min"),
+    Requirement("drive-to-motor conductor ampacity", "conductor-and-protection-sizing", "motor_min"),
+    Requirement("motor cable voltage drop", "cable-voltage-drop", "drop", "limit", sense="at-most"),
+    Requirement("motor peak voltage (reflected wave)", "inverter-insulation-reflected-wave", "v_pk", "v_limit",
+                sense="at-most"),
+    Requirement("highest reachable speed", "mechanical-max-speed", "reachable_speed", "speed_limit",
+                "speed_margin", sense="at-most"),
+)
+
+
+def _positive(q: Any) -> float | None:
+    value = q.get("value") if isinstance(q, Mapping) else None
+    if isinstance(value, bool) or not isinstance(value, (int, float)) or not value > 0:
+        return None
+    return float(value)
+
+
+def _requirement_row(req: Requirement, outcome: Mapping[str, Any]) -> dict[str, Any] | None:
+    values = outcome.get("values") or {}
+    needed = values.get(req.needed)
+    rating = values.get(req.rating) if req.rating else None
+    if _positive(needed) is None:
+        return None  # the rule found nothing needed here (or could not say): no line
+    margin = values.get(req.margin) if req.margin else None
+    if margin is None and _positive(rating) is not None:
+        # the rule's own ratio where it gives one; otherwise rating ÷ need (at-least) or limit ÷ value (at-most)
+        ratio = _positive(rating) / _positive(needed)  # type: ignore[operator]
+        margin = {"value": float(f"{ratio:.6g}"), "unit": "1", "kind": "ratio"}
+    return {"item": req.item, "rule": req.rule, "outcome": outcome["outcome"], "sense": req.sense,
+            "needed": dict(needed), "rating": dict(rating) if isinstance(rating, Mapping) else None,
+            "margin": dict(margin) if isinstance(margin, Mapping) else None,
+            "at": dict(values[req.at]) if req.at and isinstance(values.get(req.at), Mapping) else None,
+            "limit": outcome.get("limit")}
+
+
+def requirements_of(outcomes: Iterable[Mapping[str, Any]]) -> list[dict[str, Any]]:
+    """Return a drive train's requirements table from its outcomes, in :data:`REQUIREMENTS` order.
+
+    Every number is a value the rule computed (its ``values`` and ``limit``); only a missing margin is the
+    ratio of the two. Rules that did not apply or could not be checked give no line.
+    """
+    by_rule = {o["rule"]: o for o in outcomes if o.get("outcome") in ("pass", "fail", "waived")}
+    rows = []
+    for req in REQUIREMENTS:
+        outcome = by_rule.get(req.rule)
+        row = _requirement_row(req, outcome) if outcome is not None else None
+        if row is not None:
+            rows.append(row)
+    return rows
 
 
 # --- the tally -----------------------------------------------------------------------------------------

@@ -6,11 +6,14 @@ All at the motor shaft: speeds in r/min, torques in N*m, voltages in V, times in
 
 from __future__ import annotations
 
+import inspect
 from typing import Any
 
 import numpy as np
 
 from rulecheck import units
+from rulecheck.derive.starting import _available as peak_available
+from rulecheck.derive.starting import _load_at_motor as load_at_motor
 from rulecheck.derive.train import capability
 from rulecheck.model import Model
 from rulecheck.physics import machines as mc
@@ -53,7 +56,11 @@ def _torque_speed(m: Model) -> dict[str, Any] | None:
         "torque_unit": "N*m",
         "motor_continuous": [[_r(s * RPM), _r(t)] for s, t in zip(speeds, cont, strict=True)],
     }
-    if peak_limit:
+    available = peak_available(m)
+    if available is not None:
+        # the short-time torque the peak rule compares with: the motor's, limited by the drive's overload current
+        out["motor_peak"] = [[_r(s * RPM), _r(available(float(s)))] for s in speeds]
+    elif peak_limit:
         bd = m.get("motor.breakdown_torque")
         peak = []
         for s in speeds:
@@ -67,6 +74,9 @@ def _torque_speed(m: Model) -> dict[str, Any] | None:
                 value = peak_limit / ratio
             peak.append([_r(s * RPM), _r(value)])
         out["motor_peak"] = peak
+    curve = _load_curve(m)
+    if curve:
+        out["load_curve"] = curve
     points = []
     i, eff = m.get("transmission.ratio"), m.get("transmission.efficiency")
     fn = m.functions.get("load_torque")
@@ -90,6 +100,19 @@ def _torque_speed(m: Model) -> dict[str, Any] | None:
     return out
 
 
+def _load_curve(m: Model) -> list[list[float]]:
+    """Return the load torque at the motor shaft across the continuous speed range (the load model, referred
+    through the transmission as the continuous-margin sweep refers it), as [motor r/min, N*m] pairs."""
+    load = load_at_motor(m)
+    i = m.get("transmission.ratio", 1.0) or 1.0
+    nmax = m.get("load.speed_max")
+    if load is None or not nmax:
+        return []
+    nmin = m.get("load.speed_min") or 0.0
+    speeds = np.linspace(nmin * i, nmax * i, 25)
+    return [[_r(w * RPM), _r(load(float(w)))] for w in speeds]
+
+
 def _duty(m: Model) -> dict[str, Any] | None:
     samples: list[list[float]] = []
     if m.lists.get("duty.segments"):
@@ -102,7 +125,16 @@ def _duty(m: Model) -> dict[str, Any] | None:
         samples = [[_r(t), _r(w * RPM), _r(q)] for t, w, q in m.lists["duty.profile"]]
     if not samples:
         return None
-    return {"time_unit": "s", "speed_unit": "r/min", "torque_unit": "N*m", "samples": samples}
+    out: dict[str, Any] = {"time_unit": "s", "speed_unit": "r/min", "torque_unit": "N*m", "samples": samples}
+    # the lines the RMS rule compares: the cycle's RMS torque (every second counted where the motor has an S3–S6
+    # rating, derived only then) and the motor's rated torque
+    rms = m.get("duty.rms_torque_duty_rating")
+    rms = rms if rms is not None else m.get("duty.rms_torque")
+    if rms is not None:
+        out["rms_torque"] = _r(rms)
+    if m.get("motor.rated_torque") is not None:
+        out["rated_torque"] = _r(m.get("motor.rated_torque"))
+    return out
 
 
 def _back_emf(m: Model) -> dict[str, Any] | None:
@@ -123,6 +155,9 @@ def _back_emf(m: Model) -> dict[str, Any] | None:
         "speed": [_r(s * RPM) for s in speeds],
         "emf_line_rms": [_r(mc.back_emf_at_speed(ke, s)) for s in speeds],
         "rectified_peak": [_r(mc.uncontrolled_generation_voltage(ke, s)) for s in speeds],
+        # the factor the rectified peak carries (cold magnets and Ke tolerance), stated on the chart
+        "rectified_peak_factor": inspect.signature(mc.uncontrolled_generation_voltage).parameters[
+            "cold_factor"].default,
     }
     if m.get("drive.output_voltage_max") is not None:
         out["available_voltage"] = _r(m.get("drive.output_voltage_max"))

@@ -1,10 +1,11 @@
 """Safety cautions for the reports: the general ones, and hazards chosen from a result's outcomes.
 
 The selection is table-driven so that every renderer (HTML, Markdown, e-mail
-text) says the same thing. A hazard is selected when a spec has an outcome that
-is *applicable* (anything but ``not-applicable``) for a rule whose id or topic
-matches one of the hazard's triggers, or when the spec carries a chart that
-implies the hazard (a back-EMF chart means a permanent-magnet motor). Texts
+text) says the same thing. A hazard is raised only by a *safety-relevant* rule
+that failed, was waived (the condition is still there, accepted by someone) or
+could not be checked, and whose id or topic matches one of the hazard's
+triggers. A rule that passed never raises a hazard: a report that lists every
+hazard a design merely touches teaches its readers to skip the list. Texts
 follow docs/references.md, safety cautions.
 """
 
@@ -30,7 +31,7 @@ class Caution:
 
 @dataclass(frozen=True)
 class Hazard:
-    """A specific hazard, with the rule-id and topic fragments and chart keys that select it."""
+    """A specific hazard, with the rule-id and topic fragments that select it."""
 
     key: str
     title: str
@@ -38,7 +39,6 @@ class Hazard:
     rule_prefixes: tuple[str, ...] = ()
     rule_words: tuple[str, ...] = ()
     topic_words: tuple[str, ...] = ()
-    charts: tuple[str, ...] = ()
 
 
 @dataclass
@@ -111,7 +111,6 @@ HAZARDS: tuple[Hazard, ...] = (
         rule_prefixes=("pm-",),
         rule_words=("back-emf", "permanent-magnet"),
         topic_words=("permanent-magnet",),
-        charts=("back_emf",),
     ),
     Hazard(
         "stored-energy",
@@ -172,23 +171,26 @@ def _matches(hazard: Hazard, outcome: Mapping[str, Any]) -> bool:
     return any(w in topic for w in hazard.topic_words)
 
 
+RAISING_OUTCOMES = ("fail", "waived", "not-checked")
+
+
+def _raises(outcome: Mapping[str, Any]) -> bool:
+    """Return whether an outcome may raise a hazard: a safety-relevant rule that failed, was waived or could not
+    be checked. A pass never does."""
+    return outcome.get("safety") is True and outcome.get("outcome") in RAISING_OUTCOMES
+
+
 def select_hazards(specs: list[Mapping[str, Any]]) -> list[SelectedHazard]:
-    """Return the hazards that the given specs' applicable outcomes and charts touch, in table order."""
+    """Return the hazards raised by the given specs' failing, waived or unchecked safety rules, in table order."""
     selected: dict[str, SelectedHazard] = {}
     for spec in specs:
         if not isinstance(spec, Mapping):
             continue
         tag = plain(spec.get("tag"), 80) or plain(spec.get("file"), 120) or "(unnamed)"
-        charts = spec.get("charts") if isinstance(spec.get("charts"), Mapping) else {}
-        outcomes = [o for o in (spec.get("outcomes") or []) if isinstance(o, Mapping)]
+        outcomes = [o for o in (spec.get("outcomes") or []) if isinstance(o, Mapping) and _raises(o)]
         for hazard in HAZARDS:
-            rules = [
-                plain(o.get("rule"), 120)
-                for o in outcomes
-                if o.get("outcome") != "not-applicable" and _matches(hazard, o)
-            ]
-            by_chart = any(key in charts for key in hazard.charts)
-            if not rules and not by_chart:
+            rules = [plain(o.get("rule"), 120) for o in outcomes if _matches(hazard, o)]
+            if not rules:
                 continue
             entry = selected.setdefault(hazard.key, SelectedHazard(hazard))
             if tag not in entry.tags:

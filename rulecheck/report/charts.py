@@ -23,7 +23,7 @@ from typing import Any
 from rulecheck.report.common import plain
 from rulecheck.units import QuantityError, format_value, parse_quantity
 
-__all__ = ["CHART_KEYS", "ChartDataError", "ChartText", "available", "describe", "png", "svg"]
+__all__ = ["CHART_KEYS", "ChartDataError", "ChartText", "available", "describe", "figure", "png", "svg"]
 
 CHART_KEYS = ("torque_speed", "duty", "back_emf")
 MAX_PLOT_POINTS = 4000  # more points than this add nothing visible at report size
@@ -172,6 +172,7 @@ class _TorqueSpeed:
     peak: list[tuple[float, float]]
     points: list[tuple[float, float, str]]
     segments: list[tuple[float, float, float, str]]
+    load: list[tuple[float, float]] = field(default_factory=list)
 
 
 def _torque_speed(data: Mapping[str, Any], units: str) -> _TorqueSpeed:
@@ -196,9 +197,11 @@ def _torque_speed(data: Mapping[str, Any], units: str) -> _TorqueSpeed:
         segments.append((_num(s.get("speed_from"), f"duty_segments[{i}].speed_from") * sp.factor,
                          _num(s.get("speed_to"), f"duty_segments[{i}].speed_to") * sp.factor,
                          _num(s.get("torque"), f"duty_segments[{i}].torque") * tq.factor, plain(s.get("label"), 60)))
-    if not (cont or peak or points or segments):
+    load = conv(_pairs(data.get("load_curve") or [], "load_curve"))
+    if not (cont or peak or points or segments or load):
         raise ChartDataError("the torque–speed chart has no data")
-    return _TorqueSpeed(sp, tq, cont, peak, points[:MAX_PLOT_POINTS], segments[:MAX_PLOT_POINTS])
+    return _TorqueSpeed(sp, tq, cont, peak, points[:MAX_PLOT_POINTS], segments[:MAX_PLOT_POINTS],
+                        load[:MAX_PLOT_POINTS])
 
 
 def _describe_torque_speed(d: _TorqueSpeed) -> ChartText:
@@ -209,6 +212,9 @@ def _describe_torque_speed(d: _TorqueSpeed) -> ChartText:
                      f"{_fmt(max(t for _, t in d.cont))} {tu} from {_fmt(d.cont[0][0])} to {_fmt(d.cont[-1][0])} {su}")
     if d.peak:
         words.append(f"peak capability up to {_fmt(max(t for _, t in d.peak))} {tu}")
+    if d.load:
+        words.append(f"load {_fmt(d.load[0][1])} {tu} at {_fmt(d.load[0][0])} {su} to {_fmt(d.load[-1][1])} {tu} "
+                     f"at {_fmt(d.load[-1][0])} {su} (load model across the speed range)")
     words.append(f"{len(d.points)} load operating point{'s' if len(d.points) != 1 else ''}")
     words.append(f"{len(d.segments)} duty segment{'s' if len(d.segments) != 1 else ''}")
     rows = []
@@ -216,6 +222,8 @@ def _describe_torque_speed(d: _TorqueSpeed) -> ChartText:
         rows.append(["motor continuous", _fmt(n), _fmt(t)])
     for n, t in d.peak:
         rows.append(["motor peak", _fmt(n), _fmt(t)])
+    for n, t in d.load:
+        rows.append(["load", _fmt(n), _fmt(t)])
     for n, t, label in d.points:
         rows.append([f"load point {label}".strip(), _fmt(n), _fmt(t)])
     for n0, n1, t, label in d.segments:
@@ -228,9 +236,31 @@ def _describe_torque_speed(d: _TorqueSpeed) -> ChartText:
         ["series", f"speed ({su})", f"torque ({tu})"],
         rows[:MAX_TABLE_ROWS],
         note,
-        ["motor continuous: solid line, round markers", "motor peak: dashed line, square markers",
-         "load operating points: black triangles", "duty segments: dash-dot lines with cross ends"],
+        ["motor continuous: solid line, round markers",
+         "motor peak (drive current limit included): dashed line, square markers",
+         "load across the speed range: thick black line", "load operating points: black triangles",
+         "duty segments: dash-dot lines with cross ends"],
     )
+
+
+def _label_groups(points: list[tuple[float, float, str]], d: _TorqueSpeed) -> list[tuple[float, float, str]]:
+    """Return the point labels merged by speed: points within 15 % of the speed span share one label ("peak, RMS")
+    at the highest of them, so labels of points at (nearly) one speed cannot overlap."""
+    speeds = [n for n, _, _ in points] + [n for n, _ in d.cont] + [n for n, _ in d.peak] + [n for n, _ in d.load]
+    span = (max(speeds) - min(speeds)) if speeds else 0.0
+    groups: list[list[tuple[float, float, str]]] = []
+    for p in sorted((p for p in points if p[2]), key=lambda p: p[0]):
+        if groups and p[0] - groups[-1][0][0] <= 0.15 * span:
+            groups[-1].append(p)
+        else:
+            groups.append([p])
+    out = []
+    for g in groups:
+        top = max(g, key=lambda p: p[1])
+        names = list(dict.fromkeys(_label(p[2]) for p in g))
+        text = ", ".join(names[:3]) + (f" (+{len(names) - 3})" if len(names) > 3 else "")
+        out.append((top[0], top[1], text))
+    return out
 
 
 def _draw_torque_speed(fig: Any, d: _TorqueSpeed) -> None:
@@ -241,19 +271,20 @@ def _draw_torque_speed(fig: Any, d: _TorqueSpeed) -> None:
     if d.peak:
         ax.plot(*zip(*_thin(d.peak), strict=True), color=_INK, linestyle="--", linewidth=1.4, marker="s",
                 markersize=3.5, label="Motor peak")
-    for i, (n0, n1, t, label) in enumerate(d.segments):
+    if d.load:
+        ax.plot(*zip(*_thin(d.load), strict=True), color=_LOAD, linestyle="-", linewidth=2.6, label="Load")
+    for i, (n0, n1, t, _name) in enumerate(d.segments):
         ax.plot([n0, n1], [t, t], color=_ACCENT, linestyle="-.", linewidth=1.3, marker="x", markersize=5,
                 label="Duty segments" if i == 0 else None)
-        if label and i < MAX_LABELS:
-            ax.annotate(_label(label), ((n0 + n1) / 2, t), textcoords="offset points", xytext=(0, 4),
-                        ha="center", fontsize=7.5, color=_ACCENT, parse_math=False)
     if d.points:
         ax.plot([p[0] for p in d.points], [p[1] for p in d.points], linestyle="none", marker="^", markersize=7,
                 color=_LOAD, label="Load operating points")
-        for n, t, label in d.points[:MAX_LABELS]:
-            if label:
-                ax.annotate(_label(label), (n, t), textcoords="offset points", xytext=(5, -10), fontsize=7.5,
-                            color=_LOAD, parse_math=False)
+    labelled = [*d.points[:MAX_LABELS], *[((n0 + n1) / 2, t, label) for n0, n1, t, label in d.segments[:MAX_LABELS]]]
+    if labelled:
+        for k, (n, t, text) in enumerate(_label_groups(labelled, d)):
+            # one label per group of nearby points (never two labels over each other), alternately above and below
+            ax.annotate(text, (n, t), textcoords="offset points", xytext=(6, 7 if k % 2 == 0 else -13),
+                        fontsize=7.5, color=_LOAD, parse_math=False)
     ax.set_xlabel(f"Shaft speed ({d.speed.unit})")
     ax.set_ylabel(f"Torque ({d.torque.unit})")
     ax.set_title("Torque–speed plane")
@@ -268,6 +299,8 @@ class _Duty:
     speed: _Axis
     torque: _Axis
     samples: list[tuple[float, float, float]]
+    rms: float | None = None
+    rated: float | None = None
 
 
 def _duty(data: Mapping[str, Any], units: str) -> _Duty:
@@ -279,7 +312,9 @@ def _duty(data: Mapping[str, Any], units: str) -> _Duty:
     if len(raw) < 2:
         raise ChartDataError("the duty cycle has fewer than two samples")
     samples = [(t * tm.factor, n * sp.factor, q * tq.factor) for t, n, q in raw]
-    return _Duty(tm, sp, tq, samples)
+    rms = _num(data["rms_torque"], "rms_torque") * tq.factor if data.get("rms_torque") is not None else None
+    rated = _num(data["rated_torque"], "rated_torque") * tq.factor if data.get("rated_torque") is not None else None
+    return _Duty(tm, sp, tq, samples, rms, rated)
 
 
 def _describe_duty(d: _Duty) -> ChartText:
@@ -288,13 +323,16 @@ def _describe_duty(d: _Duty) -> ChartText:
     torques = [q for _, _, q in s]
     description = (
         f"Duty cycle over {_fmt(s[-1][0] - s[0][0])} s in {len(s)} samples: speed {_fmt(min(speeds))} to "
-        f"{_fmt(max(speeds))} {d.speed.unit}, torque {_fmt(min(torques))} to {_fmt(max(torques))} {d.torque.unit}."
+        f"{_fmt(max(speeds))} {d.speed.unit}, torque {_fmt(min(torques))} to {_fmt(max(torques))} {d.torque.unit}"
+        + (f"; RMS torque {_fmt(d.rms)} {d.torque.unit}" if d.rms is not None else "")
+        + (f"; motor rated torque {_fmt(d.rated)} {d.torque.unit}" if d.rated is not None else "") + "."
     )
     rows = [[_fmt(t), _fmt(n), _fmt(q)] for t, n, q in s[:MAX_TABLE_ROWS]]
     note = f"First {MAX_TABLE_ROWS} of {len(s)} samples shown." if len(s) > MAX_TABLE_ROWS else ""
     return ChartText("duty", "Duty cycle: speed and torque over time", description,
                      ["time (s)", f"speed ({d.speed.unit})", f"torque ({d.torque.unit})"], rows, note,
-                     ["upper panel: shaft speed, solid line", "lower panel: torque, solid line; zero torque dotted"])
+                     ["upper panel: shaft speed, solid line", "lower panel: torque, solid line; zero torque dotted",
+                      "RMS torque: dashed line", "motor rated torque: dash-dot line"])
 
 
 def _draw_duty(fig: Any, d: _Duty) -> None:
@@ -308,6 +346,12 @@ def _draw_duty(fig: Any, d: _Duty) -> None:
     ax1.grid(True)
     ax2.plot(t, [p[2] for p in pts], color=_ACCENT, linewidth=1.6, marker=marker, markersize=3)
     ax2.axhline(0.0, color=_GREY, linewidth=0.8, linestyle=":")
+    for level, style, name in ((d.rms, "--", "RMS torque"), (d.rated, "-.", "Motor rated torque")):
+        if level is not None:
+            ax2.axhline(level, color=_INK, linewidth=1.2, linestyle=style,
+                        label=f"{name} {_fmt(level)} {d.torque.unit}")
+    if d.rms is not None or d.rated is not None:
+        ax2.legend(loc="best", fontsize=7.5)
     ax2.set_ylabel(f"Torque ({d.torque.unit})")
     ax2.set_xlabel("Time (s)")
     ax2.grid(True)
@@ -323,6 +367,7 @@ class _BackEmf:
     rect: list[float]
     available: float | None
     trip: float | None
+    factor: float | None = None
 
 
 def _back_emf(data: Mapping[str, Any], units: str) -> _BackEmf:
@@ -344,6 +389,8 @@ def _back_emf(data: Mapping[str, Any], units: str) -> _BackEmf:
         sp, vu, n[:MAX_PLOT_POINTS], emf[:MAX_PLOT_POINTS], rect[:MAX_PLOT_POINTS],
         None if available is None else _num(available, "available_voltage") * vu.factor,
         None if trip is None else _num(trip, "dc_bus_trip") * vu.factor,
+        None if data.get("rectified_peak_factor") is None else _num(data["rectified_peak_factor"],
+                                                                    "rectified_peak_factor"),
     )
 
 
@@ -354,7 +401,8 @@ def _describe_back_emf(d: _BackEmf) -> ChartText:
     if d.emf:
         parts.append(f"the line-to-line back-EMF (RMS) is {_fmt(d.emf[-1])} {v}")
     if d.rect:
-        parts.append(f"its rectified peak is {_fmt(d.rect[-1])} {v}")
+        parts.append(f"its rectified peak is {_fmt(d.rect[-1])} {v}" + (
+            f" (√2 × back-EMF × {_fmt(d.factor)} for cold magnets and tolerance)" if d.factor else ""))
     levels = []
     if d.available is not None:
         levels.append(f"available output voltage {_fmt(d.available)} {v}")
@@ -381,7 +429,8 @@ def _draw_back_emf(fig: Any, d: _BackEmf) -> None:
                 label="Back-EMF, line-to-line RMS")
     if d.rect:
         ax.plot(d.n, d.rect, color=_ACCENT, linestyle="--", linewidth=1.6, marker="s", markersize=3.5,
-                label="Rectified peak (into DC bus)")
+                label="Rectified peak (into DC bus)" + (f", √2·E × {_fmt(d.factor)} (cold magnets)" if d.factor
+                                                         else ""))
     for level, style, width, text in ((d.available, ":", 1.4, "Available output voltage"),
                                       (d.trip, "-.", 2.2, "DC-bus trip level")):
         if level is None:
@@ -427,7 +476,9 @@ def describe(key: str, data: Mapping[str, Any], units: str = "si") -> ChartText:
     return _CHARTS[key][1](_read(key, data, units))
 
 
-def _figure(key: str, data: Mapping[str, Any], units: str, fmt: str, dpi: float) -> bytes:
+def figure(key: str, data: Mapping[str, Any], units: str = "si") -> Any:
+    """Return the chart drawn on a matplotlib Figure (not saved): what :func:`svg` and :func:`png` write, and what
+    a test measures (label bounding boxes)."""
     parsed = _read(key, data, units)
     import matplotlib
 
@@ -437,6 +488,14 @@ def _figure(key: str, data: Mapping[str, Any], units: str, fmt: str, dpi: float)
     with matplotlib.rc_context(_RC):
         fig = Figure(figsize=_CHARTS[key][3], layout="constrained")
         _CHARTS[key][2](fig, parsed)
+    return fig
+
+
+def _figure(key: str, data: Mapping[str, Any], units: str, fmt: str, dpi: float) -> bytes:
+    import matplotlib
+
+    fig = figure(key, data, units)
+    with matplotlib.rc_context(_RC):
         buf = io.BytesIO()
         metadata = {"Date": None, "Creator": None, "Format": None, "Type": None} if fmt == "svg" else {
             "Software": None}

@@ -26,6 +26,7 @@ __all__ = [
     "basis_items",
     "counts",
     "derived_items",
+    "derived_used",
     "display",
     "display_limit",
     "group_outcomes",
@@ -38,6 +39,7 @@ __all__ = [
     "spec_name",
     "summary_line",
     "value_items",
+    "value_label",
     "verdict_label",
     "waiver_items",
 ]
@@ -146,24 +148,73 @@ def display(value: Mapping[str, Any] | Any, system: str = "si", *, ratio: bool =
     return format_value(si, kind_name, system)
 
 
+# A rule's value name is either words ("worst_speed") or a symbol with subscripts ("t2_nom", "e_bus"). A symbol
+# is shown as the trade writes it, after the name of its declared kind: "torque T₂,nom", "energy E_bus".
+_SYMBOL_HEADS = {"t": "T", "i": "I", "p": "P", "e": "E", "u": "U", "v": "V", "r": "R", "j": "J", "c": "C",
+                 "l": "l", "n": "n", "k": "k", "f": "f", "sf": "SF", "eta": "η", "dv": "ΔU", "df": "Δf"}
+_SHORT_WORDS = {"max", "min", "rms", "cdf", "top", "end", "low", "high", "bus", "net", "new", "old", "gap", "ie",
+                "dc", "ac", "fw", "pm", "ip"}
+_KIND_WORDS = {"rotational_speed": "speed", "back_emf_constant": "back-EMF constant",
+               "torque_constant": "torque constant", "resistance_per_length": "resistance per length",
+               "temperature_difference": "temperature rise", "apparent_power": "apparent power"}
+_SUBSCRIPT_DIGITS = str.maketrans("0123456789", "₀₁₂₃₄₅₆₇₈₉")
+
+
+def _is_words(tokens: list[str]) -> bool:
+    head = tokens[0]
+    return head.isalpha() and head not in _SYMBOL_HEADS and (len(head) >= 3 or head in _SHORT_WORDS)
+
+
+def value_label(name: Any, kind: Any = None) -> str:
+    """Return a value's name for people: words as words ("worst speed"), a symbol in the trade's notation after
+    the name of its declared kind ("torque T₂,nom", "energy E_bus", "service factor SF_app", "time t_ol")."""
+    text = plain(name, 80)
+    tokens = [t for t in text.lower().split("_") if t]
+    if not tokens or _is_words(tokens):
+        return text.replace("_", " ")
+    head = tokens[0]
+    letters = head.rstrip("0123456789")
+    digits = head[len(letters):].translate(_SUBSCRIPT_DIGITS)
+    letter = _SYMBOL_HEADS.get(letters, letters)
+    if letters == "t" and kind != "torque":
+        letter = "t"  # t is a time (or a temperature); T a torque
+    symbol = letter + digits
+    subs = tokens[1:]
+    if subs:
+        symbol += ("," if digits else "_") + ",".join(subs)
+    named = {"sf": "service factor", "eta": "efficiency", "k": "factor"}
+    if letters in named:
+        word = named[letters]
+    elif kind in KINDS and kind != "fraction":
+        word = _KIND_WORDS.get(str(kind), str(kind).replace("_", " "))
+    else:
+        word = ""
+    return f"{word} {symbol}".strip()
+
+
 def value_items(outcome: Mapping[str, Any], system: str = "si") -> list[tuple[str, str]]:
     """Return the outcome's computed values as ``(name, display text)`` pairs in their given order; each value is
-    shown by the kind the rule declares for it (a ratio as a plain number, a fraction as a percentage)."""
+    shown by the kind the rule declares for it (a ratio as a plain number, a fraction as a percentage) and named
+    by :func:`value_label`."""
     values = outcome.get("values") or {}
     if not isinstance(values, Mapping):
         return []
     items = []
     for name, value in values.items():
-        items.append((plain(name, 80).replace("_", " "), display(value, system)))
+        kind = value.get("kind") if isinstance(value, Mapping) else None
+        items.append((value_label(name, kind), display(value, system)))
     return items
 
 
 def display_limit(outcome: Mapping[str, Any], system: str = "si") -> str:
-    """Return the outcome's limit as text ("" when it has none), shown by its kind."""
+    """Return the outcome's limit as text ("" when it has none, or when a computed value shown beside it already
+    says the same, so a limit is never listed twice), shown by its kind."""
     limit = outcome.get("limit")
     if limit is None:
         return ""
-    return display(limit, system)
+    text = display(limit, system)
+    shown = {v for _, v in value_items(outcome, system)}
+    return "" if text in shown else text
 
 
 def outcome_label(outcome: Mapping[str, Any]) -> Label:
@@ -333,6 +384,28 @@ def derived_items(spec: Mapping[str, Any], system: str = "si") -> list[dict[str,
             }
         )
     return rows
+
+
+def derived_used(spec: Mapping[str, Any], outcomes: Iterable[Mapping[str, Any]]) -> set[str]:
+    """Return the paths of the spec's derived values that the given outcomes show: a derived value is "used" by a
+    finding when the finding reports the same number in the same unit (its values carry no path, only the number
+    the rule read)."""
+    derived = spec.get("derived") or {}
+    if not isinstance(derived, Mapping):
+        return set()
+    shown: list[tuple[float, str]] = []
+    for o in outcomes:
+        values = o.get("values") if isinstance(o.get("values"), Mapping) else {}
+        for v in values.values():
+            number = _number(v.get("value")) if isinstance(v, Mapping) else None
+            if number:
+                shown.append((number, str(v.get("unit"))))
+    used = set()
+    for path, d in derived.items():
+        number = _number(d.get("value")) if isinstance(d, Mapping) else None
+        if number and any(unit == str(d.get("unit")) and math.isclose(number, n, rel_tol=1e-6) for n, unit in shown):
+            used.add(str(path))
+    return used
 
 
 def summary_line(result: Mapping[str, Any]) -> str:

@@ -18,8 +18,9 @@ from markupsafe import Markup
 
 from rulecheck.report import cautions, charts, common
 from rulecheck.report.common import plain
+from rulecheck.result import level_of
 
-__all__ = ["ImageSource", "context", "render"]
+__all__ = ["PAPERS", "ImageSource", "context", "render", "render_summary"]
 
 # (spec number, chart key, chart data) -> the ``src`` of an <img>; used by the e-mail builder
 ImageSource = Callable[[int, str, Mapping[str, Any]], str]
@@ -101,13 +102,61 @@ def _chart_views(spec: Mapping[str, Any], number: int, units: str, image: ImageS
     return views
 
 
+def _deciding(groups: common.OutcomeGroups, units: str, rules: Mapping[str, Mapping[str, Any]]) -> list[dict]:
+    """Return the findings that decide a verdict (fails, waived fails and unchecked rules that count), one line each:
+    the summary page lists these and nothing else."""
+    out = []
+    for o in [*groups.failures, *groups.not_checked]:
+        if level_of(str(o.get("outcome")), str(o.get("severity") or "error"), o.get("safety") is True) not in (
+                "error", "warning"):
+            continue
+        f = _finding(o, units, rules)
+        f["short"] = common.plain(f["message"], 115)
+        out.append(f)
+    return out
+
+
+def _requirement_views(spec: Mapping[str, Any], units: str) -> list[dict[str, str]]:
+    rows = spec.get("requirements") if isinstance(spec.get("requirements"), list) else []
+    views = []
+    for r in rows:
+        if not isinstance(r, Mapping):
+            continue
+        at = common.display(r["at"], units) if isinstance(r.get("at"), Mapping) else ""
+        margin = r.get("margin")
+        views.append({
+            "item": plain(r.get("item"), 200),
+            "rule": plain(r.get("rule"), 120),
+            "needed": ("≤ " if r.get("sense") == "at-most" and r.get("rating") is None else "")
+                      + common.display(r.get("needed"), units) + (f" at {at}" if at else ""),
+            "rating": common.display(r["rating"], units) if isinstance(r.get("rating"), Mapping) else "not stated",
+            "sense": "at most" if r.get("sense") == "at-most" else "at least",
+            "margin": common.display(margin, units, ratio=True) if isinstance(margin, Mapping) else "—",
+            "label": common.outcome_label({"outcome": r.get("outcome"), "severity": _severity_of(spec, r)}),
+        })
+    return views
+
+
+def _severity_of(spec: Mapping[str, Any], row: Mapping[str, Any]) -> str:
+    for o in spec.get("outcomes") or []:
+        if isinstance(o, Mapping) and o.get("rule") == row.get("rule"):
+            return str(o.get("severity"))
+    return "info"
+
+
 def _spec_view(spec: Mapping[str, Any], number: int, units: str, draw: bool, image: ImageSource | None,
                rules: Mapping[str, Mapping[str, Any]]) -> dict:
     groups = common.group_outcomes(spec)
     c = common.counts(spec)
     safety = common.safety_errors(spec)
     errors = spec.get("errors") if isinstance(spec.get("errors"), list) else []
+    derived = common.derived_items(spec, units)
+    used = common.derived_used(spec, [*groups.failures, *groups.not_checked, *groups.waived])
     return {
+        "deciding": _deciding(groups, units, rules),
+        "requirements": _requirement_views(spec, units),
+        "derived_used": [d for d in derived if d["path"] in used],
+        "quiet": not groups.failures and not groups.not_checked and not groups.waived and not errors,
         "anchor": f"dt-{number}",
         "number": number,
         "name": common.spec_name(spec),
@@ -126,15 +175,36 @@ def _spec_view(spec: Mapping[str, Any], number: int, units: str, draw: bool, ima
         "waived": [_finding(o, units, rules) for o in groups.waived],
         "passed": [_finding(o, units, rules) for o in groups.passed],
         "not_applicable": [_finding(o, units, rules) for o in groups.not_applicable],
-        "derived": common.derived_items(spec, units),
+        "derived": derived,
         "charts": _chart_views(spec, number, units, image) if draw else [],
         "load_errors": [plain(e.get("message") if isinstance(e, Mapping) else e, 500) for e in errors],
     }
 
 
+PAPERS = {"a4": "A4", "letter": "letter"}
+META_FIELDS = ("project", "revision", "reviewer", "date")
+
+
+def _page_meta(meta: Mapping[str, Any] | None) -> dict[str, str]:
+    """Return the page header's project, revision, reviewer and date (plain text, "" where not given) and the
+    paper size; ValueError for a paper that is neither A4 nor Letter."""
+    meta = meta or {}
+    paper = str(meta.get("paper") or "a4").lower()
+    if paper not in PAPERS:
+        raise ValueError(f"paper must be 'a4' or 'letter', not {plain(paper, 20)!r}")
+    out = {k: plain(meta.get(k), 120) for k in META_FIELDS}
+    out["paper"] = PAPERS[paper]
+    return out
+
+
 def context(result: Mapping[str, Any], *, units: str = "si", charts: bool = True,
-            image: ImageSource | None = None) -> dict[str, Any]:
-    """Return the template context for ``result`` (plain strings, labels and chart markup)."""
+            image: ImageSource | None = None, meta: Mapping[str, Any] | None = None,
+            details: bool = True) -> dict[str, Any]:
+    """Return the template context for ``result`` (plain strings, labels and chart markup).
+
+    ``meta`` gives the page header (project, revision, reviewer, date) and the paper (``a4`` or ``letter``);
+    ``details=False`` leaves out what only the full report carries (passes, derived values, chart data tables).
+    """
     if units not in UNITS_WORDS:
         raise ValueError(f"units must be 'si' or 'customary', not {units!r}")
     specs = common.sorted_specs(result.get("specs") or [])
@@ -159,16 +229,28 @@ def context(result: Mapping[str, Any], *, units: str = "si", charts: bool = True
         "hazards": cautions.select_hazards(specs),
         "basis_words": common.BASIS_STATUS,
         "for_mail": image is not None,
+        "page": _page_meta(meta),
+        "details": details,
+        "summary_only": False,
     }
 
 
-def render(result: dict, *, units: str = "si", charts: bool = True, image: ImageSource | None = None) -> str:
+def render(result: dict, *, units: str = "si", charts: bool = True, image: ImageSource | None = None,
+           meta: Mapping[str, Any] | None = None, details: bool = True) -> str:
     """Return the whole HTML report for ``result`` as one self-contained document (text).
 
     ``units`` is ``"si"`` or ``"customary"``; ``charts=False`` leaves the charts
     out (their text equivalents too). ``image`` is for the e-mail builder: when
     given, charts become ``<img src=...>`` with the source it returns instead of
-    inline SVG.
+    inline SVG. ``meta`` and ``details``: see :func:`context`.
     """
     return _environment().get_template("report.html").render(context(result, units=units, charts=charts,
-                                                                     image=image))
+                                                                     image=image, meta=meta, details=details))
+
+
+def render_summary(result: dict, *, units: str = "si", meta: Mapping[str, Any] | None = None) -> str:
+    """Return the summary page alone (verdicts, deciding findings, requirements, hazards, cautions) as HTML:
+    the body of the e-mail, whose full report travels as an attachment."""
+    ctx = context(result, units=units, charts=False, meta=meta, details=False)
+    ctx["summary_only"] = True
+    return _environment().get_template("report.html").render(ctx)

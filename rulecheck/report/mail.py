@@ -1,25 +1,26 @@
-"""The e-mail report: a MIME message with text and HTML alternatives, inline chart images and the full report.
+"""The e-mail report: the summary as the body, the full report attached once.
 
 Structure of the message :func:`build_message` returns::
 
     multipart/mixed
       multipart/alternative
-        text/plain                 summary, findings, not-checked rules, chart text equivalents, cautions
-        multipart/related
-          text/html                the report, charts as <img src="cid:...">
-          image/png ...            one per chart, Content-ID matching the cid: reference
-      text/html (attachment)       the full self-contained report (inline SVG charts)
+        text/plain                 the summary: verdicts, deciding findings, requirements, hazards, cautions
+                                   (lines wrapped at 78 columns)
+        text/html                  the same summary, its styles inlined for mail clients (css-inline)
+      application/pdf | text/html  the full report (charts, findings, requirements, appendix), attached once
 
-:func:`send` delivers it over SMTP and turns every connection, TLS and login
-failure into one :class:`MailError` whose message never contains the password.
-:func:`describe` says what would be sent without connecting (a dry run).
-Credentials are the caller's business (environment or configuration), never a spec's.
+Mail readers drop ``<style>`` blocks and inline SVG, so the body carries no chart: the charts travel in the
+attachment (PDF when WeasyPrint is installed, else the self-contained HTML report). A message larger than the
+size guard (10 MB by default) is refused with a message that says how to make it smaller (leave the charts and
+details out, or attach the HTML). :func:`send` delivers it over SMTP and turns every connection, TLS and login
+failure into one :class:`MailError` whose message never contains the password. :func:`describe` says what would
+be sent without connecting (a dry run). Credentials are the caller's business (environment or configuration),
+never a spec's.
 """
 
 from __future__ import annotations
 
 import email.errors
-import hashlib
 import smtplib
 import socket
 import ssl
@@ -30,13 +31,17 @@ from email.message import EmailMessage
 from email.utils import formatdate, make_msgid
 from typing import Any
 
-from rulecheck.report import cautions, charts, common, html
+from rulecheck.report import cautions, common, html
 from rulecheck.report.common import plain
 
-__all__ = ["SECURITY_MODES", "MailError", "as_bytes", "build_message", "describe", "send", "text_body"]
+__all__ = ["MAX_BYTES", "SECURITY_MODES", "MailError", "MailTooLarge", "inline_styles",
+           "as_bytes", "build_message", "describe", "send", "text_body"]
 
 SECURITY_MODES = ("starttls", "tls", "none")
 ATTACHMENT_NAME = "rulecheck-report.html"
+PDF_ATTACHMENT_NAME = "rulecheck-report.pdf"
+MAX_BYTES = 10 * 1024 * 1024  # the size guard: many mail servers refuse messages above 10 MB to 25 MB
+WIDTH = 78  # RFC 5322 2.1.1: lines SHOULD be no more than 78 characters
 
 
 class MailError(Exception):
@@ -82,88 +87,77 @@ def _wrap(text: str, indent: str = "", width: int = 78) -> list[str]:
 
 
 def text_body(result: Mapping[str, Any], *, units: str = "si") -> str:
-    """Return the plain-text version of the report (text), with chart text equivalents and the cautions."""
+    """Return the plain-text summary (every line at most 78 columns): each drive train's verdict and the findings
+    that decide it, not-checked and waived rules, its requirements, then the hazards and the cautions. The full
+    report (values, formulas, bases, charts) is the attachment."""
     specs = common.sorted_specs(result.get("specs") or [])
     tool = result.get("tool") if isinstance(result.get("tool"), Mapping) else {}
-    lines = ["DRIVE-TRAIN DESIGN-RULE REPORT", common.summary_line(result), ""]
-    lines.append(f"Tool {plain(tool.get('name'), 40) or 'rulecheck'} {plain(tool.get('version'), 40)}, "
-                 f"rule set {plain(tool.get('rules_digest'), 100) or 'not stated'}, "
-                 f"generated {plain(result.get('generated'), 40) or 'not stated'}.")
-    lines.append("Screening aid only, not an approval. See CAUTIONS at the end.")
-    lines += ["", common.ORDER_STATEMENT, ""]
-    for spec in specs:
-        c = common.counts(spec)
-        lines.append(f"  {common.verdict_label(spec).text:<16} {common.spec_name(spec)}")
-        lines.append(f"  {'':<16} errors {c['error']}, warnings {c['warning']}, info {c['info']}, "
-                     f"not checked {c['not-checked']}, waived {c['waived']}, pass {c['pass']}")
+    lines = ["DRIVE-TRAIN DESIGN-RULE SUMMARY", *_wrap(common.summary_line(result)), ""]
+    lines += _wrap(f"Tool {plain(tool.get('name'), 40) or 'rulecheck'} {plain(tool.get('version'), 40)}, "
+                   f"rule set {plain(tool.get('rules_digest'), 100) or 'not stated'}, "
+                   f"generated {plain(result.get('generated'), 40) or 'not stated'}.")
+    lines += _wrap("Screening aid only, not an approval. See CAUTIONS at the end; the full report (values, "
+                   "formulas, bases, charts) is attached.")
+    lines += ["", *_wrap(common.ORDER_STATEMENT)]
     for spec in specs:
         lines += _spec_section(spec, units)
-    lines += ["", "=" * 78, "CAUTIONS"]
-    for c in cautions.GENERAL:
-        lines += _wrap(f"- {c.title}. {c.text}")
+    lines += ["", "=" * WIDTH, "CAUTIONS"]
     for h in cautions.select_hazards(specs):
         lines += _wrap(f"- [!] {h.hazard.title}. {h.hazard.text} (Raised by {h.reason}.)")
+    for c in cautions.GENERAL:
+        lines += _wrap(f"- {c.title}. {c.text}")
     return "\n".join(lines) + "\n"
 
 
 def _spec_section(spec: Mapping[str, Any], units: str) -> list[str]:
-    """Return the text of one spec's section: its findings, what was not checked or waived, its charts."""
+    """Return the text of one drive train: verdict, findings, what was not checked or waived, requirements."""
     groups = common.group_outcomes(spec)
-    lines = ["", "=" * 78, f"{common.verdict_label(spec).text}  {common.spec_name(spec)}"]
-    lines.append(f"file {plain(spec.get('file'), 200)}  sha256 {plain(spec.get('sha256'), 80)}")
-    lines.append(f"spec status {plain(spec.get('spec_status'), 40) or '—'}, check status "
-                 f"{plain(spec.get('status'), 20) or '—'}")
+    c = common.counts(spec)
+    lines = ["", "=" * WIDTH, *_wrap(f"{common.verdict_label(spec).text}  {common.spec_name(spec)}")]
+    lines += _wrap(f"file {plain(spec.get('file'), 200)}; errors {c['error']}, warnings {c['warning']}, "
+                   f"notes {c['info']}, not checked {c['not-checked']}, waived {c['waived']}, passed {c['pass']}")
     for o in groups.failures:
-        lines += _failure_lines(o, units)
-    if groups.not_checked:
-        lines += ["", "Not checked (supply these inputs to have them checked):"]
-        for o in groups.not_checked:
-            missing = ", ".join(common.missing_items(o)) or "—"
-            lines += _wrap(f"[?] ({plain(o.get('severity'), 20)}) {plain(o.get('rule'), 80)}: needs {missing}",
-                           "  ")
-    if groups.waived:
-        lines += ["", "Waived:"]
-        for o in groups.waived:
-            w = common.waiver_items(o)
-            lines += _wrap(f"[W] {plain(o.get('rule'), 80)}: {w['reason']} (approved by {w['approved_by'] or '—'},"
-                           f" expires {w['expires'] or '—'})", "  ")
-    for key in charts.available(spec):
-        try:
-            text = charts.describe(key, spec["charts"][key], units)
-        except charts.ChartDataError as exc:
-            lines += ["", f"[chart {key} could not be drawn: {exc}]"]
-            continue
-        title, description, *table = text.as_text().splitlines()
-        lines += ["", title, *_wrap(description), *table]
+        flag = " [SAFETY]" if o.get("safety") is True else ""
+        lines += _wrap(f"{common.outcome_label(o).text}{flag} {plain(o.get('rule'), 80)}: "
+                       f"{plain(o.get('message') or o.get('title'))}", "  ")
+        if o.get("fix"):
+            lines += _wrap(f"FIX: {plain(o.get('fix'))}", "      ")
+    for o in groups.not_checked:
+        missing = ", ".join(common.missing_items(o)) or "—"
+        lines += _wrap(f"[?] not checked ({plain(o.get('severity'), 20)}) {plain(o.get('rule'), 80)}: "
+                       f"needs {missing}", "  ")
+    for o in groups.waived:
+        w = common.waiver_items(o)
+        lines += _wrap(f"[W] waived {plain(o.get('rule'), 80)}: {w['reason']} (approved by "
+                       f"{w['approved_by'] or '—'}, expires {w['expires'] or '—'})", "  ")
+    rows = spec.get("requirements") if isinstance(spec.get("requirements"), list) else []
+    if rows:
+        lines += ["", "  What it needs (needed / rating or limit / margin):"]
+        for r in rows:
+            if not isinstance(r, Mapping):
+                continue
+            rating = common.display(r["rating"], units) if isinstance(r.get("rating"), Mapping) else "not stated"
+            margin = common.display(r["margin"], units, ratio=True) if isinstance(r.get("margin"), Mapping) else "—"
+            at = f" at {common.display(r['at'], units)}" if isinstance(r.get("at"), Mapping) else ""
+            sense = "max " if r.get("sense") == "at-most" and r.get("rating") else ""
+            lines += _wrap(f"- {plain(r.get('item'), 120)}: {common.display(r.get('needed'), units)}{at} / "
+                           f"{sense}{rating} / {margin} ({plain(r.get('outcome'), 20)})", "    ")
     return lines
 
 
-def _failure_lines(o: Mapping[str, Any], units: str) -> list[str]:
-    """Return the text of one finding: label, message, values, limit, formula, basis, location and fix."""
-    flag = " [SAFETY]" if o.get("safety") is True else ""
-    lines = [""]
-    lines += _wrap(f"{common.outcome_label(o).text}{flag} {plain(o.get('rule'), 80)}: "
-                   f"{plain(o.get('message') or o.get('title'))}")
-    for name, value in common.value_items(o, units):
-        lines.append(f"    {name}: {value}")
-    limit = common.display_limit(o, units)
-    if limit:
-        lines.append(f"    limit: {limit}")
-    if o.get("formula"):
-        lines.append(f"    formula: {plain(o.get('formula'), 300)}")
-    for source, tag, words in common.basis_items(o):
-        lines += _wrap(f"basis: {source} [{tag or '?'}: {words}]", "    ")
-    where = common.location_text(o)
-    if where:
-        lines.append(f"    at: {where}")
-    if o.get("fix"):
-        lines += _wrap(f"FIX: {plain(o.get('fix'))}", "    ")
-    return lines
+class MailTooLarge(MailError):
+    """The message is larger than the size guard."""
 
 
 def build_message(result: dict, *, sender: str, recipients: str | Sequence[str], subject: str | None = None,
-                  units: str = "si") -> EmailMessage:
-    """Return the report as an e-mail message: text and HTML alternatives, inline charts, full report attached."""
+                  units: str = "si", attach: str | None = None, details: bool = True,
+                  meta: Mapping[str, Any] | None = None, max_bytes: int | None = MAX_BYTES) -> EmailMessage:
+    """Return the report as an e-mail: the summary as text and inline-styled HTML, the full report attached once.
+
+    ``attach`` is ``"pdf"`` or ``"html"`` (default: PDF when WeasyPrint is installed, else HTML); ``details=False``
+    leaves the charts, chart data, passes and derived values out of the attachment. ``max_bytes`` is the size
+    guard (None: none): a larger message raises :class:`MailTooLarge` saying how to make it smaller.
+    """
     from_ = _addresses(sender, "sender")
     to = _addresses(recipients, "recipient")
     msg = EmailMessage(policy=policy.SMTP)
@@ -173,24 +167,44 @@ def build_message(result: dict, *, sender: str, recipients: str | Sequence[str],
     msg["Date"] = formatdate(localtime=False, usegmt=True)
     domain = from_[0].rsplit("@", 1)[-1].strip(">").strip() or "localhost"
     msg["Message-ID"] = make_msgid(domain=domain)
-
-    images: list[tuple[str, bytes]] = []
-
-    def image(number: int, key: str, data: Mapping[str, Any]) -> str:
-        content = charts.png(key, data, units)
-        cid = f"dt{number}-{key}.{hashlib.sha256(content).hexdigest()[:16]}@rulecheck"
-        images.append((cid, content))
-        return f"cid:{cid}"
-
-    body_html = html.render(result, units=units, image=image)
     msg.set_content(text_body(result, units=units), subtype="plain", charset="utf-8")
-    msg.add_alternative(body_html, subtype="html", charset="utf-8")
-    html_part = msg.get_payload()[1]
-    for cid, content in images:
-        html_part.add_related(content, maintype="image", subtype="png", cid=f"<{cid}>",
-                              filename=cid.split("@", 1)[0] + ".png", disposition="inline")
-    msg.add_attachment(html.render(result, units=units), subtype="html", charset="utf-8", filename=ATTACHMENT_NAME)
+    msg.add_alternative(inline_styles(html.render_summary(result, units=units, meta=meta)), subtype="html",
+                        charset="utf-8")
+    kind, data = _attachment(result, units=units, attach=attach, details=details, meta=meta)
+    if kind == "pdf":
+        msg.add_attachment(data, maintype="application", subtype="pdf", filename=PDF_ATTACHMENT_NAME)
+    else:
+        msg.add_attachment(data.decode("utf-8"), subtype="html", charset="utf-8", filename=ATTACHMENT_NAME)
+    size = len(as_bytes(msg))
+    if max_bytes is not None and size > max_bytes:
+        hint = "leave the charts and details out of the attachment (--no-details)" if details else (
+            "check fewer drive trains per message")
+        raise MailTooLarge(f"the e-mail would be {size / 2**20:.1f} MB, above the {max_bytes / 2**20:.1f} MB limit "
+                           f"(--max-size): {hint}, or raise --max-size if the mail server accepts more")
     return msg
+
+
+def inline_styles(page: str) -> str:
+    """Return an HTML page with its ``<style>`` rules moved into ``style`` attributes, which mail readers keep
+    (many drop ``<style>`` blocks); css-inline does the CSS cascade. Nothing is fetched."""
+    import css_inline
+
+    inliner = css_inline.CSSInliner(load_remote_stylesheets=False, keep_style_tags=False)
+    return inliner.inline(page)
+
+
+def _attachment(result: dict, *, units: str, attach: str | None, details: bool,
+                meta: Mapping[str, Any] | None) -> tuple[str, bytes]:
+    from rulecheck.report import pdf
+
+    if attach not in (None, "pdf", "html"):
+        raise MailError(f"attach must be 'pdf' or 'html', not {plain(attach, 20)!r}")
+    if attach == "pdf" or (attach is None and pdf.available()):
+        try:
+            return "pdf", pdf.render(result, units=units, charts=details, meta=meta, details=details)
+        except pdf.PdfUnavailable as exc:
+            raise MailError(f"{exc}; or attach the HTML report (--attach html)") from None
+    return "html", html.render(result, units=units, charts=details, meta=meta, details=details).encode("utf-8")
 
 
 def as_bytes(message: EmailMessage) -> bytes:

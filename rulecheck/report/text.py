@@ -11,7 +11,7 @@ from typing import Any
 from rulecheck.report.cautions import select_hazards
 from rulecheck.result import failure_level
 
-__all__ = ["TextReport", "render"]
+__all__ = ["TextReport", "render", "requirement_lines"]
 
 _COLOURS = {"error": "\033[31;1m", "warning": "\033[33;1m", "info": "\033[36m", "not-checked": "\033[35m",
             "waived": "\033[2m", "pass": "\033[32m"}
@@ -37,8 +37,9 @@ class TextReport:
     """The terminal report, written spec by spec."""
 
     def __init__(self, *, colour: bool = False, verbose: bool = False, show_derived: bool = False,
-                 units: str = "si") -> None:
+                 units: str = "si", requirements: bool = False) -> None:
         self.colour = colour
+        self.requirements = requirements
         self.verbose = verbose
         self.show_derived = show_derived
         self.units = units
@@ -76,6 +77,8 @@ class TextReport:
             out.append(f"{_clean(spec['file'])}: derived values of {_clean(spec.get('tag') or '?')}:")
             for path, value in spec["derived"].items():
                 out.append(f"    {path} = {display(value, self.units)}  ({_clean(value.get('from'))})")
+        if self.requirements and spec.get("requirements"):
+            out += requirement_lines(spec, self.units)
         for note in spec.get("notes", []):
             out.append(f"{_clean(spec['file'])}: note: {_clean(note)}")
         self.verdicts[spec["verdict"]] = self.verdicts.get(spec["verdict"], 0) + 1
@@ -105,9 +108,32 @@ class TextReport:
         return "\n".join(out) + "\n"
 
 
+def requirement_lines(spec: dict[str, Any], units: str = "si") -> list[str]:
+    """Return a spec's requirements table as aligned text lines: what is needed, the rating or limit beside it,
+    the margin and the rule's outcome (the values the rules computed)."""
+    from rulecheck.report.common import display
+
+    rows = [("requirement", "needed", "rating or limit", "margin", "rule")]
+    for r in spec.get("requirements") or []:
+        at = f" at {display(r['at'], units)}" if r.get("at") else ""
+        rating = display(r["rating"], units) if r.get("rating") else "not stated"
+        if r.get("sense") == "at-most":
+            rating = "max " + rating if r.get("rating") else rating
+        margin = display(r["margin"], units, ratio=True) if r.get("margin") else "—"
+        rows.append((_clean(r["item"]), display(r["needed"], units) + at, rating, margin,
+                     f"{r['outcome']} {_clean(r['rule'])}"))
+    widths = [max(len(row[i]) for row in rows) for i in range(5)]
+    head = f"{_clean(spec['file'])}: what {_clean(spec.get('tag') or 'the drive train')} needs:"
+    lines = [head]
+    for row in rows:
+        lines.append("    " + "  ".join([row[0].ljust(widths[0]), row[1].rjust(widths[1]), row[2].rjust(widths[2]),
+                                         row[3].rjust(widths[3]), row[4]]).rstrip())
+    return lines
+
+
 def render(result: dict[str, Any], *, colour: bool = False, verbose: bool = False,
-           show_derived: bool = False) -> str:
-    """Return the terminal report of a whole result."""
+           show_derived: bool = False, requirements: bool = False) -> str:
+    """Return the terminal report of a whole result (``requirements``: each drive train's requirements table)."""
     report = TextReport(colour=colour, verbose=verbose, show_derived=show_derived,
-                        units=result.get("settings", {}).get("units", "si"))
+                        units=result.get("settings", {}).get("units", "si"), requirements=requirements)
     return "".join(report.spec(spec) for spec in result["specs"]) + report.footer(result["summary"])

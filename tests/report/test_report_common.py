@@ -92,11 +92,28 @@ def test_hazards_come_from_applicable_outcomes_and_charts():
     assert _keys(sample.invalid()) == []
 
 
-def test_a_back_emf_chart_alone_selects_the_pm_hazard():
-    spec = {"tag": "X", "outcomes": [], "charts": {"back_emf": {}}}
-    selected = cautions.select_hazards([spec])
-    assert [h.hazard.key for h in selected] == ["pm-generation"] and selected[0].rules == []
-    assert selected[0].reason == "drive train X"
+def test_a_chart_alone_raises_no_hazard():
+    # a back-EMF chart means a PM motor, but only a failing, waived or unchecked safety rule raises a hazard
+    assert cautions.select_hazards([{"tag": "X", "outcomes": [], "charts": {"back_emf": {}}}]) == []
+
+
+@pytest.mark.parametrize("outcome", ["pass", "not-applicable"])
+def test_passes_never_raise_a_hazard(outcome):
+    # every hazard's own trigger rule, passing (or not applying) on a safety-relevant rule: nothing is raised
+    rules = ["holding-brake-vertical", "pm-back-emf-headroom", "regen-braking-energy", "mechanical-max-speed",
+             "hazardous-area-flag", "inverter-insulation-reflected-wave", "bearing-currents"]
+    spec = {"tag": "X", "outcomes": [{"rule": r, "topic": "hoist", "outcome": outcome, "safety": True,
+                                      "severity": "error"} for r in rules]}
+    assert cautions.select_hazards([spec]) == []
+
+
+@pytest.mark.parametrize("outcome,safety,raised", [
+    ("fail", True, True), ("not-checked", True, True), ("waived", True, True), ("fail", False, False),
+    ("pass", True, False)])
+def test_only_failing_waived_or_unchecked_safety_rules_raise(outcome, safety, raised):
+    spec = {"tag": "X", "outcomes": [{"rule": "holding-brake-vertical", "topic": "regeneration-holding",
+                                      "outcome": outcome, "safety": safety, "severity": "error"}]}
+    assert bool(cautions.select_hazards([spec])) is raised
 
 
 def test_hazard_reason_names_drive_trains_and_rules():
@@ -117,7 +134,7 @@ def test_hazard_reason_names_drive_trains_and_rules():
     ("dc-bus-capacitor-energy", "x", "stored-energy"),
 ])
 def test_hazard_table_triggers(rule, topic, key):
-    spec = {"outcomes": [{"rule": rule, "topic": topic, "outcome": "pass"}]}
+    spec = {"outcomes": [{"rule": rule, "topic": topic, "outcome": "fail", "safety": True, "severity": "error"}]}
     assert _keys(spec) == ([key] if key else [])
 
 

@@ -106,8 +106,13 @@ def test_index_is_sorted_worst_first_and_says_so(samples):
     assert sections == ["1", "2", "3", "4"]
 
 
-def test_single_spec_has_no_index(samples):
-    assert '<table class="index">' not in html.render(samples["conveyor"])
+def test_single_spec_summary_names_it_and_its_deciding_findings(samples):
+    text = html.render(samples["conveyor"])
+    index = text[text.index('<table class="index">'):text.index("</table>", text.index('<table class="index">'))]
+    spec = samples["conveyor"]["specs"][0]
+    assert spec["tag"] in index
+    deciding = [o for o in spec["outcomes"] if o["outcome"] == "fail" and o["severity"] in ("error", "warning")]
+    assert deciding and all(common.plain(o["message"])[:40] in scan(index).all_text for o in deciding)
 
 
 def test_hostile_strings_are_escaped_never_live(samples):

@@ -25,36 +25,31 @@ def _parse(data: bytes):
 
 @pytest.fixture(scope="module")
 def plant_message():
-    return mail.build_message(sample.plant(), sender=SENDER, recipients=RECIPIENTS)
+    return mail.build_message(sample.plant(), sender=SENDER, recipients=RECIPIENTS, attach="html")
 
 
-def test_structure_alternatives_related_images_attachment(plant_message):
+def test_structure_summary_alternatives_and_one_attachment(plant_message):
     msg = _parse(mail.as_bytes(plant_message))
     assert msg.get_content_type() == "multipart/mixed"
     alternative, attachment = list(msg.iter_parts())
     assert alternative.get_content_type() == "multipart/alternative"
-    plain, related = list(alternative.iter_parts())
-    assert plain.get_content_type() == "text/plain"
-    assert related.get_content_type() == "multipart/related"
-    html_part, *images = list(related.iter_parts())
-    assert html_part.get_content_type() == "text/html"
-    # one PNG per chart in the result: conveyor 2, servo 2, hoist 1
-    assert len(images) == 5 and all(i.get_content_type() == "image/png" for i in images)
-    assert all(i.get_content().startswith(b"\x89PNG\r\n\x1a\n") for i in images)
+    plain, html_part = list(alternative.iter_parts())
+    assert plain.get_content_type() == "text/plain" and html_part.get_content_type() == "text/html"
     assert attachment.get_content_type() == "text/html"
     assert attachment.get_content_disposition() == "attachment"
     assert attachment.get_filename() == "rulecheck-report.html"
-
-
-def test_every_cid_reference_resolves(plant_message):
-    msg = _parse(mail.as_bytes(plant_message))
-    related = next(p for p in msg.walk() if p.get_content_type() == "multipart/related")
-    html_part, *images = list(related.iter_parts())
+    # the full report travels once: the body is the summary, without charts or the appendix
     body = html_part.get_content()
-    cids = re.findall(r'src="cid:([^"]+)"', body)
-    content_ids = {i["Content-ID"].strip("<>") for i in images}
-    assert cids and set(cids) == content_ids and len(cids) == len(content_ids)
-    assert "<svg" not in body  # mail readers drop inline SVG; the images stand in
+    assert "Drive-train design-rule summary" in body and "<svg" not in body and "Passed (" not in body
+    assert sum(1 for p in msg.walk() if p.get_filename()) == 1
+
+
+def test_body_styles_are_inline_for_mail_readers(plant_message):
+    msg = _parse(mail.as_bytes(plant_message))
+    body = next(p for p in msg.walk() if p.get_content_type() == "text/html").get_content()
+    assert "<style" not in body  # many mail readers drop style blocks
+    assert re.search(r'<table class="index" style="[^"]*border-collapse: ?collapse', body)
+    assert 'class="badge sev-error" style="' in body
 
 
 def test_attachment_is_the_full_self_contained_report(plant_message):
@@ -64,13 +59,34 @@ def test_attachment_is_the_full_self_contained_report(plant_message):
     assert attachment.get_content().replace("\r\n", "\n") == html.render(sample.plant())
 
 
-def test_text_part_has_findings_chart_text_and_cautions(plant_message):
+def test_pdf_attachment_when_asked(samples):
+    pytest.importorskip("weasyprint", reason="the pdf extra (WeasyPrint) is not installed")
+    message = mail.build_message(sample.plant(), sender=SENDER, recipients=RECIPIENTS, attach="pdf")
+    attachment = list(_parse(mail.as_bytes(message)).iter_parts())[1]
+    assert attachment.get_content_type() == "application/pdf"
+    assert attachment.get_filename() == "rulecheck-report.pdf"
+    assert attachment.get_content().startswith(b"%PDF-")
+
+
+def test_text_part_is_the_summary_wrapped_at_78(plant_message):
     msg = _parse(mail.as_bytes(plant_message))
     text = next(p for p in msg.walk() if p.get_content_type() == "text/plain").get_content()
-    for words in ("[X] ERROR [SAFETY] holding-brake-vertical", "static torque: 412 N·m", "FIX: add a spring-applied",
-                  "Not checked", "environment.altitude", "R. Okafor", "DC-bus trip level 800 V",
-                  "CAUTIONS", "NEC Article 430", "Nobody works under a suspended load", "Permanent-magnet motors"):
-        assert words in text, words
+    flat = " ".join(text.split())
+    for words in ("[X] ERROR [SAFETY] holding-brake-vertical", "FIX: add a spring-applied", "not checked",
+                  "environment.altitude", "R. Okafor", "CAUTIONS", "NEC Article 430",
+                  "Nobody works under a suspended load", "Permanent-magnet motors"):
+        assert words in flat, words
+    # RFC 5322 2.1.1: lines SHOULD be no more than 78 characters
+    assert max(len(line) for line in text.splitlines()) <= 78
+
+
+def test_size_guard_refuses_with_what_to_do():
+    with pytest.raises(mail.MailTooLarge, match=r"above the 0\.0 MB limit.*--no-details"):
+        mail.build_message(sample.plant(), sender=SENDER, recipients=RECIPIENTS, attach="html", max_bytes=1000)
+    small = mail.build_message(sample.plant(), sender=SENDER, recipients=RECIPIENTS, attach="html", details=False)
+    full = mail.build_message(sample.plant(), sender=SENDER, recipients=RECIPIENTS, attach="html")
+    assert len(mail.as_bytes(small)) < len(mail.as_bytes(full))
+    assert "<svg" not in list(_parse(mail.as_bytes(small)).iter_parts())[1].get_content()
 
 
 def test_headers(plant_message):
@@ -104,8 +120,7 @@ def test_dry_run_describes_without_connecting(plant_message):
     text = mail.describe(plant_message)
     assert text.startswith("Dry run: nothing is sent.")
     assert "To: drives-review@harrowgate.example, site.lead@harrowgate.example" in text
-    assert "multipart/related" in text and "file rulecheck-report.html; attachment" in text
-    assert len(re.findall(r"image/png, [\d,]+ bytes \(file dt\d-\w+\.[0-9a-f]+\.png; Content-ID <", text)) == 5
+    assert "multipart/alternative" in text and "file rulecheck-report.html; attachment" in text
     total = int(re.search(r"Total size: ([\d,]+) bytes", text).group(1).replace(",", ""))
     assert total == len(mail.as_bytes(plant_message))
 

@@ -1,0 +1,92 @@
+"""The demo's torque–speed charts: the load curve and the capability the rules use, and labels that never overlap."""
+
+from __future__ import annotations
+
+import itertools
+import sys
+from pathlib import Path
+
+import pytest
+
+from rulecheck.report import charts
+
+ROOT = Path(__file__).resolve().parents[2]
+
+
+@pytest.fixture(scope="module")
+def demo():
+    sys.path.insert(0, str(ROOT))
+    from rulecheck.run import RunOptions, run_with_charts
+
+    result, series = run_with_charts(RunOptions(paths=[str(ROOT / "specs_demo")], charts=True, cache_dir=None))
+    return list(zip(result["specs"], series, strict=True))
+
+
+def test_every_torque_speed_chart_has_load_curve_and_capability(demo):
+    for spec, series in demo:
+        ts = series["torque_speed"]
+        assert len(ts["load_curve"]) >= 2 and len(ts["motor_continuous"]) >= 2, spec["tag"]
+        assert ts.get("motor_peak"), spec["tag"]
+
+
+def test_peak_capability_is_the_one_the_peak_rule_compares_with(demo):
+    # CV-120: the motor's 520 N·m is limited by the drive's overload current to 360.3 N·m (train.peak_torque_available)
+    spec, series = next(x for x in demo if x[0]["tag"] == "HR-CV-120")
+    available = next(o for o in spec["outcomes"] if o["rule"] == "torque-peak")["values"]["available"]["value"]
+    peak_at_low_speed = series["torque_speed"]["motor_peak"][1][1]
+    assert peak_at_low_speed == pytest.approx(available, rel=1e-4)
+    assert peak_at_low_speed < 520
+
+
+def test_load_curve_crosses_capability_where_the_rule_says(demo):
+    # CV-120 fails torque-margin-continuous at 360 r/min: 173 N·m needed, 134.8 N·m given; the chart's load curve
+    # at its first point is that need, above the continuous curve there
+    spec, series = next(x for x in demo if x[0]["tag"] == "HR-CV-120")
+    values = next(o for o in spec["outcomes"] if o["rule"] == "torque-margin-continuous")["values"]
+    ts = series["torque_speed"]
+    n0, t0 = ts["load_curve"][0]
+    assert n0 == pytest.approx(values["worst_speed"]["value"], rel=1e-3)
+    assert t0 == pytest.approx(values["required"]["value"], rel=1e-3)
+    cont = dict((round(n), t) for n, t in ts["motor_continuous"])
+    below = [t for n, t in ts["motor_continuous"] if n <= n0]
+    assert below and below[-1] < t0 and cont  # the capability is under the load at the low end
+
+
+def test_no_chart_label_overlaps_another(demo):
+    for spec, series in demo:
+        for key, data in series.items():
+            from matplotlib.backends.backend_agg import FigureCanvasAgg
+
+            fig = charts.figure(key, data)
+            canvas = FigureCanvasAgg(fig)
+            canvas.draw()
+            renderer = canvas.get_renderer()
+            for ax in fig.axes:
+                boxes = [(t.get_text(), t.get_window_extent(renderer)) for t in ax.texts if t.get_text()]
+                for (ta, a), (tb, b) in itertools.combinations(boxes, 2):
+                    assert not a.overlaps(b), (spec["tag"], key, ta, tb)
+
+
+def test_duty_chart_rms_line_is_the_rules_rms_torque(demo):
+    # the RMS line on the duty chart is the torque torque-rms-duty-cycle judges (every second counted for the
+    # S3 hoist's rating): not a second computation that could disagree with the finding
+    checked = 0
+    for spec, series in demo:
+        rule = next((o for o in spec["outcomes"] if o["rule"] == "torque-rms-duty-cycle"
+                     and o["outcome"] in ("pass", "fail")), None)
+        if rule is None or "duty" not in series:
+            continue
+        assert series["duty"]["rms_torque"] == pytest.approx(rule["values"]["rms_torque"]["value"], rel=1e-4)
+        text = charts.describe("duty", series["duty"]).description
+        assert "RMS torque" in text and "motor rated torque" in text
+        checked += 1
+    assert checked >= 2  # HR-H-310 and HR-SV-410
+
+
+def test_back_emf_chart_states_its_factor(demo):
+    # SV-410: Ke·ω gives 607.5 V line RMS at 4500 r/min; the rectified peak 902.1 V = √2 × 607.5 × 1.05, and the
+    # chart says so (1.05: cold magnets and tolerance, physics.machines default, docs/references.md R20)
+    spec, series = next(x for x in demo if x[0]["tag"] == "HR-SV-410")
+    data = series["back_emf"]
+    assert data["rectified_peak"][-1] == pytest.approx(2 ** 0.5 * data["emf_line_rms"][-1] * 1.05, rel=1e-3)
+    assert "× 1.05 for cold magnets" in charts.describe("back_emf", data).description
