@@ -33,6 +33,20 @@ def _where(spec: dict[str, Any], o: dict[str, Any]) -> str:
     return where
 
 
+def _to_give_text(to_give: dict[str, Any]) -> str:
+    """Return the request of a spec's ``to_give`` block: "to check 6 more rules, give motor: inertia,
+    power_factor; drive: overload.current" (fields grouped by component, in the block's order)."""
+    groups: dict[str, list[str]] = {}
+    for entry in to_give.get("inputs", []):
+        component = _clean(entry.get("component"))
+        path = _clean(entry.get("path"))
+        groups.setdefault(component, []).append(path[len(component) + 1:] if path.startswith(component + ".")
+                                                else path)
+    n = to_give.get("rules", 0)
+    asked = "; ".join(f"{c}: {', '.join(fields)}" for c, fields in groups.items())
+    return f"to check {n} more rule{'s' if n != 1 else ''}, give {asked}"
+
+
 class TextReport:
     """The terminal report, written spec by spec."""
 
@@ -76,6 +90,8 @@ class TextReport:
             out.append(f"{_clean(spec['file'])}: derived values of {_clean(spec.get('tag') or '?')}:")
             for path, value in spec["derived"].items():
                 out.append(f"    {path} = {display(value, self.units)}  ({_clean(value.get('from'))})")
+        if spec.get("to_give"):
+            out.append(f"{_clean(spec['file'])}: {_to_give_text(spec['to_give'])}")
         for note in spec.get("notes", []):
             out.append(f"{_clean(spec['file'])}: note: {_clean(note)}")
         self.verdicts[spec["verdict"]] = self.verdicts.get(spec["verdict"], 0) + 1
