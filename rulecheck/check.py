@@ -22,7 +22,7 @@ from rulecheck.result import Finding, SpecResult
 from rulecheck.schema import check_structure, read_quantities
 
 __all__ = ["BUILTIN_RULES", "CheckContext", "Checked", "check_document", "check_file", "check_spec", "failed",
-           "failed_result", "finding", "outcome_dict"]
+           "failed_result", "finding", "outcome_dict", "set_overrides"]
 
 # Checks done by the loader and schema rather than by rule files; listed with the rules.
 BUILTIN_RULES: dict[str, dict[str, Any]] = {
@@ -332,9 +332,40 @@ def _text(data: dict[str, Any], key: str) -> str | None:
     return value if isinstance(value, str) else None
 
 
+# field path → spec value given on the command line for this run (``--set``); a forked worker inherits it
+_OVERRIDES: dict[str, Any] = {}
+
+
+def set_overrides(values: dict[str, Any]) -> None:
+    """Give fields of every spec of this process's runs another value (``check --set``); ``{}``: none.
+    The values must be valid for their fields (:mod:`rulecheck.authoring.overrides` checks them)."""
+    _OVERRIDES.clear()
+    _OVERRIDES.update(values)
+
+
+def _overridden(doc: Document) -> tuple[Document, list[dict[str, Any]]]:
+    """Return the document with the run's overrides put in, and what each replaced."""
+    if not _OVERRIDES or not isinstance(doc.data, dict):
+        return doc, []
+    data = copy.deepcopy(doc.data)
+    done = []
+    for path, value in _OVERRIDES.items():
+        parts = path.split(".")
+        node = data
+        for part in parts[:-1]:
+            if not isinstance(node.get(part), dict):
+                node[part] = {}
+            node = node[part]
+        was = node.get(parts[-1])
+        node[parts[-1]] = value
+        done.append({"path": path, "value": value, "was": was if isinstance(was, (str, int, float, bool)) else None})
+    return doc.with_data(data), done
+
+
 def _check_document(doc: Document, ctx: CheckContext, base_dir: Path | None) -> _Done:
     from rulecheck.derive import build_model
 
+    doc, overrides = _overridden(doc)
     data = doc.data
     problems = check_structure(doc)
     quantities, unit_problems = read_quantities(doc)
@@ -356,7 +387,7 @@ def _check_document(doc: Document, ctx: CheckContext, base_dir: Path | None) -> 
     findings += [finding(o, BUILTIN_RULES["waiver-check"], doc) for o in waiver_outcomes]
     result = SpecResult(doc.file, status, tuple(findings), _text(data, "tag"), _text(data, "title"),
                         _text(data, "status"), doc.sha256, _derived_dict(model), tuple(model.notes))
-    extra: dict[str, Any] = {}
+    extra: dict[str, Any] = {"overrides": overrides} if overrides else {}
     to_give = _to_give(rule_outcomes, needs)
     if to_give:
         extra["to_give"] = to_give

@@ -125,6 +125,9 @@ def _check_command(sub: Any) -> None:
                        help="findings recorded in FILE are reported as known and do not fail the run")
     check.add_argument("--changed-since", metavar="REV",
                        help="check only specs changed since git revision REV (all, if rules or configuration changed)")
+    check.add_argument("--set", dest="overrides", action="append", default=[], metavar="PATH=VALUE",
+                       help="give a field another value for this run only, validated as in a spec (may be repeated), "
+                            "e.g. --set motor.rated_power='55 kW'; the report lists the values overridden")
 
 
 def _colour_options(parser: argparse.ArgumentParser) -> None:
@@ -634,6 +637,8 @@ def _outputs(args: argparse.Namespace, ci: bool) -> list[tuple[str, str | None]]
 
 
 def _cmd_check(args: argparse.Namespace) -> int:
+    if args.overrides:
+        _set_overrides(args)
     ci = ci_runner(os.environ)
     outputs = _outputs(args, ci)
     # chart series are computed beside the results only for a report that draws them
@@ -649,6 +654,18 @@ def _cmd_check(args: argparse.Namespace) -> int:
     if not args.quiet and (ci or args.baseline or written and (outputs[0][0] != "text" or len(outputs) > 1)):
         print(summary_line(summary) + ("; wrote " + ", ".join(written) if written else ""), file=sys.stderr)
     return int(summary["exit_code"])
+
+
+def _set_overrides(args: argparse.Namespace) -> None:
+    """Take the run's ``--set`` values (a usage error names a bad one); results with them are not cached."""
+    from rulecheck.authoring.overrides import OverrideError, parse_overrides
+    from rulecheck.check import set_overrides
+
+    try:
+        set_overrides(parse_overrides(args.overrides))
+    except OverrideError as exc:
+        raise _Usage(str(exc)) from None
+    args.no_cache = True
 
 
 def _cmd_baseline(args: argparse.Namespace) -> int:

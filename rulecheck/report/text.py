@@ -33,6 +33,10 @@ def _where(spec: dict[str, Any], o: dict[str, Any]) -> str:
     return where
 
 
+def _scalar(value: Any) -> str:
+    return ("true" if value else "false") if isinstance(value, bool) else str(value)
+
+
 def _to_give_text(to_give: dict[str, Any]) -> str:
     """Return the request of a spec's ``to_give`` block: "to check 6 more rules, give motor: inertia,
     power_factor; drive: overload.current" (fields grouped by component, in the block's order)."""
@@ -90,6 +94,11 @@ class TextReport:
             out.append(f"{_clean(spec['file'])}: derived values of {_clean(spec.get('tag') or '?')}:")
             for path, value in spec["derived"].items():
                 out.append(f"    {path} = {display(value, self.units)}  ({_clean(value.get('from'))})")
+        if spec.get("overrides"):
+            shown = [f"{_clean(o.get('path'))} = {_clean(_scalar(o.get('value')))}"
+                     + (f" (was {_clean(_scalar(o['was']))})" if o.get("was") is not None else " (not in the spec)")
+                     for o in spec["overrides"]]
+            out.append(f"{_clean(spec['file'])}: overridden for this run: {'; '.join(shown)}")
         if spec.get("to_give"):
             out.append(f"{_clean(spec['file'])}: {_to_give_text(spec['to_give'])}")
         for note in spec.get("notes", []):

@@ -70,3 +70,46 @@ def test_a_fully_given_spec_asks_for_nothing(tmp_path: Path) -> None:
     spec = _check(tmp_path, SOUND.read_text(encoding="utf-8"))["specs"][0]
     assert "to_give" not in spec
     assert not [o for o in spec["outcomes"] if o["outcome"] == "not-checked"]
+
+
+# --- what-if: --set PATH=VALUE ----------------------------------------------------------------------------
+
+
+def test_set_overrides_a_field_for_one_run(tmp_path: Path) -> None:
+    before = SOUND.read_bytes()
+    result = _check(tmp_path, SOUND.read_text(encoding="utf-8"), "--set", "motor.rated_power=55 kW",
+                    "--set", "cable.length=50 m")
+    spec = result["specs"][0]
+    # 55 kW at 1480 r/min is 55 000 W ÷ (2π·1480/60 rad/s) = 354.9 N·m, against the nameplate's 290 N·m
+    # (hand calculation): the nameplate cross-check now fails, with the overridden power
+    failed = {o["rule"]: o for o in spec["outcomes"] if o["outcome"] == "fail"}
+    assert "354.9 N·m" in failed["nameplate-power-torque-speed"]["message"]
+    assert spec["overrides"] == [{"path": "motor.rated_power", "value": "55 kW", "was": "45 kW"},
+                                 {"path": "cable.length", "value": "50 m", "was": "60 m"}]
+    assert SOUND.read_bytes() == before
+    proc = run_cli("check", "--no-cache", "--set", "motor.rated_power=55 kW", str(SOUND))
+    assert "overridden for this run: motor.rated_power = 55 kW (was 45 kW)" in proc.stdout
+    # without --set the spec is as it was: sound
+    assert "overrides" not in _check(tmp_path, SOUND.read_text(encoding="utf-8"))["specs"][0]
+
+
+def test_a_bad_set_is_a_usage_error_naming_it() -> None:
+    for given, words in (("motor.rated_powr=55 kW", "did you mean motor.rated_power?"),
+                         ("motor.rated_power=55", "has no unit"),
+                         ("motor.power_factor=1.5", "above 100 %"),
+                         ("supply.frequency=1500 r/min", "not an electrical frequency"),
+                         ("motor.poles=3", "multiple of 2"),
+                         ("motor.kind=diesel", "expected one of"),
+                         ("motor.rated_power", "PATH=VALUE")):
+        proc = run_cli("check", "--no-cache", "--set", given, str(SOUND))
+        assert proc.returncode == 2, (given, proc.stdout, proc.stderr)
+        assert words in proc.stderr and given.split("=")[0] in proc.stderr, (given, proc.stderr)
+
+
+def test_set_reaches_the_worker_processes(tmp_path: Path) -> None:
+    text = SOUND.read_text(encoding="utf-8")
+    for i in range(24):  # enough specs for the run to use two worker processes
+        (tmp_path / f"s{i}.yaml").write_text(text.replace("HR-CV-110", f"T-{i}"), encoding="utf-8")
+    proc = run_cli("check", "-j", "2", "-f", "json", "--set", "motor.rated_power=55 kW", str(tmp_path))
+    specs = json.loads(proc.stdout)["specs"]
+    assert len(specs) == 24 and all(s["overrides"][0]["value"] == "55 kW" for s in specs)
