@@ -94,15 +94,16 @@ class TextReport:
             out.append(f"{_clean(spec['file'])}: derived values of {_clean(spec.get('tag') or '?')}:")
             for path, value in spec["derived"].items():
                 out.append(f"    {path} = {display(value, self.units)}  ({_clean(value.get('from'))})")
+        head = _clean(spec["file"]) + (f":{spec['row']}" if spec.get("row") else "")
         if spec.get("overrides"):
             shown = [f"{_clean(o.get('path'))} = {_clean(_scalar(o.get('value')))}"
                      + (f" (was {_clean(_scalar(o['was']))})" if o.get("was") is not None else " (not in the spec)")
                      for o in spec["overrides"]]
-            out.append(f"{_clean(spec['file'])}: overridden for this run: {'; '.join(shown)}")
+            out.append(f"{head}: overridden for this run: {'; '.join(shown)}")
         if spec.get("to_give"):
-            out.append(f"{_clean(spec['file'])}: {_to_give_text(spec['to_give'])}")
+            out.append(f"{head}: {_to_give_text(spec['to_give'])}")
         for note in spec.get("notes", []):
-            out.append(f"{_clean(spec['file'])}: note: {_clean(note)}")
+            out.append(f"{head}: note: {_clean(note)}")
         self.verdicts[spec["verdict"]] = self.verdicts.get(spec["verdict"], 0) + 1
         if spec["verdict"] != "pass":
             for h in select_hazards([spec]):
