@@ -22,7 +22,7 @@ from rulecheck.result import Finding, SpecResult
 from rulecheck.schema import check_structure, read_quantities
 
 __all__ = ["BUILTIN_RULES", "CheckContext", "Checked", "check_document", "check_file", "check_spec", "failed",
-           "failed_result", "finding", "outcome_dict"]
+           "failed_result", "finding", "outcome_dict", "set_overrides"]
 
 # Checks done by the loader and schema rather than by rule files; listed with the rules.
 BUILTIN_RULES: dict[str, dict[str, Any]] = {
@@ -255,34 +255,46 @@ def check_spec(path: Path, ctx: CheckContext, display: str | None = None) -> Che
     """Return the result of one spec file with its chart series when ``ctx.charts`` asks for them (see
     :func:`check_file`)."""
     file = display if display is not None else display_path(path, ctx.base_dir)
+    extra: dict[str, Any] = {}
     try:
         with _time_limit(ctx.limits.max_seconds):
-            result, charts = _check_file(path, file, ctx)
+            result, charts, extra = _check_file(path, file, ctx)
     except SpecTimeout:
         result = failed(file, "invalid", "internal-error",
                         f"checking this spec took longer than the limit of {ctx.limits.max_seconds} s and was "
                         "stopped", "report the spec to the rulecheck maintainers; limits.max_seconds in the "
                         "configuration sets the limit")
         charts = None
-    return Checked(result.to_json(), (charts or {}) if ctx.charts else None)  # a spec that did not load: none
+    return Checked(_json(result, extra), (charts or {}) if ctx.charts else None)  # a spec that did not load: none
 
 
-def _check_file(path: Path, file: str, ctx: CheckContext) -> tuple[SpecResult, dict[str, Any] | None]:
+def _json(result: SpecResult, extra: dict[str, Any]) -> dict[str, Any]:
+    """Return a spec's JSON result with the additions of this module (what to give, overrides, load cases)."""
+    out = result.to_json()
+    out.update(extra)
+    return out
+
+
+# what a check returns: the result, its chart series, and additions to its JSON form
+_Done = tuple[SpecResult, "dict[str, Any] | None", dict[str, Any]]
+
+
+def _check_file(path: Path, file: str, ctx: CheckContext) -> _Done:
     try:
         doc = load_file(path, ctx.limits, display_name=file)
     except LoadError as exc:
         return failed(file, "unreadable" if exc.rule == "unreadable" else "invalid", "yaml-syntax",
-                      exc.message, exc.hint, exc.line, exc.column), None
+                      exc.message, exc.hint, exc.line, exc.column), None, {}
     return _check_safely(doc, ctx, path.parent)
 
 
 def check_document(doc: Document, ctx: CheckContext, base_dir: Path | None = None) -> dict[str, Any]:
     """Return the result dict of a loaded spec document (a fault of the checker becomes an ``internal-error``)."""
-    return _check_safely(doc, ctx, base_dir)[0].to_json()
+    result, _charts, extra = _check_safely(doc, ctx, base_dir)
+    return _json(result, extra)
 
 
-def _check_safely(doc: Document, ctx: CheckContext,
-                  base_dir: Path | None) -> tuple[SpecResult, dict[str, Any] | None]:
+def _check_safely(doc: Document, ctx: CheckContext, base_dir: Path | None) -> _Done:
     try:
         return _check_document(doc, ctx, base_dir)
     except Exception as exc:  # one spec that trips a bug must not stop the run or show a traceback
@@ -292,7 +304,7 @@ def _check_safely(doc: Document, ctx: CheckContext,
         return failed(doc.file, "invalid", "internal-error",
                       f"rulecheck could not finish checking this spec ({reason})",
                       "this is a fault of rulecheck, not necessarily of the spec: report it with the spec",
-                      sha256=doc.sha256, tag=data.get("tag") if isinstance(data.get("tag"), str) else None), None
+                      sha256=doc.sha256, tag=data.get("tag") if isinstance(data.get("tag"), str) else None), None, {}
 
 
 def _without(data: Any, problems: list[Any]) -> Any:
@@ -321,10 +333,40 @@ def _text(data: dict[str, Any], key: str) -> str | None:
     return value if isinstance(value, str) else None
 
 
-def _check_document(doc: Document, ctx: CheckContext,
-                    base_dir: Path | None) -> tuple[SpecResult, dict[str, Any] | None]:
+# field path → spec value given on the command line for this run (``--set``); a forked worker inherits it
+_OVERRIDES: dict[str, Any] = {}
+
+
+def set_overrides(values: dict[str, Any]) -> None:
+    """Give fields of every spec of this process's runs another value (``check --set``); ``{}``: none.
+    The values must be valid for their fields (:mod:`rulecheck.authoring.overrides` checks them)."""
+    _OVERRIDES.clear()
+    _OVERRIDES.update(values)
+
+
+def _overridden(doc: Document) -> tuple[Document, list[dict[str, Any]]]:
+    """Return the document with the run's overrides put in, and what each replaced."""
+    if not _OVERRIDES or not isinstance(doc.data, dict):
+        return doc, []
+    data = copy.deepcopy(doc.data)
+    done = []
+    for path, value in _OVERRIDES.items():
+        parts = path.split(".")
+        node = data
+        for part in parts[:-1]:
+            if not isinstance(node.get(part), dict):
+                node[part] = {}
+            node = node[part]
+        was = node.get(parts[-1])
+        node[parts[-1]] = value
+        done.append({"path": path, "value": value, "was": was if isinstance(was, (str, int, float, bool)) else None})
+    return doc.with_data(data), done
+
+
+def _check_document(doc: Document, ctx: CheckContext, base_dir: Path | None) -> _Done:
     from rulecheck.derive import build_model
 
+    doc, overrides = _overridden(doc)
     data = doc.data
     problems = check_structure(doc)
     quantities, unit_problems = read_quantities(doc)
@@ -336,7 +378,8 @@ def _check_document(doc: Document, ctx: CheckContext,
     margins = data.get("margins") if isinstance(data.get("margins"), dict) else {}
     spec_margins, margin_outcomes = _read_margins(margins, ctx.ruleset)
     findings += [finding(o, BUILTIN_RULES["margins-check"], doc) for o in margin_outcomes]
-    rule_outcomes = _evaluate_rules(model, spec_margins, ctx)
+    needs = _Needs(model)
+    rule_outcomes = _evaluate_rules(model, spec_margins, ctx, needs)
     if status == "invalid":
         rule_outcomes = _not_checked_on_invalid(doc, problems, quantities, rule_outcomes, spec_margins, ctx, base_dir)
     waiver_outcomes = _apply_waivers(data.get("waivers"), rule_outcomes, ctx)
@@ -345,7 +388,11 @@ def _check_document(doc: Document, ctx: CheckContext,
     findings += [finding(o, BUILTIN_RULES["waiver-check"], doc) for o in waiver_outcomes]
     result = SpecResult(doc.file, status, tuple(findings), _text(data, "tag"), _text(data, "title"),
                         _text(data, "status"), doc.sha256, _derived_dict(model), tuple(model.notes))
-    return result, _charts(model) if ctx.charts else None
+    extra: dict[str, Any] = {"overrides": overrides} if overrides else {}
+    to_give = _to_give(rule_outcomes, needs)
+    if to_give:
+        extra["to_give"] = to_give
+    return result, _charts(model) if ctx.charts else None, extra
 
 
 def _probes(doc: Document, path: str, quantities: Any) -> list[Any] | None:
@@ -442,11 +489,68 @@ def _charts(model: Any) -> dict[str, Any]:
     return chart_data(model)
 
 
-def _evaluate_rules(model: Any, spec_margins: dict[str, Any], ctx: CheckContext) -> dict[str, Outcome]:
-    """Return every rule's outcome for the model, by rule id."""
+class _Needs:
+    """The spec fields to give for a path a rule could not read (see :class:`SpecNames`), worked out from the
+    derive stage's provenance only when a rule asks (:mod:`rulecheck.authoring.requests`)."""
+
+    def __init__(self, model: Any) -> None:
+        self.model = model
+        values = model.values
+        self.facts = {k: values.get(k) for k in ("motor.kind", "drive.kind", "load.model")}
+        self.cache: dict[str, list[tuple[str, str]]] = {}
+
+    def __call__(self, path: str) -> list[tuple[str, str]]:
+        found = self.cache.get(path)
+        if found is None:
+            found = self.cache[path] = self._fields(path)
+        return found
+
+    def _fields(self, path: str) -> list[tuple[str, str]]:
+        from rulecheck.authoring import requests
+        from rulecheck.derive import CATALOGUE
+
+        motor, load = str(self.facts["motor.kind"] or ""), str(self.facts["load.model"] or "")
+        fields = requests.inputs_of(path, self.facts, self.model.values) if path in CATALOGUE else \
+            requests.leaves(path)
+        return [(f, requests.words(f, motor, load)) for f in fields]
+
+
+def _to_give(outcomes: dict[str, Outcome], needs: _Needs) -> dict[str, Any] | None:
+    """Return what to give to check the rules that were not checked, grouped by component: the number of
+    such rules and each field with its unit, an example and the rules that need it (None: nothing to ask)."""
+    from rulecheck.authoring import requests
+
+    asked: dict[str, dict[str, Any]] = {}
+    rules = 0
+    for rule_id, o in outcomes.items():
+        if o.outcome != "not-checked" or not o.missing:
+            continue
+        fields = [f for m in o.missing for f, _w in needs(m)]
+        rules += bool(fields)
+        for f in fields:
+            entry = asked.setdefault(f, {"path": f, "component": requests.component(f),
+                                         "unit": requests.unit_words(f),
+                                         "example": requests.example(f, str(needs.facts["motor.kind"] or ""),
+                                                                     str(needs.facts["load.model"] or "")),
+                                         "rules": []})
+            if rule_id not in entry["rules"]:
+                entry["rules"].append(rule_id)
+    if not asked:
+        return None
+    return {"rules": rules, "inputs": sorted(asked.values(), key=lambda e: (_COMPONENTS.get(e["component"], 99),
+                                                                            e["path"]))}
+
+
+_COMPONENTS = {name: i for i, name in enumerate(("supply", "drive", "motor", "transmission", "load", "cable",
+                                                 "protection", "environment", "duty"))}
+
+
+def _evaluate_rules(model: Any, spec_margins: dict[str, Any], ctx: CheckContext,
+                    needs: _Needs | None = None) -> dict[str, Outcome]:
+    """Return every rule's outcome for the model, by rule id (``needs``: what to give for a missing input)."""
     from rulecheck.derive import catalogue
 
-    spec = SpecNames(model, catalogue())
+    spec = SpecNames(model, catalogue(), needs)
     rule_outcomes: dict[str, Outcome] = {}
     env = parent = None
     for rule in ctx.ruleset.rules.values():

@@ -129,6 +129,13 @@ def _check_command(sub: Any) -> None:
     check.add_argument("--changed-since", metavar="REV",
                        help="check only specs changed since git revision REV (all, if rules or configuration changed)")
     _report_page_options(check)
+    check.add_argument("--map", metavar="MAP",
+                       help="check the rows of motor lists (PATH: a .csv or .xlsx file) as specs, through this mapping "
+                            "of column headings to spec fields (as 'rulecheck import' reads it); findings name row "
+                            "and column")
+    check.add_argument("--set", dest="overrides", action="append", default=[], metavar="PATH=VALUE",
+                       help="give a field another value for this run only, validated as in a spec (may be repeated), "
+                            "e.g. --set motor.rated_power='55 kW'; the report lists the values overridden")
 
 
 def _colour_options(parser: argparse.ArgumentParser) -> None:
@@ -326,12 +333,14 @@ class _Paths:
 
     MACHINE = ("json", "sarif", "junit", "annotations", "markdown")
 
-    def __init__(self, root: Path, piped: dict[str, str]) -> None:
+    def __init__(self, root: Path, piped: dict[str, str], rows: dict[str, Any] | None = None) -> None:
         from rulecheck.check import display_path
 
         self.cwd = os.getcwd()
         self.root = str(root)
         self.piped = {display_path(Path(k), Path(self.cwd)): v for k, v in piped.items()}
+        # a motor list's row checked as a spec (check --map): where it came from
+        self.rows = {display_path(Path(k), Path(self.cwd)): v for k, v in (rows or {}).items()}
         self.same = os.path.realpath(self.cwd) == self.root
         self.plain = self.same and not self.piped  # every path shows as the run gives it
         self._machine: dict[str, str] = {}
@@ -361,6 +370,12 @@ class _Paths:
         """Return a spec result with its path as the format ``fmt`` shows it."""
         if self.plain:
             return spec
+        row = self.rows.get(spec["file"])
+        if row is not None:
+            from rulecheck.authoring.listcheck import place
+
+            spec = place(spec, row)
+            return {**spec, "file": self.machine(spec["file"])} if fmt in self.MACHINE else spec
         file = self.machine(spec["file"]) if fmt in self.MACHINE else self.terminal(spec["file"])
         return spec if file == spec["file"] else {**spec, "file": file}
 
@@ -455,13 +470,37 @@ def _inputs(args: argparse.Namespace) -> Iterator[tuple[list[str], _Paths]]:
             root = repository_root(getattr(args, "root", None), Path.cwd())
         except UsageError as exc:
             raise _Usage(str(exc)) from None
+        paths, rows = _lists(args, paths, Path(folder), piped)
         for given, path in zip(args.paths, paths, strict=True):
             if not os.path.exists(path):
                 raise _Usage(f"{given}: no such file or directory")
             if not args.allow_empty and not has_specs(path):
                 raise _Usage(f"{given}: no spec files found (*.yaml, *.yml; hidden folders and links are "
                              "skipped); name spec files or folders that hold them, or give --allow-empty")
-        yield paths, _Paths(root, piped)
+        yield paths, _Paths(root, piped, rows)
+
+
+def _lists(args: argparse.Namespace, paths: list[str], folder: Path,
+           piped: dict[str, str]) -> tuple[list[str], dict[str, Any]]:
+    """Return the paths with each motor list (``check --map``) replaced by its rows' specs, and their origins."""
+    from rulecheck.authoring.listcheck import expand_lists, is_list
+
+    mapping = getattr(args, "map", None)
+    if mapping is None:
+        listed = next((p for p in paths if is_list(p)), None)
+        if listed is not None:
+            raise _Usage(f"{listed}: a motor list is checked through a mapping of its columns: give --map MAP")
+        return paths, {}
+    from rulecheck.authoring.importer import ImportError_
+
+    if not any(is_list(p) for p in paths):
+        raise _Usage("--map: name a motor list (.csv or .xlsx) to check")
+    try:
+        paths, names, rows = expand_lists(paths, folder / "lists", mapping)
+    except ImportError_ as exc:
+        raise _Usage(str(exc)) from None
+    piped.update(names)
+    return paths, rows
 
 
 def _refuse_spec_outputs(files: list[str | None], paths: list[str]) -> None:
@@ -723,6 +762,8 @@ def _outputs(args: argparse.Namespace, ci: bool) -> list[tuple[str, str | None]]
 
 
 def _cmd_check(args: argparse.Namespace) -> int:
+    if args.overrides:
+        _set_overrides(args)
     ci = ci_runner(os.environ)
     outputs = _outputs(args, ci)
     # chart series are computed beside the results only for a report that draws them
@@ -739,6 +780,18 @@ def _cmd_check(args: argparse.Namespace) -> int:
     if not args.quiet and (ci or args.baseline or written and (outputs[0][0] != "text" or len(outputs) > 1)):
         print(summary_line(summary) + ("; wrote " + ", ".join(written) if written else ""), file=sys.stderr)
     return int(summary["exit_code"])
+
+
+def _set_overrides(args: argparse.Namespace) -> None:
+    """Take the run's ``--set`` values (a usage error names a bad one); results with them are not cached."""
+    from rulecheck.authoring.overrides import OverrideError, parse_overrides
+    from rulecheck.check import set_overrides
+
+    try:
+        set_overrides(parse_overrides(args.overrides))
+    except OverrideError as exc:
+        raise _Usage(str(exc)) from None
+    args.no_cache = True
 
 
 def _cmd_baseline(args: argparse.Namespace) -> int:

@@ -100,6 +100,7 @@ class CellError:
     column: str | None
     field: str | None
     message: str
+    value: Any = None  # the cell as the list holds it (None when the error is not about one cell)
 
     def __str__(self) -> str:
         where = f"{self.file}: row {self.row}"
@@ -122,6 +123,8 @@ class RowResult:
     origins: dict[str, tuple[int, str]] = field(default_factory=dict)  # key path → (row, column heading)
     errors: list[CellError] = field(default_factory=list)
     file_name: str | None = None
+    columns: dict[str, int] = field(default_factory=dict)  # column heading → column number (1 = first)
+    partial: dict[str, Any] = field(default_factory=dict)  # a row with errors: the values its good cells give
 
 
 # ---------------------------------------------------------------------------------------------- mapping
@@ -454,6 +457,7 @@ def safe_file_name(tag: str) -> str | None:
 def _row(number: int, cells: list[Any], positions: dict[str, Any], mapping: Mapping, list_name: str,
          map_name: str) -> RowResult:
     result = RowResult(number, list_name)
+    result.columns = {c.heading: positions[c.heading] + 1 for c in mapping.columns}
     extra = [c for c in cells[len(positions["*"]):] if c is not None and str(c).strip()]
     if extra:
         result.errors.append(CellError(list_name, number, None, None,
@@ -473,7 +477,7 @@ def _row(number: int, cells: list[Any], positions: dict[str, Any], mapping: Mapp
         try:
             flat[column.field] = _cell_value(cell, column, mapping.decimal_comma)
         except _Bad as exc:
-            result.errors.append(CellError(list_name, number, column.heading, column.field, str(exc)))
+            result.errors.append(CellError(list_name, number, column.heading, column.field, str(exc), cell))
             continue
         result.origins[column.field] = (number, column.heading)
     tag = flat.get("tag")
@@ -511,7 +515,7 @@ def _validate(result: RowResult, list_name: str) -> None:
                                        f"the tag {result.tag!r} gives no file name"))
     if result.errors:
         result.text = None
-        result.data = {}
+        result.partial, result.data = result.data, {}
 
 
 def _origin(origins: dict[str, tuple[int, str]], path: str) -> tuple[int, str] | None:
@@ -554,7 +558,7 @@ def import_rows(list_path: str | os.PathLike[str], mapping: Mapping) -> list[Row
                 origin = _origin(result.origins, "tag")
                 result.errors.append(CellError(str(list_path), number, origin[1] if origin else None, "tag",
                                                f"the tag {result.tag!r} (file {name}) is also in row {seen[key]}"))
-                result.text, result.data = None, {}
+                result.text, result.partial, result.data = None, result.data, {}
             else:
                 seen[key] = number
                 result.file_name = name

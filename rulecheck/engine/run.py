@@ -4,7 +4,7 @@ from __future__ import annotations
 
 import itertools
 import math
-from collections.abc import Mapping
+from collections.abc import Callable, Mapping
 from dataclasses import dataclass, field
 from typing import Any
 
@@ -91,14 +91,18 @@ class SpecNames:
     keeps what every rule of the spec reads (the sections, the spec's names per sandbox, the sections as
     messages show them), so nothing is kept on the model. ``derived``: the derive stage's catalogue (path →
     (kind, how it is derived), or path → kind), which names what could not be derived in a not-checked
-    outcome."""
+    outcome. ``needs``, when given, turns a path a rule could not read into the spec fields to give for it,
+    each with its unit and an example in words (``[("motor.power_factor", "number, e.g. 0.86")]``); empty
+    when it knows none."""
 
-    __slots__ = ("model", "sections", "derived", "_parents", "_display")
+    __slots__ = ("model", "sections", "derived", "needs", "_parents", "_display")
 
-    def __init__(self, model: Model, derived: Mapping[str, Any] | None = None) -> None:
+    def __init__(self, model: Model, derived: Mapping[str, Any] | None = None,
+                 needs: Callable[[str], list[tuple[str, str]]] | None = None) -> None:
         self.model = model
         self.sections = model_sections(model)
         self.derived = derived or {}
+        self.needs = needs
         self._parents: dict[int, expr.Names] = {}
         self._display: dict[tuple[int, str], expr.Names] = {}
 
@@ -318,15 +322,30 @@ def _display_names(rule: Rule, templates: tuple[Any, ...], ns: dict[str, Any], p
 
 
 def _not_checked_message(rule: Rule, spec: SpecNames, missing: list[str]) -> str:
+    """Return the message of a not-checked outcome: the spec fields to give (a derived value that could not
+    be derived followed to the inputs it lacks, each with its unit and an example), and the derived values
+    whose inputs could not be told."""
     lead = "safety-relevant check could not be evaluated" if rule.safety else "could not be evaluated"
     how = {p: spec.how_derived(p) for p in missing}
-    given = [p for p in missing if how[p] is None]
-    derived = [p for p in missing if how[p] is not None]
+    give: dict[str, str] = {}
+    lost: list[str] = []
+    for p in missing:
+        asked = spec.needs(p) if spec.needs is not None else []
+        if asked:
+            for path, words in asked:
+                give.setdefault(path, words)
+        elif how[p] is None:
+            give.setdefault(p, "")
+        else:
+            lost.append(p)
     parts = []
-    if given:
-        parts.append("give " + ", ".join(given))
-    if derived:
-        parts.append("could not derive " + "; ".join(f"{p} ({how[p]})" if how[p] else p for p in derived))
+    if give:
+        parts.append("give " + ", ".join(f"{p} ({w})" if w else p for p, w in give.items()))
+    if lost:
+        parts.append("could not derive " + "; ".join(f"{p} ({how[p]})" if how[p] else p for p in lost))
+    derived = [p for p in missing if how[p] is not None and p not in lost]
+    if derived and give:
+        parts.append("needed for " + ", ".join(derived))
     return f"{lead}: {'; '.join(parts)}"
 
 

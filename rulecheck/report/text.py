@@ -33,6 +33,24 @@ def _where(spec: dict[str, Any], o: dict[str, Any]) -> str:
     return where
 
 
+def _scalar(value: Any) -> str:
+    return ("true" if value else "false") if isinstance(value, bool) else str(value)
+
+
+def _to_give_text(to_give: dict[str, Any]) -> str:
+    """Return the request of a spec's ``to_give`` block: "to check 6 more rules, give motor: inertia,
+    power_factor; drive: overload.current" (fields grouped by component, in the block's order)."""
+    groups: dict[str, list[str]] = {}
+    for entry in to_give.get("inputs", []):
+        component = _clean(entry.get("component"))
+        path = _clean(entry.get("path"))
+        groups.setdefault(component, []).append(path[len(component) + 1:] if path.startswith(component + ".")
+                                                else path)
+    n = to_give.get("rules", 0)
+    asked = "; ".join(f"{c}: {', '.join(fields)}" for c, fields in groups.items())
+    return f"to check {n} more rule{'s' if n != 1 else ''}, give {asked}"
+
+
 class TextReport:
     """The terminal report, written spec by spec."""
 
@@ -77,10 +95,18 @@ class TextReport:
             out.append(f"{_clean(spec['file'])}: derived values of {_clean(spec.get('tag') or '?')}:")
             for path, value in spec["derived"].items():
                 out.append(f"    {path} = {display(value, self.units)}  ({_clean(value.get('from'))})")
+        head = _clean(spec["file"]) + (f":{spec['row']}" if spec.get("row") else "")
+        if spec.get("overrides"):
+            shown = [f"{_clean(o.get('path'))} = {_clean(_scalar(o.get('value')))}"
+                     + (f" (was {_clean(_scalar(o['was']))})" if o.get("was") is not None else " (not in the spec)")
+                     for o in spec["overrides"]]
+            out.append(f"{head}: overridden for this run: {'; '.join(shown)}")
+        if spec.get("to_give"):
+            out.append(f"{head}: {_to_give_text(spec['to_give'])}")
         if self.requirements and spec.get("requirements"):
             out += requirement_lines(spec, self.units)
         for note in spec.get("notes", []):
-            out.append(f"{_clean(spec['file'])}: note: {_clean(note)}")
+            out.append(f"{head}: note: {_clean(note)}")
         self.verdicts[spec["verdict"]] = self.verdicts.get(spec["verdict"], 0) + 1
         if spec["verdict"] != "pass":
             for h in select_hazards([spec]):

@@ -4,6 +4,7 @@ from __future__ import annotations
 
 import hashlib
 import os
+import re
 import subprocess
 from collections.abc import Callable
 from pathlib import Path
@@ -15,7 +16,7 @@ from rulecheck.files import READ_CAP, read_head
 from rulecheck.run.options import UsageError
 
 __all__ = ["Configs", "changed_files", "collect_specs", "config_digest", "filter_changed", "has_specs",
-           "read_piped", "repository_root", "rule_folders", "shown_paths"]
+           "is_column_mapping", "read_piped", "repository_root", "rule_folders", "shown_paths"]
 
 SPEC_SUFFIXES = (".yaml", ".yml")
 
@@ -63,11 +64,28 @@ def has_specs(path: str) -> bool:
                     continue
                 if entry.is_dir(follow_symlinks=False):
                     pending.append(entry.path)
-                elif entry.name.lower().endswith(SPEC_SUFFIXES) and entry.name != CONFIG_NAME:
+                elif entry.name.lower().endswith(SPEC_SUFFIXES) and entry.name != CONFIG_NAME and \
+                        not is_column_mapping(entry.path):
                     return True
             except OSError:
                 continue
     return False
+
+
+_MAPPING_HEAD = re.compile(rb"^columns[ \t]*:", re.MULTILINE)
+_SPEC_HEAD = re.compile(rb"^format[ \t]*:", re.MULTILINE)
+
+
+def is_column_mapping(path: str) -> bool:
+    """Return whether a YAML file found in a folder is a motor list's column mapping (``rulecheck import
+    --map``), not a spec: a top-level ``columns:`` key and no top-level ``format:`` key in its first 64 KiB.
+    A file without ``format:`` that is not a mapping is still taken: the check reports what it lacks."""
+    try:
+        with open(path, "rb") as handle:
+            head = handle.read(65536)
+    except OSError:
+        return False
+    return bool(_MAPPING_HEAD.search(head)) and not _SPEC_HEAD.search(head)
 
 
 def read_piped(paths: list[str], folder: Path, stdin: Callable[[], bytes]) -> tuple[list[str], dict[str, str]]:
@@ -141,7 +159,7 @@ def _walk(folder: str, real: str, root: str, notes: list[str] | None) -> list[tu
                     _linked(entry, root, files, notes)
             elif entry.is_dir(follow_symlinks=False):
                 subfolders.append((entry.path, os.path.join(real, name)))
-            elif spec_name and entry.is_file(follow_symlinks=False):
+            elif spec_name and entry.is_file(follow_symlinks=False) and not is_column_mapping(entry.path):
                 files.append((entry.path, os.path.join(real, name)))
         except OSError:
             continue

@@ -58,7 +58,7 @@ def test_the_page_runs_as_written(tmp_path: Path) -> None:
                 assert code == expected_code, (command, output[-2000:])
                 for expected in expected_lines:
                     assert expected.strip() in output, (command, expected, output[-3000:])
-    assert commands == 5
+    assert commands == 7
 
 
 def test_the_filled_spec_on_the_page_holds_the_templates_fields() -> None:
