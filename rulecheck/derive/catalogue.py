@@ -136,10 +136,13 @@ CATALOGUE: dict[str, tuple[str | None, str]] = {
     "train.starting_voltage": ("fraction", "direct on line: motor terminal voltage at locked-rotor current ÷ rated "
                                            "voltage"),
     "train.peak_duration": ("time", "how long the peak torque lasts (duty segment or acceleration time)"),
-    "train.braking_energy": ("energy", "energy one ramped stop returns to the DC bus; needs load.deceleration_time"),
+    "train.braking_energy": ("energy", "energy one ramped stop returns to the DC bus (an overhauling load stopped in "
+                                       "its regenerating direction); needs load.deceleration_time"),
     "train.braking_power_peak": ("power", "largest power returned to the DC bus"),
     "train.braking_power_mean": ("power", "mean regenerated power over the cycle (E_cycle ÷ t_cycle)"),
     "train.regeneration_sustained": ("flag", "the load regenerates at steady speed (lowering, downhill, unwinding)"),
+    "train.regenerates": ("flag", "anything returns to the DC bus (false: the drive coasts, or friction stops the "
+                                  "load within the ramp)"),
     # duty
     "duty.peak_torque": ("torque", "largest |T| over the duty cycle at the motor shaft"),
     "duty.speed_at_peak": ("rotational_speed", "motor speed at the peak torque"),
