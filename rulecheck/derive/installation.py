@@ -177,7 +177,7 @@ def _braking(m: Model) -> None:
         _regenerates(m, sustained)
         return
     jt, w = m.get("train.inertia_total"), m.get("train.speed_max")
-    e_mech = _stopping(m, jt, w, eta, eta_inputs, overhauling) if jt is not None and w is not None else None
+    e_mech = _stopping(m, jt, w, eta, eta_inputs, overhauling)
     steady = _steady_regeneration(m, overhauling)
     if steady is not None:
         power, how, inputs = steady
@@ -218,7 +218,7 @@ def _regenerates(m: Model, sustained: bool) -> None:
        ("train.regeneration_sustained", "train.braking_energy", "train.braking_power_mean", "drive.stop"), why)
 
 
-def _stopping(m: Model, jt: float, w: float, eta: float, eta_inputs: tuple[str, ...],
+def _stopping(m: Model, jt: float | None, w: float | None, eta: float, eta_inputs: tuple[str, ...],
               overhauling: tuple[float, str, tuple[str, ...]] | None) -> float | None:
     """Derive the energy and peak power that one ramped stop from top speed returns; return it before η [J].
 
@@ -234,7 +234,7 @@ def _stopping(m: Model, jt: float, w: float, eta: float, eta_inputs: tuple[str, 
         put(m, "train.braking_power_peak", 0.0, "coast", ("drive.stop",), "coast to stop: no regeneration")
         return 0.0
     t_dec = m.get("load.deceleration_time")
-    if not t_dec:
+    if not t_dec or jt is None or w is None:
         return None
     i = m.get("transmission.ratio") or 1.0
     eff = m.get("transmission.efficiency") or 1.0
