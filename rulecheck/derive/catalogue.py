@@ -123,7 +123,8 @@ CATALOGUE: dict[str, tuple[str | None, str]] = {
     "train.gear_output_torque": ("torque", "nominal torque at the gearbox output"),
     "train.gear_output_torque_peak": ("torque", "peak torque at the gearbox output"),
     "train.gear_input_speed_max": ("rotational_speed", "highest gearbox input speed"),
-    "train.acceleration_time": ("time", "time to reach speed_max with the available torque"),
+    "train.acceleration_time": ("time", "time to reach speed_max with the available torque (direct on line at the "
+                                        "start's dipped voltage; soft starter under its ramp and current limit)"),
     "train.cooling_table_default": ("flag", "continuous capability of a self-ventilated induction motor on a drive "
                                             "comes from the common-practice k_cool table"),
     'train.peak_torque_motor': ('torque', "motor's short-time torque at the speed of the peak, with field weakening"),
@@ -135,11 +136,23 @@ CATALOGUE: dict[str, tuple[str | None, str]] = {
     "train.breakaway_torque": ("torque", "torque at the motor shaft to start the load from rest"),
     "train.starting_voltage": ("fraction", "direct on line: motor terminal voltage at locked-rotor current ÷ rated "
                                            "voltage"),
+    "train.soft_start_voltage": ("fraction", "soft starter: highest U/U_N its current limit allows at standstill "
+                                             "(I_lim ÷ I_LR, at most 1)"),
+    "train.soft_start_torque": ("torque", "soft starter: starting torque at the current limit, T_LR·(I_lim/I_LR)²"),
+    "train.soft_start_initial_torque": ("torque", "soft starter: torque at the initial voltage, T_LR·U₀²"),
+    "train.soft_start_margin": (None, "soft starter: smallest torque at the current limit ÷ load torque from "
+                                      "standstill (breakaway) to the breakdown speed"),
+    "train.soft_start_margin_speed": ("rotational_speed", "soft starter: motor speed of the smallest margin"),
+    "train.soft_start_heating_time": ("time", "soft starter: ∫u² dt over the run-up, the time at locked-rotor current "
+                                              "that heats the rotor as much"),
     "train.peak_duration": ("time", "how long the peak torque lasts (duty segment or acceleration time)"),
-    "train.braking_energy": ("energy", "energy one ramped stop returns to the DC bus; needs load.deceleration_time"),
+    "train.braking_energy": ("energy", "energy one ramped stop returns to the DC bus (an overhauling load stopped in "
+                                       "its regenerating direction); needs load.deceleration_time"),
     "train.braking_power_peak": ("power", "largest power returned to the DC bus"),
     "train.braking_power_mean": ("power", "mean regenerated power over the cycle (E_cycle ÷ t_cycle)"),
     "train.regeneration_sustained": ("flag", "the load regenerates at steady speed (lowering, downhill, unwinding)"),
+    "train.regenerates": ("flag", "anything returns to the DC bus (false: the drive coasts, or friction stops the "
+                                  "load within the ramp)"),
     # duty
     "duty.peak_torque": ("torque", "largest |T| over the duty cycle at the motor shaft"),
     "duty.speed_at_peak": ("rotational_speed", "motor speed at the peak torque"),

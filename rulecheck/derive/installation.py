@@ -8,6 +8,7 @@ import math
 
 from rulecheck.derive.record import Spec, default, put
 from rulecheck.model import Model
+from rulecheck.physics import loads as ld
 from rulecheck.physics import machines as mc
 from rulecheck.physics import power_electronics as pe
 from rulecheck.physics import supply as sp
@@ -111,11 +112,41 @@ def _peak(m: Model) -> None:
                  "peak motor torque × i × η")
 
 
-def _sustained(m: Model) -> bool:
+def _overhauling_torque(m: Model) -> tuple[float, str, tuple[str, ...]] | None:
+    """Return (torque [N*m] with which the load drives its own shaft at steady speed in its regenerating
+    direction, > 0; how; inputs), or None when the load model cannot overhaul at steady speed.
+
+    Hoist: lowering, the rope force on the drum less the mechanism's losses (T_hold·η_load). Conveyor: a downhill
+    pull larger than the belt's friction, F = m·g·(μ·cos θ + sin θ) < 0, less the losses (|F|·D/2·η_load).
+    Any other model: a negative load torque at speed_max (the load drives).
+    """
+    model, eta_load = m.get("load.model"), m.get("load.efficiency") or 1.0
+    if model == "hoist":
+        hold = m.get("load.holding_torque")
+        if hold is None:
+            return None
+        return abs(hold) * eta_load, "hoist lowering: T_hold × η_load", ("load.holding_torque", "load.efficiency")
+    if model == "conveyor":
+        mass, d = m.get("load.mass"), m.get("load.pulley_diameter")
+        if not mass or not d:
+            return None
+        force = float(ld.conveyor_force(mass, m.get("load.incline", 0.0), m.get("load.friction_coefficient") or 0.0))
+        if force >= 0.0:
+            return None  # uphill, level, or friction holds the belt: it does not drive the motor
+        return (-float(ld.pulley_torque(force, d)) * eta_load, "downhill belt: −m·g·(μ·cos θ + sin θ)·D/2 × η_load",
+                ("load.mass", "load.incline", "load.friction_coefficient", "load.pulley_diameter", "load.efficiency"))
+    fn, nmax = m.functions.get("load_torque"), m.get("load.speed_max")
+    if fn is None or nmax is None:
+        return None
+    torque = float(fn(nmax))
+    if torque >= 0.0:
+        return None
+    return -torque, "negative load torque at speed_max", ("load.model", "load.speed_max")
+
+
+def _sustained(m: Model, overhauling: bool) -> bool:
     """Return whether the load regenerates at steady speed: hoist lowering, downhill belt, braked segment."""
-    if m.get("load.model") == "hoist" or m.get("load.lowering_power") is not None:
-        return True
-    if m.get("load.model") == "conveyor" and (m.get("load.incline") or 0.0) < 0.0:
+    if overhauling or m.get("load.model") == "hoist" or m.get("load.lowering_power") is not None:
         return True
     for seg in m.lists.get("duty.segments") or []:
         steady = seg["speed_from"] == seg["speed_to"] and seg["speed_to"] != 0.0
@@ -127,8 +158,11 @@ def _sustained(m: Model) -> bool:
 def _braking(m: Model) -> None:
     if m.get("drive.kind") != "inverter":
         return
-    put(m, "train.regeneration_sustained", _sustained(m), "regeneration", ("load.model", "load.incline", "load.duty"),
-       "hoist, downhill conveyor or a duty segment braking at steady speed")
+    overhauling = _overhauling_torque(m)
+    sustained = _sustained(m, overhauling is not None)
+    put(m, "train.regeneration_sustained", sustained, "regeneration",
+       ("load.model", "load.incline", "load.friction_coefficient", "load.duty"),
+       "hoist lowering, a downhill belt its friction does not hold, or a duty segment braking at steady speed")
     eta = (m.get("transmission.reverse_efficiency") or m.get("transmission.efficiency") or 1.0) * (
         m.get("motor.efficiency") or 1.0)
     eta_inputs = ("transmission.reverse_efficiency", "motor.efficiency")
@@ -140,39 +174,71 @@ def _braking(m: Model) -> None:
            ("duty.peak_braking_power", *eta_inputs), "largest −T·ω of the cycle × η")
         put(m, "train.braking_power_mean", e_cycle / m.get("duty.cycle_time"), "duty",
            ("duty.regenerative_energy", "duty.cycle_time"), "E_cycle ÷ t_cycle")
+        _regenerates(m, sustained)
         return
     jt, w = m.get("train.inertia_total"), m.get("train.speed_max")
-    e_mech = _stopping(m, jt, w, eta, eta_inputs) if jt is not None and w is not None else None
-    lowering = m.get("load.lowering_power")
-    if lowering is not None:
-        peak = max(m.get("train.braking_power_peak", 0.0), lowering * eta)
-        put(m, "train.braking_power_peak", peak, "braking_power", ("load.lowering_power", *eta_inputs),
-                 "largest of the stopping peak and steady lowering power × η_rev × η_mot")
-        put(m, "train.braking_power_mean", lowering * eta, "hoist_lowering_power", ("load.lowering_power", *eta_inputs),
-           "continuous lowering × η_rev × η_mot (no duty cycle given: conservative)")
+    e_mech = _stopping(m, jt, w, eta, eta_inputs, overhauling)
+    steady = _steady_regeneration(m, overhauling)
+    if steady is not None:
+        power, how, inputs = steady
+        peak = max(m.get("train.braking_power_peak", 0.0), power * eta)
+        put(m, "train.braking_power_peak", peak, "braking_power", (*inputs, *eta_inputs),
+           "largest of the stopping peak and the steady regeneration × η_rev × η_mot")
+        put(m, "train.braking_power_mean", power * eta, "steady_regeneration", (*inputs, *eta_inputs),
+           f"{how} × η_rev × η_mot, all the time (no duty cycle given: conservative)")
     elif e_mech is not None and m.get("load.starts_per_hour"):
         put(m, "train.braking_power_mean", e_mech * eta * m.get("load.starts_per_hour") / 3600.0, "braking_energy",
            ("train.braking_energy", "load.starts_per_hour"), "E_stop × stops per hour ÷ 3600 s")
+    _regenerates(m, sustained)
 
 
-def _stopping(m: Model, jt: float, w: float, eta: float, eta_inputs: tuple[str, ...]) -> float | None:
+def _steady_regeneration(m: Model, overhauling: tuple[float, str, tuple[str, ...]] | None,
+                         ) -> tuple[float, str, tuple[str, ...]] | None:
+    """Return (power [W] the load returns at its shaft at steady top speed, how, inputs), or None."""
+    lowering = m.get("load.lowering_power")
+    if m.get("load.model") == "hoist" and lowering is not None:
+        return lowering, "lowering power m·g·v·η_load", ("load.lowering_power",)
+    nmax = m.get("load.speed_max")
+    if overhauling is None or nmax is None:
+        return None
+    torque, how, inputs = overhauling
+    return torque * nmax, f"({how}) × load speed", (*inputs, "load.speed_max")
+
+
+def _regenerates(m: Model, sustained: bool) -> None:
+    """Whether anything flows back to the DC bus; left underived while the energy of a stop is unknown."""
+    energy, mean = m.get("train.braking_energy"), m.get("train.braking_power_mean")
+    if not sustained and energy is None and mean is None:
+        return
+    flows = sustained or (energy or 0.0) > 0.0 or (mean or 0.0) > 0.0
+    why = ("the load regenerates at steady speed" if sustained else
+           "a stop returns energy to the DC bus" if flows else
+           "nothing returns to the DC bus: the drive coasts, or the load's own friction stops it within the ramp")
+    put(m, "train.regenerates", flows, "regeneration",
+       ("train.regeneration_sustained", "train.braking_energy", "train.braking_power_mean", "drive.stop"), why)
+
+
+def _stopping(m: Model, jt: float | None, w: float | None, eta: float, eta_inputs: tuple[str, ...],
+              overhauling: tuple[float, str, tuple[str, ...]] | None) -> float | None:
     """Derive the energy and peak power that one ramped stop from top speed returns; return it before η [J].
 
+    A load that can overhaul is stopped in its regenerating direction (a hoist while lowering, a downhill belt):
+    the motor brakes the inertia and the load's pull, T_m = −(J·ω/t_dec + T_ovh/i). Any other load is stopped
+    as it runs: its torque helps, T_m = T_L(ω)/(i·η) − J·ω/t_dec, and the motor regenerates while T_m < 0.
     Without a deceleration time the drive may coast or ramp slowly: nothing is derived, and the braking
     rule reports what it would need.
     """
-    if m.get("drive.stop") == "coast":
+    if m.get("drive.stop") == "coast" and overhauling is None:
         # the inverter stops modulating and the load coasts: nothing flows back to the DC bus
         put(m, "train.braking_energy", 0.0, "coast", ("drive.stop",), "coast to stop: no regeneration")
         put(m, "train.braking_power_peak", 0.0, "coast", ("drive.stop",), "coast to stop: no regeneration")
         return 0.0
     t_dec = m.get("load.deceleration_time")
-    if not t_dec:
+    if not t_dec or jt is None or w is None:
         return None
     i = m.get("transmission.ratio") or 1.0
     eff = m.get("transmission.efficiency") or 1.0
     load_torque = m.functions.get("load_torque")
-    # a linear ramp from ω to 0 in t_dec; the motor gives T_m = T_L(ω)/(i·η) − J·ω/t_dec and regenerates while T_m < 0
     steps = STOP_RAMP_STEPS
     decel_torque = jt * w / t_dec
     energy = 0.0
@@ -180,14 +246,20 @@ def _stopping(m: Model, jt: float, w: float, eta: float, eta_inputs: tuple[str, 
     dt = t_dec / steps
     for k in range(steps + 1):
         speed = w * (1.0 - k / steps)
-        t_load = abs(float(load_torque(speed / i))) / (i * eff) if load_torque is not None else 0.0
-        power = max(0.0, (decel_torque - t_load) * speed)
+        if overhauling is not None:
+            pull = overhauling[0] / i  # the load drives: it adds to the braking torque
+        else:
+            pull = -abs(float(load_torque(speed / i))) / (i * eff) if load_torque is not None else 0.0
+        power = max(0.0, (decel_torque + pull) * speed)
         peak = max(peak, power)
         energy += power * (dt if 0 < k < steps else dt / 2)
+    how = "(J·ω/t_dec + T_ovh/i)·ω, stopping in the overhauling direction" if overhauling is not None else \
+        "max(0, (J·ω/t_dec − T_L(ω)/(i·η))·ω)"
+    load_inputs = overhauling[2] if overhauling is not None else ("train.load_torque",)
     put(m, "train.braking_power_peak", peak * eta, "braking_power",
-       ("train.inertia_total", "train.speed_max", "load.deceleration_time", "train.load_torque", *eta_inputs),
-       "max over the ramp of (J·ω/t_dec − T_L(ω))·ω × η_rev × η_mot")
+       ("train.inertia_total", "train.speed_max", "load.deceleration_time", *load_inputs, *eta_inputs),
+       f"largest over the ramp of {how} × η_rev × η_mot")
     put(m, "train.braking_energy", energy * eta, "braking_energy",
-       ("train.inertia_total", "train.speed_max", "load.deceleration_time", *eta_inputs),
-       "∫ max(0, (J·ω/t_dec − T_L(ω))·ω) dt over a linear ramp to rest × η_rev × η_mot")
+       ("train.inertia_total", "train.speed_max", "load.deceleration_time", *load_inputs, *eta_inputs),
+       f"∫ {how} dt over a linear ramp to rest × η_rev × η_mot")
     return energy

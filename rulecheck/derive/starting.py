@@ -1,5 +1,6 @@
 """Derive step: short-time torque available from motor and drive at the speed of the peak, breakaway torque,
-run-up time (on a drive, or direct on line on the Kloss curve) and the supply voltage at a direct-on-line start.
+the supply voltage at a direct-on-line start, run-up time (on a drive; direct on line on the Kloss curve at the
+dipped voltage; on a soft starter under its ramp and current limit) and the soft starter's starting torque.
 
 Runs after the duty step: the peak torque and its speed are known.
 """
@@ -16,7 +17,8 @@ from rulecheck.physics import dynamics as dyn
 from rulecheck.physics import machines as mc
 from rulecheck.physics import supply as sp
 
-__all__ = ["DOL_RUN_UP_END", "INTEGRATION_STEPS", "LOCKED_ROTOR_POWER_FACTOR", "derive_starting", "dol_motor_torque"]
+__all__ = ["DOL_RUN_UP_END", "INTEGRATION_STEPS", "LOCKED_ROTOR_POWER_FACTOR", "RAMP_STEPS", "derive_starting",
+           "dol_motor_torque", "rotor_resistance_ratio", "soft_start_run_up"]
 
 # Power factor of an induction motor at locked rotor when the datasheet gives none (docs/references.md R13: 0.3–0.4, C).
 LOCKED_ROTOR_POWER_FACTOR = 0.35
@@ -24,14 +26,16 @@ LOCKED_ROTOR_POWER_FACTOR = 0.35
 # running point asymptotically and add little time (common practice).
 DOL_RUN_UP_END = 0.95
 INTEGRATION_STEPS = 50  # docs/references.md R11 asks for at least 20 speed steps
+RAMP_STEPS = 400  # time steps over a soft starter's voltage ramp (midpoint rule)
 
 
 def derive_starting(m: Model, spec: Spec) -> None:
     """Short-time torque at the peak, breakaway torque, run-up time, starting voltage."""
     _peak_torque(m)
     _breakaway(m)
-    _acceleration(m)
     _starting_voltage(m)
+    _acceleration(m)
+    _soft_start(m)
 
 
 # --- short-time torque ---------------------------------------------------------------
@@ -220,18 +224,20 @@ def _acceleration(m: Model) -> None:
         inputs = ("train.inertia_total", "train.speed_max", "train.peak_torque_available", "train.load_torque")
         motor_fn = available
     elif drive in ("direct-on-line", None) and m.get("motor.kind") == "induction":
-        tn, tbd, s_n, ns = (m.get(p) for p in ("motor.rated_torque", "motor.breakdown_torque", "motor.slip",
-                                               "motor.synchronous_speed"))
-        if None in (tn, tbd, s_n, ns) or tbd <= tn or not 0 < s_n < 1:
+        curve = _dol_curve(m)
+        if curve is None:
             return
-        motor_fn = dol_motor_torque(tn, tbd, s_n, ns, m.get("motor.locked_rotor_torque"))
-        end = DOL_RUN_UP_END * m.get("motor.rated_speed")
-        if m.get("train.speed_max"):
-            end = min(end, m.get("train.speed_max"))
+        # torque falls with the square of the terminal voltage, held at its locked-rotor dip throughout (the
+        # voltage recovers as the current falls near full speed: conservative); never raised above rated
+        u = min(m.get("train.starting_voltage", 1.0), 1.0)
+        motor_fn = (lambda w: u * u * curve(w)) if u < 1.0 else curve
+        end = _run_up_end(m)
         method = "dol_acceleration_time"
-        note = "J_tot·∫dω/(T_m(ω) − T_L(ω)) on the Kloss curve fitted to T_N, T_bd, s_N (and T_LR), 0 → 95 % n_N"
+        at = f"at U = {u:.3f}·U_N (the start's dip; torque ∝ U²)" if m.has("train.starting_voltage") else \
+            "at full voltage (supply.fault_level not given: the dip is not counted)"
+        note = f"J_tot·∫dω/(T_m(ω) − T_L(ω)) on the Kloss curve fitted to T_N, T_bd, s_N (and T_LR), {at}, 0 → 95 % n_N"
         inputs = ("train.inertia_total", "motor.rated_torque", "motor.breakdown_torque", "motor.locked_rotor_torque",
-                  "motor.slip", "train.load_torque")
+                  "motor.slip", "train.load_torque", "train.starting_voltage")
     else:
         return
     t = dyn.dol_acceleration_time(jt, motor_fn, load, end, steps=INTEGRATION_STEPS)
@@ -240,6 +246,210 @@ def _acceleration(m: Model) -> None:
        "net torque ≤ 0 during the run-up" if stalls else "net torque positive throughout the run-up")
     if not stalls:
         put(m, "train.acceleration_time", t, method, inputs, note)
+
+
+def _dol_curve(m: Model) -> Callable[[float], float] | None:
+    """Return the motor's full-voltage speed-torque curve T_m(ω) [N*m], or None without the data."""
+    tn, tbd, s_n, ns = (m.get(p) for p in ("motor.rated_torque", "motor.breakdown_torque", "motor.slip",
+                                           "motor.synchronous_speed"))
+    if None in (tn, tbd, s_n, ns) or tbd <= tn or not 0 < s_n < 1:
+        return None
+    return dol_motor_torque(tn, tbd, s_n, ns, m.get("motor.locked_rotor_torque"))
+
+
+def _run_up_end(m: Model) -> float:
+    """Return the speed [rad/s] at which a start on the motor's own curve counts as finished."""
+    end = DOL_RUN_UP_END * m.get("motor.rated_speed")
+    return min(end, m.get("train.speed_max")) if m.get("train.speed_max") else end
+
+
+# --- soft starter ---------------------------------------------------------------------------------
+
+
+def soft_start_run_up(inertia: float, torque: Callable[[float, float], float], load_torque: Callable[[float], float],
+                      breakaway: float, ramp_end: float, speed_to: float) -> float:
+    """Return the run-up time [s] of a soft start; ``math.inf`` if the motor cannot get there.
+
+    Parameters
+    ----------
+    inertia : total inertia at the motor shaft [kg*m^2]
+    torque : motor torque [N*m] at a time [s] and shaft speed [rad/s] under the starter's ramp and current limit
+    load_torque : load torque at the motor shaft [N*m] as a function of shaft speed [rad/s], running
+    breakaway : torque [N*m] the load needs to start moving from rest
+    ramp_end : time [s] after which the motor torque depends on the speed only
+    speed_to : end speed [rad/s]
+
+    Method: during the ramp J·dω/dt = T_m(t, ω) − T_L(ω) is stepped in time (midpoint rule, RAMP_STEPS steps; the
+    shaft stays at rest until T_m exceeds the breakaway torque); after it t = J·∫dω/(T_m(ω) − T_L(ω)) by the
+    midpoint rule over INTEGRATION_STEPS speed steps.
+
+    References
+    ----------
+    Newton's second law for rotation (docs/references.md R11).
+    """
+    dt = ramp_end / RAMP_STEPS
+    w, t = 0.0, 0.0
+
+    def accel(tt: float, speed: float) -> float:
+        drive = torque(tt, speed)
+        if speed <= 0.0 and drive <= breakaway:
+            return 0.0
+        return (drive - load_torque(speed)) / inertia
+
+    for _ in range(RAMP_STEPS if dt > 0 else 0):
+        mid = max(w + 0.5 * dt * accel(t, w), 0.0)
+        w_next = max(w + dt * accel(t + 0.5 * dt, mid), 0.0)
+        if w_next >= speed_to:  # reached speed within this step: its share by linear interpolation
+            return t + (speed_to - w) / (w_next - w) * dt
+        w, t = w_next, t + dt
+    if w <= 0.0 and torque(t, 0.0) <= breakaway:
+        return math.inf
+    h = (speed_to - w) / INTEGRATION_STEPS
+    for k in range(INTEGRATION_STEPS):
+        speed = w + (k + 0.5) * h
+        net = torque(t, speed) - load_torque(speed)
+        if net <= 0.0:
+            return math.inf
+        t += inertia * h / net
+    return t
+
+
+def rotor_resistance_ratio(rated_torque: float, locked_rotor_torque: float, rated_current: float,
+                           locked_rotor_current: float, magnetising_current: float, rated_slip: float) -> float:
+    """Return R_r at standstill ÷ R_r at rated slip [1] of a cage rotor, from the datasheet (at least 1).
+
+    Parameters
+    ----------
+    rated_torque, locked_rotor_torque : T_N, T_LR [N*m]
+    rated_current, locked_rotor_current, magnetising_current : I_N, I_LR, I_0 [A]
+    rated_slip : s_N [1]
+
+    Method: the air-gap torque is T = 3·I_r²·R_r/(s·ω_s), so R_LR/R_N = (T_LR/T_N)·(I_rN²/I_rLR²)/s_N with the
+    rotor current I_r² = I² − I_0² (magnetising current at right angles). Deep bars and current displacement
+    make it 2–5 for most cage motors.
+
+    References
+    ----------
+    Induction machine equivalent circuit (electric-machines textbooks; derivation P).
+    """
+    i_rn = rated_current**2 - magnetising_current**2
+    i_rlr = locked_rotor_current**2 - magnetising_current**2
+    if i_rn <= 0.0 or i_rlr <= 0.0:
+        return 1.0
+    return max((locked_rotor_torque / rated_torque) * (i_rn / i_rlr) / rated_slip, 1.0)
+
+
+def _soft_start_voltages(m: Model) -> tuple[float, float | None, str] | None:
+    """Return (highest U/U_N the current limit allows at standstill, initial U/U_N or None, how), or None."""
+    i_lr, t_lr = m.get("motor.locked_rotor_current"), m.get("motor.locked_rotor_torque")
+    if not i_lr or not t_lr:
+        return None
+    limit, i_n = m.get("drive.soft_start.current_limit"), m.get("motor.rated_current")
+    if limit is None or not i_n:
+        return None
+    u_lim = min(limit * i_n / i_lr, 1.0)
+    u0 = m.get("drive.soft_start.initial_voltage")
+    if u0 is None and m.get("drive.soft_start.initial_torque") is not None and m.get("motor.rated_torque"):
+        u0 = math.sqrt(m.get("drive.soft_start.initial_torque") * m.get("motor.rated_torque") / t_lr)
+    return u_lim, (min(u0, u_lim) if u0 is not None else None), "I_lim ÷ I_LR (current ∝ voltage at locked rotor)"
+
+
+class _SoftStart:
+    """The motor under a soft starter: torque at a time and speed, under the voltage ramp and the current limit.
+
+    Under the ramp the torque is u(t)²·T_m(ω) (torque ∝ U² at a given speed). At the current limit the rotor
+    current is held, so T = 3·I_r²·R_r(s)/(s·ω_s) rises as the slip falls: T_lim(s) = T_LR·(I_lim/I_LR)²·ρ(s)/s,
+    with ρ(s) = R_r(s)/R_r,LR taken linear in slip between rated slip and standstill (deep-bar rotor). The
+    motor gives the smaller of the two, and never more than its full-voltage curve.
+    """
+
+    def __init__(self, m: Model, u_lim: float, u0: float, ramp: float) -> None:
+        tn, tbd, s_n, ns = (m.get(p) for p in ("motor.rated_torque", "motor.breakdown_torque", "motor.slip",
+                                               "motor.synchronous_speed"))
+        t_lr, i_lr = m.get("motor.locked_rotor_torque"), m.get("motor.locked_rotor_current")
+        self.ns, self.s_n, self.u_lim, self.u0, self.ramp = ns, s_n, u_lim, u0, ramp
+        self.t_start = t_lr * u_lim * u_lim
+        self.r_ratio = rotor_resistance_ratio(tn, t_lr, m.get("motor.rated_current"), i_lr,
+                                              m.get("motor.magnetising_current") or 0.0, s_n)
+        self.curve = dol_motor_torque(tn, tbd, s_n, ns, t_lr)
+
+    def ramp_end(self) -> float:
+        """Time [s] at which the ramp reaches full voltage (the current limit then sets the torque)."""
+        return self.ramp if self.u0 < 1.0 else 0.0
+
+    def limited(self, w: float) -> float:
+        """Torque [N*m] at the current limit at a speed [rad/s]."""
+        s = min(max(1.0 - w / self.ns, self.s_n), 1.0)
+        rho = (1.0 + (self.r_ratio - 1.0) * (s - self.s_n) / (1.0 - self.s_n)) / self.r_ratio
+        return self.t_start * rho / s
+
+    def torque(self, t: float, w: float) -> float:
+        u = min(self.u0 + (1.0 - self.u0) * t / self.ramp, 1.0) if self.ramp > 0 else 1.0
+        full = self.curve(w)
+        return min(u * u * full, self.limited(w), full)
+
+
+def _soft_start(m: Model) -> None:
+    if m.get("drive.kind") != "soft-starter" or m.get("motor.kind") != "induction":
+        return
+    found = _soft_start_voltages(m)
+    if found is None:
+        return
+    u_lim, u0, how = found
+    t_lr = m.get("motor.locked_rotor_torque")
+    inputs = ("drive.soft_start.current_limit", "motor.rated_current", "motor.locked_rotor_current")
+    put(m, "train.soft_start_voltage", u_lim, "soft_start_voltage", inputs, how)
+    put(m, "train.soft_start_torque", t_lr * u_lim * u_lim, "reduced_voltage_torque",
+       (*inputs, "motor.locked_rotor_torque"), "T_LR·(I_lim/I_LR)²: torque ∝ U² ∝ I² at locked rotor")
+    if u0 is not None:
+        put(m, "train.soft_start_initial_torque", t_lr * u0 * u0, "reduced_voltage_torque",
+           ("drive.soft_start.initial_voltage", "drive.soft_start.initial_torque", "motor.locked_rotor_torque"),
+           "T_LR·U₀² at the start of the ramp")
+    load, jt, breakaway = _load_at_motor(m), m.get("train.inertia_total"), m.get("train.breakaway_torque")
+    if _dol_curve(m) is None or load is None or breakaway is None:
+        return
+    ramp = m.get("drive.soft_start.ramp_time")
+    start = u0 if u0 is not None else 0.0  # not given: from zero, the longest start the ramp can give
+    motor = _SoftStart(m, u_lim, start, ramp or 0.0)
+    end = _run_up_end(m)
+    _soft_start_margin(m, motor, load, breakaway, end)
+    if jt is None or ramp is None:
+        return
+    t = soft_start_run_up(jt, motor.torque, load, breakaway, motor.ramp_end(), end)
+    stalls = not math.isfinite(t)
+    run_inputs = ("train.inertia_total", "drive.soft_start.ramp_time", "drive.soft_start.initial_voltage",
+                  "train.soft_start_voltage", "motor.breakdown_torque", "train.load_torque")
+    put(m, "train.acceleration_stalls", stalls, "soft_start_run_up", run_inputs,
+       "net torque ≤ 0 during the run-up" if stalls else "net torque positive throughout the run-up")
+    if stalls:
+        return
+    first = f"U₀ {start:.0%}" if u0 is not None else "U₀ not given: from 0"
+    put(m, "train.acceleration_time", t, "soft_start_run_up", run_inputs,
+       f"voltage ramp ({first} → 100 % in {ramp:g} s) under the current limit ({u_lim:.0%} of U_N at standstill), "
+       "J·dω/dt = min(u²·T_m, T_lim)(ω) − T_L(ω), 0 → 95 % n_N")
+    put(m, "train.soft_start_heating_time", t * u_lim * u_lim, "soft_start_run_up",
+       ("train.acceleration_time", "train.soft_start_voltage"),
+       "(I_lim/I_LR)² × run-up time: the time at locked-rotor current that heats the rotor as much (I²t; the "
+       "current taken at its limit throughout: conservative)")
+
+
+def _soft_start_margin(m: Model, motor: _SoftStart, load: Callable[[float], float], breakaway: float,
+                       top: float) -> None:
+    """Smallest ratio of the motor torque at the current limit to the load torque from standstill to ``top``."""
+    ratios = []
+    for k in range(INTEGRATION_STEPS + 1):
+        w = top * k / INTEGRATION_STEPS
+        need = breakaway if k == 0 else load(w)
+        if need > 0.0:
+            ratios.append((min(motor.limited(w), motor.curve(w)) / need, w))
+    if not ratios:
+        return
+    ratio, where = min(ratios)
+    inputs = ("train.soft_start_voltage", "motor.breakdown_torque", "motor.locked_rotor_torque",
+              "train.breakaway_torque", "train.load_torque")
+    put(m, "train.soft_start_margin", ratio, "soft_start_margin", inputs,
+       "smallest min(T_lim(ω), T_m(ω)) ÷ T_L(ω) from standstill (breakaway) to 95 % n_N")
+    put(m, "train.soft_start_margin_speed", where, "soft_start_margin", inputs, "motor speed of the smallest ratio")
 
 
 # --- direct-on-line starting voltage ------------------------------------------------------------

@@ -118,8 +118,10 @@ def test_the_field_list_comes_from_the_rules(tmp_path: Path) -> None:
     assert set(alone.derived) == {"motor.rated_torque"}
     inverter = fields_for(Choice("induction", "inverter", "fan"), examples, str(tmp_path))
     assert inverter.rules_dropped == ["starting-torque-ratio"] and not inverter.core
-    shipped = fields_for(Choice("induction", "soft-starter", "fan"), examples, str(shipped_rules_dir()))
-    assert "motor.locked_rotor_torque" not in shipped.core  # no shipped rule reads it for a soft starter
+    shipped = fields_for(Choice("induction", "inverter", "fan"), examples, str(shipped_rules_dir()))
+    assert "motor.locked_rotor_torque" not in shipped.core  # no shipped rule reads it on an inverter
+    soft = fields_for(Choice("induction", "soft-starter", "fan"), examples, str(shipped_rules_dir()))
+    assert "motor.locked_rotor_torque" in soft.core  # soft-starter-starting reads it
 
 
 def test_filled_templates_are_fully_checked(tmp_path: Path, cli) -> None:

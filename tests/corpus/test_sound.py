@@ -51,11 +51,6 @@ FALSE_ALARMS: dict[str, tuple[tuple[str, ...], str]] = {
         "issue 17 NEC tables: conductor-and-protection-sizing not-checked (no NEC "
         "Table 430.247 DC full-load current; 75 hp 500 V = 118 A); issue 17 cable voltage drop: cable-voltage-drop "
         "not-checked (no DC formula: asks for a power factor a DC motor does not have)"),
-    "pr-p-203-process-water-pump.yaml": (
-        ("regen-braking-energy",),
-        "issue 16 regenerated energy: "
-        "regen-braking-energy not-checked asking for drive.dc_bus_capacitance although the pump coasts "
-        "(drive.stop: coast, nothing regenerates)"),
     "pr-l-205-paper-roll-lift.yaml": (
         ("conductor-and-protection-sizing",),
         "issue 17 NEC tables: "

@@ -125,3 +125,85 @@ def test_peak_duration_and_gear_peak() -> None:
                         "inertia": "20 kg*m^2", "acceleration_time": "2 s"}})
     assert m.get("train.peak_duration") == 2.0
     assert m.get("train.gear_output_torque_peak") == pytest.approx((400 / 9.6 + 0.23 * 152.367 / 2) * 9.6, rel=1e-4)
+
+
+DOWNHILL_BELT = {  # 22 kW belt, 12 t at −6°, μ 0.025, 0.5 m pulley, 2 m/s, i = 19, η 0.96, motor η 0.93
+    "supply": {"voltage": "400 V"}, "drive": {"kind": "inverter"},
+    "motor": {"kind": "induction", "rated_power": "22 kW", "rated_speed": "1470 r/min", "efficiency": "93 %",
+              "inertia": "0.16 kg*m^2"},
+    "transmission": {"ratio": 19, "efficiency": "96 %", "inertia": "0.01 kg*m^2"},
+    "load": {"model": "conveyor", "mass": "12000 kg", "incline": "-6 deg", "friction_coefficient": 0.025,
+             "pulley_diameter": "0.5 m", "line_speed": "2 m/s", "inertia": "30 kg*m^2"}}
+
+
+def test_downhill_belt_regenerates_steadily() -> None:
+    # mechanics (docs/references.md R34): F = m·g·(μ·cos θ + sin θ) = 117 680 × (0.024863 − 0.104528) = −9375 N;
+    # 9375 N × 2 m/s = 18.75 kW at the pulley; × 0.96 × 0.93 = 16.74 kW to the DC bus, all the time
+    # (tests/corpus/flawed/f12 hand calculation)
+    m = model(DOWNHILL_BELT)
+    force = 12000 * 9.80665 * (0.025 * math.cos(math.radians(6)) - math.sin(math.radians(6)))
+    assert force == pytest.approx(-9375, abs=1)
+    assert m.get("train.regeneration_sustained") is True
+    assert m.get("train.braking_power_mean") == pytest.approx(-force * 2 * 0.96 * 0.93, rel=1e-9)
+    assert m.get("train.braking_power_mean") == pytest.approx(16740, rel=1e-3)
+    assert m.get("train.regenerates") is True
+
+
+def test_downhill_belt_stop_brakes_inertia_and_pull() -> None:
+    # ramped stop in 10 s at the top speed 8 rad/s × 19 = 152 rad/s: J = 0.16 + 0.01 + (30 + 12000·0.25²)/19²
+    # = 2.3407 kg·m²; the motor brakes J·ω/t = 35.58 N·m and the pull 2343.8 N·m ÷ 19 = 123.36 N·m:
+    # peak (35.58 + 123.36) × 152 × 0.96 × 0.93 = 21.57 kW; energy ∫(J·ω/t + T_ovh/i)·ω dt over a linear ramp
+    # = (J·ω²/2 + T_ovh/i·ω·t/2) × η = (27 041 + 93 754) × 0.8928 = 107.8 kJ
+    m = model({**DOWNHILL_BELT, "load": {**DOWNHILL_BELT["load"], "deceleration_time": "10 s"}})
+    j = 0.16 + 0.01 + (30 + 12000 * 0.25**2) / 19**2
+    pull = 9375.01 * 0.25 / 19
+    w = 152.0
+    assert m.get("train.braking_power_peak") == pytest.approx((j * w / 10 + pull) * w * 0.96 * 0.93, rel=1e-4)
+    # trapezoid over 200 steps of a quadratic in time: within 1e-4
+    assert m.get("train.braking_energy") == pytest.approx((j * w**2 / 2 + pull * w * 10 / 2) * 0.96 * 0.93, rel=1e-4)
+
+
+def test_gentle_decline_held_by_friction_does_not_regenerate() -> None:
+    # −1°, μ 0.025: F = m·g·(0.024996 − 0.017452) > 0, the motor drives the belt; coasting to rest returns nothing
+    spec = {**DOWNHILL_BELT, "drive": {"kind": "inverter", "stop": "coast"},
+            "load": {**DOWNHILL_BELT["load"], "incline": "-1 deg"}}
+    m = model(spec)
+    assert m.get("train.regeneration_sustained") is False
+    assert m.get("train.braking_energy") == 0.0
+    assert m.get("train.regenerates") is False
+
+
+def test_hoist_stop_while_lowering() -> None:
+    # 1000 kg, two falls on a 0.4 m drum, 0.5 m/s, η_load 0.85; i = 20, η 0.95; 1 s ramp. Drum torque
+    # 1000·9.80665·0.1 = 980.7 N·m, lowering pull × 0.85 = 833.6 N·m ÷ 20 = 41.68 N·m at the motor; drum
+    # 2·0.5/0.2 = 5 rad/s, motor 100 rad/s; J = 0.05 + 1000·0.1²/400 = 0.075 kg·m²: peak (7.5 + 41.68)·100 × 0.95
+    # = 4672 W, above the steady lowering 4168 W × 0.95 = 3960 W
+    m = model({"supply": {"voltage": "400 V"}, "drive": {"kind": "inverter"},
+               "motor": {"kind": "induction", "rated_power": "15 kW", "rated_speed": "1470 r/min",
+                         "inertia": "0.05 kg*m^2"},
+               "transmission": {"ratio": 20, "efficiency": "95 %"},
+               "load": {"model": "hoist", "mass": "1000 kg", "drum_diameter": "0.4 m", "reeving": 2,
+                        "line_speed": "0.5 m/s", "efficiency": "85 %", "deceleration_time": "1 s"}})
+    pull = 1000 * 9.80665 * 0.1 * 0.85 / 20
+    assert m.get("train.braking_power_peak") == pytest.approx((0.075 * 100 / 1 + pull) * 100 * 0.95, rel=1e-4)
+    assert m.get("train.braking_power_mean") == pytest.approx(1000 * 9.80665 * 0.5 * 0.85 * 0.95, rel=1e-9)
+
+
+def test_coasting_pump_returns_nothing() -> None:
+    m = model({"supply": {"voltage": "400 V"}, "drive": {"kind": "inverter", "stop": "coast"},
+               "motor": {"kind": "induction", "rated_power": "15 kW", "rated_speed": "1470 r/min",
+                         "inertia": "0.1 kg*m^2"},
+               "load": {"model": "quadratic", "torque_at_speed_max": "90 N*m", "speed_max": "1470 r/min"}})
+    assert m.get("train.regenerates") is False
+
+
+def test_unknown_stop_leaves_regeneration_open() -> None:
+    # no deceleration time, nothing overhauls: whether anything returns is unknown, so it is not derived
+    m = model({"supply": {"voltage": "400 V"}, "drive": {"kind": "inverter"},
+               "motor": {"kind": "induction", "rated_power": "15 kW", "rated_speed": "1470 r/min",
+                         "inertia": "0.1 kg*m^2"},
+               "load": {"model": "quadratic", "torque_at_speed_max": "90 N*m", "speed_max": "1470 r/min",
+                        "inertia": "0.4 kg*m^2"}})
+    assert m.has("train.inertia_total")
+    assert not m.has("train.regenerates")
+    assert not m.has("train.braking_energy")

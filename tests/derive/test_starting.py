@@ -10,7 +10,7 @@ import yaml
 from scipy import integrate
 
 from rulecheck.derive import DERIVED, build_model
-from rulecheck.derive.starting import dol_motor_torque
+from rulecheck.derive.starting import dol_motor_torque, rotor_resistance_ratio, soft_start_run_up
 from rulecheck.load import load_text
 from rulecheck.schema import read_quantities
 
@@ -178,3 +178,75 @@ def test_breakaway_torque_referred_to_motor_shaft() -> None:
                "load": {"model": "quadratic", "torque_at_speed_max": "900 N*m", "breakaway_torque": "1200 N*m",
                         "speed_max": "72 r/min"}})
     assert m.get("train.breakaway_torque") == pytest.approx(1200 / (20 * 0.95), rel=1e-9)
+
+
+def test_dol_run_up_at_the_dipped_voltage() -> None:
+    # torque ∝ U² (electric-machines textbooks): with no load torque the run-up time scales as 1/u²; on 0.3 MVA the
+    # start dips this motor to u = 0.8150 (dol-starting example), so 3.664 s becomes 3.664/0.8150² = 5.516 s
+    spec = {"supply": {"voltage": "400 V", "frequency": "50 Hz", "fault_level": "0.3 MVA"},
+            "drive": {"kind": "direct-on-line"}, "motor": {**MOTOR_75, "locked_rotor_current": "103.6 A"},
+            "load": {"model": "constant-torque", "torque": "0 N*m", "speed_max": "1455 r/min", "inertia": "2 kg*m^2"}}
+    m = model(spec)
+    u = m.get("train.starting_voltage")
+    assert u == pytest.approx(0.8150, abs=1e-4)
+    full = model({**spec, "supply": {"voltage": "400 V", "frequency": "50 Hz"}})
+    assert full.get("train.acceleration_time") == pytest.approx(3.664, abs=0.001)
+    assert m.get("train.acceleration_time") == pytest.approx(full.get("train.acceleration_time") / u**2, rel=1e-9)
+
+
+SOFT_PUMP = {  # 90 kW two-pole pump on a soft starter (tests/corpus/sound/tb-p-108)
+    "supply": {"voltage": "400 V", "frequency": "50 Hz"},
+    "drive": {"kind": "soft-starter", "soft_start": {"current_limit": "400 %", "initial_voltage": "35 %",
+                                                     "ramp_time": "10 s"}},
+    "motor": {"kind": "induction", "rated_power": "90 kW", "rated_voltage": "400 V", "rated_current": "150 A",
+              "rated_frequency": "50 Hz", "rated_speed": "2975 r/min", "poles": 2, "breakdown_torque": "870 N*m",
+              "locked_rotor_torque": "720 N*m", "locked_rotor_current": "1125 A", "inertia": "0.65 kg*m^2",
+              "safe_stall_time": "18 s"},
+    "load": {"model": "quadratic", "torque_at_speed_max": "244.4 N*m", "breakaway_torque": "30 N*m",
+             "speed_max": "2970 r/min", "inertia": "0.9 kg*m^2"}}
+
+
+def test_soft_start_torque_at_the_current_limit() -> None:
+    # current ∝ U at locked rotor, torque ∝ U²: T = T_LR·(I_lim/I_LR)² = 720·(600/1125)² = 204.8 N·m;
+    # initial 720·0.35² = 88.2 N·m
+    m = model(SOFT_PUMP)
+    assert m.get("train.soft_start_voltage") == pytest.approx(600 / 1125, rel=1e-12)
+    assert m.get("train.soft_start_torque") == pytest.approx(204.8, rel=1e-9)
+    assert m.get("train.soft_start_initial_torque") == pytest.approx(88.2, rel=1e-9)
+
+
+def test_soft_start_without_a_current_limit_derives_nothing() -> None:
+    m = model({**SOFT_PUMP, "drive": {"kind": "soft-starter"}})
+    assert not m.has("train.soft_start_torque")
+    assert not m.has("train.acceleration_time")
+
+
+def test_rotor_resistance_ratio_from_the_datasheet() -> None:
+    # T = 3·I_r²·R_r/(s·ω_s): R_LR/R_N = (T_LR/T_N)·((I_N² − I_0²)/(I_LR² − I_0²))/s_N; 90 kW pump:
+    # T_N = 288.9 N·m, I_0 = 52.5 A, s_N = 25/3000: 2.4923 × (19 744/1 262 869) / 0.008333 = 4.676
+    t_n = 90000 / (2975 * RPM)
+    ratio = rotor_resistance_ratio(t_n, 720, 150, 1125, 52.5, 25 / 3000)
+    assert ratio == pytest.approx((720 / t_n) * ((150**2 - 52.5**2) / (1125**2 - 52.5**2)) / (25 / 3000), rel=1e-12)
+    assert ratio == pytest.approx(4.676, abs=0.002)
+    assert rotor_resistance_ratio(t_n, 720, 150, 1125, 52.5, 0.5) == 1.0  # never below the running value
+
+
+def test_soft_start_run_up_constant_torque_after_the_ramp() -> None:
+    # no ramp, constant motor torque 50 N·m, no load: t = J·ω/T = 2 × 100 / 50 = 4 s (midpoint rule exact)
+    t = soft_start_run_up(2.0, lambda t, w: 50.0, lambda w: 0.0, 0.0, 0.0, 100.0)
+    assert t == pytest.approx(4.0, rel=1e-12)
+
+
+def test_soft_start_run_up_during_a_torque_ramp() -> None:
+    # torque rising as k·t (k = 20 N·m/s), no load: ω = k·t²/(2J), so ω = 100 rad/s with J = 2 at t = √(2Jω/k)
+    # = √20 = 4.472 s, inside a 10 s ramp; the midpoint rule on a linear rate is exact, the last step interpolated
+    t = soft_start_run_up(2.0, lambda t, w: 20.0 * t, lambda w: 0.0, 0.0, 10.0, 100.0)
+    assert t == pytest.approx(math.sqrt(20.0), rel=1e-3)
+
+
+def test_soft_start_waits_for_breakaway_and_stalls_below_it() -> None:
+    # torque 20·t against a 40 N·m breakaway: the shaft starts at 2 s; after that ω = 10·(t − 2)² (J = 1,
+    # net 20·(t − 2)), 100 rad/s at t = 2 + √10 = 5.162 s
+    t = soft_start_run_up(1.0, lambda t, w: 20.0 * min(t, 10.0), lambda w: 40.0, 40.0, 10.0, 100.0)
+    assert t == pytest.approx(2 + math.sqrt(10.0), rel=2e-3)
+    assert soft_start_run_up(1.0, lambda t, w: 30.0, lambda w: 40.0, 40.0, 0.0, 100.0) == math.inf
