@@ -3,8 +3,8 @@
 Exit codes: 0 nothing at or above the fail level (findings a baseline knows do not count); 1 findings at or
 above it (including specs that do not load); 2 usage errors (bad options, missing paths, a PATH without spec
 files unless --allow-empty, an unknown git revision or no repository for --changed-since, unusable
-configuration or rule files, and any other fault, with its reason); 130 interrupted; 143 terminated (SIGTERM); 141 the reader of standard
-output went away (a pipe into ``head``), as other command-line tools do.
+configuration or rule files, and any other fault, with its reason); 130 interrupted; 143 terminated
+(SIGTERM); 141 the reader of standard output went away (a pipe into ``head``), as other command-line tools do.
 
 Under GitHub Actions (GITHUB_ACTIONS=true) ``check`` writes annotation lines to standard output (unless a
 format or output file is given), a one-line summary to standard error and a Markdown summary appended to
