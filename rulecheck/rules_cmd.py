@@ -64,6 +64,9 @@ def show_rule(rule_id: str, extra: list[str]) -> int:
     for para in r.description.strip().split("\n\n"):
         print(textwrap.fill(" ".join(para.split()), 88))
         print()
+    if r.scope:
+        print(textwrap.fill(f"scope: {r.scope}", 88, subsequent_indent="  "))
+        print()
     if r.formula:
         print(f"formula: {r.formula}")
     if r.applies_text:
