@@ -134,6 +134,10 @@ def _holding(m: Model) -> None:
     elif model == "lead-screw" and m.get("load.vertical") and m.get("load.thrust") and m.get("load.lead"):
         put(m, "load.holding_torque", m.get("load.thrust") * m.get("load.lead") / TWO_PI, "lead_screw_torque",
             ("load.thrust", "load.lead"), "F·L/2π (without friction, conservative)")
+    elif model == "constant-torque" and m.get("load.vertical") and m.get("load.torque") is not None:
+        # a vertical load given as its torque at the load shaft (a lift table, a vertical gate): that torque at rest
+        put(m, "load.holding_torque", abs(m.get("load.torque")), "constant_torque", ("load.torque", "load.vertical"),
+            "|T_L| of a vertical constant-torque load (gravity does not vanish at rest)")
 
 
 def _runback(m: Model, mass: float, incline: float, mu: float) -> None:

@@ -64,3 +64,13 @@ def test_a_belt_friction_holds_has_zero_runback_not_an_error() -> None:
                            "pulley_diameter": "0.5 m", "line_speed": "2 m/s"}})
     assert m.get("load.holding_torque") == 0.0
     assert m.get("load.runback_torque") == pytest.approx(561.6, rel=1e-3)
+
+
+def test_a_vertical_constant_torque_load_holds_its_torque_at_rest() -> None:
+    # a lift table given as 350 N·m at the load shaft, declared vertical: gravity does not vanish at rest, so the
+    # holding torque is |T_L| = 350 N·m (a horizontal constant-torque load has none)
+    vertical = model_of({"load": {"model": "constant-torque", "torque": "-350 N*m", "vertical": True,
+                                  "speed_max": "10 r/min"}})
+    assert vertical.get("load.holding_torque") == pytest.approx(350.0)
+    flat = model_of({"load": {"model": "constant-torque", "torque": "350 N*m", "speed_max": "10 r/min"}})
+    assert flat.get("load.holding_torque") is None
