@@ -112,6 +112,12 @@ def _mass_inertia(m: Model) -> None:
 def _holding(m: Model) -> None:
     model, mass, v = m.get("load.model"), m.get("load.mass"), m.get("load.line_speed")
     incline = m.get("load.incline", 0.0)
+    if model == "conveyor":
+        declared = m.get("load.friction_coefficient")
+        put(m, "load.runback_friction", min(declared, HOLDBACK_FRICTION) if declared is not None else HOLDBACK_FRICTION,
+            "holdback friction", ("load.friction_coefficient",),
+            f"the lower of the declared friction coefficient and {HOLDBACK_FRICTION} (reduced factor for holdback and "
+            "brake sizing, from memory)")
     if model == "hoist" and mass and m.get("load.drum_diameter"):
         reeving, cw = m.get("load.reeving") or 1, m.get("load.counterweight") or 0.0
         put(m, "load.rope_force", ld.hoist_rope_force(mass, reeving, cw), "hoist_rope_force",
@@ -130,7 +136,7 @@ def _holding(m: Model) -> None:
         put(m, "load.holding_torque", max(pull, 0.0) * m.get("load.pulley_diameter") / 2, "conveyor_force",
             ("load.mass", "load.incline", "load.friction_coefficient", "load.pulley_diameter"),
             "m·g·(sin |θ| − μ·cos θ) × pulley radius (pull down the slope at rest; 0 where friction holds the belt)")
-        _runback(m, mass, incline, mu)
+        _runback(m, mass, incline)
     elif model == "lead-screw" and m.get("load.vertical") and m.get("load.thrust") and m.get("load.lead"):
         put(m, "load.holding_torque", m.get("load.thrust") * m.get("load.lead") / TWO_PI, "lead_screw_torque",
             ("load.thrust", "load.lead"), "F·L/2π (without friction, conservative)")
@@ -140,14 +146,10 @@ def _holding(m: Model) -> None:
             "|T_L| of a vertical constant-torque load (gravity does not vanish at rest)")
 
 
-def _runback(m: Model, mass: float, incline: float, mu: float) -> None:
+def _runback(m: Model, mass: float, incline: float) -> None:
     """Runback (or run-on) torque of an inclined or declining belt at the pulley shaft, for sizing the backstop or
     brake: friction is credited only up to the low holdback factor."""
-    declared = m.get("load.friction_coefficient")
-    f = min(declared, HOLDBACK_FRICTION) if declared is not None else HOLDBACK_FRICTION
-    put(m, "load.runback_friction", f, "holdback friction", ("load.friction_coefficient",),
-        f"the lower of the declared friction coefficient and {HOLDBACK_FRICTION} (reduced factor for holdback sizing, "
-        "from memory)")
+    f = m.get("load.runback_friction")
     pull = -float(ld.conveyor_force(mass, -abs(incline), f))
     put(m, "load.runback_torque", max(pull, 0.0) * m.get("load.pulley_diameter") / 2, "conveyor_force",
         ("load.mass", "load.incline", "load.runback_friction", "load.pulley_diameter"),
