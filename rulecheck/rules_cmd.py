@@ -61,9 +61,7 @@ def show_rule(rule_id: str, extra: list[str]) -> int:
     if r.aliases:
         print("aliases: " + ", ".join(r.aliases))
     print()
-    for para in r.description.strip().split("\n\n"):
-        print(textwrap.fill(" ".join(para.split()), 88))
-        print()
+    _print_description(r)
     if r.formula:
         print(f"formula: {r.formula}")
     if r.applies_text:
@@ -87,6 +85,16 @@ def show_rule(rule_id: str, extra: list[str]) -> int:
         print(f"  {ex['outcome']}: {ex['name']}")
     print(f"\nfile: {r.file}")
     return 0
+
+
+def _print_description(r) -> None:  # type: ignore[no-untyped-def]
+    """Print the rule's description, paragraph by paragraph, then what it covers (its scope)."""
+    for para in r.description.strip().split("\n\n"):
+        print(textwrap.fill(" ".join(para.split()), 88))
+        print()
+    if r.scope:
+        print(textwrap.fill(f"scope: {r.scope}", 88, subsequent_indent="  "))
+        print()
 
 
 def is_shipped_rules(folder: Path) -> bool:

@@ -54,6 +54,7 @@ BASE: dict[str, Any] = {
     "transmission.input_speed_max": "1800 r/min", "transmission.thermal_power": "60 kW",
     "transmission.inertia": "0.02 kg*m^2", "transmission.self_locking": False, "transmission.stiff_coupling": False,
     "transmission.shock": "uniform", "transmission.hours_per_day": 20,
+    "transmission.backstop.rated_torque": "6000 N*m", "transmission.backstop.shaft": "gear",
     "load.application": "speed-control", "load.mass": "9000 kg", "load.incline": "10 deg",
     "load.friction_coefficient": 0.03, "load.pulley_diameter": "0.63 m", "load.line_speed": "2.0 m/s",
     "load.efficiency": "100 %", "load.breakaway_torque": "2000 N*m", "load.speed_min": "45 r/min",

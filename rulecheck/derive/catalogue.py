@@ -84,6 +84,10 @@ CATALOGUE: dict[str, tuple[str | None, str]] = {
     "load.gravity": ("flag", "gravity acts on the load (hoist, incline, vertical axis)"),
     "load.rope_force": ("force", "hoist: force in one rope fall"),
     "load.holding_torque": ("torque", "torque needed at the load shaft to hold the load at rest"),
+    "load.runback_friction": (None, "conveyor: friction factor credited against runback or a stop (≤ 0.012, "
+                              "holdback and brake sizing)"),
+    "load.runback_torque": ("torque", "inclined or declining conveyor: runback torque at the pulley shaft at the "
+                            "holdback friction factor; needs load.mass, load.incline and load.pulley_diameter"),
     "load.lowering_power": ("power", "hoist: power returned while lowering at line speed"),
     "load.overhauling": ("flag", "the load can drive the motor (lowering, downhill, braking)"),
     # train

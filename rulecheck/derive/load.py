@@ -15,10 +15,14 @@ from rulecheck.model import Model
 from rulecheck.physics import loads as ld
 from rulecheck.physics import transmission as tr
 
-__all__ = ["TORQUE_SWEEP_POINTS", "derive_load", "load_points"]
+__all__ = ["HOLDBACK_FRICTION", "TORQUE_SWEEP_POINTS", "derive_load", "load_points"]
 
 TWO_PI = 2.0 * math.pi
 TORQUE_SWEEP_POINTS = 33  # speeds at which the load torque is looked at between speed_min and speed_max
+# Friction factor credited against a belt's runback when a backstop or brake is sized: a reduced artificial
+# friction coefficient of the kind belt-design practice uses for holdback and braking (value from memory; the
+# belt designer's standard governs). The declared coefficient is used where it is lower.
+HOLDBACK_FRICTION = 0.012
 
 
 def derive_load(m: Model, spec: Spec) -> None:
@@ -37,8 +41,10 @@ def derive_load(m: Model, spec: Spec) -> None:
     _holding(m)
     count = len(spec.items("load", "duty"))
     negative = any((spec.quantity(f"load.duty[{k}].torque") or 0.0) < 0.0 for k in range(count))
-    put(m, "load.overhauling", model == "hoist" or negative, "load model", ("load.model", "load.duty"),
-        "hoist lowering or negative load torque in the duty cycle")
+    downhill = model == "conveyor" and m.get("load.incline", 0.0) < 0 and (m.get("load.holding_torque") or 0.0) > 0
+    put(m, "load.overhauling", model == "hoist" or negative or downhill, "load model",
+        ("load.model", "load.duty", "load.incline"),
+        "hoist lowering, a declining belt that friction does not hold, or negative load torque in the duty cycle")
 
 
 def _speed_range(m: Model, spec: Spec) -> None:
@@ -106,6 +112,12 @@ def _mass_inertia(m: Model) -> None:
 def _holding(m: Model) -> None:
     model, mass, v = m.get("load.model"), m.get("load.mass"), m.get("load.line_speed")
     incline = m.get("load.incline", 0.0)
+    if model == "conveyor":
+        declared = m.get("load.friction_coefficient")
+        put(m, "load.runback_friction", min(declared, HOLDBACK_FRICTION) if declared is not None else HOLDBACK_FRICTION,
+            "holdback friction", ("load.friction_coefficient",),
+            f"the lower of the declared friction coefficient and {HOLDBACK_FRICTION} (reduced factor for holdback and "
+            "brake sizing, from memory)")
     if model == "hoist" and mass and m.get("load.drum_diameter"):
         reeving, cw = m.get("load.reeving") or 1, m.get("load.counterweight") or 0.0
         put(m, "load.rope_force", ld.hoist_rope_force(mass, reeving, cw), "hoist_rope_force",
@@ -116,16 +128,32 @@ def _holding(m: Model) -> None:
         if v is not None and m.get("load.efficiency") is not None:
             put(m, "load.lowering_power", ld.hoist_lowering_power(mass, v, m.get("load.efficiency"), cw),
                 "hoist_lowering_power", ("load.mass", "load.line_speed", "load.efficiency"), "m·g·v·η")
-    elif model == "conveyor" and mass and m.get("load.pulley_diameter") and incline > 0:
-        mu = m.get("load.friction_coefficient") or 0.0
-        # at rest friction holds the belt back: the drive must hold the downhill pull less friction
-        pull = mass * ld.STANDARD_GRAVITY * (math.sin(incline) - mu * math.cos(incline))
+    elif model == "conveyor" and mass and m.get("load.pulley_diameter") and incline != 0:
+        mu = m.get("load.friction_coefficient") or 0.0  # friction unknown: none credited (the larger torque)
+        # at rest friction holds the belt back: the brake or backstop must hold the pull down the slope less
+        # friction — uphill on an incline (runback), downhill on a declining belt (run-on); either sign of incline
+        pull = mass * ld.STANDARD_GRAVITY * (math.sin(abs(incline)) - mu * math.cos(incline))
         put(m, "load.holding_torque", max(pull, 0.0) * m.get("load.pulley_diameter") / 2, "conveyor_force",
             ("load.mass", "load.incline", "load.friction_coefficient", "load.pulley_diameter"),
-            "m·g·(sin θ − μ·cos θ) × pulley radius (runback pull)")
+            "m·g·(sin |θ| − μ·cos θ) × pulley radius (pull down the slope at rest; 0 where friction holds the belt)")
+        _runback(m, mass, incline)
     elif model == "lead-screw" and m.get("load.vertical") and m.get("load.thrust") and m.get("load.lead"):
         put(m, "load.holding_torque", m.get("load.thrust") * m.get("load.lead") / TWO_PI, "lead_screw_torque",
             ("load.thrust", "load.lead"), "F·L/2π (without friction, conservative)")
+    elif model == "constant-torque" and m.get("load.vertical") and m.get("load.torque") is not None:
+        # a vertical load given as its torque at the load shaft (a lift table, a vertical gate): that torque at rest
+        put(m, "load.holding_torque", abs(m.get("load.torque")), "constant_torque", ("load.torque", "load.vertical"),
+            "|T_L| of a vertical constant-torque load (gravity does not vanish at rest)")
+
+
+def _runback(m: Model, mass: float, incline: float) -> None:
+    """Runback (or run-on) torque of an inclined or declining belt at the pulley shaft, for sizing the backstop or
+    brake: friction is credited only up to the low holdback factor."""
+    f = m.get("load.runback_friction")
+    pull = -float(ld.conveyor_force(mass, -abs(incline), f))
+    put(m, "load.runback_torque", max(pull, 0.0) * m.get("load.pulley_diameter") / 2, "conveyor_force",
+        ("load.mass", "load.incline", "load.runback_friction", "load.pulley_diameter"),
+        "m·g·(sin |θ| − f·cos θ) × pulley radius at the holdback friction factor (0 where it holds the belt)")
 
 
 def load_points(spec: Spec) -> list[tuple[float, float]]:

@@ -117,6 +117,7 @@ class Rule:
     examples: list[dict[str, Any]]
     raw: dict[str, Any] = field(repr=False, default_factory=dict)
     doc: Document | None = field(repr=False, default=None)
+    scope: str = ""  # what the rule covers and what it leaves to other rules (for 'rules show')
 
     @cached_property
     def expression_environment(self) -> Any:
@@ -376,6 +377,7 @@ def load_rule_file(path: Path, validate: bool = True, cache: expr.CompileCache |
         examples=data["examples"],
         raw=data,
         doc=doc,
+        scope=" ".join(str(data.get("scope", "")).split()),
     )
 
 

@@ -34,18 +34,6 @@ HAND_TOLERANCE = 0.005
 # spec file → (rule ids, reason): the false findings the current rules give it (numbers, issue point that fixes it).
 # Remove an entry when its fix lands: strict xfail then fails the test until the entry is gone.
 FALSE_ALARMS: dict[str, tuple[tuple[str, ...], str]] = {
-    "tb-cv-105-limestone-incline-belt.yaml": (
-        ("holding-brake-vertical",),
-        "issue 16 brakes: holding-brake-vertical error (crane rule demands a 146.8 N·m spring brake on a belt held "
-        "by a backstop; the format has no backstop field)"),
-    "tb-cv-106-quarry-downhill-belt.yaml": (
-        ("holding-brake-vertical",),
-        "issue 16 declining belts: holding-brake-vertical not-checked (load.holding_torque not derived for a "
-        "negative incline)"),
-    "tb-be-119-clinker-bucket-elevator.yaml": (
-        ("holding-brake-vertical",),
-        "issue 16 brakes: holding-brake-vertical error (crane rule demands a 105.6 N·m spring brake on a bucket "
-        "elevator held by a backstop; the format has no backstop field)"),
     "pr-x-202-extruder-dc.yaml": (
         ("conductor-and-protection-sizing", "cable-voltage-drop"),
         "issue 17 NEC tables: conductor-and-protection-sizing not-checked (no NEC "

@@ -7,7 +7,7 @@ import math
 
 import pytest
 
-from rulecheck.derive import installation, motor, site, starting, supply
+from rulecheck.derive import installation, load, motor, site, starting, supply
 from rulecheck.engine.ruleset import load_rules, shipped_rules_dir
 from rulecheck.physics import dynamics, machines
 from tests.derive import test_duty, test_motor, test_site
@@ -35,6 +35,7 @@ CONSTANTS = [
     (site, "REFERENCE_AMBIENT", 45.0, [test_site.test_no_ambient_given_means_the_40_degree_reference]),
     (starting, "LOCKED_ROTOR_POWER_FACTOR", 0.45),  # train.starting_voltage → dol-starting
     (starting, "DOL_RUN_UP_END", 0.9),  # train.acceleration_time → acceleration-time
+    (load, "HOLDBACK_FRICTION", 0.02),  # load.runback_torque → conveyor-runback
     (installation, "CABLE_PROPAGATION_SPEED", 120e6),  # cable.critical_length → inverter-insulation-reflected-wave
     (machines, "_COOLING_FACTOR", (0.55, 0.75, 0.85, 1.00)),  # k_cool → torque-margin-continuous
     (dynamics, "DEFAULT_STANDSTILL_FACTOR", 0.6,

@@ -128,13 +128,25 @@ def test_an_s3_motor_is_judged_against_its_duty_rating() -> None:
 
 
 def test_a_gravity_load_held_at_standstill_without_a_derived_holding_torque_is_never_zero() -> None:
-    # declining belt (no holding torque derived for a negative incline): at rest the motor holds at most the running
-    # pull referred as motoring, 25 000·9.80665·(sin 6° − 0.012·cos 6°)·0.4 = 9080.4 N·m ÷ (24.5·0.96) = 386.07 N·m
+    # a vertical load given as measured points (no holding torque derived for it): at rest the motor holds at most
+    # the running torque referred as motoring, 100 N·m ÷ (10 × 0.9) = 11.11 N·m
+    lift = {"model": "points", "vertical": True, "inertia": "2 kg*m^2",
+            "points": [{"speed": "0 r/min", "torque": "100 N*m"}, {"speed": "60 r/min", "torque": "100 N*m"}],
+            "duty": [{"duration": "2 s", "speed_to": "60 r/min"}, {"duration": "10 s", "speed_to": "60 r/min"},
+                     {"duration": "2 s", "speed_to": "0 r/min"}, {"duration": "30 s", "speed_to": "0 r/min"}]}
+    m = model_of({"motor": MOTOR, "transmission": {"ratio": 10, "efficiency": "90 %"}, "load": lift})
+    assert m.get("train.holding_torque") is None
+    assert m.lists["duty.segments"][3]["torque"] == pytest.approx(100 / (10 * 0.9), rel=1e-9)
+
+
+def test_a_declining_belt_at_standstill_is_held_with_its_derived_holding_torque() -> None:
+    # declining belt: holding torque at the pulley 25 000·9.80665·(sin 6° − 0.012·cos 6°)·0.4 = 9080.4 N·m (statics,
+    # docs/references.md R34); the belt drives the gear, so at the motor 9080.4 × 0.96 ÷ 24.5 = 355.80 N·m
     belt = {"model": "conveyor", "mass": "25000 kg", "incline": "-6 deg", "friction_coefficient": 0.012,
             "pulley_diameter": "0.8 m", "line_speed": "2.5 m/s", "efficiency": "100 %", "inertia": "150 kg*m^2",
             "duty": [{"duration": "20 s", "speed_to": "59.68 r/min"}, {"duration": "60 s", "speed_to": "59.68 r/min"},
                      {"duration": "20 s", "speed_to": "0 r/min"}, {"duration": "30 s", "speed_to": "0 r/min"}]}
     m = model_of({"motor": MOTOR, "transmission": {"ratio": 24.5, "efficiency": "96 %"}, "load": belt})
     pull = 25000 * 9.80665 * (math.sin(math.radians(6)) - 0.012 * math.cos(math.radians(6))) * 0.4
-    assert m.lists["duty.segments"][3]["torque"] == pytest.approx(pull / (24.5 * 0.96), rel=1e-9)
-    assert m.lists["duty.segments"][3]["torque"] == pytest.approx(386.07, abs=5e-3)
+    assert m.lists["duty.segments"][3]["torque"] == pytest.approx(pull * 0.96 / 24.5, rel=1e-9)
+    assert m.lists["duty.segments"][3]["torque"] == pytest.approx(355.80, abs=5e-3)
