@@ -70,7 +70,10 @@ CATALOGUE: dict[str, tuple[str | None, str]] = {
     "transmission.ratio": (None, "1 for direct coupling"),
     "transmission.efficiency": ("fraction", "1 for direct coupling"),
     "transmission.reverse_efficiency": ("fraction", "equal to the forward efficiency for gear stages"),
-    "transmission.application_service_factor": (None, "AGMA-style SF_app from hours per day, shock and starts"),
+    "transmission.application_service_factor": (None, "SF_app from hours per day and shock (classic table, "
+                                                       "electric-motor prime mover)"),
+    "transmission.overhung_load.element_factor": (None, "element factor of the overhung element (chain 1.0, gear "
+                                                        "1.25, V-belt 1.5, flat belt 2.5; common practice)"),
     "transmission.efficiency_band_low": ("fraction", "lowest plausible efficiency for the kind and stages"),
     "transmission.efficiency_band_high": ("fraction", "highest plausible efficiency for the kind and stages"),
     # load
