@@ -61,7 +61,7 @@ CATALOGUE: dict[str, tuple[str | None, str]] = {
     "motor.nameplate_band": ("fraction", "largest |η_impl − η_decl| a true nameplate can show: printed resolution of "
                              "V, I, cosφ, η (and field power) plus the IEC 60034-1 tolerances on η and cosφ"),
     "motor.nema_rated": ("flag", "the motor is rated to NEMA MG 1 (design letter A–D, NEMA frame or service factor)"),
-    "motor.large_frame": ("flag", "IEC frame ≥ 280 or NEMA frame ≥ 500 (bearing-current trigger)"),
+    "motor.large_frame": ("flag", "IEC frame ≥ 315 or NEMA frame ≥ 500 (bearing-current trigger)"),
     "motor.enclosure_solids": (None, "first IP digit of the motor enclosure (X → 0)"),
     "motor.enclosure_water": (None, "second IP digit of the motor enclosure (9K → 9, X → 0)"),
     "motor.ex_temperature_class": (None, "temperature class number n of the Ex marking (Tn)"),

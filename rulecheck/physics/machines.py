@@ -13,8 +13,14 @@ from dataclasses import dataclass
 
 import numpy as np
 
-from rulecheck.physics import efficiency_tables as et
 from rulecheck.physics._method import method
+from rulecheck.physics.efficiency_tables import (
+    RATED_OUTPUTS_50HZ_KW,
+    RATED_OUTPUTS_60HZ,
+    TABLE_50HZ,
+    TABLE_60HZ,
+    TOP_ROW_UP_TO_KW,
+)
 
 SQRT2 = math.sqrt(2.0)
 SQRT3 = math.sqrt(3.0)
@@ -961,10 +967,10 @@ def _between(kw: float, outputs: tuple[float, ...], values: tuple[float, ...]) -
 
 
 def _limit_50hz(number: int, poles: int, kw: float) -> EfficiencyLimit | None:
-    outputs = et.RATED_OUTPUTS_50HZ_KW
-    if not outputs[0] * (1 - 1e-6) <= kw <= et.TOP_ROW_UP_TO_KW * (1 + 1e-6):
+    outputs = RATED_OUTPUTS_50HZ_KW
+    if not outputs[0] * (1 - 1e-6) <= kw <= TOP_ROW_UP_TO_KW * (1 + 1e-6):
         return None
-    values = et.TABLE_50HZ[number][poles]
+    values = TABLE_50HZ[number][poles]
     if kw >= outputs[-1]:
         return EfficiencyLimit(values[-1] / 100.0, False, _IEC_60034_30_1)
     value, interpolated = _between(kw, outputs, values)
@@ -972,13 +978,13 @@ def _limit_50hz(number: int, poles: int, kw: float) -> EfficiencyLimit | None:
 
 
 def _limit_60hz(number: int, poles: int, kw: float) -> EfficiencyLimit | None:
-    if number not in et.TABLE_60HZ:
+    if number not in TABLE_60HZ:
         return None
-    values = et.TABLE_60HZ[number][poles]
-    for k, (hp, row_kw) in enumerate(et.RATED_OUTPUTS_60HZ):
+    values = TABLE_60HZ[number][poles]
+    for k, (hp, row_kw) in enumerate(RATED_OUTPUTS_60HZ):
         if abs(kw / row_kw - 1) <= _ROW_MATCH_60HZ or abs(kw * 1000.0 / (hp * _HP) - 1) <= _ROW_MATCH_60HZ:
             return EfficiencyLimit(values[k] / 100.0, False, _IEC_60034_30_1)
-    outputs = tuple(row_kw for _, row_kw in et.RATED_OUTPUTS_60HZ)
+    outputs = tuple(row_kw for _, row_kw in RATED_OUTPUTS_60HZ)
     if not outputs[0] < kw < outputs[-1]:
         return None
     value, _ = _between(kw, outputs, values)

@@ -32,7 +32,9 @@ def test_ip_digits_reads_x_and_9k() -> None:
 
 
 def test_frames_and_nema_marks() -> None:
-    assert large_frame("315M") is True and large_frame("250M") is False
+    # bearing-current practice (bearing-currents rule basis: common practice): from IEC frame 315, not 280
+    assert large_frame("315M") is True and large_frame("315S") is True
+    assert large_frame("280M") is False and large_frame("250M") is False
     assert large_frame("5008L") is True and large_frame("449T") is False
     assert nema_rated(None, "254T", None) and nema_rated("B", None, None) and nema_rated(None, None, 1.15)
     assert not nema_rated("N", "132M", 1.0)
