@@ -34,7 +34,7 @@ BASE: dict[str, Any] = {
     "drive.active_short_circuit": True, "drive.quadrants": 4, "drive.firing_angle_min": "15 deg",
     "motor.rated_power": "45 kW", "motor.rated_voltage": "400 V", "motor.rated_current": "81 A",
     "motor.rated_frequency": "50 Hz", "motor.rated_speed": "1480 r/min", "motor.poles": 4,
-    "motor.rated_torque": "290 N*m", "motor.power_factor": 0.86, "motor.efficiency": "93.9 %",
+    "motor.rated_torque": "290 N*m", "motor.power_factor": 0.86, "motor.efficiency": "94.2 %",
     "motor.efficiency_class": "IE3", "motor.connection": "delta", "motor.design": "N", "motor.frame": "225M",
     "motor.breakdown_torque": "725 N*m", "motor.locked_rotor_torque": "638 N*m",
     "motor.locked_rotor_current": "607 A", "motor.locked_rotor_power_factor": 0.35,

@@ -61,7 +61,7 @@ CATALOGUE: dict[str, tuple[str | None, str]] = {
     "motor.nameplate_band": ("fraction", "largest |η_impl − η_decl| a true nameplate can show: printed resolution of "
                              "V, I, cosφ, η (and field power) plus the IEC 60034-1 tolerances on η and cosφ"),
     "motor.nema_rated": ("flag", "the motor is rated to NEMA MG 1 (design letter A–D, NEMA frame or service factor)"),
-    "motor.large_frame": ("flag", "IEC frame ≥ 280 or NEMA frame ≥ 500 (bearing-current trigger)"),
+    "motor.large_frame": ("flag", "IEC frame ≥ 315 or NEMA frame ≥ 500 (bearing-current trigger)"),
     "motor.enclosure_solids": (None, "first IP digit of the motor enclosure (X → 0)"),
     "motor.enclosure_water": (None, "second IP digit of the motor enclosure (9K → 9, X → 0)"),
     "motor.ex_temperature_class": (None, "temperature class number n of the Ex marking (Tn)"),
@@ -70,7 +70,10 @@ CATALOGUE: dict[str, tuple[str | None, str]] = {
     "transmission.ratio": (None, "1 for direct coupling"),
     "transmission.efficiency": ("fraction", "1 for direct coupling"),
     "transmission.reverse_efficiency": ("fraction", "equal to the forward efficiency for gear stages"),
-    "transmission.application_service_factor": (None, "AGMA-style SF_app from hours per day, shock and starts"),
+    "transmission.application_service_factor": (None, "SF_app from hours per day and shock (classic table, "
+                                                       "electric-motor prime mover)"),
+    "transmission.overhung_load.element_factor": (None, "element factor of the overhung element (chain 1.0, gear "
+                                                        "1.25, V-belt 1.5, flat belt 2.5; common practice)"),
     "transmission.efficiency_band_low": ("fraction", "lowest plausible efficiency for the kind and stages"),
     "transmission.efficiency_band_high": ("fraction", "highest plausible efficiency for the kind and stages"),
     # load

@@ -322,11 +322,11 @@ def nema_rated(design: Any, frame: Any, service_factor: Any) -> bool:
 
 
 def large_frame(frame: str) -> bool | None:
-    """Return whether a frame is IEC ≥ 280 or NEMA ≥ 500 (4-digit 5000-series); None if not recognised."""
+    """Return whether a frame is IEC ≥ 315 or NEMA ≥ 500 (4-digit 5000-series); None if not recognised."""
     text = frame.strip().upper()
     iec = _IEC_FRAME.match(text)
     if iec:
-        return int(iec.group(1)) >= 280
+        return int(iec.group(1)) >= 315
     nema = _NEMA_FRAME.match(text)
     if nema:
         if nema.group(3):
@@ -340,7 +340,7 @@ def _text(m: Model) -> None:
         "nema_rated", ("motor.design", "motor.frame", "motor.service_factor"), "design letter, frame or service factor")
     frame = m.get("motor.frame")
     if isinstance(frame, str):
-        put(m, "motor.large_frame", large_frame(frame), "large_frame", ("motor.frame",), "IEC ≥ 280 or NEMA ≥ 500")
+        put(m, "motor.large_frame", large_frame(frame), "large_frame", ("motor.frame",), "IEC ≥ 315 or NEMA ≥ 500")
     digits = ip_digits(m.get("motor.enclosure"))
     if digits:
         put(m, "motor.enclosure_solids", digits[0], "ip_digits", ("motor.enclosure",), "IEC 60529 first numeral")

@@ -33,10 +33,13 @@ def derive_transmission(m: Model, spec: Spec) -> None:
             "taken equal to the forward efficiency (gear stages, common practice)")
     hours, shock = m.get("transmission.hours_per_day"), m.get("transmission.shock")
     if hours is not None and shock is not None:
-        put(m, "transmission.application_service_factor",
-            tr.application_service_factor(hours, shock, m.get("load.starts_per_hour") or 0.0),
-            "application_service_factor", ("transmission.hours_per_day", "transmission.shock", "load.starts_per_hour"),
-            "AGMA-style table, uniform power source (docs/references.md R31, K32)")
+        put(m, "transmission.application_service_factor", tr.application_service_factor(hours, shock),
+            "application_service_factor", ("transmission.hours_per_day", "transmission.shock"),
+            "classic table, electric-motor prime mover (common practice; docs/references.md R31, K32)")
+    element = m.get("transmission.overhung_load.element")
+    if element in tr.ELEMENT_FACTORS:
+        default(m, "transmission.overhung_load.element_factor", tr.ELEMENT_FACTORS[element],
+                f"{element} {tr.ELEMENT_FACTORS[element]:g} (common practice; docs/references.md R31)")
     if kind in EFFICIENCY_BANDS:
         (low, high), per_stage = EFFICIENCY_BANDS[kind]
         stages = m.get("transmission.stages") or 1 if per_stage else 1

@@ -14,6 +14,13 @@ from dataclasses import dataclass
 import numpy as np
 
 from rulecheck.physics._method import method
+from rulecheck.physics.efficiency_tables import (
+    RATED_OUTPUTS_50HZ_KW,
+    RATED_OUTPUTS_60HZ,
+    TABLE_50HZ,
+    TABLE_60HZ,
+    TOP_ROW_UP_TO_KW,
+)
 
 SQRT2 = math.sqrt(2.0)
 SQRT3 = math.sqrt(3.0)
@@ -922,55 +929,18 @@ def dc_armature_current_for_torque(torque: float, flux_constant: float) -> float
 
 @dataclass(frozen=True)
 class EfficiencyLimit:
-    """One minimum-efficiency table entry and how far it is checked."""
+    """One minimum efficiency of an IE class, and how it was found."""
 
     efficiency: float  # [1]
-    verified: bool  # True: from a published reproduction (docs/references.md K24); False: from memory
+    interpolated: bool  # False: a tabulated rated output; True: between two tabulated outputs
     source: str
 
 
-_K24 = "IEC 60034-30:2008 efficiency tables (docs/references.md K24)"
-_IE_MEMORY = "IEC 60034-30-1:2014 Table, 50 Hz (from memory)"
-
-# (class, poles, rated power [kW]) -> limit [%], 50 Hz.
-_IE_VERIFIED_50HZ: dict[tuple[int, int, float], float] = {
-    (1, 4, 0.75): 72.1,
-    (2, 4, 0.75): 79.6,
-    (3, 4, 0.75): 82.5,
-    (1, 4, 1.5): 77.2,
-    (2, 4, 1.5): 82.8,
-    (3, 4, 1.5): 85.3,
-    (1, 4, 7.5): 86.0,
-    (2, 4, 7.5): 88.7,
-    (3, 4, 7.5): 90.4,
-    (3, 2, 7.5): 90.1,
-    (3, 6, 7.5): 89.1,
-    (2, 2, 200.0): 95.3,
-    (3, 2, 200.0): 95.8,
-}
-
-# IE3, 4-pole, 50 Hz, from memory: used only when the caller accepts unverified values.
-_IE3_4POLE_MEMORY_50HZ = {
-    1.1: 84.1,
-    2.2: 86.7,
-    3.0: 87.7,
-    4.0: 88.6,
-    5.5: 89.6,
-    11.0: 91.4,
-    15.0: 92.1,
-    18.5: 92.6,
-    22.0: 93.0,
-    30.0: 93.6,
-    37.0: 93.9,
-    45.0: 94.2,
-    55.0: 94.6,
-    75.0: 95.0,
-    90.0: 95.2,
-    110.0: 95.4,
-    132.0: 95.6,
-    160.0: 95.8,
-    200.0: 96.0,
-}
+_IEC_60034_30_1 = "IEC 60034-30-1:2014 efficiency tables (from memory, docs/references.md K24)"
+# a 60 Hz rating given in hp matches its row when within this share of the row's hp or kW value: the table's kW
+# column is the hp rating rounded to a preferred kW value (125 hp = 93.2 kW sits in the 90 kW row)
+_ROW_MATCH_60HZ = 0.02
+_HP = 745.69987158  # W, docs/references.md K01
 
 
 def _ie_class_number(ie_class: int | float | str) -> int:
@@ -985,34 +955,73 @@ def _ie_class_number(ie_class: int | float | str) -> int:
     return number
 
 
+def _between(kw: float, outputs: tuple[float, ...], values: tuple[float, ...]) -> tuple[float, bool]:
+    """The value at ``kw``: a row's own value, or linear in log10(P) between the neighbouring rows, to 0.1 %."""
+    for k, out in enumerate(outputs):
+        if math.isclose(kw, out, rel_tol=1e-6):
+            return values[k], False
+        if kw < out:
+            x = math.log10(kw / outputs[k - 1]) / math.log10(out / outputs[k - 1])
+            return round(values[k - 1] + x * (values[k] - values[k - 1]), 1), True
+    raise AssertionError("unreachable: callers keep kw within the table")
+
+
+def _limit_50hz(number: int, poles: int, kw: float) -> EfficiencyLimit | None:
+    outputs = RATED_OUTPUTS_50HZ_KW
+    if not outputs[0] * (1 - 1e-6) <= kw <= TOP_ROW_UP_TO_KW * (1 + 1e-6):
+        return None
+    values = TABLE_50HZ[number][poles]
+    if kw >= outputs[-1]:
+        return EfficiencyLimit(values[-1] / 100.0, False, _IEC_60034_30_1)
+    value, interpolated = _between(kw, outputs, values)
+    return EfficiencyLimit(value / 100.0, interpolated, _IEC_60034_30_1)
+
+
+def _limit_60hz(number: int, poles: int, kw: float) -> EfficiencyLimit | None:
+    if number not in TABLE_60HZ:
+        return None
+    values = TABLE_60HZ[number][poles]
+    for k, (hp, row_kw) in enumerate(RATED_OUTPUTS_60HZ):
+        if abs(kw / row_kw - 1) <= _ROW_MATCH_60HZ or abs(kw * 1000.0 / (hp * _HP) - 1) <= _ROW_MATCH_60HZ:
+            return EfficiencyLimit(values[k] / 100.0, False, _IEC_60034_30_1)
+    outputs = tuple(row_kw for _, row_kw in RATED_OUTPUTS_60HZ)
+    if not outputs[0] < kw < outputs[-1]:
+        return None
+    value, _ = _between(kw, outputs, values)
+    return EfficiencyLimit(value / 100.0, True, _IEC_60034_30_1)
+
+
 def efficiency_class_entry(
     ie_class: int | str, rated_power: float, poles: float, frequency: float = 50.0
 ) -> EfficiencyLimit | None:
-    """Return the IEC minimum-efficiency entry for a class, rated power [W] and poles, or None if not held.
+    """Return the IEC 60034-30-1 minimum efficiency of a class at a rated power [W] and poles, or None if not held.
 
     Parameters
     ----------
     ie_class : ``IE1`` … ``IE4`` or 1 … 4
-    rated_power : rated output power [W]; only the standard's rated powers have entries
-    poles : number of poles
-    frequency : rated frequency [Hz]; only 50 Hz values are held
+    rated_power : rated output power [W]
+    poles : number of poles (2, 4, 6 or 8; other pole numbers are outside the standard's tables)
+    frequency : rated frequency [Hz]: 50 Hz (IE1–IE4, 0.12–1000 kW) or 60 Hz (IE2 and IE3, 0.75–150 kW held)
 
-    Method: table look-up at the exact rated power (no interpolation between rated powers).
+    Method: table look-up; between two tabulated rated outputs the value is interpolated linearly in
+    log10(P_N) and rounded to 0.1 %. IEC 60034-30-1 gives a formula A·x³ + B·x² + C·x + D with x = log10(P_N/1 kW)
+    for intermediate outputs; its coefficients are not held here, and the linear interpolation agrees with it
+    within 0.1 point where they are known (tests/physics/test_efficiency_classes.py). Above 200 kW at 50 Hz
+    the 200 kW value holds up to 1000 kW (the table's last row).
 
     References
     ----------
-    IEC 60034-30:2008 tables as reproduced in docs/references.md K24 (verified entries); IEC 60034-30-1:2014 IE3
-    4-pole column from memory (entries marked ``verified=False``).
+    IEC 60034-30-1:2014 efficiency tables (IE1–IE4 at 50 Hz; IE2/IE3 at 60 Hz = NEMA MG 1 Tables 12-11 and
+    12-12, enclosed motors), all from memory: docs/references.md K24 and R30.
     """
     number = _ie_class_number(ie_class)
-    if abs(frequency - 50.0) > 1e-9:
+    if int(poles) != poles or int(poles) not in (2, 4, 6, 8) or rated_power <= 0:
         return None
-    kw = round(rated_power / 1000.0, 3)
-    key = (number, int(poles), kw)
-    if key in _IE_VERIFIED_50HZ:
-        return EfficiencyLimit(_IE_VERIFIED_50HZ[key] / 100.0, True, _K24)
-    if number == 3 and int(poles) == 4 and kw in _IE3_4POLE_MEMORY_50HZ:
-        return EfficiencyLimit(_IE3_4POLE_MEMORY_50HZ[kw] / 100.0, False, _IE_MEMORY)
+    kw = rated_power / 1000.0
+    if abs(frequency - 50.0) < 0.5:
+        return _limit_50hz(number, int(poles), kw)
+    if abs(frequency - 60.0) < 0.5:
+        return _limit_60hz(number, int(poles), kw)
     return None
 
 
@@ -1022,7 +1031,6 @@ def efficiency_class_limit(
     rated_power: float,
     poles: float,
     frequency: float = 50.0,
-    include_unverified: bool = False,
 ) -> float | None:
     """Return the minimum efficiency [1] of an IE class at a rated power, or None where no value is held.
 
@@ -1031,16 +1039,13 @@ def efficiency_class_limit(
     ie_class : ``IE1`` … ``IE4`` or 1 … 4
     rated_power : rated output power [W]
     poles : number of poles
-    frequency : rated frequency [Hz] (50 Hz only)
-    include_unverified : also return values held from memory (see :func:`efficiency_class_entry`)
+    frequency : rated frequency [Hz] (50 or 60 Hz)
 
-    Method: table look-up (:func:`efficiency_class_entry`).
+    Method: table look-up with interpolation (:func:`efficiency_class_entry`).
 
     References
     ----------
-    IEC 60034-30:2008 / IEC 60034-30-1:2014 efficiency tables; docs/references.md K24 and R30.
+    IEC 60034-30-1:2014 efficiency tables (from memory); docs/references.md K24 and R30.
     """
     entry = efficiency_class_entry(ie_class, rated_power, poles, frequency)
-    if entry is None or (not entry.verified and not include_unverified):
-        return None
-    return entry.efficiency
+    return None if entry is None else entry.efficiency

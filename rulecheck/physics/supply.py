@@ -213,7 +213,7 @@ def drive_derating_factor(
 # --- voltage and frequency variation -----------------------------------------------
 
 # IEC 60034-1 zone A as (Δf, ΔV) vertices in per unit, counter-clockwise. From memory (docs/references.md R25):
-# the axis values ±5 % / ±2 % are verified, the corner cuts are not.
+# the axis values ±5 % / ±2 % and the corner cuts are from memory (clause 7.3 of IEC 60034-1, not checked here).
 IEC_ZONE_A_VERTICES = ((-0.02, -0.05), (0.0, -0.05), (0.02, -0.03), (0.02, 0.05), (0.0, 0.05), (-0.02, 0.03))
 
 
@@ -247,7 +247,7 @@ def in_iec_zone_a(voltage_deviation: float, frequency_deviation: float) -> bool:
     References
     ----------
     IEC 60034-1, voltage and frequency variations, zone A (clause 7.3, figure; from memory for the clause).
-    Axis limits ±5 %/±2 % verified; the corner vertices are from memory (docs/references.md R25 and open items).
+    Axis limits ±5 %/±2 % and the corner vertices are from memory (docs/references.md R25 and open items).
     """
     return _inside_convex((frequency_deviation, voltage_deviation), IEC_ZONE_A_VERTICES)
 
@@ -266,7 +266,7 @@ def in_iec_zone_b(voltage_deviation: float, frequency_deviation: float) -> bool:
 
     References
     ----------
-    IEC 60034-1 zone B axis values (±10 %, −5/+3 %) verified; the V/f approximation is docs/references.md R25 (M).
+    IEC 60034-1 zone B axis values (±10 %, −5/+3 %) from memory; the V/f approximation is docs/references.md R25 (M).
     """
     if not (at_most(abs(voltage_deviation), 0.10) and at_least(frequency_deviation, -0.05)
             and at_most(frequency_deviation, 0.03)):

@@ -319,43 +319,68 @@ def gearbox_service_factor(
     return rated_output_torque / (motor_rated_torque * ratio * efficiency)
 
 
-# Application service factors, uniform power source: (hours per day up to, [uniform, moderate, heavy]).
+# Application service factors for an electric-motor prime mover: (hours per day up to, [uniform, moderate shock,
+# heavy shock]). The classic gear-unit table (AGMA-style, common practice; docs/references.md R31, K32).
 _SERVICE_FACTOR_ROWS = (
-    (0.5, (0.8, 0.8, 1.0)),
-    (2.0, (1.0, 1.0, 1.25)),
-    (10.0, (1.0, 1.25, 1.5)),
-    (24.0, (1.25, 1.5, 1.75)),
+    (3.0, (0.8, 1.0, 1.5)),
+    (10.0, (1.0, 1.25, 1.75)),
+    (24.0, (1.25, 1.5, 2.0)),
 )
-_SERVICE_FACTOR_FREQUENT_STARTS = ((10.0, (1.25, 1.5, 1.75)), (24.0, (1.5, 1.75, 2.0)))
 _LOAD_CLASSES = {"uniform": 0, "moderate": 1, "heavy": 2, "moderate-shock": 1, "heavy-shock": 2}
 GEARMOTOR_CLASS_SERVICE_FACTOR = {"I": 1.0, "II": 1.4, "III": 2.0}
 
 
-def application_service_factor(hours_per_day: float, load_class: str, starts_per_hour: float = 0.0) -> float:
-    """Return the application service factor [1] for a gearbox from daily running time and load class.
+def application_service_factor(hours_per_day: float, load_class: str) -> float:
+    """Return the application service factor [1] of a gear unit driven by an electric motor.
 
     Parameters
     ----------
     hours_per_day : running time [h/day], 0 to 24
     load_class : ``uniform``, ``moderate`` (moderate shock) or ``heavy`` (heavy shock)
-    starts_per_hour : starts per hour; more than 10 uses the frequent-start rows (10 h and 24 h)
 
-    Method: table look-up, the first row whose hours cover the duty.
+    Method: table look-up, the first row whose hours cover the duty: up to 3 h/day 0.8 / 1.0 / 1.5, up to
+    10 h/day 1.0 / 1.25 / 1.75, more (to 24 h/day) 1.25 / 1.5 / 2.0 (uniform / moderate / heavy shock). Shorter
+    occasional duty is held to the 3 h row. Frequent starts and reversals are not in the table (the maker's
+    start factor applies).
 
     References
     ----------
-    AGMA service-factor tables (AGMA 6010-era guidance as reproduced in docs/references.md R31 and K32).
+    Classic gear-unit service-factor table for an electric-motor prime mover (AGMA-style; common practice, the
+    clause not verified): docs/references.md R31 and K32.
     """
     if load_class not in _LOAD_CLASSES:
         raise ValueError(f"unknown load class {load_class!r}; use uniform, moderate or heavy")
     if not 0.0 <= hours_per_day <= 24.0:
         raise ValueError("hours per day must be between 0 and 24")
     column = _LOAD_CLASSES[load_class]
-    rows = _SERVICE_FACTOR_FREQUENT_STARTS if starts_per_hour > 10 else _SERVICE_FACTOR_ROWS
-    for hours, factors in rows:
+    for hours, factors in _SERVICE_FACTOR_ROWS:
         if hours_per_day <= hours:
             return factors[column]
     raise AssertionError("unreachable: the last row covers 24 h")
+
+
+# Element factors for the pull of a transmission element on its shaft (common practice; docs/references.md R31).
+ELEMENT_FACTORS = {"chain": 1.0, "gear": 1.25, "v-belt": 1.5, "flat-belt": 2.5}
+
+
+@method(returns="force", torque="torque", pitch_diameter="length", element_factor="fraction")
+def overhung_load(torque: float, pitch_diameter: float, element_factor: float) -> float:
+    """Return the radial (overhung) load [N] a sprocket, pinion or pulley puts on its shaft.
+
+    Parameters
+    ----------
+    torque : torque the element transmits [N*m]
+    pitch_diameter : pitch diameter of the element [m]
+    element_factor : f_z for the element's extra pull (chain 1.0, gear 1.25, V-belt 1.5, flat belt 2.5) [1]
+
+    Method: F_R = 2·T/d·f_z: the tangential force T/(d/2), raised by the element factor for belt pre-tension,
+    chain sag and tooth separating force.
+
+    References
+    ----------
+    Statics (F = T/r); element factors: gear-unit catalogue practice (common practice), docs/references.md R31.
+    """
+    return 2.0 * torque / pitch_diameter * element_factor
 
 
 def combined_efficiency(stage_efficiencies: list[float]) -> float:

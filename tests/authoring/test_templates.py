@@ -143,7 +143,8 @@ def test_the_conveyor_example_is_a_sound_design(tmp_path: Path, cli) -> None:
     """The examples of the induction / inverter / conveyor template describe one coherent drive train (the
     clean demo conveyor's figures): with the datasheet's output voltage given, every rule passes or does not
     apply. Hand check of the motor: T_N = 45 kW ÷ (1480 r/min × 2π/60) = 290.4 N·m; slip (1500 − 1480)/1500
-    = 1.33 %; I = 45 kW ÷ (√3 · 400 V · 0.939 · 0.86) = 80.4 A against the 81 A nameplate."""
+    = 1.33 %; I = 45 kW ÷ (√3 · 400 V · 0.942 · 0.86) = 80.2 A against the 81 A nameplate (IE3 4-pole 45 kW:
+    94.2 %, IEC 60034-30-1, from memory)."""
     text = fill_examples(write_template("induction", "inverter", "conveyor").text)
     assert "  # output_voltage_max: 400 V\n" in text
     text = text.replace("  # output_voltage_max: 400 V\n", "  output_voltage_max: 400 V\n")

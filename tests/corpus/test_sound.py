@@ -39,6 +39,11 @@ FALSE_ALARMS: dict[str, tuple[tuple[str, ...], str]] = {
         "issue 17 NEC tables: conductor-and-protection-sizing not-checked (no NEC "
         "Table 430.247 DC full-load current; 75 hp 500 V = 118 A); issue 17 cable voltage drop: cable-voltage-drop "
         "not-checked (no DC formula: asks for a power factor a DC motor does not have)"),
+    "tb-f-102-panel-cooling-fan.yaml": (
+        ("efficiency-class",),
+        "disputed hand value (issue 17, efficiency): the spec takes 73.0 % as the IE3 4-pole 0.37 kW minimum; the "
+        "IEC 60034-30-1 IE3 table (from memory) gives 77.3 % (IE2 72.7 %), so 75.5 % is IE2, not IE3: the tool's "
+        "error stands until the spec's class or efficiency is corrected"),
     "pr-l-205-paper-roll-lift.yaml": (
         ("conductor-and-protection-sizing",),
         "issue 17 NEC tables: "
@@ -52,6 +57,11 @@ WRONG_DERIVATIONS: dict[str, tuple[tuple[str, ...], str]] = {
         "hand value in doubt, not the tool: the spec's own formula (as in tb-h-107) gives I(355.8 N·m) = "
         "√(40² + (131² − 40²)·(355.8/482.3)²) = √(1600 + 15561·0.5442) = 100.34 A, not 99.64 A (0.7 %); "
         "the tool gives 100.35 A. For the corpus owner to confirm and correct the hand value"),
+    "tb-h-107-kiln-maintenance-hoist.yaml": (
+        ("transmission.application_service_factor",),
+        "disputed hand value (issue 17, gearboxes): the spec's SF_app 1.5 comes from a frequent-start row the "
+        "classic table (electric-motor prime mover) does not have; moderate shock, 8 h/day gives 1.25 "
+        "(4129 × 1.25 = 5161 N·m ≤ 8000 N·m: the verdict is unchanged)"),
 }
 
 # spec file → {rule id: why not-checked is acceptable} (requests for data a datasheet does not give)

@@ -32,7 +32,9 @@ def test_ip_digits_reads_x_and_9k() -> None:
 
 
 def test_frames_and_nema_marks() -> None:
-    assert large_frame("315M") is True and large_frame("250M") is False
+    # bearing-current practice (bearing-currents rule basis: common practice): from IEC frame 315, not 280
+    assert large_frame("315M") is True and large_frame("315S") is True
+    assert large_frame("280M") is False and large_frame("250M") is False
     assert large_frame("5008L") is True and large_frame("449T") is False
     assert nema_rated(None, "254T", None) and nema_rated("B", None, None) and nema_rated(None, None, 1.15)
     assert not nema_rated("N", "132M", 1.0)
@@ -56,12 +58,26 @@ def test_pm_current_from_kt() -> None:
 
 
 def test_application_service_factor_k32() -> None:
-    # docs/references.md K32: 10 h moderate 1.25, 24 h heavy 1.75; > 10 starts/h at 24 h heavy: 2.0
-    for hours, shock, starts, expected in ((10, "moderate", 0, 1.25), (24, "heavy", 0, 1.75), (24, "heavy", 20, 2.0)):
+    # docs/references.md K32 (classic table, electric-motor prime mover; common practice): 10 h moderate 1.25,
+    # 24 h heavy 2.0, 3 h uniform 0.8; starts per hour do not change it
+    for hours, shock, starts, expected in ((10, "moderate", 0, 1.25), (24, "heavy", 0, 2.0), (3, "uniform", 20, 0.8)):
         m = model({"motor": {"kind": "induction"},
                    "transmission": {"kind": "helical", "ratio": 10, "hours_per_day": hours, "shock": shock},
                    "load": {"model": "constant-torque", "starts_per_hour": starts}})
         assert m.get("transmission.application_service_factor") == expected
+
+
+def test_overhung_element_factor() -> None:
+    # common practice: V-belt 1.5; a maker's factor replaces it
+    m = model({"motor": {"kind": "induction"},
+               "transmission": {"kind": "belt", "ratio": 2, "overhung_load": {"shaft": "motor", "element": "v-belt"}},
+               "load": {"model": "constant-torque"}})
+    assert m.get("transmission.overhung_load.element_factor") == 1.5
+    m = model({"motor": {"kind": "induction"},
+               "transmission": {"kind": "belt", "ratio": 2,
+                                "overhung_load": {"shaft": "motor", "element": "v-belt", "element_factor": 2.0}},
+               "load": {"model": "constant-torque"}})
+    assert m.get("transmission.overhung_load.element_factor") == 2.0
 
 
 def test_efficiency_band_per_stage() -> None:

@@ -308,39 +308,7 @@ def test_faraday_law():
 # --- IE efficiency classes -----------------------------------------------------------
 
 
-@pytest.mark.parametrize(
-    ("ie", "kw", "poles", "percent"),
-    [
-        ("IE1", 0.75, 4, 72.1),
-        ("IE2", 0.75, 4, 79.6),
-        ("IE3", 0.75, 4, 82.5),
-        ("IE1", 1.5, 4, 77.2),
-        ("IE2", 1.5, 4, 82.8),
-        ("IE3", 1.5, 4, 85.3),
-        ("IE1", 7.5, 4, 86.0),
-        ("IE2", 7.5, 4, 88.7),
-        ("IE3", 7.5, 4, 90.4),
-        ("IE3", 7.5, 2, 90.1),
-        ("IE3", 7.5, 6, 89.1),
-        ("IE2", 200, 2, 95.3),
-        ("IE3", 200, 2, 95.8),
-    ],
-)
-def test_k24_efficiency_limits(ie, kw, poles, percent):
-    # K24: IEC 60034-30:2008 efficiency tables, 50 Hz (exact table values)
-    limit = call_with_quantities(machines.efficiency_class_limit, ie, Q(kw, "kW"), poles)
-    assert limit.magnitude == pytest.approx(percent / 100, abs=1e-12)
-
-
-def test_efficiency_limits_unknown_and_unverified():
-    # 11 kW IE3 4-pole is held from memory (91.4 %, docs/references.md, open items): only on request
-    assert machines.efficiency_class_limit(3, 11000, 4) is None
-    assert machines.efficiency_class_limit(3, 11000, 4, include_unverified=True) == pytest.approx(0.914)
-    assert machines.efficiency_class_entry("IE3", 11000, 4).verified is False
-    assert machines.efficiency_class_limit("IE3", 7500, 4, frequency=60) is None
-    assert machines.efficiency_class_limit("IE2", 9000, 4) is None
-    with pytest.raises(ValueError):
-        machines.efficiency_class_limit("IE7", 7500, 4)
+# IEC 60034-30-1 efficiency classes: tests/physics/test_efficiency_classes.py
 
 
 def test_cooling_factor_of_an_array_is_the_factor_of_each_ratio() -> None:
