@@ -182,6 +182,7 @@ CATALOGUE: dict[str, tuple[str | None, str]] = {
     # supply side of the installation
     "supply.fault_current": ("current", "prospective short-circuit current S_k ÷ (√3·U_n)"),
     "supply.emc_environment": (None, "IEC 61800-3 environment: first (public LV network) or second"),
+    "drive.input_thd": ("fraction", "input current THD: given, or typical for the front-end kind (common practice)"),
     "drive.short_circuit_ratio": ("fraction", "R_sce = S_k ÷ (√3·U·I_in) of the drive at the supply"),
     # environment
     "environment.ingress_minimum": (None, "IP code the site needs (given, or the default for the location)"),

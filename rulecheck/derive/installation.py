@@ -153,6 +153,11 @@ def _supply_side(m: Model) -> None:
         put(m, "drive.short_circuit_ratio", sp.short_circuit_ratio(s_k, s_equ), "short_circuit_ratio",
             ("supply.fault_level", "supply.voltage", "drive.input_current"),
             "R_sce = S_k ÷ (√3·U·I_in) (IEC 61000-3-12; IEEE 519 I_sc/I_L with the drive as the load)")
+    front_end = m.get("drive.front_end")
+    if front_end is not None and not m.has("drive.input_thd"):
+        put(m, "drive.input_thd", sp.typical_input_thd(str(front_end)), "typical_input_thd", ("drive.front_end",),
+            "typical input current THD for the front-end kind (common practice; give drive.input_thd from the "
+            "drive's data)", source="default")
     env = m.get("supply.emc_environment")
     if env is None and m.get("supply.low_voltage_network") in ("public", "private"):
         env = "first" if m.get("supply.low_voltage_network") == "public" else "second"
