@@ -344,7 +344,7 @@ def unbalance_derating_factor(unbalance: float) -> float | None:
 NEC_EDITION = "NFPA 70 (NEC) 2023"
 HP_MECHANICAL = 745.69987158227022  # W, NIST SP 811 (2008) App. B
 
-# The three NEC full-load current tables, as written down from the 2023 edition's layout (docs/references.md K19a):
+# The three NEC full-load current tables, as written down from the 2023 edition's layout (docs/references.md K45):
 # hp rating -> {column voltage: full-load current [A]}. The values were not checked against a printed copy of the
 # 2023 edition (status P): a dash in the table is an absent column here.
 _V3 = (115, 200, 208, 230, 460, 575, 2300)
@@ -480,7 +480,7 @@ def nec_full_load_current(rated_power: float, voltage: float, system: str = "thr
 
     References
     ----------
-    NFPA 70 (NEC) 2023, Tables 430.247, 430.248 and 430.250 (docs/references.md K19, K19a; values written from
+    NFPA 70 (NEC) 2023, Tables 430.247, 430.248 and 430.250 (docs/references.md K19, K45; values written from
     the tables' layout, not checked against a printed 2023 copy: status P).
     """
     if system not in NEC_TABLES:
@@ -600,7 +600,7 @@ def conductor_size_area(size: str) -> float:
     References
     ----------
     ASTM B258 (American Wire Gauge definition; from memory for the edition); NEC Chapter 9, Table 8 lists the
-    same areas (e.g. 12 AWG 3.31 mm², 1/0 AWG 53.5 mm²; docs/references.md K19b).
+    same areas (e.g. 12 AWG 3.31 mm², 1/0 AWG 53.5 mm²; docs/references.md K46).
     """
     m = _AWG_PATTERN.match(size)
     if m:
@@ -652,7 +652,7 @@ def prospective_short_circuit_current(fault_level: float, voltage: float) -> flo
     References
     ----------
     IEC 60909-0:2016, definition of the initial symmetrical short-circuit power (from memory for the clause);
-    docs/references.md R41.
+    docs/references.md R42.
     """
     return fault_level / (SQRT3 * voltage)
 
@@ -671,7 +671,7 @@ def short_circuit_ratio(fault_level: float, rated_power: float) -> float:
 
     References
     ----------
-    IEC 61000-3-12:2011, definition of R_sce; IEEE 519-2014, I_sc/I_L (docs/references.md R42).
+    IEC 61000-3-12:2011, definition of R_sce; IEEE 519-2014, I_sc/I_L (docs/references.md R43).
     """
     return fault_level / rated_power
 
@@ -711,7 +711,7 @@ def iec_61000_3_12_thc_limit(short_circuit_ratio: float) -> float | None:
 
     References
     ----------
-    IEC 61000-3-12:2011 Table 3 (values from memory, docs/references.md R42: status M).
+    IEC 61000-3-12:2011 Table 3 (values from memory, docs/references.md R43: status M).
     """
     limit = None
     for rsce, thc in IEC_61000_3_12_THC:
@@ -733,7 +733,7 @@ def ieee_519_tdd_limit(short_circuit_ratio: float) -> float:
 
     References
     ----------
-    IEEE 519-2014 Table 2, 120 V through 69 kV (values from memory, docs/references.md R42: status M).
+    IEEE 519-2014 Table 2, 120 V through 69 kV (values from memory, docs/references.md R43: status M).
     """
     for upper, tdd in IEEE_519_TDD:
         if short_circuit_ratio < upper:
@@ -754,7 +754,7 @@ def typical_input_thd(front_end: str) -> float:
     References
     ----------
     Common practice (drive makers' harmonic application notes; ranges 80–130 %, 30–50 %, 30–50 %, 10–15 %, 3–5 %);
-    docs/references.md R42 (status C).
+    docs/references.md R43 (status C).
     """
     if front_end not in TYPICAL_INPUT_THD:
         raise ValueError(f"unknown front end {front_end!r}; use one of {', '.join(TYPICAL_INPUT_THD)}")

@@ -56,8 +56,8 @@ def _citations(text: str) -> list[tuple[str, str]]:
 
 def test_references_define_the_design_rules_check_values_and_pitfalls() -> None:
     ids, pitfalls, cautions = _entries()
-    # the design notes number the rules R01–R41 and the check values K01–K44 without K13/K14; 30 pitfalls, 12 cautions
-    assert ids == {f"R{n:02d}" for n in range(1, 42)} | {f"K{n:02d}" for n in range(1, 45)} - {"K13", "K14"}
+    # the design notes number the rules R01–R45 and the check values K01–K46 without K13/K14; 30 pitfalls, 12 cautions
+    assert ids == {f"R{n:02d}" for n in range(1, 46)} | {f"K{n:02d}" for n in range(1, 47)} - {"K13", "K14"}
     assert pitfalls == set(range(1, 31))
     assert cautions == set(range(1, 13))
 
