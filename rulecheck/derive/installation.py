@@ -1,7 +1,8 @@
 """Derive step: the installation — motor cable (conductor area from AWG/kcmil and parallel conductors, voltage drop
 for three-phase, single-phase and DC circuits, reflected-wave critical length, peak voltage at the motor), NEC
 full-load current (Tables 430.247/248/250), prospective short-circuit current, short-circuit ratio, EMC environment,
-motor currents at the required torques, how long the peak lasts, gearbox output torque at the peak, and the braking energy and power returned to the drive."""
+motor currents at the required torques, how long the peak lasts, gearbox output torque at the peak, and the
+braking energy and power returned to the drive."""
 
 from __future__ import annotations
 
