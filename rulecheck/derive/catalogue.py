@@ -167,8 +167,8 @@ CATALOGUE: dict[str, tuple[str | None, str]] = {
     "site.derating_default_used": ("flag", "a common-practice default was used for the site derating"),
     'site.drive_derating_default_used': ('flag', "a common-practice default was used for the drive's site derating"),
     # cable
-    "cable.conductor_area": ("area", "conductor cross-section from the AWG/kcmil size (when no area is given)"),
-    "cable.phase_area": ("area", "conductor cross-section × conductors in parallel per phase (or pole)"),
+    "cable.phase_area": ("area", "conductor cross-section (given, or from the AWG/kcmil size) × conductors in "
+                         "parallel per phase (or pole)"),
     "cable.voltage_drop": ("fraction", "voltage drop of the motor cable at rated current: three-phase, single-phase "
                            "(2·I·L·(R cosφ + X sinφ)) or DC armature circuit (2·R·I)"),
     "cable.motor_voltage_low": ("fraction", "motor voltage on the line at the low supply tolerance less the "

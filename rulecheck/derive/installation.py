@@ -39,16 +39,17 @@ def _cable_protection(m: Model) -> None:
 
 
 def _conductor(m: Model) -> None:
-    """Cross-section from an AWG/kcmil size, and the phase (or pole) total over parallel conductors."""
-    size = m.get("cable.conductor_size")
-    if size is not None and not m.has("cable.conductor_area"):
-        put(m, "cable.conductor_area", sp.conductor_size_area(str(size)), "conductor_size_area",
-            ("cable.conductor_size",), "AWG: d = 0.127 mm·92^((36 − n)/39); kcmil: 0.5067 mm² each (ASTM B258)")
-    area = m.get("cable.conductor_area")
-    if area is not None:
-        n = m.get("cable.parallel_conductors", 1)
-        put(m, "cable.phase_area", area * n, "product", ("cable.conductor_area", "cable.parallel_conductors"),
+    """Cross-section of a phase (or pole): the given area or an AWG/kcmil size, times the conductors in parallel."""
+    n = m.get("cable.parallel_conductors", 1)
+    # the number in parallel (default 1) and the reactance (default λ) refine the value: named in the note, not
+    # asked for as inputs
+    if m.has("cable.conductor_area"):
+        put(m, "cable.phase_area", m.get("cable.conductor_area") * n, "product", ("cable.conductor_area",),
             "conductor cross-section × conductors in parallel per phase (or pole)")
+    elif m.has("cable.conductor_size"):
+        area = sp.conductor_size_area(str(m.get("cable.conductor_size")))
+        put(m, "cable.phase_area", area * n, "conductor_size_area", ("cable.conductor_size",),
+            "AWG: d = 0.127 mm·92^((36 − n)/39), kcmil: 0.5067 mm² each (ASTM B258); × conductors in parallel")
 
 
 def _circuit(m: Model) -> str:
@@ -73,7 +74,7 @@ def _voltage_drop(m: Model) -> None:
             return
         drop = sp.voltage_drop_dc(current, length, area, material=material)
         put(m, "cable.voltage_drop", sp.relative_voltage_drop(drop, v), "voltage_drop_dc",
-            ("motor.armature_current", "cable.length", "cable.conductor_area", "cable.parallel_conductors"),
+            ("motor.armature_current", "cable.length", "cable.phase_area"),
             "DC armature circuit: 2·(ρ₁·L/S)·I ÷ U_a (IEC 60364-5-52 Annex G ρ₁)")
         return
     current, pf, v = m.get("motor.rated_current"), m.get("motor.power_factor"), m.get("motor.rated_voltage")
@@ -81,8 +82,7 @@ def _voltage_drop(m: Model) -> None:
         return
     # n cables in parallel each carry I/n: the set's resistance and reactance are both 1/n of one cable's
     x = m.get("cable.reactance", sp.ANNEX_G_REACTANCE) / m.get("cable.parallel_conductors", 1)
-    inputs = ("motor.rated_current", "cable.length", "cable.conductor_area", "cable.parallel_conductors",
-              "motor.power_factor", "cable.reactance")
+    inputs = ("motor.rated_current", "cable.length", "cable.phase_area", "motor.power_factor")
     if circuit == "single-phase":
         # out and return conductor: u = 2·I·L·(R cosφ + X sinφ), relative to the line voltage
         drop = sp.voltage_drop_annex_g(current, length, area, pf, material=material, phases=1,

@@ -130,8 +130,10 @@ def test_peak_duration_and_gear_peak() -> None:
 def test_awg_size_gives_the_area_and_parallel_conductors_add() -> None:
     # 1/0 AWG = 53.49 mm² (K46); two in parallel per phase → 106.97 mm²
     m = model({"motor": BASE_MOTOR, "cable": {"length": "50 m", "conductor_size": "1/0 AWG", "parallel_conductors": 2}})
-    assert m.get("cable.conductor_area") == pytest.approx(53.49e-6, rel=1e-3)
     assert m.get("cable.phase_area") == pytest.approx(2 * 53.49e-6, rel=1e-3)
+    # a given area wins over the size
+    both = model({"motor": BASE_MOTOR, "cable": {"conductor_area": "50 mm^2", "conductor_size": "1/0 AWG"}})
+    assert both.get("cable.phase_area") == pytest.approx(50e-6)
 
 
 def test_parallel_conductors_halve_the_drop() -> None:
