@@ -47,7 +47,10 @@ def _conductor(m: Model) -> None:
         put(m, "cable.phase_area", m.get("cable.conductor_area") * n, "product", ("cable.conductor_area",),
             "conductor cross-section × conductors in parallel per phase (or pole)")
     elif m.has("cable.conductor_size"):
-        area = sp.conductor_size_area(str(m.get("cable.conductor_size")))
+        try:
+            area = sp.conductor_size_area(str(m.get("cable.conductor_size")))
+        except ValueError:
+            return  # the schema refuses such a size; nothing is derived from it
         put(m, "cable.phase_area", area * n, "conductor_size_area", ("cable.conductor_size",),
             "AWG: d = 0.127 mm·92^((36 − n)/39), kcmil: 0.5067 mm² each (ASTM B258); × conductors in parallel")
 
@@ -144,6 +147,8 @@ def _nec_full_load_current(m: Model) -> None:
 def _supply_side(m: Model) -> None:
     """Prospective short-circuit current, the drive's input apparent power and short-circuit ratio, EMC environment."""
     s_k, u = m.get("supply.fault_level"), m.get("supply.voltage")
+    if not (s_k and u and s_k > 0 and u > 0):
+        s_k = u = None
     if s_k is not None and u is not None:
         put(m, "supply.fault_current", sp.prospective_short_circuit_current(s_k, u),
             "prospective_short_circuit_current", ("supply.fault_level", "supply.voltage"),

@@ -587,7 +587,7 @@ def nec_short_circuit_protection_max(full_load_current: float, device: str = "in
 # --- conductors, DC circuits, fault level, harmonics -------------------------------
 
 _AWG_PATTERN = re.compile(r"^\s*(\d{1,2}|[1-4]/0)\s*AWG\s*$", re.IGNORECASE)
-_KCMIL_PATTERN = re.compile(r"^\s*(\d{2,4}(?:\.\d+)?)\s*(kcmil|MCM)\s*$", re.IGNORECASE)
+_KCMIL_PATTERN = re.compile(r"^\s*([1-9]\d{1,3}(?:\.\d+)?)\s*(kcmil|MCM)\s*$", re.IGNORECASE)
 KCMIL = 0.00064516 / 1273.2395447351628  # m², one thousand circular mils: π/4·(0.001 in)²·1000 = 0.5067 mm²
 
 
