@@ -38,7 +38,7 @@ CONSTANTS = [
     (starting, "DOL_RUN_UP_END", 0.9),  # train.acceleration_time → acceleration-time
     (installation, "CABLE_PROPAGATION_SPEED", 120e6),  # cable.critical_length → inverter-insulation-reflected-wave
     # protection.full_load_current: 746 W must read the 1 hp row → conductor-and-protection-sizing
-    (supply_physics, "HP_MATCH_TOLERANCE", 0.0001),
+    (supply_physics, "NEC_HP_MATCH", 0.0001),
     # drive.input_thd from the front end → line-harmonics
     (supply_physics, "TYPICAL_INPUT_THD", {**supply_physics.TYPICAL_INPUT_THD, "six-pulse-dc-choke": 0.30}),
     (machines, "_COOLING_FACTOR", (0.55, 0.75, 0.85, 1.00)),  # k_cool → torque-margin-continuous
