@@ -71,8 +71,15 @@ BASE: dict[str, Any] = {
     "environment.hazardous_area.temperature_class": "T3",
     "cable.length": "60 m", "cable.conductor_area": "35 mm^2", "cable.material": "copper",
     "cable.reactance": "0.08 mohm/m", "cable.shielded": True, "cable.rise_time": "0.1 us",
-    "cable.voltage_drop_limit": "5 %",
-    "protection.code": "iec-60364", "protection.device": "inverse-time-breaker", "protection.device_rating": "125 A",
+    "cable.voltage_drop_limit": "5 %", "cable.conductor_size": "2 AWG", "cable.parallel_conductors": 1,
+    # 20 MVA at 400 V is 28.9 kA ≤ 65 kA; IEEE 519 with a 1200 A plant demand: I_sc/I_L 24 → 8 %, TDD
+    # 0.38/√1.144 × 84/1200 = 2.5 %; C3 behind the plant's own transformer (second environment)
+    "drive.short_circuit_rating": "65 kA", "drive.front_end": "six-pulse-dc-choke", "drive.input_thd": "38 %",
+    "drive.emc_category": "C3", "supply.emc_environment": "second", "supply.harmonic_standard": "ieee-519",
+    "supply.demand_current": "1200 A",
+    # IEC 60364-4-43: I_B 84 A ≤ I_n 125 A ≤ I_z 130 A; I_2 = 1.30 × 125 = 162.5 A ≤ 1.45 × 130 = 188.5 A
+    "protection.code": "iec-60364", "protection.device": "breaker-iec-60947-2", "protection.device_rating": "125 A",
+    "protection.conventional_tripping_current": "162.5 A",
     "protection.conductor_ampacity": "130 A", "protection.motor_conductor_ampacity": "110 A",
     "protection.holding_brake_count": 1, "protection.brake_sequencing": True, "protection.brake_test": True,
     "protection.overspeed_protection": True,

@@ -187,12 +187,23 @@ CATALOGUE: dict[str, tuple[str | None, str]] = {
     "site.derating_default_used": ("flag", "a common-practice default was used for the site derating"),
     'site.drive_derating_default_used': ('flag', "a common-practice default was used for the drive's site derating"),
     # cable
-    "cable.voltage_drop": ("fraction", "voltage drop of the motor cable at rated current (Annex G)"),
+    "cable.phase_area": ("area", "conductor cross-section (given, or from the AWG/kcmil size) × conductors in "
+                         "parallel per phase (or pole)"),
+    "cable.voltage_drop": ("fraction", "voltage drop of the motor cable at rated current: three-phase, single-phase "
+                           "(2·I·L·(R cosφ + X sinφ)) or DC armature circuit (2·R·I)"),
+    "cable.motor_voltage_low": ("fraction", "motor voltage on the line at the low supply tolerance less the "
+                                "running cable drop, share of rated voltage"),
     "cable.rise_time": ("time", "drive output voltage rise time (default 0.1 µs, common practice)"),
     "cable.critical_length": ("length", "cable length above which reflections double the voltage"),
     "cable.motor_peak_voltage": ("voltage", "estimated peak voltage at the motor terminals"),
     # protection
-    "protection.full_load_current": ("current", "NEC Table 430.250 full-load current"),
+    "protection.full_load_current": ("current", "NEC full-load current: Table 430.250 (three-phase), 430.248 "
+                                     "(single-phase) or 430.247 (DC)"),
+    # supply side of the installation
+    "supply.fault_current": ("current", "prospective short-circuit current S_k ÷ (√3·U_n)"),
+    "supply.emc_environment": (None, "IEC 61800-3 environment: first (public LV network) or second"),
+    "drive.input_thd": ("fraction", "input current THD: given, or typical for the front-end kind (common practice)"),
+    "drive.short_circuit_ratio": ("fraction", "R_sce = S_k ÷ (√3·U·I_in) of the drive at the supply"),
     # environment
     "environment.ingress_minimum": (None, "IP code the site needs (given, or the default for the location)"),
     "environment.ingress_solids_min": (None, "first IP digit the site needs"),

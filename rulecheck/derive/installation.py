@@ -1,6 +1,8 @@
-"""Derive step: the installation — motor cable (voltage drop, reflected-wave critical length, peak voltage at the
-motor), NEC full-load current, motor currents at the required torques, how long the peak lasts, gearbox output
-torque at the peak, and the braking energy and power returned to the drive."""
+"""Derive step: the installation — motor cable (conductor area from AWG/kcmil and parallel conductors, voltage drop
+for three-phase, single-phase and DC circuits, reflected-wave critical length, peak voltage at the motor), NEC
+full-load current (Tables 430.247/248/250), prospective short-circuit current, short-circuit ratio, EMC environment,
+motor currents at the required torques, how long the peak lasts, gearbox output torque at the peak, and the
+braking energy and power returned to the drive."""
 
 from __future__ import annotations
 
@@ -30,37 +32,144 @@ def derive_installation(m: Model, spec: Spec) -> None:
 
 
 def _cable_protection(m: Model) -> None:
-    length, area = m.get("cable.length"), m.get("cable.conductor_area")
-    current, pf = m.get("motor.rated_current"), m.get("motor.power_factor")
-    v = m.get("motor.rated_voltage")
-    if None not in (length, area, current, pf, v):
-        material = m.get("cable.material", "copper")
-        drop = sp.voltage_drop_annex_g(current, length, area, pf, material=material,
-                                       reactance_per_length=m.get("cable.reactance", sp.ANNEX_G_REACTANCE))
+    _conductor(m)
+    _voltage_drop(m)
+    _reflected_wave(m)
+    _nec_full_load_current(m)
+    _supply_side(m)
+
+
+def _conductor(m: Model) -> None:
+    """Cross-section of a phase (or pole): the given area or an AWG/kcmil size, times the conductors in parallel."""
+    n = m.get("cable.parallel_conductors", 1)
+    # the number in parallel (default 1) and the reactance (default λ) refine the value: named in the note, not
+    # asked for as inputs
+    if m.has("cable.conductor_area"):
+        put(m, "cable.phase_area", m.get("cable.conductor_area") * n, "product", ("cable.conductor_area",),
+            "conductor cross-section × conductors in parallel per phase (or pole)")
+    elif m.has("cable.conductor_size"):
+        try:
+            area = sp.conductor_size_area(str(m.get("cable.conductor_size")))
+        except ValueError:
+            return  # the schema refuses such a size; nothing is derived from it
+        put(m, "cable.phase_area", area * n, "conductor_size_area", ("cable.conductor_size",),
+            "AWG: d = 0.127 mm·92^((36 − n)/39), kcmil: 0.5067 mm² each (ASTM B258); × conductors in parallel")
+
+
+def _circuit(m: Model) -> str:
+    """Which circuit the motor cable is: the DC armature circuit, a single-phase line circuit, or three-phase."""
+    if m.get("motor.kind") == "dc":
+        return "dc"
+    if m.get("supply.phases") == 1 and m.get("drive.kind") != "inverter":
+        return "single-phase"
+    return "three-phase"
+
+
+def _voltage_drop(m: Model) -> None:
+    length, area = m.get("cable.length"), m.get("cable.phase_area")
+    if length is None or area is None:
+        return
+    material = m.get("cable.material", "copper")
+    circuit = _circuit(m)
+    if circuit == "dc":
+        current = m.get("motor.armature_current", m.get("motor.rated_current"))
+        v = m.get("motor.armature_voltage", m.get("motor.rated_voltage"))
+        if current is None or v is None:
+            return
+        drop = sp.voltage_drop_dc(current, length, area, material=material)
+        put(m, "cable.voltage_drop", sp.relative_voltage_drop(drop, v), "voltage_drop_dc",
+            ("motor.armature_current", "cable.length", "cable.phase_area"),
+            "DC armature circuit: 2·(ρ₁·L/S)·I ÷ U_a (IEC 60364-5-52 Annex G ρ₁)")
+        return
+    current, pf, v = m.get("motor.rated_current"), m.get("motor.power_factor"), m.get("motor.rated_voltage")
+    if None in (current, pf, v):
+        return
+    # n cables in parallel each carry I/n: the set's resistance and reactance are both 1/n of one cable's
+    x = m.get("cable.reactance", sp.ANNEX_G_REACTANCE) / m.get("cable.parallel_conductors", 1)
+    inputs = ("motor.rated_current", "cable.length", "cable.phase_area", "motor.power_factor")
+    if circuit == "single-phase":
+        # out and return conductor: u = 2·I·L·(R cosφ + X sinφ), relative to the line voltage
+        drop = sp.voltage_drop_annex_g(current, length, area, pf, material=material, phases=1,
+                                       reactance_per_length=x)
+        put(m, "cable.voltage_drop", sp.relative_voltage_drop(drop, v), "voltage_drop_annex_g", inputs,
+            "single-phase: 2·(ρ₁·L·cosφ/S + λ·L·sinφ)·I ÷ U (IEC 60364-5-52 Annex G, b = 2)")
+        line_drop = drop
+    else:
+        drop = sp.voltage_drop_annex_g(current, length, area, pf, material=material, reactance_per_length=x)
         put(m, "cable.voltage_drop", sp.relative_voltage_drop(drop, v / math.sqrt(3)), "voltage_drop_annex_g",
-           ("motor.rated_current", "cable.length", "cable.conductor_area", "motor.power_factor"),
-           "IEC 60364-5-52 Annex G: b·(ρ₁·L·cosφ/S + λ·L·sinφ)·I ÷ U₀")
-    if m.get("drive.kind") == "inverter":
-        if not m.has("cable.rise_time"):
-            # recorded, so the insulation limit a rule picks is read at the same rise time as the peak estimate
-            default(m, "cable.rise_time", DEFAULT_RISE_TIME, "IGBT output rise time 0.1 µs (common practice)")
-        rise = m.get("cable.rise_time")
-        crit = pe.reflected_wave_critical_length(CABLE_PROPAGATION_SPEED, rise)
-        put(m, "cable.critical_length", crit, "reflected_wave_critical_length", ("cable.rise_time",),
-           "v·t_r ÷ 2 with v = 150 m/µs (common practice)")
-        vdc = max(x for x in (m.get("drive.dc_bus_voltage_max"), m.get("drive.braking.chopper_threshold"), 0.0)
-                  if x is not None)
-        if length is not None and vdc:
-            put(m, "cable.motor_peak_voltage", pe.motor_peak_voltage(vdc, length, crit), "motor_peak_voltage",
-               ("drive.dc_bus_voltage_max", "cable.length", "cable.critical_length"),
-               "V_dc,max × (1 + Γ), Γ → 1 beyond the critical length")
-    p, v = m.get("motor.rated_power"), m.get("motor.rated_voltage")
-    if p is not None and v is not None and m.has("protection.code") and str(m.get("protection.code")).startswith(
-            "nec"):
-        flc = sp.nec_full_load_current(p, v)
-        if flc is not None:
-            put(m, "protection.full_load_current", flc, "nec_full_load_current",
-               ("motor.rated_power", "motor.rated_voltage"), "NEC Table 430.250 (NFPA 70, 2008)")
+            inputs, "IEC 60364-5-52 Annex G: b·(ρ₁·L·cosφ/S + λ·L·sinφ)·I ÷ U₀")
+        line_drop = math.sqrt(3) * drop
+    u_min = m.get("supply.voltage_min")
+    if u_min is not None and m.get("drive.kind") in ("direct-on-line", "soft-starter"):
+        # a motor on the line sees the lowest supply voltage less the running drop
+        put(m, "cable.motor_voltage_low", (u_min - line_drop) / v, "motor_voltage_low",
+            ("supply.voltage_min", "cable.voltage_drop", "motor.rated_voltage"),
+            "(U_supply,min − ΔU_line) ÷ U_N, the motor on the line at the low supply tolerance")
+
+
+def _reflected_wave(m: Model) -> None:
+    if m.get("drive.kind") != "inverter":
+        return
+    if not m.has("cable.rise_time"):
+        # recorded, so the insulation limit a rule picks is read at the same rise time as the peak estimate
+        default(m, "cable.rise_time", DEFAULT_RISE_TIME, "IGBT output rise time 0.1 µs (common practice)")
+    rise = m.get("cable.rise_time")
+    crit = pe.reflected_wave_critical_length(CABLE_PROPAGATION_SPEED, rise)
+    put(m, "cable.critical_length", crit, "reflected_wave_critical_length", ("cable.rise_time",),
+        "v·t_r ÷ 2 with v = 150 m/µs (common practice)")
+    vdc = max(x for x in (m.get("drive.dc_bus_voltage_max"), m.get("drive.braking.chopper_threshold"), 0.0)
+              if x is not None)
+    length = m.get("cable.length")
+    if length is not None and vdc:
+        put(m, "cable.motor_peak_voltage", pe.motor_peak_voltage(vdc, length, crit), "motor_peak_voltage",
+            ("drive.dc_bus_voltage_max", "cable.length", "cable.critical_length"),
+            "V_dc,max × (1 + Γ), Γ → 1 beyond the critical length")
+
+
+def _nec_full_load_current(m: Model) -> None:
+    if not (m.has("protection.code") and str(m.get("protection.code")).startswith("nec")):
+        return
+    p = m.get("motor.rated_power")
+    if m.get("motor.kind") == "dc":
+        system, v_path = "dc", "motor.armature_voltage"
+        v = m.get("motor.armature_voltage", m.get("motor.rated_voltage"))
+    else:
+        phases = 1 if m.get("supply.phases") == 1 and m.get("drive.kind") != "inverter" else 3
+        system = "single-phase" if phases == 1 else "three-phase"
+        v, v_path = m.get("motor.rated_voltage"), "motor.rated_voltage"
+    if p is None or v is None:
+        return
+    flc = sp.nec_full_load_current(p, v, system)
+    if flc is not None:
+        put(m, "protection.full_load_current", flc, "nec_full_load_current", ("motor.rated_power", v_path),
+            f"NEC {sp.NEC_TABLE_NAMES[system]} (NFPA 70, 2023; written from the table, status P)")
+
+
+def _supply_side(m: Model) -> None:
+    """Prospective short-circuit current, the drive's input apparent power and short-circuit ratio, EMC environment."""
+    s_k, u = m.get("supply.fault_level"), m.get("supply.voltage")
+    if not (s_k and u and s_k > 0 and u > 0):
+        s_k = u = None
+    if s_k is not None and u is not None:
+        put(m, "supply.fault_current", sp.prospective_short_circuit_current(s_k, u),
+            "prospective_short_circuit_current", ("supply.fault_level", "supply.voltage"),
+            "I_k = S_k ÷ (√3·U_n) (IEC 60909-0); cable impedance neglected (conservative)")
+    i_in = m.get("drive.input_current")
+    if s_k is not None and u is not None and i_in:
+        s_equ = math.sqrt(3) * u * i_in
+        put(m, "drive.short_circuit_ratio", sp.short_circuit_ratio(s_k, s_equ), "short_circuit_ratio",
+            ("supply.fault_level", "supply.voltage", "drive.input_current"),
+            "R_sce = S_k ÷ (√3·U·I_in) (IEC 61000-3-12; IEEE 519 I_sc/I_L with the drive as the load)")
+    front_end = m.get("drive.front_end")
+    if front_end is not None and not m.has("drive.input_thd"):
+        put(m, "drive.input_thd", sp.typical_input_thd(str(front_end)), "typical_input_thd", ("drive.front_end",),
+            "typical input current THD for the front-end kind (common practice; give drive.input_thd from the "
+            "drive's data)", source="default")
+    env = m.get("supply.emc_environment")
+    if env is None and m.get("supply.low_voltage_network") in ("public", "private"):
+        env = "first" if m.get("supply.low_voltage_network") == "public" else "second"
+        put(m, "supply.emc_environment", env, "emc_environment", ("supply.low_voltage_network",),
+            "public LV network → first environment; own transformer → second (IEC 61800-3 definitions)")
 
 
 def _current_at(m: Model, torque: float) -> tuple[float, str, tuple[str, ...]] | None:

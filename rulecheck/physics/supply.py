@@ -1,12 +1,13 @@
 """Supply and installation: cable voltage drop, derating, voltage/frequency zones, unbalance, NEC values.
 
-NEC values are those of NFPA 70 (National Electrical Code) 2008 as listed in
+NEC values are those of NFPA 70 (National Electrical Code) 2023 as listed in
 docs/references.md (K19–K23); local codes and the adopted edition govern.
 """
 
 from __future__ import annotations
 
 import math
+import re
 
 import numpy as np
 
@@ -338,24 +339,98 @@ def unbalance_derating_factor(unbalance: float) -> float | None:
     return float(np.interp(unbalance, _UNBALANCE_POINTS, _UNBALANCE_FACTORS))
 
 
-# --- NEC Article 430 (NFPA 70, 2008 edition) ---------------------------------------
+# --- NEC Article 430 (NFPA 70, 2023 edition) ---------------------------------------
 
-NEC_EDITION = "NFPA 70 (NEC) 2008"
+NEC_EDITION = "NFPA 70 (NEC) 2023"
 HP_MECHANICAL = 745.69987158227022  # W, NIST SP 811 (2008) App. B
 
-# Table 430.250, three-phase induction motors: (hp rating, column voltage) -> full-load current [A].
-# Only the entries reproduced in docs/references.md K19; other ratings return None.
-_NEC_430_250 = {
-    (1.0, 460): 2.1,
-    (5.0, 460): 7.6,
-    (10.0, 460): 14.0,
-    (10.0, 230): 28.0,
-    (25.0, 460): 34.0,
-    (30.0, 460): 40.0,
-    (50.0, 460): 65.0,
-    (100.0, 460): 124.0,
-    (100.0, 230): 248.0,
+# The three NEC full-load current tables, as written down from the 2023 edition's layout (docs/references.md K45):
+# hp rating -> {column voltage: full-load current [A]}. The values were not checked against a printed copy of the
+# 2023 edition (status P): a dash in the table is an absent column here.
+_V3 = (115, 200, 208, 230, 460, 575, 2300)
+_NEC_430_250_ROWS = (  # Table 430.250, three-phase AC, induction-type squirrel-cage and wound-rotor motors
+    (0.5, (4.4, 2.5, 2.4, 2.2, 1.1, 0.9, None)),
+    (0.75, (6.4, 3.7, 3.5, 3.2, 1.6, 1.3, None)),
+    (1.0, (8.4, 4.8, 4.6, 4.2, 2.1, 1.7, None)),
+    (1.5, (12.0, 6.9, 6.6, 6.0, 3.0, 2.4, None)),
+    (2.0, (13.6, 7.8, 7.5, 6.8, 3.4, 2.7, None)),
+    (3.0, (None, 11.0, 10.6, 9.6, 4.8, 3.9, None)),
+    (5.0, (None, 17.5, 16.7, 15.2, 7.6, 6.1, None)),
+    (7.5, (None, 25.3, 24.2, 22.0, 11.0, 9.0, None)),
+    (10.0, (None, 32.2, 30.8, 28.0, 14.0, 11.0, None)),
+    (15.0, (None, 48.3, 46.2, 42.0, 21.0, 17.0, None)),
+    (20.0, (None, 62.1, 59.4, 54.0, 27.0, 22.0, None)),
+    (25.0, (None, 78.2, 74.8, 68.0, 34.0, 27.0, None)),
+    (30.0, (None, 92.0, 88.0, 80.0, 40.0, 32.0, None)),
+    (40.0, (None, 120.0, 114.0, 104.0, 52.0, 41.0, None)),
+    (50.0, (None, 150.0, 143.0, 130.0, 65.0, 52.0, None)),
+    (60.0, (None, 177.0, 169.0, 154.0, 77.0, 62.0, 16.0)),
+    (75.0, (None, 221.0, 211.0, 192.0, 96.0, 77.0, 20.0)),
+    (100.0, (None, 285.0, 273.0, 248.0, 124.0, 99.0, 26.0)),
+    (125.0, (None, 359.0, 343.0, 312.0, 156.0, 125.0, 31.0)),
+    (150.0, (None, 414.0, 396.0, 360.0, 180.0, 144.0, 37.0)),
+    (200.0, (None, 552.0, 528.0, 480.0, 240.0, 192.0, 49.0)),
+    (250.0, (None, None, None, None, 302.0, 242.0, 60.0)),
+    (300.0, (None, None, None, None, 361.0, 289.0, 72.0)),
+    (350.0, (None, None, None, None, 414.0, 336.0, 83.0)),
+    (400.0, (None, None, None, None, 477.0, 382.0, 95.0)),
+    (450.0, (None, None, None, None, 515.0, 412.0, 103.0)),
+    (500.0, (None, None, None, None, 590.0, 472.0, 118.0)),
+)
+_V1 = (115, 200, 208, 230)
+_NEC_430_248_ROWS = (  # Table 430.248, single-phase AC motors
+    (1 / 6, (4.4, 2.5, 2.4, 2.2)),
+    (0.25, (5.8, 3.3, 3.2, 2.9)),
+    (1 / 3, (7.2, 4.1, 4.0, 3.6)),
+    (0.5, (9.8, 5.6, 5.4, 4.9)),
+    (0.75, (13.8, 7.9, 7.6, 6.9)),
+    (1.0, (16.0, 9.2, 8.8, 8.0)),
+    (1.5, (20.0, 11.5, 11.0, 10.0)),
+    (2.0, (24.0, 13.8, 13.2, 12.0)),
+    (3.0, (34.0, 19.6, 18.7, 17.0)),
+    (5.0, (56.0, 32.2, 30.8, 28.0)),
+    (7.5, (80.0, 46.0, 44.0, 40.0)),
+    (10.0, (100.0, 57.5, 55.0, 50.0)),
+)
+_VDC = (90, 120, 180, 240, 500, 550)
+_NEC_430_247_ROWS = (  # Table 430.247, direct-current motors at base speed (rated armature voltage)
+    (0.25, (4.0, 3.1, 2.0, 1.6, None, None)),
+    (1 / 3, (5.2, 4.1, 2.6, 2.0, None, None)),
+    (0.5, (6.8, 5.4, 3.4, 2.7, None, None)),
+    (0.75, (9.6, 7.6, 4.8, 3.8, None, None)),
+    (1.0, (12.2, 9.5, 6.1, 4.7, None, None)),
+    (1.5, (None, 13.2, 8.3, 6.6, None, None)),
+    (2.0, (None, 17.0, 10.8, 8.5, None, None)),
+    (3.0, (None, 25.0, 16.0, 12.2, None, None)),
+    (5.0, (None, 40.0, 27.0, 20.0, None, None)),
+    (7.5, (None, 58.0, None, 29.0, 13.6, 12.2)),
+    (10.0, (None, 76.0, None, 38.0, 18.0, 16.0)),
+    (15.0, (None, None, None, 55.0, 27.0, 24.0)),
+    (20.0, (None, None, None, 72.0, 34.0, 31.0)),
+    (25.0, (None, None, None, 89.0, 43.0, 38.0)),
+    (30.0, (None, None, None, 106.0, 51.0, 46.0)),
+    (40.0, (None, None, None, 140.0, 67.0, 61.0)),
+    (50.0, (None, None, None, 173.0, 83.0, 75.0)),
+    (60.0, (None, None, None, 206.0, 99.0, 90.0)),
+    (75.0, (None, None, None, 255.0, 123.0, 111.0)),
+    (100.0, (None, None, None, 341.0, 164.0, 148.0)),
+    (125.0, (None, None, None, 425.0, 205.0, 185.0)),
+    (150.0, (None, None, None, 506.0, 246.0, 222.0)),
+    (200.0, (None, None, None, 675.0, 330.0, 294.0)),
+)
+
+
+def _table(rows: tuple[tuple[float, tuple[float | None, ...]], ...],
+           columns: tuple[int, ...]) -> dict[float, dict[int, float]]:
+    return {hp: {v: a for v, a in zip(columns, amps, strict=True) if a is not None} for hp, amps in rows}
+
+
+NEC_TABLES: dict[str, dict[float, dict[int, float]]] = {
+    "three-phase": _table(_NEC_430_250_ROWS, _V3),
+    "single-phase": _table(_NEC_430_248_ROWS, _V1),
+    "dc": _table(_NEC_430_247_ROWS, _VDC),
 }
+NEC_TABLE_NAMES = {"three-phase": "Table 430.250", "single-phase": "Table 430.248", "dc": "Table 430.247"}
 
 # 746 W (electrical horsepower) and 745.7 W (mechanical, NIST SP 811 B.8) differ by 0.04 %: NEC and NEMA MG 1 tables
 # treat them alike. A rating within 0.1 % of a table's hp is that hp; metric horsepower (735.5 W, 1.4 % less) is not.
@@ -375,32 +450,46 @@ def nec_table_horsepower(rated_power: float, ratings: tuple[float, ...]) -> floa
     return None
 
 
-# The table's voltages are motor ratings; the heading permits them for these system ranges (from memory).
-_NEC_VOLTAGE_COLUMNS = ((220.0, 240.0, 230), (440.0, 480.0, 460))
+# The AC tables' voltages are motor ratings; their headings permit the currents for the system ranges 110-120,
+# 220-240, 440-480 and 550-600 V. 200 V and 208 V have their own columns; 2300 V is read for 2300-2400 V.
+# The DC table is read at the motor's rated armature voltage (its own column only).
+_AC_RANGES = ((110.0, 120.0, 115), (200.0, 200.0, 200), (208.0, 208.0, 208), (220.0, 240.0, 230),
+              (440.0, 480.0, 460), (550.0, 600.0, 575), (2300.0, 2400.0, 2300))
+
+
+def _nec_column(voltage: float, system: str) -> int | None:
+    if system == "dc":
+        return next((col for col in _VDC if at_least(voltage, col) and at_most(voltage, col)), None)
+    return next((col for low, high, col in _AC_RANGES if at_least(voltage, low) and at_most(voltage, high)), None)
 
 
 @method(returns="current", rated_power="power", voltage="voltage")
-def nec_full_load_current(rated_power: float, voltage: float) -> float | None:
-    """Return the NEC Table 430.250 full-load current [A] of a three-phase motor; None if not held.
+def nec_full_load_current(rated_power: float, voltage: float, system: str = "three-phase") -> float | None:
+    """Return the NEC table full-load current [A] of a motor; None where the table gives none.
 
     Parameters
     ----------
-    rated_power : horsepower rating, as power [W] (``10 hp`` parses to 7457 W)
-    voltage : motor rated voltage or system voltage [V]; 220–240 V reads the 230 V column, 440–480 V the
-        460 V column
+    rated_power : horsepower rating, as power [W] (``10 hp`` parses to 7457 W; 746 W and 745.7 W are both 1 hp)
+    voltage : motor rated voltage (DC: rated armature voltage) [V]; an AC rating in 110-120, 220-240, 440-480 or
+        550-600 V reads the 115, 230, 460 or 575 V column (the tables' headings), 200 and 208 V their own columns
+    system : ``three-phase`` (Table 430.250), ``single-phase`` (Table 430.248) or ``dc`` (Table 430.247)
 
-    Method: table look-up keyed by hp rating (not by watts; pitfall 5); 746 W and 745.7 W per hp alike. Use
-    table FLC for conductors and short-circuit protection, nameplate FLA for overloads (pitfall 18).
+    Method: table look-up keyed by the horsepower rating (within NEC_HP_MATCH: 746 W and 745.7 W per hp alike),
+    never by watts (pitfall 5); a size or voltage the table leaves blank returns None. Use the table FLC for
+    conductors and short-circuit protection, the nameplate FLA for overloads (pitfall 18; 430.6(A)).
 
     References
     ----------
-    NFPA 70 (NEC) 2008, Table 430.250, as reproduced in docs/references.md K19 (only those entries are held).
+    NFPA 70 (NEC) 2023, Tables 430.247, 430.248 and 430.250 (docs/references.md K19, K45; values written from
+    the tables' layout, not checked against a printed 2023 copy: status P).
     """
-    for low, high, column in _NEC_VOLTAGE_COLUMNS:
-        if at_least(voltage, low) and at_most(voltage, high):
-            hp = nec_table_horsepower(rated_power, tuple(h for h, c in _NEC_430_250 if c == column))
-            return _NEC_430_250.get((hp, column)) if hp is not None else None
-    return None
+    if system not in NEC_TABLES:
+        raise ValueError(f"unknown system {system!r}; use three-phase, single-phase or dc")
+    hp = nec_table_horsepower(rated_power, tuple(sorted(NEC_TABLES[system])))
+    column = _nec_column(voltage, system)
+    if hp is None or column is None:
+        return None
+    return NEC_TABLES[system].get(hp, {}).get(column)
 
 
 @method(returns="current", full_load_current="current")
@@ -493,3 +582,180 @@ def nec_short_circuit_protection_max(full_load_current: float, device: str = "in
     if device not in NEC_430_52_PERCENT:
         raise ValueError(f"unknown protective device {device!r}; use one of {', '.join(NEC_430_52_PERCENT)}")
     return NEC_430_52_PERCENT[device] / 100.0 * full_load_current
+
+
+# --- conductors, DC circuits, fault level, harmonics -------------------------------
+
+_AWG_PATTERN = re.compile(r"^\s*(\d{1,2}|[1-4]/0)\s*AWG\s*$", re.IGNORECASE)
+_KCMIL_PATTERN = re.compile(r"^\s*([1-9]\d{1,3}(?:\.\d+)?)\s*(kcmil|MCM)\s*$", re.IGNORECASE)
+KCMIL = 0.00064516 / 1273.2395447351628  # m², one thousand circular mils: π/4·(0.001 in)²·1000 = 0.5067 mm²
+
+
+def conductor_size_area(size: str) -> float:
+    """Return the cross-section [m²] of an AWG or kcmil conductor size (e.g. ``10 AWG``, ``1/0 AWG``, ``250 kcmil``).
+
+    Method: AWG n (1/0 … 4/0 as 0 … −3): d = 0.127 mm · 92^((36 − n)/39), A = π/4·d² (ASTM B258 definition of
+    the gauge); 1 kcmil = 1000 circular mils = π/4 · (0.0254 mm)² · 1000 = 0.506 71 mm².
+
+    References
+    ----------
+    ASTM B258 (American Wire Gauge definition; from memory for the edition); NEC Chapter 9, Table 8 lists the
+    same areas (e.g. 12 AWG 3.31 mm², 1/0 AWG 53.5 mm²; docs/references.md K46).
+    """
+    m = _AWG_PATTERN.match(size)
+    if m:
+        token = m.group(1)
+        n = 1 - int(token[0]) if "/" in token else int(token)
+        if not -3 <= n <= 40:
+            raise ValueError(f"AWG size {size!r} out of range (4/0 … 40)")
+        d = 0.127e-3 * 92.0 ** ((36 - n) / 39)
+        return math.pi / 4.0 * d * d
+    m = _KCMIL_PATTERN.match(size)
+    if m:
+        return float(m.group(1)) * KCMIL
+    raise ValueError(f"unknown conductor size {size!r}; write e.g. '10 AWG', '1/0 AWG' or '250 kcmil'")
+
+
+@method(returns="voltage", current="current", length="length", area="area")
+def voltage_drop_dc(current: float, length: float, area: float, material: str = "copper") -> float:
+    """Return the voltage drop u [V] of a two-wire DC circuit (out and return conductor).
+
+    Parameters
+    ----------
+    current : circuit current [A] (DC motor: armature current)
+    length : one-way route length L [m]
+    area : conductor cross-section S [m²] per pole (parallel conductors: their sum)
+    material : ``copper`` or ``aluminium`` (IEC 60364-5-52 Annex G resistivity ρ1)
+
+    Method: u = 2·R·I with R = ρ1·L/S; no reactive term on DC. The relative drop is u/U (rated armature voltage).
+
+    References
+    ----------
+    Ohm's law over both conductors; ρ1 from IEC 60364-5-52 Annex G (docs/references.md K33, R37).
+    """
+    return 2.0 * _annex_g_resistivity(material) * length / area * current
+
+
+@method(returns="current", fault_level="apparent_power", voltage="voltage")
+def prospective_short_circuit_current(fault_level: float, voltage: float) -> float:
+    """Return the symmetrical prospective short-circuit current [A] from a three-phase fault level.
+
+    Parameters
+    ----------
+    fault_level : short-circuit power S_k at the point of connection [VA]
+    voltage : nominal line-to-line voltage [V]
+
+    Method: I_k = S_k ÷ (√3·U_n), the definition of the short-circuit power S_k = √3·U_n·I_k (IEC 60909-0).
+    The impedance of the cable between the point of connection and the equipment is neglected, which can only
+    make I_k larger (conservative for a rating check).
+
+    References
+    ----------
+    IEC 60909-0:2016, definition of the initial symmetrical short-circuit power (from memory for the clause);
+    docs/references.md R47.
+    """
+    return fault_level / (SQRT3 * voltage)
+
+
+@method(returns="fraction", fault_level="apparent_power", rated_power="apparent_power")
+def short_circuit_ratio(fault_level: float, rated_power: float) -> float:
+    """Return a short-circuit ratio [1]: the fault level over the equipment's (or load's) apparent power.
+
+    Parameters
+    ----------
+    fault_level : short-circuit power S_sc at the point of connection [VA]
+    rated_power : apparent power of the equipment S_equ = √3·U·I_in (IEC 61000-3-12 R_sce), or of the maximum
+        demand load (IEEE 519 I_sc/I_L, the same ratio in currents) [VA]
+
+    Method: R = S_sc ÷ S_equ.
+
+    References
+    ----------
+    IEC 61000-3-12:2011, definition of R_sce; IEEE 519-2014, I_sc/I_L (docs/references.md R48).
+    """
+    return fault_level / rated_power
+
+
+# Typical input current THD of a drive's front end at rated load, by kind. Labelled typical values, common
+# practice (manufacturers' application guides give 80-130 % with no choke, 30-50 % with a DC or AC choke of
+# about 3-5 %, under 5 % for an active front end): the measured or stated value of the drive replaces them.
+TYPICAL_INPUT_THD = {
+    "six-pulse-no-choke": 0.90,
+    "six-pulse-dc-choke": 0.40,
+    "six-pulse-ac-choke": 0.40,
+    "twelve-pulse": 0.12,
+    "active-front-end": 0.05,
+}
+
+# IEC 61000-3-12:2011 Table 3 (balanced three-phase equipment, 16 A < I ≤ 75 A per phase): minimum R_sce →
+# limit of the total harmonic current THC/I_ref. From memory (status M); the partial-weighted and the individual
+# 5th/7th/11th/13th limits of the same table are not applied.
+IEC_61000_3_12_THC = ((33.0, 0.13), (66.0, 0.16), (120.0, 0.22), (250.0, 0.37), (350.0, 0.48))
+
+# IEEE 519-2014 Table 2 (120 V – 69 kV): I_sc/I_L upper bound → total demand distortion TDD limit.
+# From memory (status M).
+IEEE_519_TDD = ((20.0, 0.05), (50.0, 0.08), (100.0, 0.12), (1000.0, 0.15), (math.inf, 0.20))
+
+
+@method(returns="fraction", short_circuit_ratio="fraction")
+def iec_61000_3_12_thc_limit(short_circuit_ratio: float) -> float | None:
+    """Return the IEC 61000-3-12 THC limit [1] for balanced three-phase equipment at a given R_sce; None below 33.
+
+    Parameters
+    ----------
+    short_circuit_ratio : R_sce of the equipment at its point of connection [1]
+
+    Method: Table 3 step for the largest tabulated R_sce not above the given one (the standard allows linear
+    interpolation between rows; the step is the conservative reading); below R_sce = 33 the table gives no limit
+    (the equipment needs the network operator's agreement).
+
+    References
+    ----------
+    IEC 61000-3-12:2011 Table 3 (values from memory, docs/references.md R48: status M).
+    """
+    limit = None
+    for rsce, thc in IEC_61000_3_12_THC:
+        if short_circuit_ratio >= rsce * (1 - 1e-9):
+            limit = thc
+    return limit
+
+
+@method(returns="fraction", short_circuit_ratio="fraction")
+def ieee_519_tdd_limit(short_circuit_ratio: float) -> float:
+    """Return the IEEE 519 TDD limit [1] at the point of common coupling for a ratio I_sc/I_L.
+
+    Parameters
+    ----------
+    short_circuit_ratio : I_sc/I_L at the PCC [1]
+
+    Method: Table 2 row whose I_sc/I_L band holds the ratio: < 20 → 5 %, 20–50 → 8 %, 50–100 → 12 %,
+    100–1000 → 15 %, > 1000 → 20 %.
+
+    References
+    ----------
+    IEEE 519-2014 Table 2, 120 V through 69 kV (values from memory, docs/references.md R48: status M).
+    """
+    for upper, tdd in IEEE_519_TDD:
+        if short_circuit_ratio < upper:
+            return tdd
+    return IEEE_519_TDD[-1][1]
+
+
+def typical_input_thd(front_end: str) -> float:
+    """Return a typical input current THD [1] at rated load for a drive's front-end kind (labelled typical).
+
+    Parameters
+    ----------
+    front_end : ``six-pulse-no-choke``, ``six-pulse-dc-choke``, ``six-pulse-ac-choke``, ``twelve-pulse`` or
+        ``active-front-end``
+
+    Method: table look-up of typical values (90 %, 40 %, 40 %, 12 %, 5 %); the drive's stated THD replaces it.
+
+    References
+    ----------
+    Common practice (drive makers' harmonic application notes; ranges 80–130 %, 30–50 %, 30–50 %, 10–15 %, 3–5 %);
+    docs/references.md R48 (status C).
+    """
+    if front_end not in TYPICAL_INPUT_THD:
+        raise ValueError(f"unknown front end {front_end!r}; use one of {', '.join(TYPICAL_INPUT_THD)}")
+    return TYPICAL_INPUT_THD[front_end]

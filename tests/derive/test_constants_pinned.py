@@ -10,6 +10,7 @@ import pytest
 from rulecheck.derive import installation, load, motor, site, starting, supply
 from rulecheck.engine.ruleset import load_rules, shipped_rules_dir
 from rulecheck.physics import dynamics, machines
+from rulecheck.physics import supply as supply_physics
 from tests.derive import test_duty, test_motor, test_site
 from tests.rules.harness import outcome_of, run_example, shipped_context
 
@@ -37,6 +38,10 @@ CONSTANTS = [
     (starting, "DOL_RUN_UP_END", 0.9),  # train.acceleration_time → acceleration-time
     (load, "HOLDBACK_FRICTION", 0.02),  # load.runback_torque → conveyor-runback
     (installation, "CABLE_PROPAGATION_SPEED", 120e6),  # cable.critical_length → inverter-insulation-reflected-wave
+    # protection.full_load_current: 746 W must read the 1 hp row → conductor-and-protection-sizing
+    (supply_physics, "NEC_HP_MATCH", 0.0001),
+    # drive.input_thd from the front end → line-harmonics
+    (supply_physics, "TYPICAL_INPUT_THD", {**supply_physics.TYPICAL_INPUT_THD, "six-pulse-dc-choke": 0.30}),
     (machines, "_COOLING_FACTOR", (0.55, 0.75, 0.85, 1.00)),  # k_cool → torque-margin-continuous
     (dynamics, "DEFAULT_STANDSTILL_FACTOR", 0.6,
      # β → duty.rms_torque → torque-rms-duty-cycle

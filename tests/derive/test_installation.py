@@ -223,3 +223,82 @@ def test_unknown_stop_leaves_regeneration_open() -> None:
     assert m.has("train.inertia_total")
     assert not m.has("train.regenerates")
     assert not m.has("train.braking_energy")
+
+
+def test_awg_size_gives_the_area_and_parallel_conductors_add() -> None:
+    # 1/0 AWG = 53.49 mm² (K46); two in parallel per phase → 106.97 mm²
+    m = model({"motor": BASE_MOTOR, "cable": {"length": "50 m", "conductor_size": "1/0 AWG", "parallel_conductors": 2}})
+    assert m.get("cable.phase_area") == pytest.approx(2 * 53.49e-6, rel=1e-3)
+    # a given area wins over the size
+    both = model({"motor": BASE_MOTOR, "cable": {"conductor_area": "50 mm^2", "conductor_size": "1/0 AWG"}})
+    assert both.get("cable.phase_area") == pytest.approx(50e-6)
+
+
+def test_parallel_conductors_halve_the_drop() -> None:
+    # K34: 50 A, 100 m, 16 mm² Cu, cos φ 0.85 → 2.68 %; two cables in parallel each carry 25 A → 1.34 %
+    motor = {**BASE_MOTOR, "rated_current": "50 A", "power_factor": 0.85}
+    one = model({"motor": motor, "cable": {"length": "100 m", "conductor_area": "16 mm^2"}})
+    two = model({"motor": motor, "cable": {"length": "100 m", "conductor_area": "16 mm^2", "parallel_conductors": 2}})
+    assert one.get("cable.voltage_drop") == pytest.approx(0.0268, rel=3e-3)
+    assert two.get("cable.voltage_drop") == pytest.approx(one.get("cable.voltage_drop") / 2, rel=1e-12)
+
+
+def test_single_phase_line_circuit_uses_out_and_return() -> None:
+    # 230 V single-phase DOL, 10 A, 40 m of 2.5 mm², cos φ 0.8: 2·10·40·(9.0e-3·0.8 + 0.08e-3·0.6) = 5.798 V → 2.521 %
+    motor = {"kind": "induction", "rated_voltage": "230 V", "rated_current": "10 A", "power_factor": 0.8}
+    m = model({"supply": {"voltage": "230 V", "phases": 1}, "drive": {"kind": "direct-on-line"}, "motor": motor,
+               "cable": {"length": "40 m", "conductor_area": "2.5 mm^2"}})
+    assert m.get("cable.voltage_drop") == pytest.approx(5.798 / 230, rel=1e-3)
+    # default ±10 % band: (207 − 5.798) ÷ 230 = 87.48 %
+    assert m.get("cable.motor_voltage_low") == pytest.approx((207 - 5.798) / 230, rel=1e-3)
+
+
+def test_inverter_on_single_phase_feeds_a_three_phase_motor_cable() -> None:
+    motor = {"kind": "induction", "rated_voltage": "230 V", "rated_current": "10 A", "power_factor": 0.8}
+    m = model({"supply": {"voltage": "230 V", "phases": 1}, "drive": {"kind": "inverter"}, "motor": motor,
+               "cable": {"length": "40 m", "conductor_area": "2.5 mm^2"}})
+    # three-phase form: (9.0e-3·0.8 + 0.08e-3·0.6)·40·10 = 2.899 V ÷ (230/√3) = 2.183 %; no line-voltage value
+    assert m.get("cable.voltage_drop") == pytest.approx(2.899 / (230 / math.sqrt(3)), rel=1e-3)
+    assert not m.has("cable.motor_voltage_low")
+
+
+def test_dc_armature_circuit_needs_no_power_factor() -> None:
+    # pr-x-202: 124 A, 120 ft (36.58 m) of 1/0 AWG: 2·0.0225·36.58/53.49·124 = 3.816 V ÷ 500 V = 0.763 %
+    m = model({"supply": {"voltage": "480 V"}, "drive": {"kind": "dc-converter"},
+               "motor": {"kind": "dc", "rated_voltage": "500 V", "armature_voltage": "500 V",
+                         "armature_current": "124 A", "rated_power": "75 hp_mech"},
+               "cable": {"length": "120 ft", "conductor_size": "1/0 AWG"}, "protection": {"code": "nec-2017"}})
+    assert m.get("cable.voltage_drop") == pytest.approx(0.00763, rel=2e-3)
+    assert m.get("protection.full_load_current") == 123.0  # Table 430.247, 75 hp, 500 V (K45)
+
+
+def test_f17_motor_on_the_line_below_zone_b() -> None:
+    # f17: 400 V −8 %, 28 A, 130 m of 4 mm², cos φ 0.84: ΔU = 30.06 V; (368 − 30.06)/400 = 84.48 %
+    motor = {**BASE_MOTOR, "rated_current": "28 A", "power_factor": 0.84}
+    m = model({"supply": {"voltage": "400 V", "voltage_tolerance": "8 %"}, "drive": {"kind": "direct-on-line"},
+               "motor": motor, "cable": {"length": "130 m", "conductor_area": "4 mm^2"}})
+    assert m.get("cable.voltage_drop") == pytest.approx(0.0752, rel=2e-3)
+    assert m.get("cable.motor_voltage_low") == pytest.approx(0.8448, rel=1e-3)
+
+
+def test_nec_single_phase_table_on_the_line() -> None:
+    m = model({"supply": {"voltage": "230 V", "phases": 1}, "drive": {"kind": "direct-on-line"},
+               "motor": {"kind": "induction", "rated_power": "2 hp_mech", "rated_voltage": "230 V"},
+               "protection": {"code": "nec-2023"}})
+    assert m.get("protection.full_load_current") == 12.0  # Table 430.248, 2 hp, 230 V (K45)
+
+
+def test_fault_current_ratio_environment_and_typical_thd() -> None:
+    # 10 MVA at 400 V: 14 434 A; R_sce = 10e6/(√3·400·30) = 481.1; public network → first environment
+    m = model({"supply": {"voltage": "400 V", "fault_level": "10 MVA", "low_voltage_network": "public"},
+               "drive": {"kind": "inverter", "input_current": "30 A", "front_end": "six-pulse-dc-choke"},
+               "motor": BASE_MOTOR})
+    assert m.get("supply.fault_current") == pytest.approx(14433.76, rel=1e-5)
+    assert m.get("drive.short_circuit_ratio") == pytest.approx(481.13, rel=1e-4)
+    assert m.get("supply.emc_environment") == "first"
+    assert m.get("drive.input_thd") == 0.40
+    stated = model({"supply": {"voltage": "400 V", "low_voltage_network": "private", "emc_environment": "first"},
+                    "drive": {"kind": "inverter", "front_end": "six-pulse-no-choke", "input_thd": "33 %"},
+                    "motor": BASE_MOTOR})
+    assert stated.get("drive.input_thd") == pytest.approx(0.33)  # the drive's own value wins
+    assert stated.get("supply.emc_environment") == "first"  # the stated environment wins

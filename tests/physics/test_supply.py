@@ -121,9 +121,101 @@ def test_k19_nec_table_430_250(hp, volts, amps):
     assert flc.magnitude == amps
 
 
-def test_k19_entries_not_held():
-    assert supply.nec_full_load_current(7.5 * supply.HP_MECHANICAL, 460) is None
-    assert supply.nec_full_load_current(10 * supply.HP_MECHANICAL, 208) is None
+@pytest.mark.parametrize(
+    ("system", "hp", "volts", "amps"),
+    [
+        # K45: NFPA 70 (NEC) 2023 tables as written from their layout (status P); the sizes the K19 set lacked
+        ("three-phase", 7.5, 460, 11.0), ("three-phase", 15, 460, 21.0), ("three-phase", 10, 208, 30.8),
+        ("three-phase", 1, 208, 4.6), ("three-phase", 0.5, 115, 4.4), ("three-phase", 40, 575, 41.0),
+        ("three-phase", 200, 230, 480.0), ("three-phase", 500, 460, 590.0), ("three-phase", 100, 2400, 26.0),
+        ("single-phase", 2, 230, 12.0), ("single-phase", 1 / 6, 115, 4.4), ("single-phase", 10, 208, 55.0),
+        ("single-phase", 0.5, 120, 9.8),
+        ("dc", 75, 500, 123.0), ("dc", 75, 240, 255.0), ("dc", 0.25, 90, 4.0), ("dc", 200, 550, 294.0),
+        ("dc", 7.5, 120, 58.0),
+    ],
+)
+def test_k45_nec_tables_all_sizes(system, hp, volts, amps):
+    assert supply.nec_full_load_current(hp * supply.HP_MECHANICAL, volts, system) == amps
+
+
+def test_k45_tables_are_complete_and_rise_with_size():
+    # every row of each table: currents fall with voltage across a row and rise with horsepower down a column
+    # (a mistyped entry breaks the order); the published tables hold 27, 12 and 23 sizes
+    sizes = {"three-phase": 27, "single-phase": 12, "dc": 23}
+    for system, table in supply.NEC_TABLES.items():
+        assert len(table) == sizes[system]
+        columns = sorted({v for row in table.values() for v in row})
+        for row in table.values():
+            amps = [row[v] for v in columns if v in row]
+            assert amps == sorted(amps, reverse=True), (system, row)
+        for v in columns:
+            down = [table[hp][v] for hp in sorted(table) if v in table[hp]]
+            assert down == sorted(down), (system, v)
+
+
+def test_k45_horsepower_keying():
+    # 746 W (electrical hp) and 745.7 W (mechanical hp, K01) are both the 1 hp row; 7.5 kW (10.06 hp) is no size
+    assert supply.nec_full_load_current(746.0, 460) == 2.1
+    assert supply.nec_full_load_current(745.7, 460) == 2.1
+    assert supply.nec_full_load_current(7500.0, 460) is None
+    # blanks of the table and voltages outside its columns give None, never a neighbour's value
+    assert supply.nec_full_load_current(3 * supply.HP_MECHANICAL, 115) is None
+    assert supply.nec_full_load_current(10 * supply.HP_MECHANICAL, 400) is None
+    assert supply.nec_full_load_current(75 * supply.HP_MECHANICAL, 480, "dc") is None
+    with pytest.raises(ValueError):
+        supply.nec_full_load_current(746.0, 460, "two-phase")
+
+
+@pytest.mark.parametrize(("size", "mm2"), [("12 AWG", 3.31), ("10 AWG", 5.26), ("1/0 AWG", 53.5),
+                                           ("4/0 AWG", 107.2), ("250 kcmil", 126.7), ("500 MCM", 253.4)])
+def test_k46_conductor_sizes(size, mm2):
+    # NEC Chapter 9 Table 8 areas, printed to 3–4 digits (hence 0.1 %)
+    assert supply.conductor_size_area(size) * 1e6 == pytest.approx(mm2, rel=1e-3)
+
+
+def test_k46_kcmil_is_a_thousand_circular_mils():
+    # 1 circular mil = π/4·(0.001 in)² (NIST SP 811 App. B: 5.067075e-10 m²)
+    assert supply.KCMIL == pytest.approx(5.067075e-7, rel=1e-6)
+    with pytest.raises(ValueError):
+        supply.conductor_size_area("5/0 AWG")
+
+
+def test_dc_voltage_drop_two_conductors():
+    # 124 A over 36.58 m of 53.5 mm² Cu: R = 0.0225·36.58/53.5 = 15.38 mΩ per conductor; 2·R·I = 3.815 V
+    assert supply.voltage_drop_dc(124.0, 36.576, 53.5e-6) == pytest.approx(3.815, rel=1e-3)
+
+
+def test_single_phase_annex_g_is_two_over_root_three_of_the_three_phase_line_drop():
+    # b = 2 (out and return) against the three-phase line drop √3·u: ratio 2/√3
+    one = supply.voltage_drop_annex_g(10.0, 40.0, 2.5e-6, 0.8, phases=1)
+    three = supply.voltage_drop_annex_g(10.0, 40.0, 2.5e-6, 0.8, phases=3)
+    assert one / (math.sqrt(3) * three) == pytest.approx(2 / math.sqrt(3), rel=1e-12)
+    assert one == pytest.approx(5.798, rel=1e-3)  # 2·10·40·(9.0e-3·0.8 + 0.08e-3·0.6)
+
+
+def test_prospective_short_circuit_current():
+    # 50 MVA at 400 V: 50e6/(√3·400) = 72 168.8 A
+    assert supply.prospective_short_circuit_current(50e6, 400.0) == pytest.approx(72168.78, rel=1e-6)
+
+
+@pytest.mark.parametrize(("rsce", "limit"), [(20.0, None), (33.0, 0.13), (65.9, 0.13), (66.0, 0.16), (120.0, 0.22),
+                                             (300.0, 0.37), (350.0, 0.48), (5000.0, 0.48)])
+def test_iec_61000_3_12_thc_steps(rsce, limit):
+    # IEC 61000-3-12 Table 3 (from memory, R43): read at the lower row, no limit below R_sce 33
+    assert supply.iec_61000_3_12_thc_limit(rsce) == limit
+
+
+@pytest.mark.parametrize(("ratio", "limit"), [(10.0, 0.05), (20.0, 0.08), (49.0, 0.08), (50.0, 0.12),
+                                              (300.0, 0.15), (1000.0, 0.20)])
+def test_ieee_519_tdd_rows(ratio, limit):
+    # IEEE 519-2014 Table 2 (from memory, R43)
+    assert supply.ieee_519_tdd_limit(ratio) == limit
+
+
+def test_typical_thd_labelled_and_refuses_unknown():
+    assert supply.typical_input_thd("active-front-end") == 0.05
+    with pytest.raises(ValueError):
+        supply.typical_input_thd("eighteen-pulse")
 
 
 def test_k20_to_k23_nec_multipliers():
