@@ -5,13 +5,21 @@ from __future__ import annotations
 import sys
 import textwrap
 from pathlib import Path
+from typing import Any
 
 from rulecheck.check import BUILTIN_RULES
 from rulecheck.derive import catalogue  # the catalogue rule expressions may read besides the spec's fields
 from rulecheck.engine.lint import lint_rule
 from rulecheck.engine.ruleset import RuleError, load_rules, rule_files, rules_digest, shipped_rules_dir
+from rulecheck.report.common import terminal_safe
 
 __all__ = ["is_shipped_rules", "lint_folder", "list_rules", "show_rule"]
+
+def _say(*parts: object, **options: Any) -> None:
+    """Print text from rule files: a rule file comes from a pull request as often as not, so nothing it holds
+    reaches the terminal as a control sequence."""
+    print(*(terminal_safe(p) for p in parts), **options)
+
 
 _STATUS = {"V": "verified", "V*": "verified numerically", "P": "derivation", "M": "from memory",
            "C": "common practice"}
@@ -20,7 +28,7 @@ _STATUS = {"V": "verified", "V*": "verified numerically", "P": "derivation", "M"
 def _ruleset(extra: list[str]):  # type: ignore[no-untyped-def]
     ruleset, errors = load_rules([shipped_rules_dir(), *[Path(p) for p in extra]])
     for e in errors:
-        print(f"rulecheck: {e}", file=sys.stderr)
+        _say(f"rulecheck: {e}", file=sys.stderr)
     return ruleset, errors
 
 
@@ -32,8 +40,8 @@ def list_rules(extra: list[str]) -> int:
     width = max(len(r[0]) for r in rows)
     for rule_id, topic, severity, safety, title in sorted(rows, key=lambda r: (r[1], r[0])):
         mark = "S" if safety else " "
-        print(f"{rule_id:<{width}}  {topic:<20}  {severity:<7}  {mark}  {title}")
-    print(f"\n{len(rows)} rules; S = safety-relevant (never a silent pass when it cannot be evaluated)")
+        _say(f"{rule_id:<{width}}  {topic:<20}  {severity:<7}  {mark}  {title}")
+    _say(f"\n{len(rows)} rules; S = safety-relevant (never a silent pass when it cannot be evaluated)")
     return 2 if errors else 0
 
 
@@ -41,10 +49,10 @@ def show_rule(rule_id: str, extra: list[str]) -> int:
     """Print what a rule checks, why, its formula, parameters, basis and examples."""
     if rule_id in BUILTIN_RULES:
         meta = BUILTIN_RULES[rule_id]
-        print(f"{rule_id}: {meta['title']}\n\n{textwrap.fill(meta['description'], 88)}\n")
+        _say(f"{rule_id}: {meta['title']}\n\n{textwrap.fill(meta['description'], 88)}\n")
         for b in meta["basis"]:
-            print(f"basis: {b['source']} ({_STATUS.get(b['status'], b['status'])})")
-        print("\nBuilt in: checked while the spec is loaded and validated.")
+            _say(f"basis: {b['source']} ({_STATUS.get(b['status'], b['status'])})")
+        _say("\nBuilt in: checked while the spec is loaded and validated.")
         return 0
     ruleset, _errors = _ruleset(extra)
     resolved = ruleset.resolve(rule_id)
@@ -52,49 +60,49 @@ def show_rule(rule_id: str, extra: list[str]) -> int:
         import difflib
 
         close = difflib.get_close_matches(rule_id, [*ruleset.rules, *BUILTIN_RULES], n=1)
-        print(f"rulecheck: no rule '{rule_id}'" + (f"; did you mean '{close[0]}'?" if close else ""),
+        _say(f"rulecheck: no rule '{rule_id}'" + (f"; did you mean '{close[0]}'?" if close else ""),
               file=sys.stderr)
         return 2
     r = ruleset.rules[resolved]
-    print(f"{r.id}: {r.title}")
-    print(f"topic {r.topic}, severity {r.severity}" + (", safety-relevant" if r.safety else ""))
+    _say(f"{r.id}: {r.title}")
+    _say(f"topic {r.topic}, severity {r.severity}" + (", safety-relevant" if r.safety else ""))
     if r.aliases:
-        print("aliases: " + ", ".join(r.aliases))
-    print()
+        _say("aliases: " + ", ".join(r.aliases))
+    _say()
     _print_description(r)
     if r.formula:
-        print(f"formula: {r.formula}")
+        _say(f"formula: {r.formula}")
     if r.applies_text:
-        print(f"applies when: {r.applies_text}")
+        _say(f"applies when: {r.applies_text}")
     if r.values:
-        print("computed:")
+        _say("computed:")
         for name, _c, text, _k in r.values:
-            print(f"  {name} = {text}")
-    print("fails when (first that holds):")
+            _say(f"  {name} = {text}")
+    _say("fails when (first that holds):")
     for c in r.checks:
-        print(f"  [{c.severity}] {c.when_text}")
+        _say(f"  [{c.severity}] {c.when_text}")
     if r.params:
-        print("parameters (override in configuration or in the spec's 'margins'):")
+        _say("parameters (override in configuration or in the spec's 'margins'):")
         for p in r.params.values():
-            print(f"  {p.name} = {p.written}  — {p.description}")
-    print("basis:")
+            _say(f"  {p.name} = {p.written}  — {p.description}")
+    _say("basis:")
     for b in r.basis:
-        print(f"  {b['source']} ({_STATUS.get(b['status'], b['status'])})")
-    print("examples:")
+        _say(f"  {b['source']} ({_STATUS.get(b['status'], b['status'])})")
+    _say("examples:")
     for ex in r.examples:
-        print(f"  {ex['outcome']}: {ex['name']}")
-    print(f"\nfile: {r.file}")
+        _say(f"  {ex['outcome']}: {ex['name']}")
+    _say(f"\nfile: {r.file}")
     return 0
 
 
 def _print_description(r) -> None:  # type: ignore[no-untyped-def]
     """Print the rule's description, paragraph by paragraph, then what it covers (its scope)."""
     for para in r.description.strip().split("\n\n"):
-        print(textwrap.fill(" ".join(para.split()), 88))
-        print()
+        _say(textwrap.fill(" ".join(para.split()), 88))
+        _say()
     if r.scope:
-        print(textwrap.fill(f"scope: {r.scope}", 88, subsequent_indent="  "))
-        print()
+        _say(textwrap.fill(f"scope: {r.scope}", 88, subsequent_indent="  "))
+        _say()
 
 
 def is_shipped_rules(folder: Path) -> bool:
@@ -122,7 +130,7 @@ def lint_folder(folder: str, strict: bool = False) -> int:
     """
     path = Path(folder)
     if not path.is_dir():
-        print(f"rulecheck: {folder}: not a folder", file=sys.stderr)
+        _say(f"rulecheck: {folder}: not a folder", file=sys.stderr)
         return 2
     shipped = shipped_rules_dir().resolve()
     alone = is_shipped_rules(path)
@@ -141,6 +149,6 @@ def lint_folder(folder: str, strict: bool = False) -> int:
         if "pass" not in outcomes or "fail" not in outcomes:
             problems.append(RuleError(rule.file, "examples need at least one pass and one fail case"))
     for p in problems:
-        print(str(p))
-    print(f"{len(files)} rule files, {len(problems)} problems", file=sys.stderr)
+        _say(str(p))
+    _say(f"{len(files)} rule files, {len(problems)} problems", file=sys.stderr)
     return 1 if problems else 0

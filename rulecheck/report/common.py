@@ -95,6 +95,14 @@ ORDER_STATEMENT = (
 
 
 
+def terminal_safe(text: Any) -> str:
+    """Return text that may hold several lines, safe for a terminal: every character that is not printable
+    (escape sequences that retitle a window, clear the screen or hide a link's address; bidirectional
+    overrides; other controls) but a line break becomes U+FFFD."""
+    s = "" if text is None else str(text)
+    return "".join(ch if ch.isprintable() or ch == "\n" else "\ufffd" for ch in s)
+
+
 def plain(text: Any, limit: int = 2000) -> str:
     """Return ``text`` as a single-line string without control characters, cut to ``limit`` characters."""
     if text is None:

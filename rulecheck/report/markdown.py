@@ -22,17 +22,20 @@ MAX_LENGTH = 60_000  # review systems cap comments near 65 536 characters; keep 
 # Characters that start emphasis, code, links, tables, strikethrough or autolinks mid-line. Text from a spec
 # never starts a line here (it always follows our own prefix), so list and heading markers need no escape.
 _PUNCT = re.compile(r"([\\`*_\[\]|~:])")
+_WWW = re.compile(r"(www)(?=\.)", re.IGNORECASE)
 
 
 def escape(text: Any, limit: int = 500) -> str:
     """Return ``text`` as inert Markdown on one line: entities for ``< > &``, inline markup backslash-escaped.
 
     An ``@`` is followed by a zero-width space so that a name in a spec cannot
-    notify anyone on a code-review system.
+    notify anyone on a code-review system, and so is the ``www`` of a bare address, which renderers would
+    otherwise turn into a live link (showing one address, opening it).
     """
     s = plain(text, limit)
     s = s.replace("&", "&amp;").replace("<", "&lt;").replace(">", "&gt;")
     s = _PUNCT.sub(r"\\\1", s)
+    s = _WWW.sub("\\1\u200b", s)
     return s.replace("@", "@\u200b")
 
 
