@@ -41,7 +41,7 @@ def test_expired_waiver_is_a_finding_and_the_failure_counts_again() -> None:
 
 def test_waiver_of_an_unknown_or_passing_rule_is_a_finding() -> None:
     unknown = run_example({"spec": {**BAD_NAMEPLATE, "waivers": [_waiver("2027-01-01", rule="no-such-rule")]}})
-    assert "does not exist" in outcome_of(unknown, "waiver-check")["message"]
+    assert "this run does not check (no such rule" in outcome_of(unknown, "waiver-check")["message"]
     good = {"motor": {**BAD_NAMEPLATE["motor"], "rated_torque": "49.2 N*m"}}
     stale = run_example({"spec": {**good, "waivers": [_waiver("2027-01-01")]}})
     assert "not needed" in outcome_of(stale, "waiver-check")["message"]
