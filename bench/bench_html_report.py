@@ -21,14 +21,12 @@ while others measure. It prints a table and exits 1 when a judged target is miss
 from __future__ import annotations
 
 import argparse
-import importlib.util
 import os
 import subprocess
 import sys
 import tempfile
 import time
 from pathlib import Path
-from typing import Any
 
 BENCH = Path(__file__).resolve().parent
 REPO = BENCH.parent
@@ -36,15 +34,6 @@ TARGET_HTML_OVER_TEXT = 3.0
 TARGET_SIZE = 1000
 MEMORY_FLAT_TOLERANCE = 1.25
 SEED = 1  # bench/run.py's default seed: the same corpus
-
-
-def _generator() -> Any:
-    spec = importlib.util.spec_from_file_location("bench_generate", BENCH / "generate.py")
-    assert spec and spec.loader
-    module = importlib.util.module_from_spec(spec)
-    sys.modules["bench_generate"] = module
-    spec.loader.exec_module(module)
-    return module
 
 
 def measure(cmd: list[str], env: dict[str, str]) -> tuple[float, float, int]:
@@ -64,7 +53,9 @@ def measure(cmd: list[str], env: dict[str, str]) -> tuple[float, float, int]:
 
 def run(sizes: list[int], jobs: int) -> int:
     env = {**os.environ, "PYTHONPATH": str(REPO), "RULECHECK_NO_CODE_CACHE": "1"}
-    generate = _generator().generate
+    from run import load_generator  # bench/run.py, beside this script (bench/ is on sys.path when run)
+
+    generate = load_generator().generate
     rows = []
     peaks: dict[int, float] = {}
     failed = False

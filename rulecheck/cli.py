@@ -191,15 +191,14 @@ def _rules_command(sub: Any) -> None:
     rules.add_argument("--rules", dest="rule_paths", action="append", default=[], metavar="DIR", help=extra_help)
     listing = actions.add_parser("list", help="list every rule with its topic and severity",
                                  description="List every rule: id, topic, severity, safety, title.")
-    # SUPPRESS: a subcommand's own --rules adds to those given before it (rulecheck rules --rules DIR show ID)
-    listing.add_argument("--rules", dest="rule_paths", action="append", default=argparse.SUPPRESS, metavar="DIR",
-                         help=extra_help)
     show = actions.add_parser("show", help="show what a rule checks, why, and its examples",
                               description="Show a rule: what it checks, its formula, parameters, basis and "
                                           "examples.")
     show.add_argument("rule", metavar="RULE", help="the rule id (or an alias)")
-    show.add_argument("--rules", dest="rule_paths", action="append", default=argparse.SUPPRESS, metavar="DIR",
-                      help=extra_help)
+    # SUPPRESS: a subcommand's own --rules adds to those given before it (rulecheck rules --rules DIR show ID)
+    for action in (listing, show):
+        action.add_argument("--rules", dest="rule_paths", action="append", default=argparse.SUPPRESS, metavar="DIR",
+                            help=extra_help)
     lint = actions.add_parser("lint", help="lint a folder of rule files",
                               description="Validate and dimension-check every rule file in a folder; problems are "
                                           "printed as file:line:column. Exit 1 when there are problems.")
