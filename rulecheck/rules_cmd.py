@@ -80,7 +80,7 @@ def show_rule(rule_id: str, extra: list[str]) -> int:
             _say(f"  {name} = {text}")
     _say("fails when (first that holds):")
     for c in r.checks:
-        _say(f"  [{c.severity}] {c.when_text}")
+        _say(f"  [{'not applicable' if c.not_applicable else c.severity}] {c.when_text}")
     if r.params:
         _say("parameters (override in configuration or in the spec's 'margins'):")
         for p in r.params.values():

@@ -88,6 +88,7 @@ class Check:
     message: Any | None  # compiled template
     position: Position | None
     fix: Any | None = None  # compiled template: this failure's own remedy (else the rule's)
+    not_applicable: bool = False  # when ``when`` holds the rule does not apply; ``message`` says why
 
 
 @dataclass
@@ -330,8 +331,11 @@ def _checks(data: dict[str, Any], c: _Compiler) -> list[Check]:
         where = f"checks[{i}]"
         message = c.optional_template(spec, "message", f"{where}.message")
         fix = c.optional_template(spec, "fix", f"{where}.fix")
-        checks.append(Check(c.expression(spec["when"], where + ".when"), spec["when"], spec["severity"],
-                            message, c.doc.position(where + ".when"), fix))
+        skip = spec.get("outcome") == "not-applicable"
+        if not skip and spec.get("severity") not in ("error", "warning", "info"):  # (files not schema-checked)
+            raise c.error(where, f"{where}: a check gives a severity (error, warning, info) or 'outcome: not-applicable'")
+        checks.append(Check(c.expression(spec["when"], where + ".when"), spec["when"], spec.get("severity", "info"),
+                            message, c.doc.position(where + ".when"), fix, skip))
     return checks
 
 

@@ -287,6 +287,10 @@ def _failed(rule: Rule, check: Any, spec: SpecNames, ns: dict[str, Any], params:
             shown_values: dict[str, tuple[float, str | None]], limit: tuple[float, str | None] | None, system: str,
             severity_overrides: dict[str, str] | None) -> Outcome:
     message, fix = check.message or rule.message, check.fix or rule.fix
+    if check.not_applicable:  # the derived values tell that the rule does not apply: the message says why
+        display = _display_names(rule, (message,), ns, params, shown_values, system)
+        return Outcome(rule.id, "not-applicable", "info", _render(message, spec, system, display), rule.location,
+                       values=shown_values)
     display = _display_names(rule, (message, fix), ns, params, shown_values, system)
     return Outcome(rule.id, "fail", _severity(rule, check.severity, severity_overrides or {}),
                    _render(message, spec, system, display), rule.location,

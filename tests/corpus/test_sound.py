@@ -49,11 +49,6 @@ FALSE_ALARMS: dict[str, tuple[tuple[str, ...], str]] = {
 
 # spec file → (derived paths, reason): values the current tool gets wrong against the hand calculation
 WRONG_DERIVATIONS: dict[str, tuple[tuple[str, ...], str]] = {
-    "tb-cv-106-quarry-downhill-belt.yaml": (
-        ("train.motor_current_required",),
-        "hand value in doubt, not the tool: the spec's own formula (as in tb-h-107) gives I(355.8 N·m) = "
-        "√(40² + (131² − 40²)·(355.8/482.3)²) = √(1600 + 15561·0.5442) = 100.34 A, not 99.64 A (0.7 %); "
-        "the tool gives 100.35 A. For the corpus owner to confirm and correct the hand value"),
     "tb-h-107-kiln-maintenance-hoist.yaml": (
         ("transmission.application_service_factor",),
         "disputed hand value (issue 17, gearboxes): the spec's SF_app 1.5 comes from a frequent-start row the "

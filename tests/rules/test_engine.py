@@ -111,3 +111,40 @@ def test_a_check_with_a_remedy_of_its_own_gives_that_fix() -> None:
     o = outcome_of(result, "gearbox-peak-speed-thermal")
     assert o["outcome"] == "fail" and "splash lubrication" in o["message"]
     assert "lubrication at 250 r/min" in o["fix"] and "momentary rating" not in o["fix"]
+
+
+# a declining belt whose friction holds it, coasting to rest (the regen-braking-energy example):
+# F = 5000 × 9.80665 × (0.025·cos 1° − sin 1°) = +370 N — the motor drives it downhill; nothing regenerates
+COASTING_BELT = {
+    "supply": {"voltage": "400 V", "frequency": "50 Hz"},
+    "drive": {"kind": "inverter", "stop": "coast", "braking": {"kind": "none"}},
+    "motor": {"kind": "induction", "rated_power": "4 kW", "rated_speed": "1440 r/min", "inertia": "0.019 kg*m^2"},
+    "transmission": {"kind": "helical", "ratio": 20, "efficiency": "95 %"},
+    "load": {"model": "conveyor", "mass": "5000 kg", "incline": "-1 deg", "friction_coefficient": 0.025,
+             "pulley_diameter": "0.4 m", "line_speed": "1 m/s"},
+}
+
+
+def test_a_rule_that_does_not_apply_by_its_derived_values_says_why() -> None:
+    o = outcome_of(run_example({"spec": COASTING_BELT}), "regen-braking-energy")
+    assert o["outcome"] == "not-applicable"
+    assert "nothing returns energy to the DC bus" in o["message"]
+    braked = {**COASTING_BELT, "drive": {"kind": "inverter", "braking": {"kind": "none"}},
+              "load": {**COASTING_BELT["load"], "incline": "-10 deg", "deceleration_time": "5 s"}}
+    assert outcome_of(run_example({"spec": braked}), "regen-braking-energy")["outcome"] != "not-applicable"
+
+
+def test_a_not_applicable_check_needs_its_reason_and_no_severity(tmp_path: Path) -> None:
+    from rulecheck.engine.ruleset import RuleError, load_rule_file
+    shipped = Path(__file__).resolve().parents[2] / "rules" / "regen-braking-energy.yaml"
+    text = shipped.read_text(encoding="utf-8")
+    reason = ("    outcome: not-applicable\n    message: \"nothing returns energy to the DC bus: the drive coasts to "
+              "rest, or the load's own friction stops it within the deceleration ramp, and nothing overhauls — no "
+              "braking means and no DC-bus data are needed\"\n")
+    assert reason in text
+    bad = tmp_path / "regen-braking-energy.yaml"
+    bad.write_text(text.replace(reason, "    outcome: not-applicable\n"), encoding="utf-8")
+    with pytest.raises(RuleError, match="checks"):
+        load_rule_file(bad)
+    rule = load_rule_file(shipped)
+    assert rule.checks[0].not_applicable and not rule.checks[1].not_applicable
