@@ -333,7 +333,8 @@ def _checks(data: dict[str, Any], c: _Compiler) -> list[Check]:
         fix = c.optional_template(spec, "fix", f"{where}.fix")
         skip = spec.get("outcome") == "not-applicable"
         if not skip and spec.get("severity") not in ("error", "warning", "info"):  # (files not schema-checked)
-            raise c.error(where, f"{where}: a check gives a severity (error, warning, info) or 'outcome: not-applicable'")
+            raise c.error(where, f"{where}: a check gives a severity (error, warning, info) "
+                                 "or 'outcome: not-applicable'")
         checks.append(Check(c.expression(spec["when"], where + ".when"), spec["when"], spec.get("severity", "info"),
                             message, c.doc.position(where + ".when"), fix, skip))
     return checks
