@@ -210,7 +210,8 @@ def _peak(m: Model) -> None:
     if segments:
         worst = max(segments, key=lambda s: abs(s["torque"]))
         put(m, "train.peak_duration", worst["duration"], "duty", ("load.duty",), "duration of the peak-torque segment")
-    elif (m.get("train.acceleration_torque") or 0.0) > 0.0 and m.has("load.acceleration_time"):
+    elif (m.get("train.acceleration_torque") or m.get("train.acceleration_torque_min") or 0.0) > 0.0 and m.has(
+            "load.acceleration_time"):  # the peak lasts the run-up, whether its torque is known or a lower bound
         put(m, "train.peak_duration", m.get("load.acceleration_time"), "acceleration", ("load.acceleration_time",),
            "the peak lasts the acceleration time")
     i, eff = m.get("transmission.ratio"), m.get("transmission.efficiency")
