@@ -180,6 +180,14 @@ def _constant(t: float) -> Callable[[float], float]:
     return lambda n: t
 
 
+def _through_losses(torque: float, efficiency: float | None) -> float:
+    """Return the torque at the driven shaft of a load whose own losses (pulleys, rope, sheaves) are ``efficiency``:
+    the driven shaft supplies them when it drives (T ÷ η); when the load drives (T < 0: a declining belt, a
+    counterweight heavier than the hook) the losses take from what reaches the shaft (T·η)."""
+    eta = efficiency or 1.0
+    return torque / eta if torque >= 0.0 else torque * eta
+
+
 def _load_torque_function(m: Model, spec: Spec) -> Any:  # noqa: C901 - one branch per load model
     model = m.get("load.model")
     if model == "constant-torque" and m.has("load.torque"):
@@ -190,11 +198,13 @@ def _load_torque_function(m: Model, spec: Spec) -> Any:  # noqa: C901 - one bran
     if model == "conveyor" and m.has("load.mass", "load.pulley_diameter"):
         force = ld.conveyor_force(m.get("load.mass"), m.get("load.incline", 0.0),
                                   m.get("load.friction_coefficient") or 0.0)
-        return _constant(ld.pulley_torque(force, m.get("load.pulley_diameter")) / (m.get("load.efficiency") or 1.0))
+        return _constant(_through_losses(ld.pulley_torque(force, m.get("load.pulley_diameter")),
+                                         m.get("load.efficiency")))
     if model == "hoist" and m.has("load.mass", "load.drum_diameter"):
-        return _constant(ld.hoist_drum_torque(m.get("load.mass"), m.get("load.drum_diameter"),
-                                              m.get("load.reeving") or 1, m.get("load.counterweight") or 0.0)
-                         / (m.get("load.efficiency") or 1.0))
+        return _constant(_through_losses(ld.hoist_drum_torque(m.get("load.mass"), m.get("load.drum_diameter"),
+                                                              m.get("load.reeving") or 1,
+                                                              m.get("load.counterweight") or 0.0),
+                                         m.get("load.efficiency")))
     if model == "lead-screw" and m.has("load.thrust", "load.lead", "load.screw_efficiency"):
         return _constant(ld.lead_screw_torque(m.get("load.thrust"), m.get("load.lead"), m.get("load.screw_efficiency")))
     if model == "constant-power" and m.has("load.tension", "load.line_speed", "load.diameter_min",

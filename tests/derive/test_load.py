@@ -45,6 +45,20 @@ def test_declining_belt_holding_torque_and_overhauling() -> None:
     assert m.get("load.overhauling") is True
 
 
+def test_the_losses_of_a_load_that_drives_reduce_its_torque() -> None:
+    # 5000 kg at −10°, μ 0.02, pulley 0.4 m, belt and pulley efficiency 90 %:
+    # F = 5000 × 9.80665 × (0.02·cos 10° − sin 10°) = 49 033.25 × (0.019696 − 0.173648) = −7548.8 N;
+    # at the pulley −7548.8 × 0.2 m = −1509.8 N·m; the belt drives, so its own losses take from that:
+    # × 0.9 = −1358.8 N·m (÷ 0.9 = −1677.5 N·m would be the motoring formula). Uphill +10°:
+    # F = 49 033.25 × (0.019696 + 0.173648) = 9480.3 N, × 0.2 = 1896.1 N·m, ÷ 0.9 = 2106.7 N·m.
+    belt = {"model": "conveyor", "mass": "5000 kg", "incline": "-10 deg", "friction_coefficient": 0.02,
+            "pulley_diameter": "0.4 m", "line_speed": "1 m/s", "efficiency": "90 %"}
+    down = model_of({"load": belt})
+    assert down.functions["load_torque"](1.0) == pytest.approx(-1358.8, rel=2e-4)
+    up = model_of({"load": {**belt, "incline": "10 deg"}})
+    assert up.functions["load_torque"](1.0) == pytest.approx(2106.7, rel=2e-4)
+
+
 def test_runback_uses_the_holdback_friction_factor() -> None:
     # 5000 kg at 12°, declared μ 0.025, pulley 0.63 m: holding at the declared friction
     # 49 033 × (0.207912 − 0.025 × 0.978148) × 0.315 = 2833.6 N·m; runback at f = 0.012 (holdback sizing, from
