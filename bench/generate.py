@@ -25,6 +25,9 @@ from dataclasses import dataclass, field
 from pathlib import Path
 from typing import Any
 
+sys.path.insert(0, str(Path(__file__).resolve().parents[1]))  # the repository, when run as a script
+from rulecheck.physics.efficiency_tables import RATED_OUTPUTS_50HZ_KW, TABLE_50HZ  # noqa: E402
+
 G = 9.80665  # standard gravity [m/s^2] (CGPM 1901)
 RPM = 2 * math.pi / 60  # rad/s per r/min
 HP = 745.69987  # W per mechanical horsepower (NIST SP 811 B.8)
@@ -43,10 +46,8 @@ __all__ = ["GeneratedSpec", "generate", "generate_one", "main"]
 
 # --- figures of the trade --------------------------------------------------------------------------------
 
-# IE3 efficiency of 4-pole 50 Hz motors by rated power (IEC 60034-30-1:2014 Table 3, from memory; demo data).
-_IE3_4POLE = [(1.5, 85.3), (2.2, 86.7), (3, 87.7), (4, 88.6), (5.5, 89.6), (7.5, 90.4), (11, 91.4), (15, 92.1),
-              (18.5, 92.6), (22, 93.0), (30, 93.6), (37, 93.9), (45, 94.2), (55, 94.6), (75, 95.0), (90, 95.2),
-              (110, 95.4), (132, 95.6), (160, 95.8), (200, 96.0)]
+# IE3 efficiency of 4-pole 50 Hz motors by rated power, 1.5 kW up: the table the efficiency rule uses (demo data)
+_IE3_4POLE = [(p, e) for p, e in zip(RATED_OUTPUTS_50HZ_KW, TABLE_50HZ[3][4], strict=True) if p >= 1.5]
 _IEC_POWERS_KW = [p for p, _ in _IE3_4POLE]
 _NEMA_POWERS_HP = [2, 3, 5, 7.5, 10, 15, 20, 25, 30, 40, 50, 60, 75, 100, 125, 150, 200, 250]
 # IEC frame of a 4-pole motor by rated power (common practice, IEC 60072-1 sizes)
