@@ -430,11 +430,23 @@ _AT_MOST_ONE = {
 }
 
 
+# Speeds and torques that are ratings or limits of a machine (not operating points, which may be zero or, for a
+# load that drives, negative): a rating of zero is a typing slip, and every ratio a rule forms with it divides by it.
+_POSITIVE_RATINGS = {
+    "rated_speed", "max_speed", "weakening_speed_max", "input_speed_max", "speed_max", "speed_limit", "runaway_speed",
+    "rated_torque", "breakdown_torque", "locked_rotor_torque", "peak_torque", "stall_torque", "static_torque",
+    "rated_output_torque", "max_output_torque", "line_speed",
+}
+
+
 def _range_problem(path: str, parts: tuple[Any, ...], si: float, kind_name: str, value: Any) -> Problem | None:
     if si > 0 and kind_name != "fraction":
         return None  # only a fraction has an upper bound; every other kind's bound is at zero
     name = str(parts[-1]) if parts else ""
-    if kind_name in _POSITIVE_KINDS and si <= 0 and name not in ("altitude",):
+    section = str(parts[0]) if parts else ""
+    rating = kind_name in ("rotational_speed", "torque", "velocity") and name in _POSITIVE_RATINGS and (
+        section != "load" or name in ("speed_max", "speed_limit", "runaway_speed", "line_speed"))
+    if (kind_name in _POSITIVE_KINDS or rating) and si <= 0 and name not in ("altitude",):
         return Problem("spec-schema", path, f"{path}: {value!r} must be greater than zero",
                        "give the physical value; leave the key out if it is not known")
     if kind_name == "rotational_speed" and si < 0 and name != "speed_to":

@@ -108,9 +108,12 @@ def test_efficiency_above_one_hundred_percent() -> None:
 
 @pytest.mark.parametrize(("field", "value", "words"), [
     ("poles", 0, "at least 2"), ("poles", 1, "at least 2"), ("rated_power", "0 kW", "greater than zero"),
-    ("rated_power", "-7.5 kW", "greater than zero"), ("rated_speed", "-5 r/min", "must not be negative")])
+    ("rated_power", "-7.5 kW", "greater than zero"), ("rated_speed", "-5 r/min", "greater than zero"),
+    ("rated_speed", "0 r/min", "greater than zero"), ("max_speed", "0 r/min", "greater than zero"),
+    ("rated_torque", "0 N*m", "greater than zero"), ("breakdown_torque", "-10 N*m", "greater than zero")])
 def test_values_that_cannot_be(field: str, value: object, words: str) -> None:
-    # a machine has at least two poles (n_s = 120·f/p, docs/references.md R04); power and speed are not negative
+    # a machine has at least two poles (n_s = 120·f/p, docs/references.md R04); power is not negative, and a speed
+    # or torque rating of zero is a slip (every ratio with it divides by it)
     import yaml
 
     spec = {"format": 1, "tag": "A", "motor": {"kind": "induction", field: value}}

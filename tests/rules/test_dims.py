@@ -75,9 +75,9 @@ def test_every_shipped_rule_is_decided_without_pint_with_the_kinds_pint_gives() 
 
 def test_a_rule_with_a_dimension_error_gets_pints_finding(tmp_path) -> None:
     text = (shipped_rules_dir() / "torque-peak.yaml").read_text(encoding="utf-8")
-    assert 'margin: {expr: "available / required", kind: ratio}' in text
-    (tmp_path / "torque-peak.yaml").write_text(text.replace('margin: {expr: "available / required"',
-                                                            'margin: {expr: "available + speed"'), encoding="utf-8")
+    assert 'margin: {expr: "available / required if' in text
+    (tmp_path / "torque-peak.yaml").write_text(text.replace('margin: {expr: "available / required if',
+                                                            'margin: {expr: "available + speed if'), encoding="utf-8")
     ruleset, errors = load_rules([tmp_path], validate=True)
     assert not errors, errors
     rule = ruleset.rules["torque-peak"]
