@@ -451,7 +451,7 @@ def doc_value(doc: Document, parts: list[str]) -> Any:
 
 
 def _signature(o: Outcome) -> tuple[Any, ...]:
-    return (o.outcome, o.severity, tuple(sorted(o.values.items())), tuple(o.missing))
+    return (o.outcome, o.severity, o.message, tuple(sorted(o.values.items())), tuple(o.missing))
 
 
 def _not_checked_on_invalid(doc: Document, problems: list[Any], quantities: Any, outcomes: dict[str, Outcome],

@@ -69,3 +69,17 @@ def test_strict_lint_rejects_a_message_that_can_show_a_missing_value(tmp_path: P
 def test_strict_lint_is_off_by_default(tmp_path: Path) -> None:
     shutil.copytree(ROOT / "rules", tmp_path / "rules")
     assert run_cli("rules", "lint", str(tmp_path / "rules")).returncode == 0
+
+
+def test_a_rule_whose_message_shows_the_invalid_field_is_not_checked(tmp_path: Path) -> None:
+    # the supply rule passed on a negative frequency (the field left out) with "(message needs supply.frequency)"
+    # as its text: its checks read the frequency only where it is given, its message always
+    text = HOIST.read_text(encoding="utf-8")
+    spec = tmp_path / "h.yaml"
+    assert "frequency: 50 Hz" in text
+    spec.write_text(text.replace("frequency: 50 Hz", "frequency: -50 Hz", 1), encoding="utf-8")
+    bad = _outcomes(run_cli("check", str(spec), "--no-cache", "--format", "json"))
+    assert bad["spec-schema"]["outcome"] == "fail"
+    sv = bad["supply-voltage-frequency"]
+    assert sv["outcome"] == "not-checked" and "supply.frequency, which failed validation" in sv["message"]
+    assert not any("(message needs" in o["message"] for o in bad.values())
