@@ -40,16 +40,6 @@ EXPECTED = {
     ("sv-410-bag-lift-axis.yaml", "pm-back-emf-headroom"): "motor.back_emf_constant",
 }
 
-# A rule has one location for all its checks; these two findings come from a check about another key.
-# The fix is a location per check in the rule format (engine/run.py, rule schema) and in these rule files.
-WRONG_KEY = {
-    ("dc-510-crusher-feeder.yaml", "gearbox-peak-speed-thermal"):
-        "rules/gearbox-peak-speed-thermal.yaml points every check at transmission.max_output_torque",
-    ("f-610-dryer-exhaust-fan.yaml", "inertia-ratio"):
-        "rules/inertia-ratio.yaml points at transmission.ratio, absent on a direct drive (falls back to line 1)",
-}
-
-
 def _key_positions(text: str) -> dict[str, set[tuple[int, int]]]:
     """Return each key path's (line, column) of its key and of its value, 1-based (PyYAML's parser)."""
     found: dict[str, set[tuple[int, int]]] = {}
@@ -84,9 +74,7 @@ def test_every_failing_finding_of_the_demo_is_listed(demo_findings) -> None:
     assert set(demo_findings) == set(EXPECTED)
 
 
-@pytest.mark.parametrize("case", [
-    pytest.param(case, marks=pytest.mark.xfail(strict=True, reason=WRONG_KEY[case])) if case in WRONG_KEY else case
-    for case in sorted(EXPECTED)], ids=lambda case: f"{case[0]}:{case[1]}")
+@pytest.mark.parametrize("case", sorted(EXPECTED), ids=lambda case: f"{case[0]}:{case[1]}")
 def test_a_finding_points_at_the_key_it_is_about(demo_findings, case) -> None:
     outcome = demo_findings[case]
     where = outcome["location"]
