@@ -78,9 +78,7 @@ def show_rule(rule_id: str, extra: list[str]) -> int:
         _say("computed:")
         for name, _c, text, _k in r.values:
             _say(f"  {name} = {text}")
-    _say("fails when (first that holds):")
-    for c in r.checks:
-        _say(f"  [{'not applicable' if c.not_applicable else c.severity}] {c.when_text}")
+    _print_checks(r)
     if r.params:
         _say("parameters (override in configuration or in the spec's 'margins'):")
         for p in r.params.values():
@@ -93,6 +91,17 @@ def show_rule(rule_id: str, extra: list[str]) -> int:
         _say(f"  {ex['outcome']}: {ex['name']}")
     _say(f"\nfile: {r.file}")
     return 0
+
+
+def _print_checks(r) -> None:  # type: ignore[no-untyped-def]
+    """Print the rule's checks in order, each with the spec key its finding points at when it has its own."""
+    if r.locations:
+        _say("points at: " + " or ".join(r.locations) + " (the first the spec gives)" * (len(r.locations) > 1))
+    _say("fails when (first that holds):")
+    for c in r.checks:
+        _say(f"  [{'not applicable' if c.not_applicable else c.severity}] {c.when_text}")
+        if c.location and not c.not_applicable:
+            _say("      points at: " + " or ".join(c.location))
 
 
 def _print_description(r) -> None:  # type: ignore[no-untyped-def]

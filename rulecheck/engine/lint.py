@@ -291,12 +291,33 @@ def _lint_checked(lint: _Lint, rule: Rule, messages: bool) -> tuple[dict[str, st
         problems = [None]  # type: ignore[list-item]
     if problems:
         kinds, problems = _lint_rule(lint, rule, fast=False)
+    _lint_locations(rule, problems)
     if messages and not problems:
         # with pint quantities: a missing value used in arithmetic raises MissingInput, as in a run
         ns = lint.namespace(False)
         _rule_names(rule, ns, False)
         _lint_missing_in_messages(lint, rule, ns, False, problems)
     return kinds, problems
+
+
+def _lint_locations(rule: Rule, problems: list[RuleError]) -> None:
+    """Report a ``location`` (the rule's or a check's) that is not a key of the spec format: a finding must point
+    at a line of the spec, so a derived value or a misspelt key is refused, with the closest key."""
+    spec_paths = _spec_catalogue()
+    sections = {p.rsplit(".", i)[0] for p in spec_paths for i in range(1, p.count(".") + 1)}
+    raw_checks = rule.raw.get("checks") if isinstance(rule.raw, dict) else None
+    places = [("location", rule.raw.get("location") if isinstance(rule.raw, dict) else None)]
+    places += [(f"checks[{i}].location", c.get("location")) for i, c in enumerate(raw_checks or [])
+               if isinstance(c, dict)]
+    for where, value in places:
+        candidates = [value] if isinstance(value, str) else value if isinstance(value, list) else []
+        for i, path in enumerate(candidates):
+            if not isinstance(path, str) or path in spec_paths or path in sections:
+                continue
+            at = where if isinstance(value, str) else f"{where}[{i}]"
+            close = difflib.get_close_matches(path, sorted(spec_paths), n=1, cutoff=0.6)
+            problems.append(_error(rule, at, f"'{path}' is not a key of the spec format: a finding points at a "
+                                   "line of the spec" + (f" (did you mean '{close[0]}'?)" if close else "")))
 
 
 def _rule_names(rule: Rule, ns: dict[str, Any], fast: bool) -> None:
