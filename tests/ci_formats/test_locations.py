@@ -86,8 +86,6 @@ EXPECTED_FLAWED = {
         "transmission.ratio",
     ("f13-index-belt-dc-bus-reserve.yaml", "regen-braking-energy"):
         "drive.braking.kind",  # no braking means (kind none) for the stop's energy
-    ("f14-dol-fan-runup-at-dipped-voltage.yaml", "efficiency-class"):
-        "motor.efficiency",  # the declared efficiency 94.2 % below the IE3 minimum
     ("f14-dol-fan-runup-at-dipped-voltage.yaml", "acceleration-time"):
         "motor.safe_stall_time",  # run-up 28.05 s against 0.8 × the safe-stall time
     ("f14-dol-fan-runup-at-dipped-voltage.yaml", "supply-voltage-frequency"):
