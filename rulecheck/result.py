@@ -124,6 +124,7 @@ class Finding(NamedTuple):
     limit: Mapping[str, Any] | None = None
     missing: tuple[str, ...] = ()
     waiver: Mapping[str, Any] | None = None
+    case: str | None = None  # the load case it was found in; None: the spec has no cases, or every case gives it
 
     @property
     def level(self) -> str | None:
@@ -132,12 +133,15 @@ class Finding(NamedTuple):
 
     def to_json(self) -> dict[str, Any]:
         """Return the contract's ``outcome`` object."""
+        entry: dict[str, Any] = {"rule": self.rule}
+        if self.case is not None:
+            entry["case"] = self.case  # only when set: a spec without cases gives the same bytes as before
+        entry.update(title=self.title, topic=self.topic, outcome=self.outcome, severity=self.severity,
+                     safety=self.safety, message=self.message)
         if self.outcome == "not-applicable":
-            return {"rule": self.rule, "title": self.title, "topic": self.topic, "outcome": self.outcome,
-                    "severity": self.severity, "safety": self.safety, "message": self.message,
-                    "location": {"path": self.path, "line": None, "column": None}}
-        entry = {"rule": self.rule, "title": self.title, "topic": self.topic, "outcome": self.outcome,
-                 "severity": self.severity, "safety": self.safety, "message": self.message, "fix": self.fix}
+            entry["location"] = {"path": self.path, "line": None, "column": None}
+            return entry
+        entry["fix"] = self.fix
         if self.outcome != "pass":
             entry["formula"] = self.formula
             entry["basis"] = self.basis if isinstance(self.basis, list) else list(self.basis)
@@ -288,7 +292,10 @@ def requirements_of(outcomes: Iterable[Mapping[str, Any]]) -> list[dict[str, Any
     Every number is a value the rule computed (its ``values`` and ``limit``); only a missing margin is the
     ratio of the two. Rules that did not apply or could not be checked give no line.
     """
-    by_rule = {o["rule"]: o for o in outcomes if o.get("outcome") in ("pass", "fail", "waived")}
+    by_rule: dict[str, Mapping[str, Any]] = {}
+    for o in outcomes:  # in the stable order, fails first: with load cases, a rule's worst case gives the line
+        if o.get("outcome") in ("pass", "fail", "waived"):
+            by_rule.setdefault(o["rule"], o)
     rows = []
     for req in REQUIREMENTS:
         outcome = by_rule.get(req.rule)
