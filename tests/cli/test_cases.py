@@ -17,6 +17,7 @@ import pytest
 from rulecheck import check
 from rulecheck.check import CheckContext
 from rulecheck.config import Config
+from rulecheck.report.mail import text_body
 from rulecheck.report.sarif import fingerprint
 from rulecheck.run import prepare
 from tests.cli.conftest import DEMO, ROOT, run_cli
@@ -216,6 +217,10 @@ def test_markdown_junit_annotations_and_html_show_the_case(tmp_path: Path) -> No
     assert f"{REGEN} [case loaded]" in junit.read_text(encoding="utf-8")
     page = html.read_text(encoding="utf-8")
     assert "[case loaded]" in page and "Load cases (the worst decides the verdict)" in page
+    json_out = tmp_path / "r.json"
+    run_cli("check", str(F45), "--no-cache", "-f", "json", "-o", str(json_out))
+    body = text_body(json.loads(json_out.read_text(encoding="utf-8")))
+    assert f"{REGEN} [case loaded]" in body and "load cases (the worst decides): loaded fail, empty pass" in body
 
 
 # --- baselines, waivers, --set -----------------------------------------------------------------------------
