@@ -52,6 +52,21 @@ def _to_give_text(to_give: dict[str, Any]) -> str:
     return f"to check {n} more rule{'s' if n != 1 else ''}, give {asked}"
 
 
+def _derived_lines(spec: dict[str, Any], units: str) -> list[str]:
+    """Return a spec's derived values (``--show-derived``): those every load case shares, then each case's own."""
+    from rulecheck.report.common import display
+
+    out = []
+    tables = [("", spec.get("derived") or {})]
+    tables += [(f" in case {_clean(c.get('name'))}", c.get("derived") or {}) for c in spec.get("cases") or []]
+    for where, table in tables:
+        if table:
+            out.append(f"{_clean(spec['file'])}: derived values of {_clean(spec.get('tag') or '?')}{where}:")
+            out += [f"    {path} = {display(value, units)}  ({_clean(value.get('from'))})" for path, value in
+                    table.items()]
+    return out
+
+
 def _spec_lines(spec: dict[str, Any], head: str) -> list[str]:
     """Return the lines about a whole spec: the run's overrides, its load cases' verdicts, what to give."""
     out = []
@@ -106,12 +121,8 @@ class TextReport:
                     detail = (f"waived by {_clean(w.get('approved_by'))} until {w.get('expires')}: "
                               f"{_clean(w.get('reason'))} — {detail}")
                 out.append(f"{_where(spec, o)}: {self._paint(kind, kind)} {o['rule']}{case_label(o)}: {detail}")
-        if self.show_derived and spec.get("derived"):
-            from rulecheck.report.common import display
-
-            out.append(f"{_clean(spec['file'])}: derived values of {_clean(spec.get('tag') or '?')}:")
-            for path, value in spec["derived"].items():
-                out.append(f"    {path} = {display(value, self.units)}  ({_clean(value.get('from'))})")
+        if self.show_derived:
+            out += _derived_lines(spec, self.units)
         head = _clean(spec["file"]) + (f":{spec['row']}" if spec.get("row") else "")
         out += _spec_lines(spec, head)
         if self.requirements and spec.get("requirements"):
@@ -158,7 +169,7 @@ def requirement_lines(spec: dict[str, Any], units: str = "si") -> list[str]:
             rating = "max " + rating if r.get("rating") else rating
         margin = display(r["margin"], units, ratio=True) if r.get("margin") else "—"
         rows.append((_clean(r["item"]), display(r["needed"], units) + at, rating, margin,
-                     f"{r['outcome']} {_clean(r['rule'])}"))
+                     f"{r['outcome']} {_clean(r['rule'])}{case_label(r)}"))
     widths = [max(len(row[i]) for row in rows) for i in range(5)]
     head = f"{_clean(spec['file'])}: what {_clean(spec.get('tag') or 'the drive train')} needs:"
     lines = [head]

@@ -104,6 +104,12 @@ def test_worst_case_decides_in_any_order_and_a_sound_pair_passes(ctx: CheckConte
     swapped = BASE + "\ncases:\n  empty: {load: {mass: 3000 kg}}\n  loaded: {}\n"
     spec = _check(ctx, tmp_path, swapped)
     assert spec["verdict"] == "fail" and [c["verdict"] for c in spec["cases"]] == ["pass", "fail"]
+    # the requirements table gives each rule's worst case, whatever the order of the cases: the loaded belt's
+    # braking torque at the motor, 9375 N × 0.25 m × 0.96 ÷ 19 = 118.4 N·m (f45), not the empty belt's 29.6 N·m
+    rows = {r["rule"]: r for r in spec["requirements"]}
+    assert rows["torque-margin-continuous"]["case"] == "loaded"
+    assert rows["torque-margin-continuous"]["needed"]["value"] == pytest.approx(118.4, rel=0.005)
+    assert rows["regen-braking-energy"]["case"] == "loaded" and rows["regen-braking-energy"]["outcome"] == "fail"
     both_light = BASE + "\ncases:\n  empty: {load: {mass: 3000 kg}}\n  half: {load: {mass: 4000 kg}}\n"
     spec = _check(ctx, tmp_path, both_light)
     # 4 t: 4000 × 9.80665 × 0.07967 × 2.0 × 0.96 × 0.93 × 1.2 = 6.70 kW ≤ 7.5 kW
@@ -185,6 +191,11 @@ def test_the_command_line_shows_cases_and_exits_1() -> None:
     assert proc.returncode == 1
     assert f"error {REGEN} [case loaded]: braking resistor rating 7.5 kW is below 20.09 kW" in proc.stdout
     assert "load cases (the worst decides): loaded fail, empty pass" in proc.stdout
+    shown = run_cli("check", str(F45), "--no-cache", "--show-derived").stdout
+    # each case's own derived values under its name (hand values of f45: 16.74 kW loaded, 4.185 kW empty)
+    empty = shown.split("derived values of KB-CV-742 in case empty:", 1)[1]
+    assert "train.braking_power_mean = 4.185 kW" in empty
+    assert "train.braking_power_mean = 16.74 kW" in shown.split("in case loaded:", 1)[1].split("in case empty:")[0]
 
 
 # --- reports ------------------------------------------------------------------------------------------------
