@@ -158,7 +158,11 @@ class Matcher:
         if marked is None:
             return spec
         unknown = [o for o in marked if not o.get("baseline")]
-        return {**spec, "outcomes": marked, "verdict": _verdict(spec, unknown)}
+        out = {**spec, "outcomes": marked, "verdict": _verdict(spec, unknown)}
+        if isinstance(spec.get("cases"), list):  # each load case's verdict, from the findings the baseline lacks
+            out["cases"] = [{**c, "verdict": _verdict(spec, [o for o in unknown if o.get("case") in (None, c["name"])])}
+                            for c in spec["cases"]]
+        return out
 
     def summary(self) -> dict[str, Any]:
         """Return the baseline's part of the run summary: known (matched) and new findings, the known fails by

@@ -246,6 +246,9 @@ def test_a_baseline_keys_findings_with_their_case(tmp_path: Path) -> None:
     assert [e.get("case") for e in entries if e["rule"] == REGEN] == ["loaded"]
     proc = run_cli("check", "s.yaml", "--no-cache", "--baseline", str(base), cwd=tmp_path)
     assert proc.returncode == 0 and " known, 0 new, 0 fixed" in proc.stderr
+    known = json.loads(run_cli("check", "s.yaml", "--no-cache", "--baseline", str(base), "-f", "json",
+                               cwd=tmp_path).stdout)["specs"][0]
+    assert known["verdict"] != "fail" and [c["verdict"] for c in known["cases"]] == [known["verdict"]] * 2
     # a smaller resistor: now the empty case fails too (1.2 × 4.185 kW = 5.02 kW > 4 kW), a new finding
     spec.write_text(TEXT.replace("power: 7.5 kW", "power: 4 kW"), encoding="utf-8")
     proc = run_cli("check", "s.yaml", "--no-cache", "--baseline", str(base), cwd=tmp_path)
