@@ -1,10 +1,11 @@
 """Baselines: record a repository's current findings so that only new ones fail a pull request.
 
-A finding's identity is its rule, its file (relative to the repository root) and its spec key path — never
-its line, so an edit that moves lines keeps the finding matched. A finding the baseline knows is reported as
-known: it does not fail the run, does not count among the run's failures and does not make its spec's
-verdict. A baseline entry whose spec was checked and no longer has the finding is fixed; the entries of
-specs that were not checked in this run (a changed-only run, another folder) are neither new nor fixed.
+A finding's identity is its rule, its file (relative to the repository root), its spec key path and, for a
+finding of one load case, the case's name — never its line, so an edit that moves lines keeps the finding
+matched. A finding the baseline knows is reported as known: it does not fail the run, does not count among the
+run's failures and does not make its spec's verdict. A baseline entry whose spec was checked and no longer has
+the finding is fixed; the entries of specs that were not checked in this run (a changed-only run, another
+folder) are neither new nor fixed.
 
 ``rulecheck baseline`` writes a new baseline; ``--update`` replaces the entries of the specs it checks and
 keeps the others; ``--prune`` only removes the entries that are fixed.
@@ -24,7 +25,7 @@ __all__ = ["BaselineError", "Matcher", "apply", "identity", "load", "load_entrie
 
 _FORMAT = "rulecheck-baseline"
 
-Key = tuple[str, str, str]
+Key = tuple[str, str, str, str]  # rule, file, spec path, load case ("" when the finding names none)
 
 
 class BaselineError(ValueError):
@@ -32,8 +33,20 @@ class BaselineError(ValueError):
 
 
 def identity(spec: dict[str, Any], outcome: dict[str, Any], file: str | None = None) -> Key:
-    """Return the stable identity of a finding: (rule, file, spec path); ``file`` overrides the spec's."""
-    return (outcome["rule"], spec["file"] if file is None else file, (outcome.get("location") or {}).get("path") or "")
+    """Return the stable identity of a finding: (rule, file, spec path, load case); ``file`` overrides the
+    spec's."""
+    return (outcome["rule"], spec["file"] if file is None else file, (outcome.get("location") or {}).get("path") or "",
+            outcome.get("case") or "")
+
+
+def _key(entry: dict[str, Any]) -> Key:
+    """Return the identity of a baseline entry (an entry without ``case`` holds in every case)."""
+    return (entry["rule"], entry["file"], entry["path"], entry.get("case") or "")
+
+
+def _entry(rule: str, file: str, path: str, case: str) -> dict[str, Any]:
+    """Return a baseline entry's identity fields (``case`` only when the finding names one)."""
+    return {"rule": rule, "file": file, "path": path, **({"case": case} if case else {})}
 
 
 def _entries(result: dict[str, Any], file_of: Callable[[str], str] | None = None) -> list[dict[str, Any]]:
@@ -43,15 +56,14 @@ def _entries(result: dict[str, Any], file_of: Callable[[str], str] | None = None
         file = file_of(spec["file"]) if file_of else spec["file"]
         for o in spec["outcomes"]:
             if is_finding(o):
-                rule, file, path = identity(spec, o, file)
-                findings.append({"rule": rule, "file": file, "path": path, "outcome": o["outcome"],
+                findings.append({**_entry(*identity(spec, o, file)), "outcome": o["outcome"],
                                  "severity": o["severity"], "message": o["message"]})
     return findings
 
 
 def render_entries(entries: Iterable[dict[str, Any]], tool_version: str) -> str:
     """Return the baseline document of ``entries`` (sorted by file, rule, path)."""
-    findings = sorted(entries, key=lambda f: (f["file"], f["rule"], f["path"]))
+    findings = sorted(entries, key=lambda f: (f["file"], f["rule"], f["path"], f.get("case") or ""))
     doc = {"format": _FORMAT, "version": 1, "tool_version": tool_version, "findings": findings}
     return json.dumps(doc, indent=2, ensure_ascii=False) + "\n"
 
@@ -72,12 +84,14 @@ def load_entries(text: str, name: str = "baseline") -> list[dict[str, Any]]:
     for i, f in enumerate(doc["findings"]):
         if not isinstance(f, dict) or not all(isinstance(f.get(k), str) for k in ("rule", "file", "path")):
             raise BaselineError(f"{name}: findings[{i}] needs rule, file and path")
+        if not isinstance(f.get("case", ""), str):
+            raise BaselineError(f"{name}: findings[{i}].case must be the name of a load case")
     return list(doc["findings"])
 
 
 def load(text: str, name: str = "baseline") -> Counter[Key]:
     """Return the finding identities of a baseline document (with their counts)."""
-    return Counter((f["rule"], f["file"], f["path"]) for f in load_entries(text, name))
+    return Counter(_key(f) for f in load_entries(text, name))
 
 
 def merge(old: list[dict[str, Any]], result: dict[str, Any], *, prune: bool,
@@ -95,16 +109,16 @@ def merge(old: list[dict[str, Any]], result: dict[str, Any], *, prune: bool,
     kept = [f for f in old if f["file"] not in checked and f["file"] not in deleted]
     previous = [f for f in old if f["file"] in checked or f["file"] in deleted]
     if prune:
-        occurring = Counter((f["rule"], f["file"], f["path"]) for f in current)
+        occurring = Counter(_key(f) for f in current)
         survivors = []
         for f in previous:
-            key = (f["rule"], f["file"], f["path"])
+            key = _key(f)
             if occurring[key] > 0:
                 occurring[key] -= 1
                 survivors.append(f)
         return kept + survivors, {"added": 0, "removed": len(previous) - len(survivors), "kept": len(kept)}
-    before = Counter((f["rule"], f["file"], f["path"]) for f in previous)
-    after = Counter((f["rule"], f["file"], f["path"]) for f in current)
+    before = Counter(_key(f) for f in previous)
+    after = Counter(_key(f) for f in current)
     return kept + current, {"added": sum((after - before).values()), "removed": sum((before - after).values()),
                             "kept": len(kept)}
 
@@ -144,12 +158,16 @@ class Matcher:
         if marked is None:
             return spec
         unknown = [o for o in marked if not o.get("baseline")]
-        return {**spec, "outcomes": marked, "verdict": _verdict(spec, unknown)}
+        out = {**spec, "outcomes": marked, "verdict": _verdict(spec, unknown)}
+        if isinstance(spec.get("cases"), list):  # each load case's verdict, from the findings the baseline lacks
+            out["cases"] = [{**c, "verdict": _verdict(spec, [o for o in unknown if o.get("case") in (None, c["name"])])}
+                            for c in spec["cases"]]
+        return out
 
     def summary(self) -> dict[str, Any]:
         """Return the baseline's part of the run summary: known (matched) and new findings, the known fails by
         severity, and the fixed entries (of the specs checked in this run, or deleted)."""
-        fixed = [{"rule": r, "file": f, "path": p} for (r, f, p), n in sorted(self.remaining.items())
+        fixed = [_entry(r, f, p, c) for (r, f, p, c), n in sorted(self.remaining.items())
                  if (f in self.files or (self.gone is not None and self.gone(f))) for _ in range(n)]
         return {"file": self.name, "matched": self.matched, "new": self.new, "known": dict(self.known),
                 "fixed": fixed}

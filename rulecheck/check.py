@@ -364,35 +364,100 @@ def _overridden(doc: Document) -> tuple[Document, list[dict[str, Any]]]:
 
 
 def _check_document(doc: Document, ctx: CheckContext, base_dir: Path | None) -> _Done:
-    from rulecheck.derive import build_model
+    from rulecheck import cases
 
     doc, overrides = _overridden(doc)
     data = doc.data
     problems = check_structure(doc)
     quantities, unit_problems = read_quantities(doc)
     problems += unit_problems
+    load_cases = cases.declared(data) and cases.usable(data)
+    if load_cases:
+        problems += cases.problems(doc)
     findings = [finding(Outcome(p.rule, "fail", p.severity, p.message, p.path, hint=p.hint), BUILTIN_RULES[p.rule],
                         doc, doc.key_positions.get(p.path) if p.at_key else None) for p in problems]
     status = "invalid" if any(p.severity == "error" for p in problems) else "checked"
-    model = build_model(doc.with_data(_without(data, problems)), quantities, base_dir=base_dir)
     margins = data.get("margins") if isinstance(data.get("margins"), dict) else {}
     spec_margins, margin_outcomes = _read_margins(margins, ctx.ruleset)
     findings += [finding(o, BUILTIN_RULES["margins-check"], doc) for o in margin_outcomes]
-    needs = _Needs(model)
-    rule_outcomes = _evaluate_rules(model, spec_margins, ctx, needs)
-    if status == "invalid":
-        rule_outcomes = _not_checked_on_invalid(doc, problems, quantities, rule_outcomes, spec_margins, ctx, base_dir)
-    waiver_outcomes = _apply_waivers(data.get("waivers"), rule_outcomes, ctx)
+    if load_cases:
+        return _check_cases(doc, cases.case_documents(doc), findings, status, spec_margins, ctx, base_dir, overrides)
+    run = _Run(doc, problems, quantities, status, spec_margins, ctx, base_dir)
+    waiver_outcomes = _apply_waivers(data.get("waivers"), {None: run.outcomes}, ctx)
     rules = ctx.ruleset.rules
-    findings += [finding(outcome, rules[rule_id].metadata(), doc) for rule_id, outcome in rule_outcomes.items()]
+    findings += [finding(outcome, rules[rule_id].metadata(), doc) for rule_id, outcome in run.outcomes.items()]
     findings += [finding(o, BUILTIN_RULES["waiver-check"], doc) for o in waiver_outcomes]
     result = SpecResult(doc.file, status, tuple(findings), _text(data, "tag"), _text(data, "title"),
-                        _text(data, "status"), doc.sha256, _derived_dict(model), tuple(model.notes))
+                        _text(data, "status"), doc.sha256, _derived_dict(run.model), tuple(run.model.notes))
     extra: dict[str, Any] = {"overrides": overrides} if overrides else {}
-    to_give = _to_give(rule_outcomes, needs)
+    to_give = _to_give(run.outcomes, run.needs)
     if to_give:
         extra["to_give"] = to_give
-    return result, _charts(model) if ctx.charts else None, extra
+    return result, _charts(run.model) if ctx.charts else None, extra
+
+
+class _Run:
+    """Every rule's outcome on one document (the spec, or one of its load cases), with its model."""
+
+    def __init__(self, doc: Document, problems: list[Any], quantities: Any, status: str, spec_margins: Any,
+                 ctx: CheckContext, base_dir: Path | None) -> None:
+        from rulecheck.derive import build_model
+
+        self.doc = doc
+        self.model = build_model(doc.with_data(_without(doc.data, problems)), quantities, base_dir=base_dir)
+        self.needs = _Needs(self.model)
+        self.outcomes = _evaluate_rules(self.model, spec_margins, ctx, self.needs)
+        if status == "invalid":
+            self.outcomes = _not_checked_on_invalid(doc, problems, quantities, self.outcomes, spec_margins, ctx,
+                                                    base_dir)
+
+
+def _check_cases(doc: Document, load_cases: list[Any], findings: list[Finding], status: str, spec_margins: Any,
+                 ctx: CheckContext, base_dir: Path | None, overrides: list[dict[str, Any]]) -> _Done:
+    """Return the result of a spec with load cases: every rule run on each case (see :mod:`rulecheck.cases`)."""
+    from rulecheck import cases
+
+    runs: dict[str, _Run] = {}
+    for case in load_cases:
+        problems = check_structure(case.doc)
+        quantities, unit_problems = read_quantities(case.doc)
+        problems += unit_problems  # reported once, at the file's own paths, by the check of the whole spec
+        case_status = "invalid" if any(p.severity == "error" for p in problems) else "checked"
+        runs[case.name] = _Run(case.doc, problems, quantities, case_status, spec_margins, ctx, base_dir)
+    waiver_outcomes = _apply_waivers(doc.data.get("waivers"), {n: r.outcomes for n, r in runs.items()}, ctx)
+    rules = ctx.ruleset.rules
+    findings += cases.merge({n: [finding(o, rules[rule_id].metadata(), r.doc) for rule_id, o in r.outcomes.items()]
+                             for n, r in runs.items()})
+    findings += [finding(o, BUILTIN_RULES["waiver-check"], doc) for o in waiver_outcomes]
+    common, own = cases.merge_derived({n: _derived_dict(r.model) for n, r in runs.items()})
+    notes = list(dict.fromkeys(note for r in runs.values() for note in r.model.notes))
+    data = doc.data
+    result = SpecResult(doc.file, status, tuple(findings), _text(data, "tag"), _text(data, "title"),
+                        _text(data, "status"), doc.sha256, common, tuple(notes))
+    verdicts = cases.verdicts(status, findings, runs)
+    extra: dict[str, Any] = {"overrides": overrides} if overrides else {}
+    to_give = _merged_to_give([_to_give(r.outcomes, r.needs) for r in runs.values()])
+    if to_give:
+        extra["to_give"] = to_give
+    extra["cases"] = [{"name": c.name, "title": c.title, "verdict": verdicts[c.name], "derived": own[c.name]}
+                      for c in load_cases]
+    rank = {"pass": 0, "warning": 1, "fail": 2, "invalid": 3}
+    worst = max(runs, key=lambda n: rank.get(verdicts[n], 0))  # the first of the worst: its charts are drawn
+    return result, _charts(runs[worst].model) if ctx.charts else None, extra
+
+
+def _merged_to_give(asked: list[dict[str, Any] | None]) -> dict[str, Any] | None:
+    """Return what to give over all load cases: each field once, with every rule that needs it in any case."""
+    found = [a for a in asked if a]
+    if not found:
+        return None
+    inputs: dict[str, dict[str, Any]] = {}
+    for a in found:
+        for entry in a["inputs"]:
+            known = inputs.setdefault(entry["path"], {**entry, "rules": []})
+            known["rules"] += [r for r in entry["rules"] if r not in known["rules"]]
+    return {"rules": len({r for e in inputs.values() for r in e["rules"]}),
+            "inputs": sorted(inputs.values(), key=lambda e: (_COMPONENTS.get(e["component"], 99), e["path"]))}
 
 
 def _probes(doc: Document, path: str, quantities: Any) -> list[Any] | None:
@@ -586,39 +651,53 @@ def _read_margins(margins: dict[str, Any], ruleset: RuleSet) -> tuple[dict[str, 
     return values, problems
 
 
-def _apply_waivers(waivers: Any, outcomes: dict[str, Outcome], ctx: CheckContext) -> list[Outcome]:
+def _apply_waivers(waivers: Any, runs: dict[str | None, dict[str, Outcome]], ctx: CheckContext) -> list[Outcome]:
+    """Mark the failing outcomes a waiver covers as waived and return the waiver findings. ``runs``: case name
+    → every rule's outcome in that case (``{None: outcomes}`` for a spec without cases); a waiver that names a
+    case covers that case, one that names none every case."""
     findings: list[Outcome] = []
     if not isinstance(waivers, list):
         return findings
+    any_run = next(iter(runs.values()))
     for i, waiver in enumerate(waivers):
         if not isinstance(waiver, dict) or not isinstance(waiver.get("rule"), str):
             continue
         path = f"waivers[{i}]"
         rule_id = ctx.ruleset.resolve(waiver["rule"])
-        if rule_id is None or rule_id not in outcomes:  # unknown, or disabled by the configuration (an alias too)
+        if rule_id is None or rule_id not in any_run:  # unknown, or disabled by the configuration (an alias too)
             findings.append(Outcome("waiver-check", "fail", "warning",
                                     f"{path}: waiver names rule '{waiver['rule']}', which this run does not check "
                                     "(no such rule, or the configuration disables it)", path + ".rule",
                                     hint="remove the waiver or correct the rule id ('rulecheck rules' lists them)"))
             continue
+        case = waiver.get("case")
+        if isinstance(case, str) and case not in runs:
+            findings.append(Outcome("waiver-check", "fail", "warning",
+                                    f"{path}: waiver names load case '{case}', which the spec does not declare",
+                                    path + ".case", hint="correct the case name, or remove 'case' to waive the "
+                                    "rule in every case"))
+            continue
         try:
             expires = _dt.date.fromisoformat(str(waiver.get("expires")))
         except ValueError:
             continue  # the schema reports the malformed date
-        outcome = outcomes[rule_id]
+        covered = [runs[case][rule_id]] if isinstance(case, str) else [run[rule_id] for run in runs.values()]
+        failing = [o for o in covered if o.outcome == "fail"]
         info = {"reason": waiver.get("reason", ""), "approved_by": waiver.get("approved_by", ""),
-                "expires": expires.isoformat(), "severity": outcome.severity}
+                "expires": expires.isoformat(), "severity": (failing or covered)[0].severity}
         if expires < ctx.today:
             findings.append(Outcome("waiver-check", "fail", "warning",
                                     f"{path}: waiver of '{rule_id}' expired on {expires.isoformat()}; "
                                     f"the finding counts again", path + ".expires",
                                     hint="renew the waiver at a design review, or fix the finding"))
             continue
-        if outcome.outcome != "fail":
+        if not failing:
+            shown = ", ".join(dict.fromkeys(o.outcome for o in covered))
             findings.append(Outcome("waiver-check", "fail", "warning",
                                     f"{path}: waiver of '{rule_id}' is not needed: the rule's outcome is "
-                                    f"{outcome.outcome}", path + ".rule", hint="remove the stale waiver"))
+                                    f"{shown}", path + ".rule", hint="remove the stale waiver"))
             continue
-        outcome.outcome = "waived"
-        outcome.waiver = info
+        for outcome in failing:
+            outcome.outcome = "waived"
+            outcome.waiver = info
     return findings

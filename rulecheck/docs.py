@@ -37,6 +37,11 @@ def _rows(node: dict[str, Any], prefix: str, required: set[str], out: list[str],
         need = "required" if key in required else ""
         cell = f"{desc}{derived}".replace("|", "\\|")
         out.append(f"| `{path}` | {_type_text(sub)} | {need} | {cell} |")
+        if "x-fields-of" in sub:
+            continue  # the fields of another section (a load case's load): listed there
+        named = sub.get("additionalProperties")
+        if isinstance(named, dict) and "$ref" in named and depth < 3:  # free names, each one section (load cases)
+            _rows({"properties": {"NAME": named}}, path, set(), out, depth + 1)
         if sub.get("type") == "object" and depth < 3:
             _rows(sub, path, set(sub.get("required", [])), out, depth + 1)
         items = _resolve(sub.get("items", {})) if sub.get("type") == "array" else {}

@@ -124,6 +124,7 @@ class Finding(NamedTuple):
     limit: Mapping[str, Any] | None = None
     missing: tuple[str, ...] = ()
     waiver: Mapping[str, Any] | None = None
+    case: str | None = None  # the load case it was found in; None: the spec has no cases, or every case gives it
 
     @property
     def level(self) -> str | None:
@@ -132,12 +133,15 @@ class Finding(NamedTuple):
 
     def to_json(self) -> dict[str, Any]:
         """Return the contract's ``outcome`` object."""
+        entry: dict[str, Any] = {"rule": self.rule}
+        if self.case is not None:
+            entry["case"] = self.case  # only when set: a spec without cases gives the same bytes as before
+        entry.update(title=self.title, topic=self.topic, outcome=self.outcome, severity=self.severity,
+                     safety=self.safety, message=self.message)
         if self.outcome == "not-applicable":
-            return {"rule": self.rule, "title": self.title, "topic": self.topic, "outcome": self.outcome,
-                    "severity": self.severity, "safety": self.safety, "message": self.message,
-                    "location": {"path": self.path, "line": None, "column": None}}
-        entry = {"rule": self.rule, "title": self.title, "topic": self.topic, "outcome": self.outcome,
-                 "severity": self.severity, "safety": self.safety, "message": self.message, "fix": self.fix}
+            entry["location"] = {"path": self.path, "line": None, "column": None}
+            return entry
+        entry["fix"] = self.fix
         if self.outcome != "pass":
             entry["formula"] = self.formula
             entry["basis"] = self.basis if isinstance(self.basis, list) else list(self.basis)
@@ -275,11 +279,14 @@ def _requirement_row(req: Requirement, outcome: Mapping[str, Any]) -> dict[str, 
         # the rule's own ratio where it gives one; otherwise rating ÷ need (at-least) or limit ÷ value (at-most)
         ratio = _positive(rating) / _positive(needed)  # type: ignore[operator]
         margin = {"value": float(f"{ratio:.6g}"), "unit": "1", "kind": "ratio"}
-    return {"item": req.item, "rule": req.rule, "outcome": outcome["outcome"], "sense": req.sense,
-            "needed": dict(needed), "rating": dict(rating) if isinstance(rating, Mapping) else None,
-            "margin": dict(margin) if isinstance(margin, Mapping) else None,
-            "at": dict(values[req.at]) if req.at and isinstance(values.get(req.at), Mapping) else None,
-            "limit": outcome.get("limit")}
+    row = {"item": req.item, "rule": req.rule, "outcome": outcome["outcome"], "sense": req.sense,
+           "needed": dict(needed), "rating": dict(rating) if isinstance(rating, Mapping) else None,
+           "margin": dict(margin) if isinstance(margin, Mapping) else None,
+           "at": dict(values[req.at]) if req.at and isinstance(values.get(req.at), Mapping) else None,
+           "limit": outcome.get("limit")}
+    if outcome.get("case"):
+        row["case"] = outcome["case"]  # the load case whose finding gives the line
+    return row
 
 
 def requirements_of(outcomes: Iterable[Mapping[str, Any]]) -> list[dict[str, Any]]:
@@ -288,13 +295,18 @@ def requirements_of(outcomes: Iterable[Mapping[str, Any]]) -> list[dict[str, Any
     Every number is a value the rule computed (its ``values`` and ``limit``); only a missing margin is the
     ratio of the two. Rules that did not apply or could not be checked give no line.
     """
-    by_rule = {o["rule"]: o for o in outcomes if o.get("outcome") in ("pass", "fail", "waived")}
+    by_rule: dict[str, list[Mapping[str, Any]]] = {}
+    for o in outcomes:
+        if o.get("outcome") in ("pass", "fail", "waived"):
+            by_rule.setdefault(o["rule"], []).append(o)
     rows = []
     for req in REQUIREMENTS:
-        outcome = by_rule.get(req.rule)
-        row = _requirement_row(req, outcome) if outcome is not None else None
-        if row is not None:
-            rows.append(row)
+        # with load cases a rule has a finding per case: the line is the worst case's (a fail before a waived one
+        # before a pass, then the largest need), the first of equals in the stable order
+        found = [row for o in by_rule.get(req.rule, ()) for row in [_requirement_row(req, o)] if row is not None]
+        if found:
+            rows.append(min(found, key=lambda r: (_OUTCOME_ORDER.get(r["outcome"], 9),
+                                                  -(_positive(r["needed"]) or 0.0))))
     return rows
 
 

@@ -49,7 +49,15 @@ class Quantities:
 def spec_schema() -> dict[str, Any]:
     """Return the spec-format JSON Schema (Draft 2020-12) as a dict."""
     text = resources.files("rulecheck").joinpath("schemas/spec.schema.yaml").read_text(encoding="utf-8")
-    return yaml.load(text, Loader=getattr(yaml, "CSafeLoader", yaml.SafeLoader))  # the C parser: faster start
+    schema = yaml.load(text, Loader=getattr(yaml, "CSafeLoader", yaml.SafeLoader))  # the C parser: faster start
+    defs = schema["$defs"]
+    # a load case's overrides: every load field but the model, none required (one definition of each field)
+    load = defs["load"]
+    defs["load_override"] = {**{k: v for k, v in load.items() if k != "required"},
+                             "description": "Load fields a case gives instead of the spec's own.",
+                             "x-fields-of": "load",
+                             "properties": {k: v for k, v in load["properties"].items() if k != "model"}}
+    return schema
 
 
 def schema_json() -> str:
@@ -98,10 +106,19 @@ def _subschema(parts: list[Any]) -> dict[str, Any] | None:
             node = _resolve(node.get("items", {}))
         else:
             props = node.get("properties", {})
-            if part not in props:
+            if part in props:
+                node = _resolve(props[part])
+            elif _named_entries(node):
+                node = _resolve(node["additionalProperties"])
+            else:
                 return None
-            node = _resolve(props[part])
     return node
+
+
+def _named_entries(node: dict[str, Any]) -> bool:
+    """Return whether a mapping's keys are free names whose values share one section (the load cases)."""
+    extra = node.get("additionalProperties")
+    return isinstance(extra, dict) and "$ref" in extra
 
 
 _TYPE_WORDS = {
@@ -341,9 +358,16 @@ def _plain(doc: Document, parts: list[Any], error: Any) -> Problem:
         if yaml_hint and isinstance(value, bool):
             hint = yaml_hint + "; " + hint
         return Problem("spec-schema", path, f"{where}: {_show(value)} is not a known value", hint)
+    if validator == "pattern" and "propertyNames" in error.schema_path and _named_entries(_subschema(parts) or {}):
+        named = _resolve((_subschema(parts) or {})["additionalProperties"])
+        return Problem("spec-schema", path_text([*parts, value]), f"{where}: the name {_show(value)} does not have "
+                       "the expected form", named.get("description", ""), at_key=True)
     if validator == "pattern":
         return Problem("spec-schema", path, f"{where}: {_show(value)} does not have the expected form",
                        (_subschema(parts) or {}).get("description", ""))
+    if validator == "maxProperties" and isinstance(value, dict):
+        return Problem("spec-schema", path, f"{where}: {len(value)} entries; at most {error.validator_value} are "
+                       "allowed", (_subschema(parts) or {}).get("description", ""))
     if validator in ("minimum", "maximum", "exclusiveMinimum", "exclusiveMaximum"):
         words = {"minimum": "at least", "maximum": "at most", "exclusiveMinimum": "more than",
                  "exclusiveMaximum": "less than"}[validator]
@@ -412,6 +436,10 @@ def _walk(value: Any, node: dict[str, Any], parts: tuple[Any, ...], path: str, a
                 sub = props.get(k) if type(k) is str else None
                 if sub is not None:
                     _walk(v, sub, (*parts, k), f"{path}.{k}" if path else k, append)
+        elif _named_entries(node):
+            for k, v in value.items():
+                if type(k) is str:
+                    _walk(v, node["additionalProperties"], (*parts, k), f"{path}.{k}" if path else k, append)
     elif isinstance(value, list) and "items" in node:
         items = node["items"]
         for i, v in enumerate(value):
@@ -443,7 +471,7 @@ def _range_problem(path: str, parts: tuple[Any, ...], si: float, kind_name: str,
     if si > 0 and kind_name != "fraction":
         return None  # only a fraction has an upper bound; every other kind's bound is at zero
     name = str(parts[-1]) if parts else ""
-    section = str(parts[0]) if parts else ""
+    section = str(parts[2] if parts[:1] == ("cases",) and len(parts) > 2 else parts[0]) if parts else ""
     rating = kind_name in ("rotational_speed", "torque", "velocity") and name in _POSITIVE_RATINGS and (
         section != "load" or name in ("speed_max", "speed_limit", "runaway_speed", "line_speed"))
     if (kind_name in _POSITIVE_KINDS or rating) and si <= 0 and name not in ("altitude",):

@@ -89,7 +89,8 @@ def _line(spec: dict[str, Any], outcome: dict[str, Any], severity: str, body: st
             props.append(f"col={column}")
     tag = _text(spec.get("tag"))
     title = _text(outcome.get("title")) or _text(outcome.get("rule"))
-    props.append("title=" + escape_property(f"{tag} {outcome.get('rule')}: {title}".strip()))
+    case = f" [case {_text(outcome.get('case'))}]" if outcome.get("case") else ""
+    props.append("title=" + escape_property(f"{tag} {outcome.get('rule')}{case}: {title}".strip()))
     if outcome.get("safety"):
         body += "\nSafety-relevant: have the design reviewed by a competent person under the local codes."
     path = _text(where.get("path"))

@@ -103,6 +103,13 @@ def terminal_safe(text: Any) -> str:
     return "".join(ch if ch.isprintable() or ch == "\n" else "\ufffd" for ch in s)
 
 
+def case_label(outcome: Mapping[str, Any]) -> str:
+    """Return " [case NAME]" for a finding of one load case, "" for one that holds in every case (or a spec
+    without cases)."""
+    case = outcome.get("case")
+    return f" [case {plain(case, 40)}]" if case else ""
+
+
 def plain(text: Any, limit: int = 2000) -> str:
     """Return ``text`` as a single-line string without control characters, cut to ``limit`` characters."""
     if text is None:

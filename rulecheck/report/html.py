@@ -54,6 +54,7 @@ def _finding(o: Mapping[str, Any], units: str, rules: Mapping[str, Mapping[str, 
     o = {**{k: meta.get(k) for k in ("title", "topic", "formula", "basis")}, **o}
     return {
         "rule": plain(o.get("rule"), 120),
+        "case": plain(o.get("case"), 40),
         "title": plain(o.get("title"), 300),
         "topic": plain(o.get("topic"), 80),
         "label": common.outcome_label(o),
@@ -178,6 +179,8 @@ def _spec_view(spec: Mapping[str, Any], number: int, units: str, draw: bool, ima
         "derived": derived,
         "charts": _chart_views(spec, number, units, image) if draw else [],
         "load_errors": [plain(e.get("message") if isinstance(e, Mapping) else e, 500) for e in errors],
+        "cases": [(plain(k.get("name"), 40), plain(k.get("title"), 200), plain(k.get("verdict"), 20))
+                  for k in spec.get("cases") or [] if isinstance(k, Mapping)],
     }
 
 

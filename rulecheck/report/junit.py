@@ -85,7 +85,8 @@ def _heading(outcome: dict[str, Any]) -> str:
     level = failure_level(outcome) or str(outcome.get("severity") or "")
     label = level + (" (not checked)" if outcome.get("outcome") == "not-checked" else "")
     label += " (in baseline)" if outcome.get("baseline") else ""
-    return f"{label} {outcome.get('rule')}"
+    case = f" [case {outcome.get('case')}]" if outcome.get("case") else ""
+    return f"{label} {outcome.get('rule')}{case}"
 
 
 def _block(outcome: dict[str, Any]) -> str:

@@ -116,19 +116,23 @@ def _spec_section(spec: Mapping[str, Any], units: str) -> list[str]:
     lines = ["", "=" * WIDTH, *_wrap(f"{common.verdict_label(spec).text}  {common.spec_name(spec)}")]
     lines += _wrap(f"file {plain(spec.get('file'), 200)}; errors {c['error']}, warnings {c['warning']}, "
                    f"notes {c['info']}, not checked {c['not-checked']}, waived {c['waived']}, passed {c['pass']}")
+    if spec.get("cases"):
+        lines += _wrap("load cases (the worst decides): " + ", ".join(
+            f"{plain(k.get('name'), 40)} {plain(k.get('verdict'), 20)}" for k in spec["cases"]))
     for o in groups.failures:
         flag = " [SAFETY]" if o.get("safety") is True else ""
-        lines += _wrap(f"{common.outcome_label(o).text}{flag} {plain(o.get('rule'), 80)}: "
+        lines += _wrap(f"{common.outcome_label(o).text}{flag} {plain(o.get('rule'), 80)}{common.case_label(o)}: "
                        f"{plain(o.get('message') or o.get('title'))}", "  ")
         if o.get("fix"):
             lines += _wrap(f"FIX: {plain(o.get('fix'))}", "      ")
     for o in groups.not_checked:
         missing = ", ".join(common.missing_items(o)) or "—"
-        lines += _wrap(f"[?] not checked ({plain(o.get('severity'), 20)}) {plain(o.get('rule'), 80)}: "
+        lines += _wrap(f"[?] not checked ({plain(o.get('severity'), 20)}) {plain(o.get('rule'), 80)}"
+                       f"{common.case_label(o)}: "
                        f"needs {missing}", "  ")
     for o in groups.waived:
         w = common.waiver_items(o)
-        lines += _wrap(f"[W] waived {plain(o.get('rule'), 80)}: {w['reason']} (approved by "
+        lines += _wrap(f"[W] waived {plain(o.get('rule'), 80)}{common.case_label(o)}: {w['reason']} (approved by "
                        f"{w['approved_by'] or '—'}, expires {w['expires'] or '—'})", "  ")
     rows = spec.get("requirements") if isinstance(spec.get("requirements"), list) else []
     if rows:

@@ -70,7 +70,8 @@ def _values(outcome: Mapping[str, Any], units: str) -> str:
 def _failure(o: Mapping[str, Any], units: str) -> str:
     label = common.outcome_label(o)
     flag = " ⚑ safety" if o.get("safety") is True else ""
-    line = f"- **{escape(label.text)}**{flag} {code(o.get('rule'), 80)}: {escape(o.get('message') or o.get('title'))}"
+    line = (f"- **{escape(label.text)}**{flag} {code(o.get('rule'), 80)}{escape(common.case_label(o))}: "
+            f"{escape(o.get('message') or o.get('title'))}")
     extra = []
     values = _values(o, units)
     if values:
@@ -87,7 +88,8 @@ def _not_checked(o: Mapping[str, Any]) -> str:
     missing = ", ".join(code(m, 120) for m in common.missing_items(o)) or "—"
     flag = " ⚑ safety" if o.get("safety") is True else ""
     level = escape(o.get("severity") or "—", 20)
-    return f"- **\\[?\\] NOT CHECKED** ({level}){flag} {code(o.get('rule'), 80)}: needs {missing}"
+    return (f"- **\\[?\\] NOT CHECKED** ({level}){flag} {code(o.get('rule'), 80)}{escape(common.case_label(o))}: "
+            f"needs {missing}")
 
 
 def _spec_details(spec: Mapping[str, Any], units: str) -> str:
@@ -95,6 +97,9 @@ def _spec_details(spec: Mapping[str, Any], units: str) -> str:
     if not groups.failures and not groups.not_checked:
         return ""
     lines = [f"#### {escape(common.verdict_label(spec).text)} {escape(common.spec_name(spec), 160)}", ""]
+    if spec.get("cases"):
+        lines += ["load cases: " + ", ".join(f"{escape(c.get('name'), 40)} {escape(c.get('verdict'), 20)}"
+                                             for c in spec["cases"]), ""]
     lines += [_failure(o, units) for o in groups.failures]
     if groups.not_checked:
         if groups.failures:

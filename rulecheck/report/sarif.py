@@ -73,10 +73,11 @@ def artifact_uri(path: str) -> tuple[str, str | None]:
     return _quote(forward), SRCROOT
 
 
-def fingerprint(rule: str, file: str, spec_path: str) -> str:
-    """Return the finding's identity hash (hex SHA-256 of rule, file and spec path; line numbers left out)."""
+def fingerprint(rule: str, file: str, spec_path: str, case: str | None = None) -> str:
+    """Return the finding's identity hash (hex SHA-256 of rule, file, spec path and, for a finding of one load
+    case, the case's name; line numbers left out). Without a case the hash is what it was before load cases."""
     digest = hashlib.sha256()
-    for part in (rule, file.replace("\\", "/"), spec_path):
+    for part in (rule, file.replace("\\", "/"), spec_path, *((case,) if case else ())):
         data = part.encode("utf-8", "surrogatepass")
         digest.update(len(data).to_bytes(8, "big") + data)
     return digest.hexdigest()
@@ -178,6 +179,8 @@ def _message(outcome: dict[str, Any], tag: str) -> str:
     kind = outcome.get("outcome")
     title = _text(outcome.get("title")) or _text(outcome.get("rule"))
     head = f"{tag}: {title}" if tag else title
+    if outcome.get("case"):
+        head += f" [case {_text(outcome.get('case'))}]"
     if kind == "not-checked":
         missing = [m for m in outcome.get("missing") or [] if isinstance(m, str)]
         body = "not checked"
@@ -252,10 +255,13 @@ def _result(spec: dict[str, Any], outcome: dict[str, Any], rule_index: dict[str,
         "message": {"text": _message(outcome, tag)},
         "locations": [_location(spec, outcome, artifact_index)],
         "partialFingerprints": {FINGERPRINT_KEY: fingerprint(rule_id, _text(spec.get("file")),
-                                                            _text(where.get("path")))},
+                                                            _text(where.get("path")),
+                                                            _text(outcome.get("case")) or None)},
         "properties": {"outcome": _text(outcome.get("outcome")), "severity": _text(outcome.get("severity")),
                        "safety": bool(outcome.get("safety")), "tag": tag},
     }
+    if outcome.get("case"):
+        entry["properties"]["case"] = _text(outcome.get("case"))
     if outcome.get("outcome") == "waived":
         entry["suppressions"] = [_suppression(outcome.get("waiver"))]
     if baselined:  # the run compared against a baseline: a known finding is unchanged, any other one new

@@ -9,6 +9,7 @@ from __future__ import annotations
 from typing import Any
 
 from rulecheck.report.cautions import select_hazards
+from rulecheck.report.common import case_label
 from rulecheck.result import failure_level
 
 __all__ = ["TextReport", "render", "requirement_lines"]
@@ -51,6 +52,37 @@ def _to_give_text(to_give: dict[str, Any]) -> str:
     return f"to check {n} more rule{'s' if n != 1 else ''}, give {asked}"
 
 
+def _derived_lines(spec: dict[str, Any], units: str) -> list[str]:
+    """Return a spec's derived values (``--show-derived``): those every load case shares, then each case's own."""
+    from rulecheck.report.common import display
+
+    out = []
+    tables = [("", spec.get("derived") or {})]
+    tables += [(f" in case {_clean(c.get('name'))}", c.get("derived") or {}) for c in spec.get("cases") or []]
+    for where, table in tables:
+        if table:
+            out.append(f"{_clean(spec['file'])}: derived values of {_clean(spec.get('tag') or '?')}{where}:")
+            out += [f"    {path} = {display(value, units)}  ({_clean(value.get('from'))})" for path, value in
+                    table.items()]
+    return out
+
+
+def _spec_lines(spec: dict[str, Any], head: str) -> list[str]:
+    """Return the lines about a whole spec: the run's overrides, its load cases' verdicts, what to give."""
+    out = []
+    if spec.get("overrides"):
+        shown = [f"{_clean(o.get('path'))} = {_clean(_scalar(o.get('value')))}"
+                 + (f" (was {_clean(_scalar(o['was']))})" if o.get("was") is not None else " (not in the spec)")
+                 for o in spec["overrides"]]
+        out.append(f"{head}: overridden for this run: {'; '.join(shown)}")
+    if spec.get("cases"):
+        out.append(f"{head}: load cases (the worst decides): "
+                   + ", ".join(f"{_clean(c.get('name'))} {_clean(c.get('verdict'))}" for c in spec["cases"]))
+    if spec.get("to_give"):
+        out.append(f"{head}: {_to_give_text(spec['to_give'])}")
+    return out
+
+
 class TextReport:
     """The terminal report, written spec by spec."""
 
@@ -76,7 +108,7 @@ class TextReport:
             if level is not None:
                 label = self._paint(level, level) + (" (not checked)" if kind == "not-checked" else "")
                 known = " (in baseline)" if o.get("baseline") else ""
-                line = f"{_where(spec, o)}: {label}{known} {o['rule']}: {_clean(o['message'])}"
+                line = f"{_where(spec, o)}: {label}{known} {o['rule']}{case_label(o)}: {_clean(o['message'])}"
                 if o.get("fix") and (self.verbose or kind == "fail"):
                     line += f"\n    fix: {_clean(o['fix'])}"
                 if o.get("safety") and kind == "fail" and level != "info":
@@ -88,21 +120,11 @@ class TextReport:
                     w = o["waiver"]
                     detail = (f"waived by {_clean(w.get('approved_by'))} until {w.get('expires')}: "
                               f"{_clean(w.get('reason'))} — {detail}")
-                out.append(f"{_where(spec, o)}: {self._paint(kind, kind)} {o['rule']}: {detail}")
-        if self.show_derived and spec.get("derived"):
-            from rulecheck.report.common import display
-
-            out.append(f"{_clean(spec['file'])}: derived values of {_clean(spec.get('tag') or '?')}:")
-            for path, value in spec["derived"].items():
-                out.append(f"    {path} = {display(value, self.units)}  ({_clean(value.get('from'))})")
+                out.append(f"{_where(spec, o)}: {self._paint(kind, kind)} {o['rule']}{case_label(o)}: {detail}")
+        if self.show_derived:
+            out += _derived_lines(spec, self.units)
         head = _clean(spec["file"]) + (f":{spec['row']}" if spec.get("row") else "")
-        if spec.get("overrides"):
-            shown = [f"{_clean(o.get('path'))} = {_clean(_scalar(o.get('value')))}"
-                     + (f" (was {_clean(_scalar(o['was']))})" if o.get("was") is not None else " (not in the spec)")
-                     for o in spec["overrides"]]
-            out.append(f"{head}: overridden for this run: {'; '.join(shown)}")
-        if spec.get("to_give"):
-            out.append(f"{head}: {_to_give_text(spec['to_give'])}")
+        out += _spec_lines(spec, head)
         if self.requirements and spec.get("requirements"):
             out += requirement_lines(spec, self.units)
         for note in spec.get("notes", []):
@@ -147,7 +169,7 @@ def requirement_lines(spec: dict[str, Any], units: str = "si") -> list[str]:
             rating = "max " + rating if r.get("rating") else rating
         margin = display(r["margin"], units, ratio=True) if r.get("margin") else "—"
         rows.append((_clean(r["item"]), display(r["needed"], units) + at, rating, margin,
-                     f"{r['outcome']} {_clean(r['rule'])}"))
+                     f"{r['outcome']} {_clean(r['rule'])}{case_label(r)}"))
     widths = [max(len(row[i]) for row in rows) for i in range(5)]
     head = f"{_clean(spec['file'])}: what {_clean(spec.get('tag') or 'the drive train')} needs:"
     lines = [head]

@@ -4,6 +4,9 @@ and broken documents are rejected with the JSON path of the problem named."""
 from __future__ import annotations
 
 import json
+import os
+import subprocess
+import sys
 from importlib import resources
 from pathlib import Path
 
@@ -57,6 +60,29 @@ def test_sample_validates_against_the_schema():
     validator = Draft202012Validator(jsonout.schema(), format_checker=Draft202012Validator.FORMAT_CHECKER)
     errors = [f"{list(e.absolute_path)}: {e.message}" for e in validator.iter_errors(sample_result())]
     assert errors == []
+
+
+def test_a_result_with_load_cases_validates_and_its_case_fields_are_described(tmp_path):
+    """The flawed-corpus belt f45 (loaded and empty): its result fits the schema, and the fields load cases add
+    (an outcome's case, the spec's cases block) are named properties of it, not just allowed extras."""
+    root = SCHEMA_FILE.parents[2]
+    spec = root / "tests" / "corpus" / "flawed" / "f45-declining-belt-resistor-sized-empty.yaml"
+    proc = subprocess.run([sys.executable, "-m", "rulecheck", "check", str(spec), "-f", "json", "--no-cache"],
+                          cwd=root, capture_output=True, text=True, timeout=300,
+                          env={**os.environ, "PYTHONPATH": str(root)})
+    result = json.loads(proc.stdout)
+    schema = jsonout.schema()
+    errors = [f"{list(e.absolute_path)}: {e.message}" for e in Draft202012Validator(schema).iter_errors(result)]
+    assert errors == []
+    spec_result = result["specs"][0]
+    assert {c["name"] for c in spec_result["cases"]} == {"loaded", "empty"}
+    assert any(o.get("case") == "loaded" for o in spec_result["outcomes"])
+    assert "case" in schema["$defs"]["outcome"]["properties"] and "cases" in schema["$defs"]["spec"]["properties"]
+    case_keys = {k for c in spec_result["cases"] for k in c}
+    assert case_keys <= set(schema["$defs"]["case"]["properties"])
+    # a wrong case name in a result is refused
+    spec_result["outcomes"][0]["case"] = "Not A Name"
+    assert list(Draft202012Validator(schema).iter_errors(result))
 
 
 def test_render_then_load_round_trips_to_an_equal_dict():

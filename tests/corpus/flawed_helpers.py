@@ -58,10 +58,11 @@ def tolerance(text: Any) -> float:
     return float(match.group(1)) / 100.0
 
 
-def catching_outcome(spec: dict[str, Any], rules: str | list[str]) -> dict[str, Any] | None:
-    """Return the outcome of the catching rule: the first of ``rules`` that fails, else the first present."""
+def catching_outcome(spec: dict[str, Any], rules: str | list[str], case: str | None = None) -> dict[str, Any] | None:
+    """Return the outcome of the catching rule: the first of ``rules`` that fails, else the first present.
+    ``case``: the load case whose outcome it must be (None: an outcome that names no case)."""
     wanted = [rules] if isinstance(rules, str) else list(rules)
-    by_rule = {o["rule"]: o for o in spec.get("outcomes", [])}
+    by_rule = {o["rule"]: o for o in spec.get("outcomes", []) if o.get("case") == case}
     present = [by_rule[r] for r in wanted if r in by_rule]
     failing = [o for o in present if o.get("outcome") == "fail"]
     return (failing or present or [None])[0]

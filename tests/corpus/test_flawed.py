@@ -69,8 +69,9 @@ def test_flaw_is_caught(name: str, results: dict[str, dict[str, Any]]) -> None:
     expect = EXPECTATIONS[name]
     spec = results[name]
     assert spec["status"] == "checked", f"{name}: spec not checked ({spec['status']})"
-    outcome = catching_outcome(spec, expect["rule"])
-    assert outcome is not None, f"{name}: no outcome of {expect['rule']}"
+    outcome = catching_outcome(spec, expect["rule"], expect.get("case"))
+    assert outcome is not None, f"{name}: no outcome of {expect['rule']}" + (
+        f" naming case {expect['case']}" if expect.get("case") else "")
     assert outcome["outcome"] == expect["outcome"], (
         f"{name}: {outcome['rule']} gives {outcome['outcome']} ({outcome.get('message', '')[:300]})")
     assert outcome["severity"] == expect["severity"], (
@@ -79,3 +80,7 @@ def test_flaw_is_caught(name: str, results: dict[str, dict[str, Any]]) -> None:
     assert not problems, f"{name}: {outcome['rule']} values differ from the hand calculation: {problems}"
     others = other_errors(spec, outcome["rule"], expect.get("also_errors"))
     assert not others, f"{name}: other rules fail with severity error (the spec has one flaw): {others}"
+    if expect.get("case"):  # the flaw is in that case only: every other case passes, and the worst decides
+        verdicts = {c["name"]: c["verdict"] for c in spec.get("cases", [])}
+        assert verdicts.get(expect["case"]) == "fail" and spec["verdict"] == "fail", (name, verdicts)
+        assert all(v != "fail" for k, v in verdicts.items() if k != expect["case"]), (name, verdicts)

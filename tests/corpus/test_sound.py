@@ -85,10 +85,23 @@ def _problems(spec: dict[str, Any], name: str, known: tuple[str, ...] = ()) -> l
 
 
 def _wrong_values(name: str, spec: dict[str, Any], skip: tuple[str, ...] = ()) -> list[str]:
-    """Hand values (``x-hand-derived``) the tool's derived values disagree with, except the paths in ``skip``."""
-    hand = yaml.safe_load((SOUND / name).read_text(encoding="utf-8")).get("x-hand-derived") or {}
-    derived = spec.get("derived") or {}
+    """Hand values (``x-hand-derived``) the tool's derived values disagree with, except the paths in ``skip``.
+
+    A spec with load cases gives the hand values of each case under ``x-hand-derived-cases`` (case → path →
+    value), checked against that case's derived values (the ones every case shares, and the case's own)."""
+    text = yaml.safe_load((SOUND / name).read_text(encoding="utf-8"))
+    hand = text.get("x-hand-derived") or {}
     assert hand, f"{name}: no x-hand-derived values"
+    wrong = _compare(hand, spec.get("derived") or {}, skip, name)
+    by_case = {c["name"]: c for c in spec.get("cases", [])}
+    for case, values in (text.get("x-hand-derived-cases") or {}).items():
+        assert case in by_case, f"{name}: no load case {case} in the result"
+        derived = {**(spec.get("derived") or {}), **(by_case[case].get("derived") or {})}
+        wrong += [f"[case {case}] {w}" for w in _compare(values, derived, skip, name)]
+    return wrong
+
+
+def _compare(hand: dict[str, float], derived: dict[str, Any], skip: tuple[str, ...], name: str) -> list[str]:
     wrong = []
     for path, expected in hand.items():
         if path in skip:
