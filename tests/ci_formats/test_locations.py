@@ -30,8 +30,6 @@ EXPECTED = {
     ("dc-510-crusher-feeder.yaml", "gearbox-peak-speed-thermal"): "load.speed_min",
     ("f-610-dryer-exhaust-fan.yaml", "service-factor-on-inverter"): "motor.rated_power",
     ("f-610-dryer-exhaust-fan.yaml", "torque-margin-continuous"): "motor.rated_power",
-    # "inertia ratio 17.5 (load 8.849 kg·m² at the motor shaft …)" on a direct drive: there is no gear ratio
-    ("f-610-dryer-exhaust-fan.yaml", "inertia-ratio"): "load.inertia",
     ("h-310-maintenance-hoist.yaml", "regen-braking-energy"): "drive.braking.kind",
     ("h-310-maintenance-hoist.yaml", "holding-brake-vertical"): "motor.brake.static_torque",
     ("m-710-slurry-agitator.yaml", "supply-voltage-frequency"): "supply.voltage",
@@ -52,8 +50,6 @@ EXPECTED_FLAWED = {
         "load.speed_min",  # splash lubrication at the lowest speed
     ("f02-coil-car-rms-duty.yaml", "torque-rms-duty-cycle"):
         "load.duty",
-    ("f02-coil-car-rms-duty.yaml", "inertia-ratio"):
-        "transmission.ratio",
     ("f03-granulator-peak-over-drive-limit.yaml", "drive-overload-duty"):
         "drive.overload.current",
     ("f03-granulator-peak-over-drive-limit.yaml", "torque-peak"):
@@ -68,12 +64,8 @@ EXPECTED_FLAWED = {
         "drive.overload.current",  # T(I) at the drive's overload current is the lower limit
     ("f07-trommel-gearbox-service-factor.yaml", "gearbox-service-factor"):
         "transmission.rated_output_torque",
-    ("f07-trommel-gearbox-service-factor.yaml", "inertia-ratio"):
-        "transmission.ratio",
     ("f08-shredder-gearbox-heavy-shock.yaml", "gearbox-service-factor"):
         "transmission.rated_output_torque",
-    ("f08-shredder-gearbox-heavy-shock.yaml", "inertia-ratio"):
-        "transmission.ratio",
     ("f09-sand-screw-gearbox-thermal.yaml", "gearbox-peak-speed-thermal"):
         "transmission.thermal_power",  # continuous power above the thermal rating
     ("f10-hoist-brake-without-losses.yaml", "holding-brake-vertical"):
@@ -82,8 +74,8 @@ EXPECTED_FLAWED = {
         "protection.overspeed_protection",
     ("f12-declining-belt-resistor-undersized.yaml", "regen-braking-energy"):
         "drive.braking.power",  # the resistor's rating 3.5 kW below 20.09 kW
-    ("f12-declining-belt-resistor-undersized.yaml", "inertia-ratio"):
-        "transmission.ratio",
+    ("f45-declining-belt-resistor-sized-empty.yaml", "regen-braking-energy"):
+        "drive.braking.power",  # case loaded: the resistor's rating 7.5 kW below 20.09 kW
     ("f13-index-belt-dc-bus-reserve.yaml", "regen-braking-energy"):
         "drive.braking.kind",  # no braking means (kind none) for the stop's energy
     ("f14-dol-fan-runup-at-dipped-voltage.yaml", "acceleration-time"):
@@ -96,8 +88,6 @@ EXPECTED_FLAWED = {
         "drive.dc_bus_trip",
     ("f15-centrifuge-pm-uncontrolled-generation.yaml", "pm-back-emf-headroom"):
         "motor.back_emf_constant",
-    ("f15-centrifuge-pm-uncontrolled-generation.yaml", "inertia-ratio"):
-        "load.inertia",  # direct drive: no gear ratio in the spec
     ("f16-extruder-dc-armature-voltage.yaml", "dc-armature-voltage"):
         "motor.armature_voltage",
     ("f17-borehole-pump-cable-drop.yaml", "cable-voltage-drop"):
@@ -116,8 +106,6 @@ EXPECTED_FLAWED = {
         "motor.rated_power",
     ("f21-test-fan-above-max-speed.yaml", "mechanical-max-speed"):
         "motor.max_speed",
-    ("f21-test-fan-above-max-speed.yaml", "inertia-ratio"):
-        "load.inertia",  # direct drive: no gear ratio in the spec
     ("f22-incline-belt-overload-relay-60hz.yaml", "motor-overload-protection"):
         "drive.motor_overload.setting",
     ("f22-incline-belt-overload-relay-60hz.yaml", "units-and-dimensions"):
@@ -130,8 +118,6 @@ EXPECTED_FLAWED = {
         "drive.control",
     ("f24-dryer-vf-turning-speed.yaml", "gearbox-peak-speed-thermal"):
         "load.speed_min",  # splash lubrication at the lowest speed
-    ("f24-dryer-vf-turning-speed.yaml", "inertia-ratio"):
-        "transmission.ratio",
     ("f25-washdown-conveyor-enclosure.yaml", "enclosure-ip"):
         "motor.enclosure",
     ("f26-mixer-overload-duration.yaml", "drive-overload-duty"):
@@ -160,8 +146,6 @@ EXPECTED_FLAWED = {
         "protection.safety_stop.stopping_time",  # 2.672 s against the required stopping time
     ("f34-crusher-feed-belt-stopping-time.yaml", "torque-peak"):
         "drive.overload.current",  # 95.09 N·m available is T(27 A), the drive's overload current
-    ("f34-crusher-feed-belt-stopping-time.yaml", "inertia-ratio"):
-        "transmission.ratio",
     ("f35-apartment-pump-emc-category.yaml", "emc-category"):
         "drive.emc_category",
     ("f36-belt-nameplate-transposed-current.yaml", "nameplate-electrical-power"):
@@ -174,8 +158,6 @@ EXPECTED_FLAWED = {
         "drive.overload.current",  # 'the 827 N*m the drive's overload current gives'
     ("f44-screen-feed-chain-sprocket-overhung.yaml", "overhung-load"):
         "transmission.overhung_load.permissible_radial_load",
-    ("f44-screen-feed-chain-sprocket-overhung.yaml", "inertia-ratio"):
-        "transmission.ratio",
 }
 
 
