@@ -70,6 +70,39 @@ def _spec_catalogue() -> dict[str, tuple[str, Any]]:
     return out
 
 
+@lru_cache(maxsize=1)
+def _required_paths() -> dict[str, str]:
+    """Return every key the spec format requires within its section: path → that section ("" for the top)."""
+    from rulecheck.load import path_text
+    from rulecheck.schema import _resolve, spec_schema
+
+    out: dict[str, str] = {}
+
+    def walk(node: dict[str, Any], parts: tuple[str, ...]) -> None:
+        node = _resolve(node)
+        if node.get("type") != "object":
+            return
+        for key in node.get("required", []):
+            out[path_text((*parts, key))] = path_text(parts)
+        for key, sub in node.get("properties", {}).items():
+            walk(sub, (*parts, key))
+
+    walk(spec_schema(), ())
+    return out
+
+
+def _absent_with(path: str) -> str | None:
+    """Return what must be absent from a valid spec for ``path`` to be: the path itself, or the section holding
+    it when the format requires it there (``drive`` for ``drive.kind``); None when it is always given
+    (``motor.kind``)."""
+    required = _required_paths()
+    while path in required:
+        path = required[path]
+        if not path:
+            return None
+    return path
+
+
 def catalogue(derived: Derived) -> dict[str, tuple[str, Any]]:
     """Return every model path a rule may read: path → (type, kind or enum choices): the spec format's fields
     and the ``derived`` catalogue the caller gives (the derive stage's paths and kinds)."""
@@ -180,23 +213,74 @@ def _fast_argument(kind_name: str, value: Any) -> None:
 
 
 @lru_cache(maxsize=4)
-def _lint_environment(take_first: bool = True, fast: bool = False) -> Any:
+def _lint_environment(take_first: bool | None = True, fast: bool = False, guards: bool = False) -> Any:
     from rulecheck.physics import METHODS
 
     env = expr.environment({n: _dimensional_method(n, i, fast) for n, i in METHODS.items() if i.expose})
     # every part of a conditional or of and/or is evaluated, so no branch escapes the dimension check: the
     # test and the first arm in one pass, the second arm in the other (compiler.translate)
     env.rule_branches = "first" if take_first else "second"
-    env.cache_tag = "lint"  # its translations differ from the run environment's
+    # the message check's sample specs: a presence test decides as at run time (compiler._presence_test)
+    env.rule_guards = guards
+    env.cache_tag = "lint-guards" if guards else "lint"  # its translations differ from the run environment's
     return env
 
 
 class _Lint:
     """What linting one rule set needs: the catalogue it reads and the compile cache its rules share."""
 
-    def __init__(self, derived: Derived, cache: expr.CompileCache | None) -> None:
+    def __init__(self, derived: Derived, cache: expr.CompileCache | None,
+                 links: Mapping[str, tuple[str, ...]] | None = None) -> None:
         self.derived = derived_kinds(derived)
         self.cache = cache if cache is not None else expr.CompileCache()
+        self.links = links or {}
+        self.users: dict[str, set[str]] = {}  # a path → the derived values computed from it directly
+        for path, inputs in self.links.items():
+            for source in inputs:
+                self.users.setdefault(source, set()).add(path)
+
+    def dependents(self, path: str) -> set[str]:
+        """Return the derived values computed from ``path``, directly or through others."""
+        found: set[str] = set()
+        todo = [path]
+        while todo:
+            for user in self.users.get(todo.pop(), ()):
+                if user not in found:
+                    found.add(user)
+                    todo.append(user)
+        return found
+
+    def inputs(self, path: str) -> set[str]:
+        """Return the fields a derived ``path`` is computed from, followed through other derived values (empty:
+        a spec field, or a derived value whose inputs are not known)."""
+        found: set[str] = set()
+        seen = {path}
+        todo = [path]
+        while todo:
+            for source in self.links.get(todo.pop(), ()):
+                if source in seen:
+                    continue
+                seen.add(source)
+                if source in self.links:
+                    todo.append(source)
+                else:
+                    found.add(source)
+        return found
+
+    def missing_together(self, path: str, paths: Any) -> list[set[str]]:
+        """Return the ways ``path`` can be missing from a valid spec, each as the set of ``paths`` missing with it:
+        a field with every value derived from it (a field the format requires in its section: the whole section);
+        a derived value through each field it is computed from; a derived value of unknown inputs on its own.
+        None for a field always given, or a value computed only from such fields."""
+        fields = self.inputs(path)
+        ways = []
+        for field in sorted(fields) if fields else [path]:
+            absent = _absent_with(field)
+            if absent is None:
+                continue
+            gone = {p for p in paths if p == absent or p.startswith(absent + ".")} | {field}
+            ways.append(gone.union(*(self.dependents(p) for p in list(gone))))
+        return ways
 
     def namespace(self, fast: bool) -> dict[str, Any]:
         return dict(_dimension_namespace(self.derived, fast))
@@ -204,8 +288,8 @@ class _Lint:
     def names(self) -> list[str]:
         return sorted(_catalogue(self.derived))
 
-    def compile(self, text: str, take_first: bool = True, fast: bool = False) -> Any:
-        return expr.compile_expression(_lint_environment(take_first, fast), text, self.cache)
+    def compile(self, text: str, take_first: bool = True, fast: bool = False, guards: bool = False) -> Any:
+        return expr.compile_expression(_lint_environment(take_first, fast, guards), text, self.cache)
 
 
 def _error(rule: Rule, where: str, message: str) -> RuleError:
@@ -233,7 +317,8 @@ def _run(lint: _Lint, rule: Rule, where: str, text: str, ns: dict[str, Any], fas
 
 
 def lint_rule(rule: Rule, derived: Derived, cache: expr.CompileCache | None = None,
-              messages: bool = False) -> tuple[dict[str, str | None], list[RuleError]]:
+              messages: bool = False,
+              links: Mapping[str, tuple[str, ...]] | None = None) -> tuple[dict[str, str | None], list[RuleError]]:
     """Return (kinds of the rule's named values, problems found) for one compiled rule.
 
     ``derived``: the derive stage's catalogue (path → kind, or path → (kind, meaning)), the paths besides the
@@ -241,9 +326,12 @@ def lint_rule(rule: Rule, derived: Derived, cache: expr.CompileCache | None = No
     A first pass evaluates with :class:`dims.Dim` samples (no pint); a rule it finds anything in, or is
     unsure of, is checked again with pint quantities, whose findings (and wording) are the ones kept.
     ``messages``: also report a message, fix or pass message that can show a value the rule does not need to
-    reach it (:func:`_lint_missing_in_messages`).
+    reach it (:func:`_lint_missing_in_messages`). ``links``: derived path → the paths it is computed from (the
+    derive stage's provenance, given by the caller), so that a value shown beside one the checks read from the
+    same inputs (a rotor inertia beside the inertia ratio) is known to be missing only where the checks are not
+    reached; without it each shown value is taken as missing on its own.
     """
-    return _lint_both(_Lint(derived, cache), rule, messages)
+    return _lint_both(_Lint(derived, cache, links), rule, messages)
 
 
 # A rule file's lint is milliseconds; one that takes longer than this is refused (a hostile file may try to spend
@@ -469,10 +557,12 @@ def _partial_namespace(rule: Rule, full: dict[str, Any], present: set[str]) -> d
 
 def _lint_missing_in_messages(lint: _Lint, rule: Rule, full_ns: dict[str, Any], fast: bool,
                               problems: list[RuleError]) -> None:
-    """Report a message, fix or pass message that reads a spec or derived value which nothing else of the rule
-    reads: the checks never need it, so on a spec without it the text would say "(message needs …)" instead of
-    the finding. Read it in a value the checks use (the rule is then not-checked without it) or guard it in
-    the template (``{% if x is defined %}``)."""
+    """Report a message, fix or pass message that shows a spec or derived value the rule can do without on its way
+    to that text (the checks before it decided, the text's own check true, or every check for the pass message):
+    on a spec without the value the text would say "(message needs …)" instead of the finding. A value read by
+    nothing else of the rule, and one read only by a later check, both count. Read it in a value the checks use
+    before the text (the rule is then not-checked without it) or show it only when given
+    (``{{ x if x is defined else '…' }}``)."""
     paths = _all_paths(full_ns)
     full = {**{name: full_ns[name] for name in rule.params if name in full_ns}, "_paths": paths}
     read = _read_paths(lint, rule, full, fast)
@@ -481,20 +571,63 @@ def _lint_missing_in_messages(lint: _Lint, rule: Rule, full_ns: dict[str, Any], 
     ns = _partial_namespace(rule, full, read)
     for name, _compiled, text, _kind in rule.values:
         ns[name] = expr.evaluate(lint.compile(text, fast=fast), ns)
-    templates = [("message", rule.message, len(rule.checks)), ("fix", rule.fix, len(rule.checks)),
-                 ("pass_message", rule.pass_message, len(rule.checks)),
-                 *((f"checks[{i}].{part}", template, i) for i, c in enumerate(rule.checks)
+    # each text with the checks that show it: the rule's message and fix by the checks without their own, the
+    # pass message after every check (index: the number of checks)
+    uses = {part: [i for i, c in enumerate(rule.checks) if getattr(c, part) is None] for part in ("message", "fix")}
+    templates = [("message", rule.message, uses["message"]), ("fix", rule.fix, uses["fix"]),
+                 ("pass_message", rule.pass_message, [len(rule.checks)]),
+                 *((f"checks[{i}].{part}", template, [i]) for i, c in enumerate(rule.checks)
                    for part, template in (("message", c.message), ("fix", c.fix)))]
+    templates = [(where, template, upto) for where, template, upto in templates if template is not None and upto]
+    extra = {where: _template_reads(lint, template, rule, full, read, ns, fast) for where, template, _ in templates}
+    reach = _Reach(lint, rule, full, fast)
+    specs: dict[frozenset[str], dict[str, Any]] = {}  # the sample spec without some paths, every other one given
     for where, template, upto in templates:
-        if template is None:
-            continue
-        shown = [p for p in _template_reads(lint, template, rule, full, read, ns, fast)
-                 if _can_reach(lint, rule, full, p, upto, fast)]
+        shown = []
+        for p in [*extra[where], *sorted(read)]:
+            for gone in map(frozenset, lint.missing_together(p, paths)):
+                # on a spec without these paths: is the text shown (its check reached and holding), and does it
+                # show one of them?
+                if gone not in specs:
+                    specs[gone] = _namespace_with(lint, rule, full, set(paths) - gone, fast)
+                if any(reach.reaches(gone, specs[gone], i) for i in upto) and _shows(template, specs[gone], gone):
+                    shown.append(p)
+                    break
         if shown:
             problems.append(_error(rule, where, f"shows {', '.join(shown)}, which the rule does not need to reach "
                                    "this text: on a spec without it the text would say '(message needs …)' instead "
-                                   "of the finding; read it in a value the checks use, or guard it with "
-                                   "'{% if … is defined %}'"))
+                                   "of the finding; read it in a value the checks use, or show it only when "
+                                   "given ('{{ x if x is defined else … }}')"))
+
+
+def _namespace_with(lint: _Lint, rule: Rule, full: dict[str, Any], present: set[str], fast: bool,
+                    both: bool = False) -> dict[str, Any]:
+    """Return a lint namespace with only the ``present`` paths, the rule's values computed (missing where their
+    inputs are; a presence test decides as at run time). ``both``: a value is missing where either arm of its
+    conditionals lacks an input."""
+    ns = _partial_namespace(rule, full, present)
+    for name, _compiled, text, _kind in rule.values:
+        try:
+            if both:
+                expr.evaluate(lint.compile(text, take_first=False, fast=fast, guards=True), ns)
+            ns[name] = expr.evaluate(lint.compile(text, fast=fast, guards=True), ns)
+        except expr.MissingInput as exc:
+            ns[name] = expr.Missing(paths=exc.paths)
+        except expr.ExpressionError:
+            ns[name] = expr.Missing(paths=(name,))
+    return ns
+
+
+def _shows(template: Any, ns: dict[str, Any], gone: set[str]) -> bool:
+    """Return whether a template shows one of the paths ``gone`` (or a value computed from one): rendered on a
+    spec without them, it needs one."""
+    try:
+        template.render(**ns)
+    except expr.MissingInput as exc:
+        return any(p in gone for p in exc.paths)
+    except Exception:  # noqa: BLE001 - a template that cannot be shown is reported by _lint_templates
+        return False
+    return False
 
 
 def _template_reads(lint: _Lint, template: Any, rule: Rule, full: dict[str, Any], read: set[str], ns: dict[str, Any],
@@ -518,23 +651,97 @@ def _template_reads(lint: _Lint, template: Any, rule: Rule, full: dict[str, Any]
     return extra
 
 
-def _can_reach(lint: _Lint, rule: Rule, full: dict[str, Any], path: str, upto: int, fast: bool) -> bool:
-    """Return whether the rule can reach its check ``upto`` (or its pass, ``upto`` = the number of checks) on a
-    spec without ``path``, every other value present: it applies, and the checks up to there can be decided."""
-    ns = _partial_namespace(rule, full, set(full["_paths"]) - {path})
-    try:
-        if rule.applies_text and not expr.evaluate(lint.compile(rule.applies_text, fast=fast), ns):
-            return False
-        for name, _compiled, text, _kind in rule.values:
+class _Reach:
+    """Which checks of a rule a spec without some paths (every other one given) reaches, found once per set."""
+
+    def __init__(self, lint: _Lint, rule: Rule, full: dict[str, Any], fast: bool) -> None:
+        self.lint, self.rule, self.full, self.fast = lint, rule, full, fast
+        self.values = {name: text for name, _c, text, _k in rule.values}
+        self.known: dict[frozenset[str], list[bool]] = {}
+
+    def reaches(self, gone: frozenset[str], ns: dict[str, Any], index: int) -> bool:
+        """Return whether the rule, on the spec ``ns`` without ``gone``, applies, decides its checks before
+        ``index`` and can hold the check ``index`` (``index`` = the number of checks: passes)."""
+        if gone not in self.known:
+            self.known[gone] = self._holds(ns)
+        holds = self.known[gone]
+        return index < len(holds) and holds[index]
+
+    def _holds(self, ns: dict[str, Any]) -> list[bool]:
+        """Return, for each check reached and then for the pass, whether it can hold (the pass: reached)."""
+        lint, rule, fast = self.lint, self.rule, self.fast
+        holds: list[bool] = []
+        try:
+            if rule.applies_text and not expr.evaluate(lint.compile(rule.applies_text, fast=fast, guards=True), ns):
+                return holds
+            for check in rule.checks:
+                expr.evaluate(lint.compile(check.when_text, fast=fast, guards=True), ns)
+                holds.append(self._present(_presence_subjects(check.when_text, self.values), ns))
+        except (expr.MissingInput, expr.ExpressionError):
+            return holds  # not-checked (or a rule error, reported elsewhere) from here on
+        return [*holds, True]
+
+    def _present(self, subjects: list[str], ns: dict[str, Any]) -> bool:
+        """Return whether every one of ``subjects`` (``x`` of an ``x is defined`` the check holds only with) has a
+        value on the spec ``ns``."""
+        for subject in subjects:
             try:
-                ns[name] = expr.evaluate(lint.compile(text, fast=fast), ns)
-            except expr.MissingInput as exc:
-                ns[name] = expr.Missing(paths=exc.paths)
-        for check in rule.checks[:upto + 1]:
-            expr.evaluate(lint.compile(check.when_text, fast=fast), ns)
-    except (expr.MissingInput, expr.ExpressionError):
-        return False  # not-checked (or a rule error, reported elsewhere) before the text is shown
-    return True
+                value = expr.evaluate(self.lint.compile(subject, fast=self.fast, guards=True), ns)
+            except (expr.MissingInput, expr.ExpressionError):
+                return False
+            if value is None:
+                return False
+        return True
+
+
+def _conjunct_nodes(text: str) -> list[Any]:
+    """Return the top-level ``and``-joined parts of an expression as jinja nodes (none when it does not parse)."""
+    import jinja2
+    from jinja2 import nodes
+
+    try:
+        node = jinja2.Environment().parse("{{ " + text + " }}").body[0].nodes[0]  # type: ignore[attr-defined]
+    except Exception:  # noqa: BLE001 - compiled before; anything odd has no parts
+        return []
+    parts: list[Any] = []
+    todo = [node]
+    while todo:
+        item = todo.pop()
+        if isinstance(item, nodes.And):
+            todo += [item.right, item.left]
+        else:
+            parts.append(item)
+    return parts
+
+
+def _presence_subjects(text: str, values: dict[str, str], depth: int = 0) -> list[str]:
+    """Return what the ``and``-joined presence tests of a condition ask for: ``x`` of ``x is defined`` and of
+    ``x is not none``, also inside a flag value the condition is joined with (``values``: the rule's values by
+    name): the condition holds only where they are present."""
+    from jinja2 import nodes
+
+    subjects = []
+    for part in _conjunct_nodes(text):
+        if isinstance(part, nodes.Name) and part.name in values and depth < 4:
+            subjects += _presence_subjects(values[part.name], values, depth + 1)
+            continue
+        if isinstance(part, nodes.Not) and isinstance(part.node, nodes.Test) and part.node.name == "none":
+            part = part.node
+        elif isinstance(part, nodes.Test) and part.name == "none":
+            continue
+        if isinstance(part, nodes.Test) and part.name in ("defined", "none") and not part.args:
+            subject = _dotted(part.node)
+            if subject:
+                subjects.append(subject)
+    return subjects
+
+
+def _dotted(node: Any) -> str:
+    from jinja2 import nodes
+
+    if isinstance(node, nodes.Getattr):
+        return f"{_dotted(node.node)}.{node.attr}"
+    return node.name if isinstance(node, nodes.Name) else ""
 
 
 def _all_paths(ns: dict[str, Any]) -> dict[str, Any]:
