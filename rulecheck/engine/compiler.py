@@ -101,15 +101,23 @@ def translate(tree: nodes.Node, env: Any, template: bool = False, branches: str 
 
 
 def _presence_test(node: nodes.Node) -> bool:
-    """Return whether a condition tests whether a value is present (``is defined``, ``is none``), alone or
-    joined with others by ``and``, ``or``, ``not`` (the lint of messages decides those as at run time)."""
+    """Return whether a condition only tests whether values are present (``is defined``, ``is none``, joined by
+    ``and``, ``or``, ``not``): the lint of messages decides those as at run time."""
     if isinstance(node, nodes.Test):
         return node.name in ("defined", "undefined", "none")
     if isinstance(node, (nodes.And, nodes.Or)):
-        return _presence_test(node.left) or _presence_test(node.right)
+        return _presence_test(node.left) and _presence_test(node.right)
     if isinstance(node, nodes.Not):
         return _presence_test(node.node)
     return False
+
+
+def _holds_presence_test(node: nodes.Node) -> bool:
+    """Return whether an ``and``/``or`` chain has a part that only tests presence."""
+    if isinstance(node, (nodes.And, nodes.Or)):
+        return any(_holds_presence_test(part) if type(part) is type(node) else _presence_test(part)
+                   for part in (node.left, node.right))
+    return _presence_test(node)
 
 
 class _Writer:
@@ -262,7 +270,7 @@ class _Writer:
         return f"_chain({left}{parts})"
 
     def _boolean(self, node: Any) -> str:
-        if self.branches is not None and self.guards and _presence_test(node):
+        if self.branches is not None and self.guards and _holds_presence_test(node):
             # lint of messages: every part evaluated (a missing one raises), but a presence test that settles the
             # whole (false in an 'and', true in an 'or') stops it, as at run time
             kind = type(node)
@@ -286,6 +294,10 @@ class _Writer:
     def visit_CondExpr(self, node: nodes.CondExpr) -> str:
         test, first = self.visit(node.test), self.visit(node.expr1)
         second = self.visit(node.expr2) if node.expr2 is not None else "_no_else()"
+        if self.branches is not None and self.guards and not _presence_test(node.test) and \
+                isinstance(node.test, (nodes.And, nodes.Or)) and _holds_presence_test(node.test):
+            # lint of messages: a presence test that settles the condition chooses the arm, as at run time
+            return f"_choose(lambda: {test}, lambda: {first}, lambda: {second}, {self.branches == 'first'})"
         if self.branches is not None and not (self.guards and _presence_test(node.test)):
             # lint: the test (used, as at run time) and one arm, chosen by the pass
             chosen = first if self.branches == "first" or node.expr2 is None else second
@@ -545,14 +557,25 @@ def _filters_and_tests(env: Any, missing_type: type) -> dict[str, Any]:
     def _no_else() -> Any:
         return missing_type("the inline if-expression evaluated to false and no else section was defined.")
 
+    settled: list[bool] = []  # whether the last _settle stopped at a presence test (read by _choose)
+
     def _settle(stop_on: bool, *items: Any) -> Any:
         value: Any = not stop_on
+        settled[:] = [False]
         for presence, part in items:
             value = part()
             if presence and bool(value) is stop_on:
+                settled[:] = [True]
                 return stop_on
             _operand(value)
+        settled[:] = [False]
         return value
+
+    def _choose(test: Any, first: Any, second: Any, take_first: bool) -> Any:
+        value = _operand(test())
+        if settled and settled[0]:
+            return first() if value else second()
+        return first() if take_first else second()
 
     def _operand(value: Any) -> Any:
         """Return a value whose truth the run would ask (lint: the test of ``and``, ``or``, ``if``); a missing
@@ -561,4 +584,5 @@ def _filters_and_tests(env: Any, missing_type: type) -> dict[str, Any]:
             value._fail_with_undefined_error()
         return value
 
-    return {"_filter": _filter, "_test": _test, "_no_else": _no_else, "_operand": _operand, "_settle": _settle}
+    return {"_filter": _filter, "_test": _test, "_no_else": _no_else, "_operand": _operand, "_settle": _settle,
+            "_choose": _choose}

@@ -581,23 +581,24 @@ def _lint_missing_in_messages(lint: _Lint, rule: Rule, full_ns: dict[str, Any], 
     templates = [(where, template, upto) for where, template, upto in templates if template is not None and upto]
     extra = {where: _template_reads(lint, template, rule, full, read, ns, fast) for where, template, _ in templates}
     reach = _Reach(lint, rule, full, fast)
-    specs: dict[frozenset[str], dict[str, Any]] = {}  # the sample spec without some paths, every other one given
     for where, template, upto in templates:
-        shown = []
-        for p in [*extra[where], *sorted(read)]:
-            for gone in map(frozenset, lint.missing_together(p, paths)):
-                # on a spec without these paths: is the text shown (its check reached and holding), and does it
-                # show one of them?
-                if gone not in specs:
-                    specs[gone] = _namespace_with(lint, rule, full, set(paths) - gone, fast)
-                if any(reach.reaches(gone, specs[gone], i) for i in upto) and _shows(template, specs[gone], gone):
-                    shown.append(p)
-                    break
+        shown = [p for p in [*extra[where], *sorted(read)] if _shown_missing(reach, template, upto, p, lint, paths)]
         if shown:
             problems.append(_error(rule, where, f"shows {', '.join(shown)}, which the rule does not need to reach "
                                    "this text: on a spec without it the text would say '(message needs …)' instead "
                                    "of the finding; read it in a value the checks use, or show it only when "
                                    "given ('{{ x if x is defined else … }}')"))
+
+
+def _shown_missing(reach: _Reach, template: Any, uses: list[int], path: str, lint: _Lint, paths: Any) -> bool:
+    """Return whether, on some spec without ``path`` (and what goes with it), a check that shows ``template`` (or
+    the pass) is reached and holds, and the text shows something missing there."""
+    for gone in map(frozenset, lint.missing_together(path, paths)):
+        for index in uses:
+            key, ns = reach.spec(gone, index)
+            if reach.reaches(key, ns, index) and _shows(template, ns, gone):
+                return True
+    return False
 
 
 def _namespace_with(lint: _Lint, rule: Rule, full: dict[str, Any], present: set[str], fast: bool,
@@ -652,44 +653,51 @@ def _template_reads(lint: _Lint, template: Any, rule: Rule, full: dict[str, Any]
 
 
 class _Reach:
-    """Which checks of a rule a spec without some paths (every other one given) reaches, found once per set."""
+    """Whether a spec without some paths (every other one given, but for what a check holds only without) shows a
+    text of the rule: it applies, decides the checks before the text's and can hold the text's check (or passes)."""
 
     def __init__(self, lint: _Lint, rule: Rule, full: dict[str, Any], fast: bool) -> None:
         self.lint, self.rule, self.full, self.fast = lint, rule, full, fast
-        self.values = {name: text for name, _c, text, _k in rule.values}
-        self.known: dict[frozenset[str], list[bool]] = {}
+        values = {name: text for name, _c, text, _k in rule.values}
+        self.paths = set(full["_paths"])
+        # what each check holds only with (and, last, what the pass needs: the negated presence of 'not x' checks)
+        self.wants = [_presence_subjects(c.when_text, values) for c in rule.checks]
+        self.wants.append([w for c in rule.checks for w in _negated_subjects(c.when_text, values)])
+        self.specs: dict[frozenset[str], dict[str, Any]] = {}
+        self.known: dict[tuple[frozenset[str], int], bool] = {}
 
-    def reaches(self, gone: frozenset[str], ns: dict[str, Any], index: int) -> bool:
-        """Return whether the rule, on the spec ``ns`` without ``gone``, applies, decides its checks before
-        ``index`` and can hold the check ``index`` (``index`` = the number of checks: passes)."""
-        if gone not in self.known:
-            self.known[gone] = self._holds(ns)
-        holds = self.known[gone]
-        return index < len(holds) and holds[index]
+    def spec(self, gone: frozenset[str], index: int) -> tuple[frozenset[str], dict[str, Any]]:
+        """Return the paths missing and the sample spec for the text of check ``index`` on a spec without ``gone``."""
+        absent = {p for subject, want in self.wants[index] if want == "absent" for p in self.paths
+                  if p == subject or p.startswith(subject + ".")}
+        key = frozenset(gone | absent)
+        if key not in self.specs:
+            self.specs[key] = _namespace_with(self.lint, self.rule, self.full, self.paths - key, self.fast)
+        return key, self.specs[key]
 
-    def _holds(self, ns: dict[str, Any]) -> list[bool]:
-        """Return, for each check reached and then for the pass, whether it can hold (the pass: reached)."""
+    def reaches(self, key: frozenset[str], ns: dict[str, Any], index: int) -> bool:
+        """Return whether the rule reaches and can hold check ``index`` (or passes) on the sample spec ``ns``."""
+        if (key, index) not in self.known:
+            self.known[(key, index)] = self._reaches(ns, index)
+        return self.known[(key, index)]
+
+    def _reaches(self, ns: dict[str, Any], index: int) -> bool:
         lint, rule, fast = self.lint, self.rule, self.fast
-        holds: list[bool] = []
         try:
             if rule.applies_text and not expr.evaluate(lint.compile(rule.applies_text, fast=fast, guards=True), ns):
-                return holds
-            for check in rule.checks:
+                return False
+            for check in rule.checks[:index + 1]:
                 expr.evaluate(lint.compile(check.when_text, fast=fast, guards=True), ns)
-                holds.append(self._present(_presence_subjects(check.when_text, self.values), ns))
         except (expr.MissingInput, expr.ExpressionError):
-            return holds  # not-checked (or a rule error, reported elsewhere) from here on
-        return [*holds, True]
-
-    def _present(self, subjects: list[str], ns: dict[str, Any]) -> bool:
-        """Return whether every one of ``subjects`` (``x`` of an ``x is defined`` the check holds only with) has a
-        value on the spec ``ns``."""
-        for subject in subjects:
+            return False  # not-checked (or a rule error, reported elsewhere) before the text is shown
+        for subject, want in self.wants[index]:
+            if want == "absent":
+                continue
             try:
-                value = expr.evaluate(self.lint.compile(subject, fast=self.fast, guards=True), ns)
+                value = expr.evaluate(lint.compile(subject, fast=fast, guards=True), ns)
             except (expr.MissingInput, expr.ExpressionError):
                 return False
-            if value is None:
+            if want == "present" and value is None:
                 return False
         return True
 
@@ -714,26 +722,39 @@ def _conjunct_nodes(text: str) -> list[Any]:
     return parts
 
 
-def _presence_subjects(text: str, values: dict[str, str], depth: int = 0) -> list[str]:
-    """Return what the ``and``-joined presence tests of a condition ask for: ``x`` of ``x is defined`` and of
-    ``x is not none``, also inside a flag value the condition is joined with (``values``: the rule's values by
-    name): the condition holds only where they are present."""
+def _presence_subjects(text: str, values: dict[str, str], depth: int = 0) -> list[tuple[str, str]]:
+    """Return what a condition holds only with, from its ``and``-joined presence tests, also inside a flag value it
+    is joined with (``values``: the rule's values by name): (``x``, "present") for ``x is defined`` and
+    ``x is not none``, (``x``, "absent") for ``x is not defined``, (``x``, "known") for ``x is none``."""
     from jinja2 import nodes
 
-    subjects = []
+    subjects: list[tuple[str, str]] = []
     for part in _conjunct_nodes(text):
-        if isinstance(part, nodes.Name) and part.name in values and depth < 4:
-            subjects += _presence_subjects(values[part.name], values, depth + 1)
-            continue
-        if isinstance(part, nodes.Not) and isinstance(part.node, nodes.Test) and part.node.name == "none":
-            part = part.node
-        elif isinstance(part, nodes.Test) and part.name == "none":
-            continue
-        if isinstance(part, nodes.Test) and part.name in ("defined", "none") and not part.args:
-            subject = _dotted(part.node)
-            if subject:
-                subjects.append(subject)
+        negated = isinstance(part, nodes.Not)
+        inner = part.node if negated else part
+        if isinstance(inner, nodes.Name) and inner.name in values and not negated and depth < 4:
+            subjects += _presence_subjects(values[inner.name], values, depth + 1)
+        elif isinstance(inner, nodes.Test) and not inner.args and _dotted(inner.node):
+            want = {("defined", False): "present", ("defined", True): "absent", ("none", True): "present",
+                    ("none", False): "known"}.get((inner.name, negated))
+            if want:
+                subjects.append((_dotted(inner.node), want))
     return subjects
+
+
+def _negated_subjects(text: str, values: dict[str, str]) -> list[tuple[str, str]]:
+    """Return what a pass needs of a check ``not x`` (false only where ``x`` holds): what ``x`` holds only with."""
+    from jinja2 import nodes
+
+    parts = _conjunct_nodes(text)
+    if len(parts) != 1 or not isinstance(parts[0], nodes.Not):
+        return []
+    inner = parts[0].node
+    if isinstance(inner, nodes.Name) and inner.name in values:
+        return _presence_subjects(values[inner.name], values, 1)
+    if isinstance(inner, nodes.Test) and inner.name == "defined" and not inner.args and _dotted(inner.node):
+        return [(_dotted(inner.node), "present")]
+    return []
 
 
 def _dotted(node: Any) -> str:
