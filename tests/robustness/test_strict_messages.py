@@ -95,3 +95,33 @@ def test_a_derived_value_is_followed_to_its_inputs(tmp_path: Path) -> None:
     folder = _write(tmp_path, QUIET["derived from what the checks read"])
     problems = _strict(folder, links=False)
     assert len(problems) == 1 and "motor.rated_torque_from_nameplate" in problems[0], problems
+
+
+def _without_one_key(spec: dict, prefix: tuple = ()):
+    """Yield (path, spec) for every key of a spec (nested), the spec left without it."""
+    for key, value in spec.items():
+        path = (*prefix, key)
+        if isinstance(value, dict):
+            for inner, changed in _without_one_key(value, path):
+                yield inner, {**spec, key: changed}
+        yield path, {k: v for k, v in spec.items() if k != key}
+
+
+SHIPPED = sorted(p.stem for p in (Path(__file__).resolve().parents[2] / "rules").glob("*.yaml"))
+
+
+@pytest.mark.parametrize("rule_id", SHIPPED)
+def test_a_shipped_rule_never_prints_a_missing_value(rule_id: str) -> None:
+    """What strict lint promises, on real specs: every example of the rule with any one key left out ends in an outcome
+    whose message and fix show no '(message needs …)'."""
+    from rulecheck.engine.ruleset import load_rule_file, shipped_rules_dir
+    from tests.rules.harness import run_example
+
+    rule_file = load_rule_file(shipped_rules_dir() / f"{rule_id}.yaml")
+    for example in rule_file.examples:
+        for path, spec in _without_one_key(example["spec"]):
+            result = run_example({**example, "spec": spec})
+            for outcome in (o for o in result["outcomes"] if o["rule"] == rule_id):  # none: the spec is refused
+                for part in ("message", "fix"):
+                    text = outcome.get(part) or ""
+                    assert "(message" not in text, (example["name"], ".".join(path), text)
