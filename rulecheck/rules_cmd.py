@@ -135,8 +135,11 @@ def lint_folder(folder: str, strict: bool = False) -> int:
     shipped rules, so an id that repeats a shipped rule's is reported. A folder that is the shipped rules
     (the same folder, the same files, or a source tree's copy holding a file of every shipped rule's name,
     such as the repository's ``rules/`` while an installed copy exists) is linted on its own.
-    ``strict``: also reject a message that can show a value the rule does not need to reach it.
+    ``strict``: also reject a message, fix or pass message that can show a missing value where the rule still
+    ends in a fail or a pass (derived values followed to the inputs they are computed from).
     """
+    from rulecheck.authoring.requests import all_links as links
+
     path = Path(folder)
     if not path.is_dir():
         _say(f"rulecheck: {folder}: not a folder", file=sys.stderr)
@@ -152,7 +155,8 @@ def lint_folder(folder: str, strict: bool = False) -> int:
             continue
         if rule.id in BUILTIN_RULES:
             problems.append(RuleError(rule.file, f"rule id '{rule.id}' is the id of a built-in check"))
-        _kinds, found = lint_rule(rule, catalogue(), ruleset.compile_cache, messages=strict)
+        _kinds, found = lint_rule(rule, catalogue(), ruleset.compile_cache, messages=strict,
+                                  links=links() if strict else None)
         problems.extend(found)
         outcomes = {e["outcome"] for e in rule.examples}
         if "pass" not in outcomes or "fail" not in outcomes:

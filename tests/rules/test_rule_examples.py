@@ -46,5 +46,6 @@ def test_rule_example(rule, example) -> None:
         assert path in outcome["missing"], f"{path} not named among missing inputs {outcome['missing']}"
     if outcome["outcome"] == "fail":
         assert outcome["message"] and "(message" not in outcome["message"]
+        assert "(message" not in outcome["fix"], outcome["fix"]
     if "location" in example:
         assert outcome["location"]["path"] == example["location"], outcome["message"]
