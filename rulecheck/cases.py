@@ -37,6 +37,7 @@ class Case:
     name: str
     title: str | None
     doc: Document
+    overrides: tuple[str, ...] = ()  # the load fields the case gives
 
 
 def declared(data: Any) -> bool:
@@ -121,7 +122,7 @@ def case_documents(doc: Document) -> list[Case]:
         case_doc = Document(doc.file, data, doc.sha256, _merged_root(doc.root, name))
         case_doc.aliases, case_doc.odd_numbers = doc.aliases, doc.odd_numbers
         title = body.get("title")
-        out.append(Case(name, title if isinstance(title, str) else None, case_doc))
+        out.append(Case(name, title if isinstance(title, str) else None, case_doc, tuple(over)))
     return out
 
 

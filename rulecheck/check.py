@@ -400,7 +400,7 @@ class _Run:
     """Every rule's outcome on one document (the spec, or one of its load cases), with its model."""
 
     def __init__(self, doc: Document, problems: list[Any], quantities: Any, status: str, spec_margins: Any,
-                 ctx: CheckContext, base_dir: Path | None) -> None:
+                 ctx: CheckContext, base_dir: Path | None, shown: dict[str, str] | None = None) -> None:
         from rulecheck.derive import build_model
 
         self.doc = doc
@@ -409,7 +409,7 @@ class _Run:
         self.outcomes = _evaluate_rules(self.model, spec_margins, ctx, self.needs)
         if status == "invalid":
             self.outcomes = _not_checked_on_invalid(doc, problems, quantities, self.outcomes, spec_margins, ctx,
-                                                    base_dir)
+                                                    base_dir, shown)
 
 
 def _check_cases(doc: Document, load_cases: list[Any], findings: list[Finding], status: str, spec_margins: Any,
@@ -423,7 +423,8 @@ def _check_cases(doc: Document, load_cases: list[Any], findings: list[Finding], 
         quantities, unit_problems = read_quantities(case.doc)
         problems += unit_problems  # reported once, at the file's own paths, by the check of the whole spec
         case_status = "invalid" if any(p.severity == "error" for p in problems) else "checked"
-        runs[case.name] = _Run(case.doc, problems, quantities, case_status, spec_margins, ctx, base_dir)
+        shown = {f"load.{key}": f"cases.{case.name}.load.{key}" for key in case.overrides}
+        runs[case.name] = _Run(case.doc, problems, quantities, case_status, spec_margins, ctx, base_dir, shown)
     waiver_outcomes = _apply_waivers(doc.data.get("waivers"), {n: r.outcomes for n, r in runs.items()}, ctx)
     rules = ctx.ruleset.rules
     findings += cases.merge({n: [finding(o, rules[rule_id].metadata(), r.doc) for rule_id, o in r.outcomes.items()]
@@ -436,7 +437,9 @@ def _check_cases(doc: Document, load_cases: list[Any], findings: list[Finding], 
                         _text(data, "status"), doc.sha256, common, tuple(notes))
     verdicts = cases.verdicts(status, findings, runs)
     extra: dict[str, Any] = {"overrides": overrides} if overrides else {}
-    to_give = _merged_to_give([_to_give(r.outcomes, r.needs) for r in runs.values()])
+    # a field a case gives is not asked for in that case (when it failed validation, it is to correct, not to give)
+    to_give = _merged_to_give([(_to_give(r.outcomes, r.needs), {f"load.{k}" for k in c.overrides})
+                               for c, r in zip(load_cases, runs.values(), strict=True)])
     if to_give:
         extra["to_give"] = to_give
     extra["cases"] = [{"name": c.name, "title": c.title, "verdict": verdicts[c.name], "derived": own[c.name]}
@@ -446,16 +449,18 @@ def _check_cases(doc: Document, load_cases: list[Any], findings: list[Finding], 
     return result, _charts(runs[worst].model) if ctx.charts else None, extra
 
 
-def _merged_to_give(asked: list[dict[str, Any] | None]) -> dict[str, Any] | None:
-    """Return what to give over all load cases: each field once, with every rule that needs it in any case."""
-    found = [a for a in asked if a]
-    if not found:
-        return None
+def _merged_to_give(asked: list[tuple[dict[str, Any] | None, set[str]]]) -> dict[str, Any] | None:
+    """Return what to give over all load cases: each field once, with every rule that needs it in any case.
+    ``asked``: each case's request and the fields the case itself gives (left out of its request)."""
     inputs: dict[str, dict[str, Any]] = {}
-    for a in found:
-        for entry in a["inputs"]:
+    for a, given in asked:
+        for entry in (a or {}).get("inputs", ()):
+            if entry["path"] in given or entry["path"].startswith("cases."):
+                continue
             known = inputs.setdefault(entry["path"], {**entry, "rules": []})
             known["rules"] += [r for r in entry["rules"] if r not in known["rules"]]
+    if not inputs:
+        return None
     return {"rules": len({r for e in inputs.values() for r in e["rules"]}),
             "inputs": sorted(inputs.values(), key=lambda e: (_COMPONENTS.get(e["component"], 99), e["path"]))}
 
@@ -520,7 +525,8 @@ def _signature(o: Outcome) -> tuple[Any, ...]:
 
 
 def _not_checked_on_invalid(doc: Document, problems: list[Any], quantities: Any, outcomes: dict[str, Outcome],
-                            spec_margins: Any, ctx: CheckContext, base_dir: Path | None) -> dict[str, Outcome]:
+                            spec_margins: Any, ctx: CheckContext, base_dir: Path | None,
+                            shown: dict[str, str] | None = None) -> dict[str, Outcome]:
     """Return the outcomes with every rule that depends on a field that failed validation made not-checked,
     naming that field: the rules ran with the field left out, and a rule that falls back to another value
     when a field is absent would otherwise report a finding about a value the spec does not give.
@@ -533,7 +539,8 @@ def _not_checked_on_invalid(doc: Document, problems: list[Any], quantities: Any,
         return outcomes  # a field without stand-ins (a list, free text): the outcomes stay as they are
     runs = [_probe_outcomes(doc, problems, quantities, {p: v[i] for p, v in stand_ins.items()}, spec_margins, ctx,
                             base_dir) for i in (0, 1)]
-    reason = ", ".join(failed)
+    named = [(shown or {}).get(path, path) for path in failed]  # a load case's override: the path it is written at
+    reason = ", ".join(named)
     changed: dict[str, Outcome] = {}
     for rule_id, outcome in outcomes.items():
         signatures = {_signature(outcome), *(_signature(run[rule_id]) for run in runs if rule_id in run)}
@@ -541,7 +548,7 @@ def _not_checked_on_invalid(doc: Document, problems: list[Any], quantities: Any,
             changed[rule_id] = outcome
             continue
         rule = ctx.ruleset.rules[rule_id]
-        missing = [*failed, *(m for m in outcome.missing if m not in failed)]
+        missing = [*named, *(m for m in outcome.missing if m not in failed)]
         changed[rule_id] = Outcome(rule_id, "not-checked", "warning" if rule.safety else "info",
                                    f"not checked: it depends on {reason}, which failed validation; correct "
                                    f"{'it' if len(failed) == 1 else 'them'} first", rule.location, missing=missing)

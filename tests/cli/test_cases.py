@@ -137,8 +137,12 @@ def test_an_override_is_validated_like_the_file_at_its_line(ctx: CheckContext, t
     bad = [o for o in spec["outcomes"] if o["rule"] == "units-and-dimensions" and o["outcome"] == "fail"]
     assert bad and bad[0]["location"]["path"] == "cases.empty.load.mass"
     assert bad[0]["location"]["line"] == _line_of(text, "mass: 3000 kW") and bad[0]["location"]["column"] == 13
-    # the loaded case, which does not use the bad value, is still checked and still fails
-    assert {o.get("case"): o["outcome"] for o in _of(spec, REGEN)}["loaded"] == "fail"
+    # the loaded case, which does not use the bad value, is still checked and still fails; the empty case's rules
+    # that depend on it are not checked, naming the override as written (to correct, not a field to give)
+    regen = {o.get("case"): o for o in _of(spec, REGEN)}
+    assert regen["loaded"]["outcome"] == "fail" and regen["empty"]["outcome"] == "not-checked"
+    assert "depends on cases.empty.load.mass, which failed validation" in regen["empty"]["message"]
+    assert "load.mass" not in [i["path"] for i in (spec.get("to_give") or {}).get("inputs", [])]
 
 
 @pytest.mark.parametrize(("override", "words"), [
