@@ -77,7 +77,19 @@ def _torque_speed(m: Model) -> dict[str, Any] | None:
     curve = _load_curve(m)
     if curve:
         out["load_curve"] = curve
-    points = []
+    out["load_points"] = _points(m)
+    out["duty_segments"] = [
+        {"speed_from": _r(s["speed_from"] * RPM), "speed_to": _r(s["speed_to"] * RPM), "torque": _r(s["torque"]),
+         "label": s.get("label", "")}
+        for s in m.lists.get("duty.segments", [])
+    ][:200]
+    return out
+
+
+def _points(m: Model) -> list[dict[str, Any]]:
+    """Return the operating points, each with the rule that judges it (``rule``; the report marks a point whose
+    rule failed): the worst point of the continuous sweep, the peak and the RMS torque of a duty cycle."""
+    points: list[dict[str, Any]] = []
     i, eff = m.get("transmission.ratio"), m.get("transmission.efficiency")
     fn = m.functions.get("load_torque")
     nmin, nmax = m.get("load.speed_min"), m.get("load.speed_max")
@@ -85,19 +97,20 @@ def _torque_speed(m: Model) -> dict[str, Any] | None:
         for label, n in (("minimum speed", nmin), ("maximum speed", nmax)):
             if n is not None:
                 points.append({"speed": _r(n * i * RPM), "torque": _r(abs(float(fn(n))) / (i * eff)), "label": label})
+    duty = bool(m.get("duty.cycle_given"))
+    if not duty and m.has("train.continuous_speed_worst", "train.continuous_required_worst"):
+        # the point torque-margin-continuous reports: its worst speed and the torque needed there
+        points.append({"speed": _r(m.get("train.continuous_speed_worst") * RPM),
+                       "torque": _r(m.get("train.continuous_required_worst")), "label": "continuous worst",
+                       "rule": "torque-margin-continuous"})
     if m.has("train.speed_at_peak", "train.peak_torque_required"):
         points.append({"speed": _r(m.get("train.speed_at_peak") * RPM),
-                       "torque": _r(m.get("train.peak_torque_required")), "label": "peak"})
-    if m.has("train.continuous_torque_required", "train.speed_max"):
+                       "torque": _r(m.get("train.peak_torque_required")), "label": "peak", "rule": "torque-peak"})
+    if duty and m.has("train.continuous_torque_required", "train.speed_max"):
         points.append({"speed": _r(m.get("train.speed_max") * RPM),
-                       "torque": _r(m.get("train.continuous_torque_required")), "label": "RMS"})
-    out["load_points"] = points
-    out["duty_segments"] = [
-        {"speed_from": _r(s["speed_from"] * RPM), "speed_to": _r(s["speed_to"] * RPM), "torque": _r(s["torque"]),
-         "label": s.get("label", "")}
-        for s in m.lists.get("duty.segments", [])
-    ][:200]
-    return out
+                       "torque": _r(m.get("train.continuous_torque_required")), "label": "RMS",
+                       "rule": "torque-rms-duty-cycle"})
+    return points
 
 
 def _load_curve(m: Model) -> list[list[float]]:

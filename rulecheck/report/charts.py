@@ -16,14 +16,15 @@ from __future__ import annotations
 import io
 import math
 import re
-from collections.abc import Mapping, Sequence
+from collections.abc import Iterable, Mapping, Sequence
 from dataclasses import dataclass, field
 from typing import Any
 
 from rulecheck.report.common import plain
 from rulecheck.units import QuantityError, format_value, parse_quantity
 
-__all__ = ["CHART_KEYS", "ChartDataError", "ChartText", "available", "describe", "figure", "png", "svg"]
+__all__ = ["CHART_KEYS", "ChartDataError", "ChartText", "available", "describe", "failing_rules", "figure", "png",
+           "svg"]
 
 CHART_KEYS = ("torque_speed", "duty", "back_emf")
 MAX_PLOT_POINTS = 4000  # more points than this add nothing visible at report size
@@ -34,6 +35,7 @@ _INK = "#1d2b36"
 _GREY = "#6b7680"
 _LOAD = "#000000"
 _ACCENT = "#7a4f12"
+_FAIL = "#b00020"  # failing points: also a large cross and a "FAILS" label, never colour alone
 _RC = {
     "svg.hashsalt": "rulecheck-charts",
     "svg.fonttype": "path",
@@ -170,12 +172,27 @@ class _TorqueSpeed:
     torque: _Axis
     cont: list[tuple[float, float]]
     peak: list[tuple[float, float]]
-    points: list[tuple[float, float, str]]
+    points: list[_Point]
     segments: list[tuple[float, float, float, str]]
     load: list[tuple[float, float]] = field(default_factory=list)
+    failing: frozenset[str] = frozenset()
+
+    def fails(self, p: _Point) -> bool:
+        """Whether the rule that judges the point failed in this spec's result."""
+        return bool(p.rule) and p.rule in self.failing
 
 
-def _torque_speed(data: Mapping[str, Any], units: str) -> _TorqueSpeed:
+@dataclass(frozen=True)
+class _Point:
+    """An operating point: speed, torque, label and the rule that judges it ("" for none)."""
+
+    n: float
+    t: float
+    label: str
+    rule: str = ""
+
+
+def _torque_speed(data: Mapping[str, Any], units: str, failing: frozenset[str] = frozenset()) -> _TorqueSpeed:
     sp = _speed_axis(data.get("speed_unit"))
     tq = _quantity_axis(data.get("torque_unit"), "torque", "N*m", units)
 
@@ -188,8 +205,9 @@ def _torque_speed(data: Mapping[str, Any], units: str) -> _TorqueSpeed:
     for i, p in enumerate(data.get("load_points") or []):
         if not isinstance(p, Mapping):
             raise ChartDataError(f"load_points[{i}] is not a point")
-        points.append((_num(p.get("speed"), f"load_points[{i}].speed") * sp.factor,
-                       _num(p.get("torque"), f"load_points[{i}].torque") * tq.factor, plain(p.get("label"), 60)))
+        points.append(_Point(_num(p.get("speed"), f"load_points[{i}].speed") * sp.factor,
+                             _num(p.get("torque"), f"load_points[{i}].torque") * tq.factor, plain(p.get("label"), 60),
+                             plain(p.get("rule"), 80)))
     segments = []
     for i, s in enumerate(data.get("duty_segments") or []):
         if not isinstance(s, Mapping):
@@ -201,7 +219,7 @@ def _torque_speed(data: Mapping[str, Any], units: str) -> _TorqueSpeed:
     if not (cont or peak or points or segments or load):
         raise ChartDataError("the torque–speed chart has no data")
     return _TorqueSpeed(sp, tq, cont, peak, points[:MAX_PLOT_POINTS], segments[:MAX_PLOT_POINTS],
-                        load[:MAX_PLOT_POINTS])
+                        load[:MAX_PLOT_POINTS], frozenset(failing))
 
 
 def _describe_torque_speed(d: _TorqueSpeed) -> ChartText:
@@ -216,6 +234,9 @@ def _describe_torque_speed(d: _TorqueSpeed) -> ChartText:
         words.append(f"load {_fmt(d.load[0][1])} {tu} at {_fmt(d.load[0][0])} {su} to {_fmt(d.load[-1][1])} {tu} "
                      f"at {_fmt(d.load[-1][0])} {su} (load model across the speed range)")
     words.append(f"{len(d.points)} load operating point{'s' if len(d.points) != 1 else ''}")
+    for p in d.points:
+        if d.fails(p):
+            words.append(f"FAILS: {p.rule} at the {p.label} point, {_fmt(p.t)} {tu} at {_fmt(p.n)} {su}")
     words.append(f"{len(d.segments)} duty segment{'s' if len(d.segments) != 1 else ''}")
     rows = []
     for n, t in d.cont:
@@ -224,8 +245,9 @@ def _describe_torque_speed(d: _TorqueSpeed) -> ChartText:
         rows.append(["motor peak", _fmt(n), _fmt(t)])
     for n, t in d.load:
         rows.append(["load", _fmt(n), _fmt(t)])
-    for n, t, label in d.points:
-        rows.append([f"load point {label}".strip(), _fmt(n), _fmt(t)])
+    for p in d.points:
+        rows.append([f"load point {p.label}".strip() + (f" (FAILS: {p.rule})" if d.fails(p) else ""), _fmt(p.n),
+                     _fmt(p.t)])
     for n0, n1, t, label in d.segments:
         rows.append([f"duty segment {label}".strip(), f"{_fmt(n0)} to {_fmt(n1)}", _fmt(t)])
     note = f"First {MAX_TABLE_ROWS} of {len(rows)} rows shown." if len(rows) > MAX_TABLE_ROWS else ""
@@ -239,28 +261,68 @@ def _describe_torque_speed(d: _TorqueSpeed) -> ChartText:
         ["motor continuous: solid line, round markers",
          "motor peak (drive current limit included): dashed line, square markers",
          "load across the speed range: thick black line", "load operating points: black triangles",
+         "points whose rule fails: large crosses labelled FAILS with the rule",
          "duty segments: dash-dot lines with cross ends"],
     )
 
 
-def _label_groups(points: list[tuple[float, float, str]], d: _TorqueSpeed) -> list[tuple[float, float, str]]:
+def _label_groups(points: list[_Point], d: _TorqueSpeed) -> list[tuple[float, float, str]]:
     """Return the point labels merged by speed: points within 15 % of the speed span share one label ("peak, RMS")
-    at the highest of them, so labels of points at (nearly) one speed cannot overlap."""
-    speeds = [n for n, _, _ in points] + [n for n, _ in d.cont] + [n for n, _ in d.peak] + [n for n, _ in d.load]
+    at the highest of them, with a line "FAILS: <rule>" for each of their rules that failed."""
+    speeds = [p.n for p in points] + [n for n, _ in d.cont] + [n for n, _ in d.peak] + [n for n, _ in d.load]
     span = (max(speeds) - min(speeds)) if speeds else 0.0
-    groups: list[list[tuple[float, float, str]]] = []
-    for p in sorted((p for p in points if p[2]), key=lambda p: p[0]):
-        if groups and p[0] - groups[-1][0][0] <= 0.15 * span:
+    groups: list[list[_Point]] = []
+    for p in sorted((p for p in points if p.label or d.fails(p)), key=lambda p: p.n):
+        if groups and p.n - groups[-1][0].n <= 0.15 * span:
             groups[-1].append(p)
         else:
             groups.append([p])
     out = []
     for g in groups:
-        top = max(g, key=lambda p: p[1])
-        names = list(dict.fromkeys(_label(p[2]) for p in g))
+        top = max(g, key=lambda p: p.t)
+        names = list(dict.fromkeys(_label(p.label) for p in g if p.label))
         text = ", ".join(names[:3]) + (f" (+{len(names) - 3})" if len(names) > 3 else "")
-        out.append((top[0], top[1], text))
+        fails = list(dict.fromkeys(f"FAILS: {_label(p.rule, 60)}" for p in g if d.fails(p)))
+        out.append((top.n, top.t, "\n".join([x for x in (text, *fails) if x])))
     return out
+
+
+def _annotate(ax: Any, labels: list[tuple[float, float, str]], **style: Any) -> list[Any]:
+    """Write each label beside its point: to the right, or to the left in the right third of the plot."""
+    lo, hi = ax.get_xlim()
+    texts = []
+    for n, t, text in labels:
+        right = n > lo + 0.66 * (hi - lo)
+        texts.append(ax.annotate(text, (n, t), textcoords="offset points", xytext=(-6 if right else 6, 6),
+                                 ha="right" if right else "left", va="bottom", fontsize=7.5, color=_LOAD,
+                                 parse_math=False, annotation_clip=False, **style))
+    for text in texts:
+        text.set_in_layout(False)  # labels never move the axes: they are placed after the layout
+    return texts
+
+
+def _separate(fig: Any, texts: list[Any]) -> None:
+    """Move labels apart so that no two overlap: each label in turn is shifted up or down by its own height, in
+    growing steps, until its box is clear of every label placed before it (a greedy placement: deterministic,
+    and the boxes are matplotlib's own, as drawn)."""
+    if len(texts) < 2:
+        return
+    from matplotlib.backends.backend_agg import FigureCanvasAgg
+
+    canvas = fig.canvas if isinstance(fig.canvas, FigureCanvasAgg) else FigureCanvasAgg(fig)
+    renderer = canvas.get_renderer()
+    fig.draw_without_rendering()  # the layout, so the boxes are where they will be drawn
+    placed: list[Any] = []
+    for text in texts:
+        x0, y0 = text.xyann
+        box = text.get_window_extent(renderer)
+        step = box.height * 72.0 / fig.dpi + 2.0  # in points, as the offset
+        for k in range(1, 41):
+            if not any(box.padded(2.0).overlaps(b) for b in placed):
+                break
+            text.xyann = (x0, y0 + (k + 1) // 2 * step * (-1 if k % 2 else 1))
+            box = text.get_window_extent(renderer)
+        placed.append(box)
 
 
 def _draw_torque_speed(fig: Any, d: _TorqueSpeed) -> None:
@@ -277,20 +339,22 @@ def _draw_torque_speed(fig: Any, d: _TorqueSpeed) -> None:
         ax.plot([n0, n1], [t, t], color=_ACCENT, linestyle="-.", linewidth=1.3, marker="x", markersize=5,
                 label="Duty segments" if i == 0 else None)
     if d.points:
-        ax.plot([p[0] for p in d.points], [p[1] for p in d.points], linestyle="none", marker="^", markersize=7,
+        ax.plot([p.n for p in d.points], [p.t for p in d.points], linestyle="none", marker="^", markersize=7,
                 color=_LOAD, label="Load operating points")
-    labelled = [*d.points[:MAX_LABELS], *[((n0 + n1) / 2, t, label) for n0, n1, t, label in d.segments[:MAX_LABELS]]]
-    if labelled:
-        for k, (n, t, text) in enumerate(_label_groups(labelled, d)):
-            # one label per group of nearby points (never two labels over each other), alternately above and below
-            ax.annotate(text, (n, t), textcoords="offset points", xytext=(6, 7 if k % 2 == 0 else -13),
-                        fontsize=7.5, color=_LOAD, parse_math=False)
-    ax.set_xlabel(f"Shaft speed ({d.speed.unit})")
-    ax.set_ylabel(f"Torque ({d.torque.unit})")
-    ax.set_title("Torque–speed plane")
+    failed = [p for p in d.points if d.fails(p)]
+    if failed:
+        ax.plot([p.n for p in failed], [p.t for p in failed], linestyle="none", marker="X", markersize=12,
+                color=_FAIL, markeredgecolor=_LOAD, markeredgewidth=0.8, label="Point whose rule FAILS")
     ax.axhline(0.0, color=_GREY, linewidth=0.6)
+    labelled = [*d.points[:MAX_LABELS],
+                *[_Point((n0 + n1) / 2, t, label) for n0, n1, t, label in d.segments[:MAX_LABELS]]]
+    texts = _annotate(ax, _label_groups(labelled, d)) if labelled else []
+    ax.set_xlabel(f"Speed at motor shaft ({d.speed.unit})")
+    ax.set_ylabel(f"Torque at motor shaft ({d.torque.unit})")
+    ax.set_title("Torque–speed plane")
     ax.grid(True)
-    ax.legend(loc="best")
+    fig.legend(loc="outside lower center", ncols=3)
+    _separate(fig, texts)
 
 
 @dataclass
@@ -303,7 +367,7 @@ class _Duty:
     rated: float | None = None
 
 
-def _duty(data: Mapping[str, Any], units: str) -> _Duty:
+def _duty(data: Mapping[str, Any], units: str, failing: frozenset[str] = frozenset()) -> _Duty:
     tm = _quantity_axis(data.get("time_unit"), "time", "s", units)
     tm = _Axis("s", tm.factor)
     sp = _speed_axis(data.get("speed_unit"))
@@ -341,7 +405,7 @@ def _draw_duty(fig: Any, d: _Duty) -> None:
     marker = "o" if len(pts) <= 60 else None
     ax1, ax2 = fig.subplots(2, 1, sharex=True)
     ax1.plot(t, [p[1] for p in pts], color=_INK, linewidth=1.6, marker=marker, markersize=3)
-    ax1.set_ylabel(f"Speed ({d.speed.unit})")
+    ax1.set_ylabel(f"Speed at motor shaft ({d.speed.unit})")
     ax1.set_title("Duty cycle")
     ax1.grid(True)
     ax2.plot(t, [p[2] for p in pts], color=_ACCENT, linewidth=1.6, marker=marker, markersize=3)
@@ -352,7 +416,7 @@ def _draw_duty(fig: Any, d: _Duty) -> None:
                         label=f"{name} {_fmt(level)} {d.torque.unit}")
     if d.rms is not None or d.rated is not None:
         ax2.legend(loc="best", fontsize=7.5)
-    ax2.set_ylabel(f"Torque ({d.torque.unit})")
+    ax2.set_ylabel(f"Torque at motor shaft ({d.torque.unit})")
     ax2.set_xlabel("Time (s)")
     ax2.grid(True)
     fig.align_ylabels([ax1, ax2])
@@ -370,7 +434,7 @@ class _BackEmf:
     factor: float | None = None
 
 
-def _back_emf(data: Mapping[str, Any], units: str) -> _BackEmf:
+def _back_emf(data: Mapping[str, Any], units: str, failing: frozenset[str] = frozenset()) -> _BackEmf:
     sp = _speed_axis(data.get("speed_unit"))
     vu = _quantity_axis(data.get("voltage_unit"), "voltage", "V", units)
     n = [x * sp.factor for x in _series(data.get("speed") or [], "speed")]
@@ -439,7 +503,7 @@ def _draw_back_emf(fig: Any, d: _BackEmf) -> None:
                    label=f"{text} {_fmt(level)} {d.volt.unit}")
         ax.annotate(f"{text} {_fmt(level)} {d.volt.unit}", (0.01, level), xycoords=("axes fraction", "data"),
                     textcoords="offset points", xytext=(0, 3), fontsize=7.5, color=_INK, parse_math=False)
-    ax.set_xlabel(f"Shaft speed ({d.speed.unit})")
+    ax.set_xlabel(f"Speed at motor shaft ({d.speed.unit})")
     ax.set_ylabel(f"Voltage ({d.volt.unit})")
     ax.set_title("Back-EMF and rectified peak against speed")
     top = max([*d.emf, *d.rect, d.available or 0.0, d.trip or 0.0])
@@ -455,12 +519,12 @@ _CHARTS = {
 }
 
 
-def _read(key: str, data: Any, units: str) -> Any:
+def _read(key: str, data: Any, units: str, failing: Iterable[str] = ()) -> Any:
     if key not in _CHARTS:
         raise ChartDataError(f"unknown chart {plain(key, 40)!r}")
     if not isinstance(data, Mapping):
         raise ChartDataError(f"the {key} chart data is not a mapping")
-    return _CHARTS[key][0](data, units)
+    return _CHARTS[key][0](data, units, frozenset(failing))
 
 
 def available(spec: Mapping[str, Any]) -> list[str]:
@@ -471,15 +535,26 @@ def available(spec: Mapping[str, Any]) -> list[str]:
     return [k for k in CHART_KEYS if isinstance(charts.get(k), Mapping)]
 
 
-def describe(key: str, data: Mapping[str, Any], units: str = "si") -> ChartText:
-    """Return the text equivalent of a chart; raises :class:`ChartDataError` for data that cannot be read."""
-    return _CHARTS[key][1](_read(key, data, units))
+def failing_rules(spec: Mapping[str, Any]) -> frozenset[str]:
+    """Return the ids of the rules that failed in a spec's result at error or warning level: the points they
+    judge are marked on the charts (the verdicts come from the result; nothing is judged here)."""
+    out = set()
+    for o in spec.get("outcomes") or []:
+        if isinstance(o, Mapping) and o.get("outcome") == "fail" and o.get("severity") in ("error", "warning"):
+            out.add(plain(o.get("rule"), 80))
+    return frozenset(out)
 
 
-def figure(key: str, data: Mapping[str, Any], units: str = "si") -> Any:
+def describe(key: str, data: Mapping[str, Any], units: str = "si", failing: Iterable[str] = ()) -> ChartText:
+    """Return the text equivalent of a chart; raises :class:`ChartDataError` for data that cannot be read.
+    ``failing``: the rules that failed (:func:`failing_rules`), whose points the chart marks."""
+    return _CHARTS[key][1](_read(key, data, units, failing))
+
+
+def figure(key: str, data: Mapping[str, Any], units: str = "si", failing: Iterable[str] = ()) -> Any:
     """Return the chart drawn on a matplotlib Figure (not saved): what :func:`svg` and :func:`png` write, and what
     a test measures (label bounding boxes)."""
-    parsed = _read(key, data, units)
+    parsed = _read(key, data, units, failing)
     import matplotlib
 
     matplotlib.use("Agg")
@@ -491,10 +566,10 @@ def figure(key: str, data: Mapping[str, Any], units: str = "si") -> Any:
     return fig
 
 
-def _figure(key: str, data: Mapping[str, Any], units: str, fmt: str, dpi: float) -> bytes:
+def _figure(key: str, data: Mapping[str, Any], units: str, fmt: str, dpi: float, failing: Iterable[str]) -> bytes:
     import matplotlib
 
-    fig = figure(key, data, units)
+    fig = figure(key, data, units, failing)
     with matplotlib.rc_context(_RC):
         buf = io.BytesIO()
         metadata = {"Date": None, "Creator": None, "Format": None, "Type": None} if fmt == "svg" else {
@@ -507,7 +582,8 @@ _ID = re.compile(r'\bid="([^"]+)"')
 _REF = re.compile(r'(href="#|url\(#)([^")]+)')
 
 
-def svg(key: str, data: Mapping[str, Any], units: str = "si", *, chart_id: str = "chart") -> str:
+def svg(key: str, data: Mapping[str, Any], units: str = "si", *, chart_id: str = "chart",
+        failing: Iterable[str] = ()) -> str:
     """Return the chart as an SVG element ready to inline in HTML, with ``<title>``/``<desc>`` from its text.
 
     Element ids are prefixed with ``chart_id`` so several charts can share one
@@ -517,8 +593,8 @@ def svg(key: str, data: Mapping[str, Any], units: str = "si", *, chart_id: str =
     from markupsafe import escape
 
     prefix = re.sub(r"[^A-Za-z0-9_-]", "-", chart_id)[:40] or "chart"
-    text = describe(key, data, units)
-    body = _figure(key, data, units, "svg", 72).decode("utf-8")
+    text = describe(key, data, units, failing)
+    body = _figure(key, data, units, "svg", 72, failing).decode("utf-8")
     body = body[body.index("<svg"):]
     body = re.sub(r"<!--.*?-->", "", body, flags=re.S)
     body = re.sub(r"<metadata>.*?</metadata>", "", body, flags=re.S)
@@ -534,6 +610,7 @@ def svg(key: str, data: Mapping[str, Any], units: str = "si", *, chart_id: str =
     return re.sub(r">\s+<", "><", body).strip()
 
 
-def png(key: str, data: Mapping[str, Any], units: str = "si", *, dpi: float = 110) -> bytes:
+def png(key: str, data: Mapping[str, Any], units: str = "si", *, dpi: float = 110,
+        failing: Iterable[str] = ()) -> bytes:
     """Return the chart as PNG bytes (for inline images in e-mail)."""
-    return _figure(key, data, units, "png", dpi)
+    return _figure(key, data, units, "png", dpi, failing)

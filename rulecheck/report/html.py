@@ -86,16 +86,17 @@ def _glance(c: Mapping[str, int], safety: int) -> list[tuple[str, str]]:
 
 def _chart_views(spec: Mapping[str, Any], number: int, units: str, image: ImageSource | None) -> list[dict]:
     views = []
+    failing = charts.failing_rules(spec)
     for key in charts.available(spec):
         data = spec["charts"][key]
         view: dict[str, Any] = {"key": key, "svg": None, "src": None, "error": None, "text": None}
         try:
-            view["text"] = charts.describe(key, data, units)
+            view["text"] = charts.describe(key, data, units, failing)
             if image is not None:
                 view["src"] = image(number, key, data)
             else:
                 # our own drawing: charts.svg escapes the only spec text it writes (title and description)
-                view["svg"] = Markup(charts.svg(key, data, units, chart_id=f"dt{number}-{key}"))
+                view["svg"] = Markup(charts.svg(key, data, units, chart_id=f"dt{number}-{key}", failing=failing))
         except charts.ChartDataError as exc:
             view["error"] = str(exc)
         views.append(view)

@@ -57,7 +57,7 @@ def test_no_chart_label_overlaps_another(demo):
         for key, data in series.items():
             from matplotlib.backends.backend_agg import FigureCanvasAgg
 
-            fig = charts.figure(key, data)
+            fig = charts.figure(key, data, failing=charts.failing_rules(spec))
             canvas = FigureCanvasAgg(fig)
             canvas.draw()
             renderer = canvas.get_renderer()
@@ -90,3 +90,32 @@ def test_back_emf_chart_states_its_factor(demo):
     data = series["back_emf"]
     assert data["rectified_peak"][-1] == pytest.approx(2 ** 0.5 * data["emf_line_rms"][-1] * 1.05, rel=1e-3)
     assert "× 1.05 for cold magnets" in charts.describe("back_emf", data).description
+
+
+def test_failing_points_are_marked_where_the_finding_is(demo):
+    # CV-120 fails torque-margin-continuous at 360 r/min needing 173 N·m (hand calculation in
+    # test_load_curve_crosses_capability_where_the_rule_says): the chart crosses that point out, labelled
+    spec, series = next(x for x in demo if x[0]["tag"] == "HR-CV-120")
+    values = next(o for o in spec["outcomes"] if o["rule"] == "torque-margin-continuous")["values"]
+    fig = charts.figure("torque_speed", series["torque_speed"], failing=charts.failing_rules(spec))
+    ax = fig.axes[0]
+    crosses = [line.get_xydata().tolist() for line in ax.get_lines() if line.get_marker() == "X"]
+    assert crosses == [[[pytest.approx(values["worst_speed"]["value"], rel=1e-4),
+                         pytest.approx(values["required"]["value"], rel=1e-4)]]]
+    assert any("FAILS: torque-margin-continuous" in t.get_text() for t in ax.texts)
+
+
+def test_a_point_whose_rule_passes_is_not_marked(demo):
+    # every point the demo's charts mark belongs to a rule that failed in that spec, and a spec whose point rules
+    # pass (CV-110: torque-peak passes; torque-margin-continuous only notes the cooling table, at info) has no cross
+    for spec, series in demo:
+        failing = charts.failing_rules(spec)
+        fig = charts.figure("torque_speed", series["torque_speed"], failing=failing)
+        labels = " ".join(t.get_text() for t in fig.axes[0].texts)
+        for rule in {p.get("rule") for p in series["torque_speed"]["load_points"] if p.get("rule")}:
+            assert (f"FAILS: {rule}" in labels) == (rule in failing), (spec["tag"], rule)
+    spec, series = next(x for x in demo if x[0]["tag"] == "HR-CV-110")
+    outcomes = {o["rule"]: (o["outcome"], o.get("severity")) for o in spec["outcomes"]}
+    assert outcomes["torque-margin-continuous"] == ("fail", "info") and outcomes["torque-peak"][0] == "pass"
+    fig = charts.figure("torque_speed", series["torque_speed"], failing=charts.failing_rules(spec))
+    assert not [line for line in fig.axes[0].get_lines() if line.get_marker() == "X"]

@@ -74,13 +74,15 @@ def test_series_differ_by_line_style_or_marker_not_only_colour(key, spec):
 def test_duty_has_speed_and_torque_panels_with_units():
     fig = _figure("duty", sample.conveyor()["charts"]["duty"])
     labels = [ax.get_ylabel() for ax in fig.axes]
-    assert labels == ["Speed (r/min)", "Torque (N·m)"]
+    assert labels == ["Speed at motor shaft (r/min)", "Torque at motor shaft (N·m)"]
     assert fig.axes[1].get_xlabel() == "Time (s)"
 
 
 def test_axes_carry_units_and_customary_torque():
     fig = _figure("torque_speed", sample.conveyor()["charts"]["torque_speed"])
-    assert fig.axes[0].get_xlabel() == "Shaft speed (r/min)" and fig.axes[0].get_ylabel() == "Torque (N·m)"
+    # the axes name the shaft: every torque and speed on the charts is at the motor shaft
+    assert fig.axes[0].get_xlabel() == "Speed at motor shaft (r/min)"
+    assert fig.axes[0].get_ylabel() == "Torque at motor shaft (N·m)"
     text = charts.describe("torque_speed", sample.conveyor()["charts"]["torque_speed"], "customary")
     assert text.columns == ["series", "speed (r/min)", "torque (lbf·ft)"]
     # 110 N·m ÷ 1.3558179483314004 N·m per lbf·ft (lbf = 4.4482216152605 N, ft = 0.3048 m, NIST SP 811)
@@ -153,3 +155,35 @@ def test_available_lists_known_charts_in_order():
     assert charts.available(sample.servo()) == ["torque_speed", "back_emf"]
     assert charts.available({"charts": {"duty": {}, "mystery": {}}}) == ["duty"]
     assert charts.available({"charts": None}) == []
+
+
+def test_a_point_is_marked_failing_only_when_its_rule_failed_in_the_result():
+    # the verdict comes from the result (failing_rules), never from the chart data: the same data drawn with and
+    # without the failing rule differ by the cross and the "FAILS: <rule>" label, in the drawing and in the text
+    data = sample.conveyor()["charts"]["torque_speed"]
+    data["load_points"].append({"speed": 300, "torque": 60, "label": "continuous worst",
+                                "rule": "torque-margin-continuous"})
+
+    def marks(failing):
+        fig = charts.figure("torque_speed", data, failing=failing)
+        ax = fig.axes[0]
+        crosses = [line for line in ax.get_lines() if line.get_marker() == "X"]
+        labels = " | ".join(t.get_text() for t in ax.texts)
+        return crosses, labels, charts.describe("torque_speed", data, failing=failing)
+
+    crosses, labels, text = marks(())
+    assert not crosses and "FAILS" not in labels and "FAILS" not in text.description
+    crosses, labels, text = marks({"torque-margin-continuous"})
+    assert len(crosses) == 1 and list(crosses[0].get_xydata()[0]) == [300, 60]
+    assert "FAILS: torque-margin-continuous" in labels
+    assert "FAILS: torque-margin-continuous at the continuous worst point" in text.description
+    assert ["load point continuous worst (FAILS: torque-margin-continuous)", "300", "60"] in text.rows
+
+
+def test_failing_rules_reads_fails_at_error_or_warning_only():
+    spec = {"outcomes": [{"rule": "a", "outcome": "fail", "severity": "error"},
+                         {"rule": "b", "outcome": "fail", "severity": "warning"},
+                         {"rule": "c", "outcome": "fail", "severity": "info"},
+                         {"rule": "d", "outcome": "pass", "severity": "error"},
+                         {"rule": "e", "outcome": "waived", "severity": "error"}]}
+    assert charts.failing_rules(spec) == {"a", "b"}
