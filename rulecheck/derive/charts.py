@@ -13,7 +13,10 @@ import numpy as np
 
 from rulecheck import units
 from rulecheck.derive.starting import _available as peak_available
+from rulecheck.derive.starting import _dol_curve as full_voltage_curve
 from rulecheck.derive.starting import _load_at_motor as load_at_motor
+from rulecheck.derive.starting import _run_up_end as run_up_end
+from rulecheck.derive.starting import dol_starting_curve, soft_start_limited_curve
 from rulecheck.derive.train import capability
 from rulecheck.model import Model
 from rulecheck.physics import machines as mc
@@ -28,9 +31,13 @@ def _r(x: float) -> float:
 
 
 def chart_data(model: Model) -> dict[str, Any]:
-    """Return the torque–speed, duty-cycle and back-EMF chart data that the model supports."""
+    """Return the torque–speed (or, for a direct-on-line or soft-starter start, the starting), duty-cycle and
+    back-EMF chart data that the model supports."""
     charts: dict[str, Any] = {}
-    ts = _torque_speed(model)
+    starting = _starting(model)
+    ts = None if starting else _torque_speed(model)
+    if starting:
+        charts["starting"] = starting
     if ts:
         charts["torque_speed"] = ts
     duty = _duty(model)
@@ -111,6 +118,58 @@ def _points(m: Model) -> list[dict[str, Any]]:
                        "torque": _r(m.get("train.continuous_torque_required")), "label": "RMS",
                        "rule": "torque-rms-duty-cycle"})
     return points
+
+
+START_POINTS = 61  # speeds from standstill to synchronous speed on the starting chart
+
+
+def _starting(m: Model) -> dict[str, Any] | None:
+    """Return the starting chart of a direct-on-line or soft-starter start: the motor's torque during the start
+    (the same curve the run-up and soft-start margin use: × u² at the start's voltage dip, or at the soft
+    starter's current limit), its full-voltage curve, and the load from breakaway to the end of the run-up."""
+    kind = m.get("drive.kind")
+    if kind not in ("direct-on-line", "soft-starter") or m.get("motor.kind") != "induction":
+        return None
+    load, ns, breakaway = load_at_motor(m), m.get("motor.synchronous_speed"), m.get("train.breakaway_torque")
+    if kind == "direct-on-line":
+        found = dol_starting_curve(m)
+        full, u = (full_voltage_curve(m), found[1]) if found else (None, None)
+        during, rule = (found[0] if found else None), "dol-starting"
+    else:
+        during, rule, u = soft_start_limited_curve(m), "soft-starter-starting", m.get("train.soft_start_voltage")
+        full = full_voltage_curve(m)
+    if during is None or full is None or load is None or not ns or not m.get("motor.rated_speed"):
+        return None
+    speeds = np.linspace(0.0, ns, START_POINTS)
+    end = run_up_end(m)
+    out: dict[str, Any] = {
+        "speed_unit": "r/min",
+        "torque_unit": "N*m",
+        "method": kind,
+        "motor_full_voltage": [[_r(w * RPM), _r(full(float(w)))] for w in speeds],
+        "motor_starting": [[_r(w * RPM), _r(during(float(w)))] for w in speeds],
+        "load_curve": [[_r(w * RPM), _r(breakaway if k == 0 and breakaway is not None else load(float(w)))]
+                       for k, w in enumerate(np.linspace(0.0, end, 41))],
+        "run_up_end": _r(end * RPM),
+    }
+    if u is not None:
+        out["voltage_ratio"] = _r(u)
+        out["voltage_dip_counted"] = kind == "soft-starter" or m.has("train.starting_voltage")
+    # the start the rule judges (the motor's torque at standstill during the start: the voltage dip or the
+    # current limit), the load's breakaway torque, and on a soft starter the speed of the smallest margin
+    start = "start at the current limit" if kind == "soft-starter" else (
+        f"start at {u * 100:.0f} % of rated voltage" if out.get("voltage_dip_counted") else "start at full voltage")
+    points = [{"speed": 0.0, "torque": _r(during(0.0)), "label": start, "rule": rule}]
+    if breakaway is not None:
+        points.append({"speed": 0.0, "torque": _r(breakaway), "label": "breakaway"})
+    if kind == "soft-starter" and m.has("train.soft_start_margin_speed"):
+        w = m.get("train.soft_start_margin_speed")
+        if w > 0:
+            points.append({"speed": _r(w * RPM), "torque": _r(load(w)), "label": "smallest margin"})
+    out["load_points"] = points
+    if m.get("motor.rated_torque") is not None:
+        out["rated_torque"] = _r(m.get("motor.rated_torque"))
+    return out
 
 
 def _load_curve(m: Model) -> list[list[float]]:

@@ -1,9 +1,12 @@
 """Charts for the reports: SVG text for HTML, PNG bytes for e-mail, and a text equivalent of each.
 
-Three charts are drawn from the ``charts`` part of a spec's result (see the
-result contract): the torque–speed plane (``torque_speed``), the duty cycle over
-time (``duty``) and the permanent-magnet back-EMF against the voltages it must
-stay under (``back_emf``). They plot the numbers given; nothing is computed.
+Four charts are drawn from the ``charts`` part of a spec's result (see the
+result contract): the torque–speed plane of a variable-speed drive train
+(``torque_speed``), the start of a direct-on-line or soft-starter drive train
+against its load (``starting``), the duty cycle over time (``duty``) and the
+permanent-magnet back-EMF against the voltages it must stay under (``back_emf``).
+They plot the numbers given; nothing is computed. A point whose rule failed in
+the result (``failing``) is crossed out and labelled "FAILS: <rule>".
 
 Each series differs by line style and marker as well as by shade, so the charts
 read in greyscale print. Drawing is deterministic: a fixed SVG hash salt, glyphs
@@ -26,7 +29,7 @@ from rulecheck.units import QuantityError, format_value, parse_quantity
 __all__ = ["CHART_KEYS", "ChartDataError", "ChartText", "available", "describe", "failing_rules", "figure", "png",
            "svg"]
 
-CHART_KEYS = ("torque_speed", "duty", "back_emf")
+CHART_KEYS = ("starting", "torque_speed", "duty", "back_emf")
 MAX_PLOT_POINTS = 4000  # more points than this add nothing visible at report size
 MAX_TABLE_ROWS = 24  # a text equivalent stays short enough to read aloud
 MAX_LABELS = 12  # annotations beyond this clutter the plane
@@ -266,15 +269,20 @@ def _describe_torque_speed(d: _TorqueSpeed) -> ChartText:
     )
 
 
-def _label_groups(points: list[_Point], d: _TorqueSpeed) -> list[tuple[float, float, str]]:
-    """Return the point labels merged by speed: points within 15 % of the speed span share one label ("peak, RMS")
-    at the highest of them, with a line "FAILS: <rule>" for each of their rules that failed."""
-    speeds = [p.n for p in points] + [n for n, _ in d.cont] + [n for n, _ in d.peak] + [n for n, _ in d.load]
+def _label_groups(points: list[_Point], d: Any) -> list[tuple[float, float, str]]:
+    """Return the point labels merged: points within 15 % of the speed span and 8 % of the torque span of each other
+    share one label ("peak, RMS") at the highest of them, with a line "FAILS: <rule>" for each of their rules that
+    failed."""
+    curves = (d.cont, d.peak, d.load) if isinstance(d, _TorqueSpeed) else (d.during, d.full, d.load)
+    speeds = [p.n for p in points] + [n for curve in curves for n, _ in curve]
+    torques = [p.t for p in points] + [t for curve in curves for _, t in curve]
     span = (max(speeds) - min(speeds)) if speeds else 0.0
+    t_span = (max(torques) - min(torques)) if torques else 0.0
     groups: list[list[_Point]] = []
-    for p in sorted((p for p in points if p.label or d.fails(p)), key=lambda p: p.n):
-        if groups and p.n - groups[-1][0].n <= 0.15 * span:
-            groups[-1].append(p)
+    for p in sorted((p for p in points if p.label or d.fails(p)), key=lambda p: (p.n, p.t)):
+        near = next((g for g in groups if p.n - g[0].n <= 0.15 * span and abs(p.t - g[0].t) <= 0.08 * t_span), None)
+        if near is not None:
+            near.append(p)
         else:
             groups.append([p])
     out = []
@@ -352,6 +360,117 @@ def _draw_torque_speed(fig: Any, d: _TorqueSpeed) -> None:
     ax.set_xlabel(f"Speed at motor shaft ({d.speed.unit})")
     ax.set_ylabel(f"Torque at motor shaft ({d.torque.unit})")
     ax.set_title("Torque–speed plane")
+    ax.grid(True)
+    fig.legend(loc="outside lower center", ncols=3)
+    _separate(fig, texts)
+
+
+@dataclass
+class _Starting:
+    speed: _Axis
+    torque: _Axis
+    method: str
+    full: list[tuple[float, float]]
+    during: list[tuple[float, float]]
+    load: list[tuple[float, float]]
+    points: list[_Point]
+    voltage: float | None
+    dip_counted: bool
+    run_up_end: float | None
+    rated: float | None
+    failing: frozenset[str] = frozenset()
+
+    def fails(self, p: _Point) -> bool:
+        return bool(p.rule) and p.rule in self.failing
+
+    def during_name(self) -> str:
+        if self.method == "soft-starter":
+            return "Motor at the soft starter's current limit"
+        if self.voltage is not None and self.dip_counted:
+            return f"Motor at {_fmt(self.voltage * 100)} % voltage (torque ∝ U²)"
+        return "Motor at full voltage (dip not counted)"
+
+
+def _starting(data: Mapping[str, Any], units: str, failing: frozenset[str] = frozenset()) -> _Starting:
+    sp = _speed_axis(data.get("speed_unit"))
+    tq = _quantity_axis(data.get("torque_unit"), "torque", "N*m", units)
+
+    def conv(key: str) -> list[tuple[float, float]]:
+        return [(n * sp.factor, t * tq.factor) for n, t in _pairs(data.get(key) or [], key)][:MAX_PLOT_POINTS]
+
+    full, during, load = conv("motor_full_voltage"), conv("motor_starting"), conv("load_curve")
+    if len(during) < 2 or len(load) < 2:
+        raise ChartDataError("the starting chart needs the motor's starting curve and the load curve")
+    points = []
+    for i, p in enumerate(data.get("load_points") or []):
+        if not isinstance(p, Mapping):
+            raise ChartDataError(f"load_points[{i}] is not a point")
+        points.append(_Point(_num(p.get("speed"), f"load_points[{i}].speed") * sp.factor,
+                             _num(p.get("torque"), f"load_points[{i}].torque") * tq.factor, plain(p.get("label"), 60),
+                             plain(p.get("rule"), 80)))
+    method = "soft-starter" if data.get("method") == "soft-starter" else "direct-on-line"
+
+    def opt(key: str, factor: float) -> float | None:
+        return None if data.get(key) is None else _num(data[key], key) * factor
+
+    return _Starting(sp, tq, method, full, during, load, points[:MAX_LABELS], opt("voltage_ratio", 1.0),
+                     data.get("voltage_dip_counted") is True, opt("run_up_end", sp.factor),
+                     opt("rated_torque", tq.factor), frozenset(failing))
+
+
+def _describe_starting(d: _Starting) -> ChartText:
+    su, tu = d.speed.unit, d.torque.unit
+    how = "direct on line" if d.method == "direct-on-line" else "on a soft starter"
+    words = [f"{d.during_name().lower()}: {_fmt(d.during[0][1])} {tu} at standstill",
+             f"load {_fmt(d.load[0][1])} {tu} at standstill (breakaway) to {_fmt(d.load[-1][1])} {tu} at "
+             f"{_fmt(d.load[-1][0])} {su}"]
+    if d.full:
+        words.append(f"full-voltage curve {_fmt(d.full[0][1])} {tu} at standstill, up to "
+                     f"{_fmt(max(t for _, t in d.full))} {tu}")
+    for p in d.points:
+        if d.fails(p):
+            words.append(f"FAILS: {p.rule} at the {p.label} point, {_fmt(p.t)} {tu}")
+    rows = [["motor during the start", _fmt(n), _fmt(t)] for n, t in d.during]
+    rows += [["motor at full voltage", _fmt(n), _fmt(t)] for n, t in d.full]
+    rows += [["load", _fmt(n), _fmt(t)] for n, t in d.load]
+    rows += [[f"point {p.label}" + (f" (FAILS: {p.rule})" if d.fails(p) else ""), _fmt(p.n), _fmt(p.t)]
+             for p in d.points]
+    note = f"First {MAX_TABLE_ROWS} of {len(rows)} rows shown." if len(rows) > MAX_TABLE_ROWS else ""
+    return ChartText("starting", f"Starting {how}: motor torque during the start against the load",
+                     f"Torque against speed at the motor shaft, starting {how}: " + "; ".join(words) + ".",
+                     ["series", f"speed ({su})", f"torque ({tu})"], rows[:MAX_TABLE_ROWS], note,
+                     ["motor during the start: solid line, round markers",
+                      "motor at full voltage: dotted grey line", "load from breakaway: thick black line",
+                      "end of the run-up: dashed vertical line",
+                      "points whose rule fails: large crosses labelled FAILS"])
+
+
+def _draw_starting(fig: Any, d: _Starting) -> None:
+    ax = fig.add_subplot(1, 1, 1)
+    if d.full:
+        ax.plot(*zip(*_thin(d.full), strict=True), color=_GREY, linestyle=":", linewidth=1.4,
+                label="Motor at full voltage")
+    ax.plot(*zip(*_thin(d.during), strict=True), color=_INK, linestyle="-", linewidth=1.8, marker="o",
+            markersize=3, label=d.during_name())
+    ax.plot(*zip(*_thin(d.load), strict=True), color=_LOAD, linestyle="-", linewidth=2.6, label="Load")
+    if d.rated is not None:
+        ax.axhline(d.rated, color=_ACCENT, linestyle="-.", linewidth=1.1, label=f"Rated torque {_fmt(d.rated)} "
+                                                                                 f"{d.torque.unit}")
+    if d.run_up_end is not None:
+        ax.axvline(d.run_up_end, color=_GREY, linestyle="--", linewidth=1.0,
+                   label=f"End of the run-up {_fmt(d.run_up_end)} {d.speed.unit}")
+    if d.points:
+        ax.plot([p.n for p in d.points], [p.t for p in d.points], linestyle="none", marker="^", markersize=7,
+                color=_LOAD, label="Starting points")
+    failed = [p for p in d.points if d.fails(p)]
+    if failed:
+        ax.plot([p.n for p in failed], [p.t for p in failed], linestyle="none", marker="X", markersize=12,
+                color=_FAIL, markeredgecolor=_LOAD, markeredgewidth=0.8, label="Point whose rule FAILS")
+    ax.set_ylim(bottom=0.0)
+    texts = _annotate(ax, _label_groups(d.points, d))  # type: ignore[arg-type]
+    ax.set_xlabel(f"Speed at motor shaft ({d.speed.unit})")
+    ax.set_ylabel(f"Torque at motor shaft ({d.torque.unit})")
+    ax.set_title("Starting " + ("direct on line" if d.method == "direct-on-line" else "on a soft starter"))
     ax.grid(True)
     fig.legend(loc="outside lower center", ncols=3)
     _separate(fig, texts)
@@ -513,6 +632,7 @@ def _draw_back_emf(fig: Any, d: _BackEmf) -> None:
 
 
 _CHARTS = {
+    "starting": (_starting, _describe_starting, _draw_starting, (7.0, 4.4)),
     "torque_speed": (_torque_speed, _describe_torque_speed, _draw_torque_speed, (7.0, 4.2)),
     "duty": (_duty, _describe_duty, _draw_duty, (7.0, 4.4)),
     "back_emf": (_back_emf, _describe_back_emf, _draw_back_emf, (7.0, 4.2)),

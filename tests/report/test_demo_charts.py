@@ -23,10 +23,29 @@ def demo():
 
 
 def test_every_torque_speed_chart_has_load_curve_and_capability(demo):
+    # a variable-speed drive train has the torque–speed plane; a direct-on-line or soft-starter start (M-710) the
+    # starting chart instead: each with its load curve and the motor's capability
     for spec, series in demo:
+        if spec["tag"] == "HR-M-710":
+            assert "torque_speed" not in series
+            st = series["starting"]
+            assert len(st["load_curve"]) >= 2 and len(st["motor_starting"]) >= 2 and st["motor_full_voltage"]
+            continue
         ts = series["torque_speed"]
         assert len(ts["load_curve"]) >= 2 and len(ts["motor_continuous"]) >= 2, spec["tag"]
         assert ts.get("motor_peak"), spec["tag"]
+
+
+def test_m710_starting_chart_is_the_dol_starting_rules_start(demo):
+    # M-710: T_LR 225 N·m at the start's dip u = 68.15 % → 225 × 0.68149² = 104.50 N·m at standstill, the
+    # starting torque dol-starting judges; its warning (the dip) crosses that point out
+    spec, series = next(x for x in demo if x[0]["tag"] == "HR-M-710")
+    rule = next(o for o in spec["outcomes"] if o["rule"] == "dol-starting")
+    st = series["starting"]
+    assert st["motor_starting"][0][1] == pytest.approx(rule["values"]["starting_torque"]["value"], rel=1e-4)
+    assert st["motor_starting"][0][1] == pytest.approx(225 * 0.68149 ** 2, rel=1e-4)
+    fig = charts.figure("starting", st, failing=charts.failing_rules(spec))
+    assert rule["outcome"] == "fail" and any("FAILS: dol-starting" in t.get_text() for t in fig.axes[0].texts)
 
 
 def test_peak_capability_is_the_one_the_peak_rule_compares_with(demo):
@@ -110,9 +129,10 @@ def test_a_point_whose_rule_passes_is_not_marked(demo):
     # pass (CV-110: torque-peak passes; torque-margin-continuous only notes the cooling table, at info) has no cross
     for spec, series in demo:
         failing = charts.failing_rules(spec)
-        fig = charts.figure("torque_speed", series["torque_speed"], failing=failing)
+        key = "starting" if "starting" in series else "torque_speed"
+        fig = charts.figure(key, series[key], failing=failing)
         labels = " ".join(t.get_text() for t in fig.axes[0].texts)
-        for rule in {p.get("rule") for p in series["torque_speed"]["load_points"] if p.get("rule")}:
+        for rule in {p.get("rule") for p in series[key]["load_points"] if p.get("rule")}:
             assert (f"FAILS: {rule}" in labels) == (rule in failing), (spec["tag"], rule)
     spec, series = next(x for x in demo if x[0]["tag"] == "HR-CV-110")
     outcomes = {o["rule"]: (o["outcome"], o.get("severity")) for o in spec["outcomes"]}

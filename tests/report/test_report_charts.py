@@ -187,3 +187,8 @@ def test_failing_rules_reads_fails_at_error_or_warning_only():
                          {"rule": "d", "outcome": "pass", "severity": "error"},
                          {"rule": "e", "outcome": "waived", "severity": "error"}]}
     assert charts.failing_rules(spec) == {"a", "b"}
+
+
+def test_starting_chart_without_its_curves_is_refused():
+    with pytest.raises(charts.ChartDataError, match="needs the motor's starting curve and the load curve"):
+        charts.describe("starting", {"motor_starting": [[0, 1]], "load_curve": [[0, 1], [10, 1]]})
