@@ -12,11 +12,13 @@ from typing import Any
 import numpy as np
 
 from rulecheck import units
+from rulecheck.derive.installation import _overhauling_torque as overhauling_torque
 from rulecheck.derive.starting import _available as peak_available
 from rulecheck.derive.starting import _dol_curve as full_voltage_curve
 from rulecheck.derive.starting import _load_at_motor as load_at_motor
 from rulecheck.derive.starting import _run_up_end as run_up_end
 from rulecheck.derive.starting import dol_starting_curve, soft_start_limited_curve
+from rulecheck.derive.train import _reverse_efficiency as reverse_efficiency
 from rulecheck.derive.train import capability
 from rulecheck.model import Model
 from rulecheck.physics import machines as mc
@@ -85,11 +87,42 @@ def _torque_speed(m: Model) -> dict[str, Any] | None:
     if curve:
         out["load_curve"] = curve
     out["load_points"] = _points(m)
+    braking = _braking(m, cap, available)
+    if braking:
+        out["braking"] = braking
     out["duty_segments"] = [
         {"speed_from": _r(s["speed_from"] * RPM), "speed_to": _r(s["speed_to"] * RPM), "torque": _r(s["torque"]),
          "label": s.get("label", "")}
         for s in m.lists.get("duty.segments", [])
     ][:200]
+    return out
+
+
+def _braking(m: Model, cap: Any, available: Any) -> dict[str, Any] | None:
+    """Return the generating quadrant where the load overhauls at steady speed (the torque with which it drives,
+    the same as the braking rules take: :func:`rulecheck.derive.installation._overhauling_torque`), referred to
+    the motor shaft (× η_rev ÷ i), with the motor's continuous and short-time capability there (the same
+    functions as motoring: a motor brakes with the torque it can give). A hoist lowers at negative speed holding
+    a positive torque; a downhill belt runs forward against a negative torque."""
+    found = overhauling_torque(m)
+    i, nmax = m.get("transmission.ratio"), m.get("load.speed_max")
+    if found is None or not i or not nmax:
+        return None
+    torque = found[0] * reverse_efficiency(m) / i
+    lowering = m.get("load.model") == "hoist"
+    lo, hi = (m.get("load.speed_min") or 0.0) * i, nmax * i
+    speeds = -np.linspace(hi, lo, 25) if lowering else np.linspace(lo, hi, 25)
+    sign = 1.0 if lowering else -1.0  # the sign of the motor's torque in the generating quadrant
+    out: dict[str, Any] = {
+        "quadrant": "reverse-speed" if lowering else "reverse-torque",
+        "load": [[_r(w * RPM), _r(sign * torque)] for w in speeds],
+        "motor_continuous": [[_r(w * RPM), _r(sign * float(cap(abs(float(w)))))] for w in speeds],
+        "means": str(m.get("drive.braking.kind") or "none"),
+        "how": found[1],
+        "rule": "regen-braking-energy",  # the rule that judges the means of taking the braking energy
+    }
+    if available is not None:
+        out["motor_peak"] = [[_r(w * RPM), _r(sign * available(abs(float(w))))] for w in speeds]
     return out
 
 

@@ -179,10 +179,37 @@ class _TorqueSpeed:
     segments: list[tuple[float, float, float, str]]
     load: list[tuple[float, float]] = field(default_factory=list)
     failing: frozenset[str] = frozenset()
+    braking: _Braking | None = None
 
     def fails(self, p: _Point) -> bool:
         """Whether the rule that judges the point failed in this spec's result."""
         return bool(p.rule) and p.rule in self.failing
+
+
+@dataclass
+class _Braking:
+    """The generating quadrant where the load overhauls: its load, the motor's capability there, the means."""
+
+    reverse_speed: bool  # a hoist lowering (speed < 0, torque > 0); else a downhill belt (speed > 0, torque < 0)
+    load: list[tuple[float, float]]
+    cont: list[tuple[float, float]]
+    peak: list[tuple[float, float]]
+    means: str
+    rule: str = ""
+
+
+def _braking(data: Any, conv: Any) -> _Braking | None:
+    if data is None:
+        return None
+    if not isinstance(data, Mapping):
+        raise ChartDataError("braking is not a mapping")
+    load = conv(_pairs(data.get("load") or [], "braking.load"))
+    if len(load) < 2:
+        raise ChartDataError("braking.load has fewer than two points")
+    return _Braking(data.get("quadrant") == "reverse-speed", load,
+                    conv(_pairs(data.get("motor_continuous") or [], "braking.motor_continuous")),
+                    conv(_pairs(data.get("motor_peak") or [], "braking.motor_peak")), plain(data.get("means"), 40),
+                    plain(data.get("rule"), 80))
 
 
 @dataclass(frozen=True)
@@ -222,7 +249,7 @@ def _torque_speed(data: Mapping[str, Any], units: str, failing: frozenset[str] =
     if not (cont or peak or points or segments or load):
         raise ChartDataError("the torque–speed chart has no data")
     return _TorqueSpeed(sp, tq, cont, peak, points[:MAX_PLOT_POINTS], segments[:MAX_PLOT_POINTS],
-                        load[:MAX_PLOT_POINTS], frozenset(failing))
+                        load[:MAX_PLOT_POINTS], frozenset(failing), _braking(data.get("braking"), conv))
 
 
 def _describe_torque_speed(d: _TorqueSpeed) -> ChartText:
@@ -241,6 +268,12 @@ def _describe_torque_speed(d: _TorqueSpeed) -> ChartText:
         if d.fails(p):
             words.append(f"FAILS: {p.rule} at the {p.label} point, {_fmt(p.t)} {tu} at {_fmt(p.n)} {su}")
     words.append(f"{len(d.segments)} duty segment{'s' if len(d.segments) != 1 else ''}")
+    if d.braking:
+        b = d.braking
+        words.append(f"generating quadrant ({'lowering' if b.reverse_speed else 'overhauling'}): the load drives "
+                     f"the motor with {_fmt(abs(b.load[0][1]))} {tu} from {_fmt(b.load[0][0])} to "
+                     f"{_fmt(b.load[-1][0])} {su}, braking means: {b.means}"
+                     + (f" (FAILS: {b.rule})" if b.rule and b.rule in d.failing else ""))
     rows = []
     for n, t in d.cont:
         rows.append(["motor continuous", _fmt(n), _fmt(t)])
@@ -253,6 +286,10 @@ def _describe_torque_speed(d: _TorqueSpeed) -> ChartText:
                      _fmt(p.t)])
     for n0, n1, t, label in d.segments:
         rows.append([f"duty segment {label}".strip(), f"{_fmt(n0)} to {_fmt(n1)}", _fmt(t)])
+    if d.braking:
+        rows += [["load overhauling (braking)", _fmt(n), _fmt(t)] for n, t in d.braking.load]
+        rows += [["motor continuous, braking", _fmt(n), _fmt(t)] for n, t in d.braking.cont]
+        rows += [["motor peak, braking", _fmt(n), _fmt(t)] for n, t in d.braking.peak]
     note = f"First {MAX_TABLE_ROWS} of {len(rows)} rows shown." if len(rows) > MAX_TABLE_ROWS else ""
     return ChartText(
         "torque_speed",
@@ -265,6 +302,7 @@ def _describe_torque_speed(d: _TorqueSpeed) -> ChartText:
          "motor peak (drive current limit included): dashed line, square markers",
          "load across the speed range: thick black line", "load operating points: black triangles",
          "points whose rule fails: large crosses labelled FAILS with the rule",
+         "generating quadrant where the load overhauls: hatched, labelled, with the load and capability there",
          "duty segments: dash-dot lines with cross ends"],
     )
 
@@ -333,6 +371,32 @@ def _separate(fig: Any, texts: list[Any]) -> None:
         placed.append(box)
 
 
+def _draw_braking(ax: Any, b: _Braking, unit: str, fails: bool) -> list[Any]:
+    """Draw the generating quadrant: the load and the capability there (styles as motoring), the quadrant hatched
+    and labelled with the braking means; return the label to place apart from the others."""
+    for curve, style in ((b.cont, {"linestyle": "-", "linewidth": 1.8, "marker": "o", "markersize": 3.5}),
+                         (b.peak, {"linestyle": "--", "linewidth": 1.4, "marker": "s", "markersize": 3.5})):
+        if curve:
+            ax.plot(*zip(*_thin(curve), strict=True), color=_INK, **style)
+    ax.plot(*zip(*_thin(b.load), strict=True), color=_LOAD, linestyle="-", linewidth=2.6)
+    ax.autoscale_view()
+    (x0, x1), (y0, y1) = ax.get_xlim(), ax.get_ylim()
+    xs = (x0, 0.0) if b.reverse_speed else (0.0, x1)
+    ax.fill_between(xs, 0.0, y1 if b.reverse_speed else y0, facecolor="none", edgecolor=_GREY, hatch="//",
+                    linewidth=0.0, label="Generating quadrant: the load drives the motor")
+    ax.set_xlim(x0, x1)
+    ax.set_ylim(y0, y1)
+    n, t = b.load[len(b.load) // 2]
+    label = f"GENERATING: the load overhauls ({_fmt(abs(t))} {unit})\nbraking means: {b.means}"
+    text = ax.annotate(label + (f"\nFAILS: {b.rule}" if fails else ""),
+                       (n, t), textcoords="offset points", xytext=(0, -8 if b.reverse_speed else 8),
+                       ha="center", va="top" if b.reverse_speed else "bottom", fontsize=7.5, color=_LOAD,
+                       parse_math=False, annotation_clip=False,
+                       bbox={"boxstyle": "square,pad=0.2", "facecolor": "white", "edgecolor": "none", "alpha": 0.85})
+    text.set_in_layout(False)
+    return [text]
+
+
 def _draw_torque_speed(fig: Any, d: _TorqueSpeed) -> None:
     ax = fig.add_subplot(1, 1, 1)
     if d.cont:
@@ -354,9 +418,10 @@ def _draw_torque_speed(fig: Any, d: _TorqueSpeed) -> None:
         ax.plot([p.n for p in failed], [p.t for p in failed], linestyle="none", marker="X", markersize=12,
                 color=_FAIL, markeredgecolor=_LOAD, markeredgewidth=0.8, label="Point whose rule FAILS")
     ax.axhline(0.0, color=_GREY, linewidth=0.6)
+    texts = _draw_braking(ax, d.braking, d.torque.unit, d.braking.rule in d.failing) if d.braking else []
     labelled = [*d.points[:MAX_LABELS],
                 *[_Point((n0 + n1) / 2, t, label) for n0, n1, t, label in d.segments[:MAX_LABELS]]]
-    texts = _annotate(ax, _label_groups(labelled, d)) if labelled else []
+    texts += _annotate(ax, _label_groups(labelled, d)) if labelled else []
     ax.set_xlabel(f"Speed at motor shaft ({d.speed.unit})")
     ax.set_ylabel(f"Torque at motor shaft ({d.torque.unit})")
     ax.set_title("Torque–speed plane")

@@ -139,3 +139,34 @@ def test_a_point_whose_rule_passes_is_not_marked(demo):
     assert outcomes["torque-margin-continuous"] == ("fail", "info") and outcomes["torque-peak"][0] == "pass"
     fig = charts.figure("torque_speed", series["torque_speed"], failing=charts.failing_rules(spec))
     assert not [line for line in fig.axes[0].get_lines() if line.get_marker() == "X"]
+
+
+def test_hoist_chart_hatches_the_lowering_quadrant_with_the_braking_rule(demo):
+    # H-310 lowers 3300 kg on 2 falls from a 0.32 m drum: T_hold = 3300 × 9.80665 / 2 × 0.16 = 2588.9 N·m at the
+    # drum; less the hoist's losses (η_load 95 %) and back through the gearbox (η_rev = η 95 %, i = 40):
+    # 2588.9 × 0.95 × 0.95 / 40 = 58.41 N·m holding the load at the motor while it runs backwards at
+    # −0.3 m/s × 2 / (π × 0.32 m) × 60 × 40 = −1432.4 r/min. No braking means: regen-braking-energy fails.
+    spec, series = next(x for x in demo if x[0]["tag"] == "HR-H-310")
+    b = series["torque_speed"]["braking"]
+    assert b["quadrant"] == "reverse-speed" and b["means"] == "none"
+    assert b["load"][0] == [pytest.approx(-1432.4, abs=0.1), pytest.approx(58.41, abs=0.01)]
+    # the capability there is the motoring capability at the same speed magnitude (a motor brakes with what it gives)
+    motoring = {n: t for n, t in series["torque_speed"]["motor_continuous"]}
+    assert b["motor_continuous"][0][1] <= max(motoring.values())
+    fig = charts.figure("torque_speed", series["torque_speed"], failing=charts.failing_rules(spec))
+    ax = fig.axes[0]
+    hatched = [c for c in ax.collections if c.get_hatch() == "//"]
+    assert len(hatched) == 1 and hatched[0].get_label() == "Generating quadrant: the load drives the motor"
+    x0, x1 = hatched[0].get_paths()[0].get_extents().intervalx
+    assert x1 == pytest.approx(0.0, abs=1e-9) and x0 < -1432  # the lowering half of the plane, speed < 0
+    label = next(t.get_text() for t in ax.texts if t.get_text().startswith("GENERATING"))
+    assert "braking means: none" in label and "FAILS: regen-braking-energy" in label
+
+
+def test_no_generating_quadrant_where_the_load_never_drives(demo):
+    # CV-120 hauls uphill (14°, μ 0.03: m·g·(μ·cos θ + sin θ) > 0) and the pump and fan never drive their motors
+    for tag in ("HR-CV-120", "HR-P-210", "HR-F-610"):
+        spec, series = next(x for x in demo if x[0]["tag"] == tag)
+        assert "braking" not in series["torque_speed"], tag
+        fig = charts.figure("torque_speed", series["torque_speed"])
+        assert not [c for c in fig.axes[0].collections if c.get_hatch()], tag
