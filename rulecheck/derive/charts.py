@@ -86,6 +86,10 @@ def _torque_speed(m: Model) -> dict[str, Any] | None:
     curve = _load_curve(m)
     if curve:
         out["load_curve"] = curve
+    if not m.get("duty.cycle_given"):
+        crossings = _crossings(m, cap)
+        if crossings:
+            out["continuous_crossings"] = crossings
     out["load_points"] = _points(m)
     braking = _braking(m, cap, available)
     if braking:
@@ -205,6 +209,39 @@ def _starting(m: Model) -> dict[str, Any] | None:
     return out
 
 
+def _crossings(m: Model, cap: Any) -> list[dict[str, float]]:
+    """Return the speeds in the load's continuous range where the load torque at the motor shaft meets the
+    continuous capability (the two functions torque-margin-continuous compares), each found by bisection to
+    1e-6 of the range: where the load passes from above the capability to below it, or back."""
+    load = load_at_motor(m)
+    i, nmax = m.get("transmission.ratio", 1.0) or 1.0, m.get("load.speed_max")
+    if load is None or not nmax:
+        return []
+
+    def gap(w: float) -> float:
+        return float(load(w)) - float(cap(w))
+
+    speeds = np.linspace((m.get("load.speed_min") or 0.0) * i, nmax * i, 2 * LOAD_CURVE_POINTS + 1).tolist()
+    out = []
+    for a, b in zip(speeds, speeds[1:], strict=False):
+        ga, gb = gap(a), gap(b)
+        if ga == 0.0 or ga * gb >= 0.0:
+            continue
+        for _ in range(60):
+            mid = 0.5 * (a + b)
+            if gap(mid) * ga > 0.0:
+                a = mid
+            else:
+                b = mid
+        w = 0.5 * (a + b)
+        out.append({"speed": _r(w * RPM), "torque": _r(float(cap(w))),
+                    "direction": "falls below" if ga > 0.0 else "rises above"})
+    return out
+
+
+LOAD_CURVE_POINTS = 25  # speeds of the load curve across the continuous range
+
+
 def _load_curve(m: Model) -> list[list[float]]:
     """Return the load torque at the motor shaft across the continuous speed range (the load model, referred
     through the transmission as the continuous-margin sweep refers it), as [motor r/min, N*m] pairs."""
@@ -214,7 +251,7 @@ def _load_curve(m: Model) -> list[list[float]]:
     if load is None or not nmax:
         return []
     nmin = m.get("load.speed_min") or 0.0
-    speeds = np.linspace(nmin * i, nmax * i, 25)
+    speeds = np.linspace(nmin * i, nmax * i, LOAD_CURVE_POINTS)
     return [[_r(w * RPM), _r(load(float(w)))] for w in speeds]
 
 

@@ -180,6 +180,7 @@ class _TorqueSpeed:
     load: list[tuple[float, float]] = field(default_factory=list)
     failing: frozenset[str] = frozenset()
     braking: _Braking | None = None
+    crossings: list[_Point] = field(default_factory=list)
 
     def fails(self, p: _Point) -> bool:
         """Whether the rule that judges the point failed in this spec's result."""
@@ -248,8 +249,15 @@ def _torque_speed(data: Mapping[str, Any], units: str, failing: frozenset[str] =
     load = conv(_pairs(data.get("load_curve") or [], "load_curve"))
     if not (cont or peak or points or segments or load):
         raise ChartDataError("the torque–speed chart has no data")
+    crossings = []
+    for i, c in enumerate((data.get("continuous_crossings") or [])[:MAX_LABELS]):
+        if not isinstance(c, Mapping):
+            raise ChartDataError(f"continuous_crossings[{i}] is not a point")
+        n = _num(c.get("speed"), f"continuous_crossings[{i}].speed") * sp.factor
+        crossings.append(_Point(n, _num(c.get("torque"), f"continuous_crossings[{i}].torque") * tq.factor,
+                                f"load {plain(c.get('direction'), 20)} continuous capability at {_fmt(n)} {sp.unit}"))
     return _TorqueSpeed(sp, tq, cont, peak, points[:MAX_PLOT_POINTS], segments[:MAX_PLOT_POINTS],
-                        load[:MAX_PLOT_POINTS], frozenset(failing), _braking(data.get("braking"), conv))
+                        load[:MAX_PLOT_POINTS], frozenset(failing), _braking(data.get("braking"), conv), crossings)
 
 
 def _describe_torque_speed(d: _TorqueSpeed) -> ChartText:
@@ -267,6 +275,7 @@ def _describe_torque_speed(d: _TorqueSpeed) -> ChartText:
     for p in d.points:
         if d.fails(p):
             words.append(f"FAILS: {p.rule} at the {p.label} point, {_fmt(p.t)} {tu} at {_fmt(p.n)} {su}")
+    words += [c.label for c in d.crossings]
     words.append(f"{len(d.segments)} duty segment{'s' if len(d.segments) != 1 else ''}")
     if d.braking:
         b = d.braking
@@ -286,6 +295,7 @@ def _describe_torque_speed(d: _TorqueSpeed) -> ChartText:
                      _fmt(p.t)])
     for n0, n1, t, label in d.segments:
         rows.append([f"duty segment {label}".strip(), f"{_fmt(n0)} to {_fmt(n1)}", _fmt(t)])
+    rows += [[c.label.split(" at ")[0], _fmt(c.n), _fmt(c.t)] for c in d.crossings]
     if d.braking:
         rows += [["load overhauling (braking)", _fmt(n), _fmt(t)] for n, t in d.braking.load]
         rows += [["motor continuous, braking", _fmt(n), _fmt(t)] for n, t in d.braking.cont]
@@ -302,6 +312,7 @@ def _describe_torque_speed(d: _TorqueSpeed) -> ChartText:
          "motor peak (drive current limit included): dashed line, square markers",
          "load across the speed range: thick black line", "load operating points: black triangles",
          "points whose rule fails: large crosses labelled FAILS with the rule",
+         "where the load meets the continuous capability: diamonds",
          "generating quadrant where the load overhauls: hatched, labelled, with the load and capability there",
          "duty segments: dash-dot lines with cross ends"],
     )
@@ -340,8 +351,8 @@ def _annotate(ax: Any, labels: list[tuple[float, float, str]], **style: Any) -> 
     for n, t, text in labels:
         right = n > lo + 0.66 * (hi - lo)
         texts.append(ax.annotate(text, (n, t), textcoords="offset points", xytext=(-6 if right else 6, 6),
-                                 ha="right" if right else "left", va="bottom", fontsize=7.5, color=_LOAD,
-                                 parse_math=False, annotation_clip=False, **style))
+                                 ha="right" if right else "left", **{"va": "bottom", **style}, fontsize=7.5,
+                                 color=_LOAD, parse_math=False, annotation_clip=False))
     for text in texts:
         text.set_in_layout(False)  # labels never move the axes: they are placed after the layout
     return texts
@@ -417,11 +428,18 @@ def _draw_torque_speed(fig: Any, d: _TorqueSpeed) -> None:
     if failed:
         ax.plot([p.n for p in failed], [p.t for p in failed], linestyle="none", marker="X", markersize=12,
                 color=_FAIL, markeredgecolor=_LOAD, markeredgewidth=0.8, label="Point whose rule FAILS")
+    if d.crossings:
+        ax.plot([c.n for c in d.crossings], [c.t for c in d.crossings], linestyle="none", marker="D", markersize=6,
+                markerfacecolor="white", markeredgecolor=_LOAD, markeredgewidth=1.4,
+                label="Load meets continuous capability")
     ax.axhline(0.0, color=_GREY, linewidth=0.6)
     texts = _draw_braking(ax, d.braking, d.torque.unit, d.braking.rule in d.failing) if d.braking else []
     labelled = [*d.points[:MAX_LABELS],
                 *[_Point((n0 + n1) / 2, t, label) for n0, n1, t, label in d.segments[:MAX_LABELS]]]
     texts += _annotate(ax, _label_groups(labelled, d)) if labelled else []
+    for c in d.crossings:  # below the load line, so the crossing's speed reads on its own
+        texts += _annotate(ax, [(c.n, c.t, f"load = continuous\n{_fmt(c.n)} {d.speed.unit}")], va="top")
+        texts[-1].xyann = (texts[-1].xyann[0], -8)
     ax.set_xlabel(f"Speed at motor shaft ({d.speed.unit})")
     ax.set_ylabel(f"Torque at motor shaft ({d.torque.unit})")
     ax.set_title("Torque–speed plane")

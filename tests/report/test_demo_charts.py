@@ -6,6 +6,7 @@ import itertools
 import sys
 from pathlib import Path
 
+import numpy as np
 import pytest
 
 from rulecheck.report import charts
@@ -58,17 +59,39 @@ def test_peak_capability_is_the_one_the_peak_rule_compares_with(demo):
 
 
 def test_load_curve_crosses_capability_where_the_rule_says(demo):
-    # CV-120 fails torque-margin-continuous at 360 r/min: 173 N·m needed, 134.8 N·m given; the chart's load curve
-    # at its first point is that need, above the continuous curve there
+    # CV-120 by hand. Motor 30 kW at 1475 r/min: T_N = 30000 / (1475 × 2π/60) = 194.22 N·m; base speed 1475 r/min
+    # (the drive reaches 400 V). Load: 6000 kg up 14°, μ 0.03, 0.5 m pulley:
+    # F = 6000 × 9.80665 × (sin 14° + 0.03 × cos 14°) = 15947 N; 15947 × 0.25 = 3986.8 N·m at the pulley;
+    # ÷ (i 24 × η 0.96) = 173.04 N·m at the motor, at every speed (friction and lift do not depend on speed).
+    # Speeds: 15 r/min × 24 = 360 r/min up to 1.6 m/s ÷ (π × 0.5 m) × 60 × 24 = 1466.9 r/min.
+    # k_cool (references R06, common practice): at 360/1475 = 0.2441, 0.60 + 0.15 × (0.2441 − 0.1)/0.23 = 0.6940,
+    # T_cont = 194.22 × 0.6940 = 134.8 N·m < 173.04: the rule's finding. The load meets the capability where
+    # k_cool = 173.04/194.22 = 0.89095: n/n_b = 0.5 + 0.3 × (0.89095 − 0.85)/0.15 = 0.58190, n = 858.3 r/min;
+    # above it the motor carries the load. So the load exceeds the continuous capability from 360 to 858.3 r/min.
     spec, series = next(x for x in demo if x[0]["tag"] == "HR-CV-120")
-    values = next(o for o in spec["outcomes"] if o["rule"] == "torque-margin-continuous")["values"]
+    finding = next(o for o in spec["outcomes"] if o["rule"] == "torque-margin-continuous")
+    values = finding["values"]
+    assert finding["outcome"] == "fail" and finding["severity"] == "error"
+    assert values["worst_speed"]["value"] == pytest.approx(360, rel=1e-4)
+    assert values["required"]["value"] == pytest.approx(173.04, abs=0.01)
+    assert values["capability"]["value"] == pytest.approx(134.8, abs=0.05)
     ts = series["torque_speed"]
-    n0, t0 = ts["load_curve"][0]
-    assert n0 == pytest.approx(values["worst_speed"]["value"], rel=1e-3)
-    assert t0 == pytest.approx(values["required"]["value"], rel=1e-3)
-    cont = dict((round(n), t) for n, t in ts["motor_continuous"])
-    below = [t for n, t in ts["motor_continuous"] if n <= n0]
-    assert below and below[-1] < t0 and cont  # the capability is under the load at the low end
+    cont, load = np.array(ts["motor_continuous"]), np.array(ts["load_curve"])
+    step = float(np.max(np.diff(cont[:, 0])))  # the chart's sampling step of the capability: 3600/40 = 90 r/min
+    # on the chart, at the finding's speed, the load is the need and the capability the rule's "gives"
+    assert load[0, 0] == pytest.approx(values["worst_speed"]["value"], rel=1e-4)
+    assert load[0, 1] == pytest.approx(values["required"]["value"], rel=1e-4)
+    assert np.interp(load[0, 0], cont[:, 0], cont[:, 1]) == pytest.approx(values["capability"]["value"], rel=1e-3)
+    # where the drawn load line crosses the drawn capability line (linear between the chart's own points)
+    gap = load[:, 1] - np.interp(load[:, 0], cont[:, 0], cont[:, 1])
+    k = int(np.flatnonzero((gap[:-1] > 0) & (gap[1:] <= 0))[0])
+    drawn = load[k, 0] + gap[k] / (gap[k] - gap[k + 1]) * (load[k + 1, 0] - load[k, 0])
+    assert (gap[: k + 1] > 0).all() and (gap[k + 1:] <= 0).all()  # above the capability from 360 r/min to there
+    assert drawn == pytest.approx(858.3, abs=step)
+    # and the marked crossing (bisection on the rule's own functions) is the hand value
+    (crossing,) = ts["continuous_crossings"]
+    assert crossing["direction"] == "falls below"
+    assert crossing["speed"] == pytest.approx(858.3, abs=0.1) and crossing["torque"] == pytest.approx(173.04, abs=0.01)
 
 
 def test_no_chart_label_overlaps_another(demo):
