@@ -2,6 +2,7 @@
 
 from __future__ import annotations
 
+import itertools
 import re
 import time
 
@@ -192,3 +193,26 @@ def test_failing_rules_reads_fails_at_error_or_warning_only():
 def test_starting_chart_without_its_curves_is_refused():
     with pytest.raises(charts.ChartDataError, match="needs the motor's starting curve and the load curve"):
         charts.describe("starting", {"motor_starting": [[0, 1]], "load_curve": [[0, 1], [10, 1]]})
+
+
+def _text_boxes(fig):
+    from matplotlib.backends.backend_agg import FigureCanvasAgg
+
+    canvas = FigureCanvasAgg(fig)
+    canvas.draw()
+    renderer = canvas.get_renderer()
+    return [(t.get_text(), t.get_window_extent(renderer)) for ax in fig.axes for t in ax.texts if t.get_text()]
+
+
+def test_crowded_labels_are_placed_apart():
+    # twelve labelled points in a small corner of the plane, three of them failing, and a crossing among them:
+    # matplotlib's own boxes of the drawn labels never overlap (the greedy placement in charts._separate)
+    data = sample.conveyor()["charts"]["torque_speed"]
+    data["load_points"] = [{"speed": 1000 + 40 * k, "torque": 50 + 3 * (k % 4), "label": f"point number {k}",
+                            "rule": f"rule-{k}"} for k in range(12)]
+    data["continuous_crossings"] = [{"speed": 1100, "torque": 52, "direction": "falls below"}]
+    fig = charts.figure("torque_speed", data, failing={"rule-1", "rule-5", "rule-9"})
+    boxes = _text_boxes(fig)
+    assert sum("FAILS" in text for text, _ in boxes) >= 1 and len(boxes) >= 3
+    for (ta, a), (tb, b) in itertools.combinations(boxes, 2):
+        assert not a.overlaps(b), (ta, tb)
