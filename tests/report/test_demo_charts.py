@@ -193,3 +193,22 @@ def test_no_generating_quadrant_where_the_load_never_drives(demo):
         assert "braking" not in series["torque_speed"], tag
         fig = charts.figure("torque_speed", series["torque_speed"])
         assert not [c for c in fig.axes[0].collections if c.get_hatch()], tag
+
+
+def test_demo_hazards_come_only_from_failing_or_unchecked_safety_rules(demo):
+    from rulecheck.report import cautions
+
+    for spec, _series in demo:
+        for selected in cautions.select_hazards([spec]):
+            for rule in selected.rules:
+                o = next(o for o in spec["outcomes"] if o["rule"] == rule)
+                assert o["safety"] is True and o["outcome"] in ("fail", "waived", "not-checked"), (spec["tag"], rule)
+        # hoist wording only where a load hangs: H-310 (hoist) and SV-410 (a vertical axis) may raise it
+        keys = [h.hazard.key for h in cautions.select_hazards([spec])]
+        if spec["tag"] not in ("HR-H-310", "HR-SV-410"):
+            assert "suspended-load" not in keys, spec["tag"]
+    spec = next(s for s, _ in demo if s["tag"] == "HR-H-310")
+    assert "suspended-load" in [h.hazard.key for h in cautions.select_hazards([spec])]  # its brake is too weak
+    # every rule that passes, across the demo, raises nothing on its own
+    passes = [{"tag": s["tag"], "outcomes": [o for o in s["outcomes"] if o["outcome"] == "pass"]} for s, _ in demo]
+    assert cautions.select_hazards(passes) == []
