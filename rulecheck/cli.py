@@ -246,8 +246,9 @@ def _speed_options(parser: argparse.ArgumentParser) -> None:
     parser.add_argument("--no-progress", action="store_true", help="never show a progress bar")
 
 
-def _progress(args: argparse.Namespace) -> Any:
-    """Return a progress callback for long runs on a terminal (never in CI logs or when piped)."""
+def _progress(args: argparse.Namespace, noun: str = "specs") -> Any:
+    """Return a progress callback for long runs on a terminal (never in CI logs or when piped); ``noun`` names
+    what is counted (specs checked, charts drawn)."""
     if (getattr(args, "no_progress", False) or getattr(args, "quiet", False) or not sys.stderr.isatty()
             or os.environ.get("CI")):
         return None
@@ -258,7 +259,7 @@ def _progress(args: argparse.Namespace) -> Any:
             return
         width = 30
         filled = width * done // total
-        sys.stderr.write(f"\r[{'#' * filled}{'.' * (width - filled)}] {done}/{total} specs")
+        sys.stderr.write(f"\r[{'#' * filled}{'.' * (width - filled)}] {done}/{total} {noun}")
         state["shown"] = True
         if done == total:
             sys.stderr.write("\r" + " " * (width + 30) + "\r")
@@ -409,12 +410,15 @@ def render(result: dict[str, Any], fmt: str, args: argparse.Namespace, charts: l
 
         draw = charts is not None and not getattr(args, "no_charts", False)
         view = with_charts(result, charts) if draw else result
+        # the charts are drawn in a pool of processes (as many as the run's workers), with a progress line
+        drawing = {"jobs": getattr(args, "jobs", 0) or 0, "progress": _progress(args, "charts drawn")}
         if fmt == "pdf":
             try:
-                return pdf.render(view, units=units, charts=draw, meta=_page_meta(args))  # type: ignore[return-value]
+                return pdf.render(view, units=units, charts=draw, meta=_page_meta(args),  # type: ignore[return-value]
+                                  **drawing)
             except pdf.PdfUnavailable as exc:
                 raise _Usage(str(exc)) from None
-        return html.render(view, units=units, charts=draw, meta=_page_meta(args))
+        return html.render(view, units=units, charts=draw, meta=_page_meta(args), **drawing)
     if fmt == "annotations":
         from rulecheck.report import annotations
 

@@ -19,15 +19,15 @@ from __future__ import annotations
 import io
 import math
 import re
-from collections.abc import Iterable, Mapping, Sequence
+from collections.abc import Callable, Iterable, Mapping, Sequence
 from dataclasses import dataclass, field
 from typing import Any
 
 from rulecheck.report.common import plain
 from rulecheck.units import QuantityError, format_value, parse_quantity
 
-__all__ = ["CHART_KEYS", "ChartDataError", "ChartText", "available", "describe", "failing_rules", "figure", "png",
-           "svg"]
+__all__ = ["CHART_KEYS", "ChartDataError", "ChartText", "DrawJob", "available", "describe", "draw_all", "failing_rules",
+           "figure", "png", "svg", "svg_body"]
 
 CHART_KEYS = ("starting", "torque_speed", "duty", "back_emf")
 MAX_PLOT_POINTS = 4000  # more points than this add nothing visible at report size
@@ -380,6 +380,9 @@ def _separate(fig: Any, texts: list[Any]) -> None:
             text.xyann = (x0, y0 + (k + 1) // 2 * step * (-1 if k % 2 else 1))
             box = text.get_window_extent(renderer)
         placed.append(box)
+    # the layout is done and the labels are outside it: saving need not lay the figure out again (it costs as
+    # much as a drawing)
+    fig.set_layout_engine("none")
 
 
 def _draw_braking(ax: Any, b: _Braking, unit: str, fails: bool) -> list[Any]:
@@ -785,19 +788,80 @@ _ID = re.compile(r'\bid="([^"]+)"')
 _REF = re.compile(r'(href="#|url\(#)([^")]+)')
 
 
+def svg_body(key: str, data: Mapping[str, Any], units: str = "si", failing: Iterable[str] = ()) -> str:
+    """Return the chart drawn as SVG text (the costly part of :func:`svg`: matplotlib's drawing), to be made
+    inline-ready by :func:`svg` (``body=``); raises :class:`ChartDataError` for data that cannot be read."""
+    return _figure(key, data, units, "svg", 72, failing).decode("utf-8")
+
+
+# one chart to draw: (chart key, its data, units, the failing rules of its spec)
+DrawJob = tuple[str, Mapping[str, Any], str, frozenset[str]]
+POOL_MIN_CHARTS = 8  # fewer charts than this are drawn in this process: starting a pool costs more
+
+
+def _draw_one(job: DrawJob) -> tuple[bool, str]:
+    try:
+        return True, svg_body(*job)
+    except ChartDataError as exc:
+        return False, str(exc)
+
+
+def draw_all(jobs: Sequence[DrawJob], workers: int = 0,
+             progress: Callable[[int, int], None] | None = None) -> list[tuple[bool, str]]:
+    """Draw many charts, in order: (True, SVG text) or (False, why it cannot be drawn) for each job.
+
+    Identical charts (same key, data, units and failing rules) are drawn once. With ``workers`` other than 1
+    and enough charts, they are drawn in a pool of forked processes (``workers`` 0: one per core), a few
+    charts per task; ``progress(done, total)`` is called as they come back."""
+    import json
+    import multiprocessing
+    import os
+    from concurrent.futures import ProcessPoolExecutor
+
+    unique: dict[str, int] = {}
+    order: list[int] = []
+    todo: list[DrawJob] = []
+    for key, data, units, failing in jobs:
+        content = json.dumps([key, data, units, sorted(failing)], sort_keys=True, default=str)
+        if content not in unique:
+            unique[content] = len(todo)
+            todo.append((key, data, units, frozenset(failing)))
+        order.append(unique[content])
+    n = workers or os.cpu_count() or 1
+    drawn: list[tuple[bool, str]] = []
+    if n == 1 or len(todo) < POOL_MIN_CHARTS or "fork" not in multiprocessing.get_all_start_methods():
+        results: Iterable[tuple[bool, str]] = map(_draw_one, todo)
+        pool = None
+    else:
+        import matplotlib.figure  # noqa: F401 - imported once here, shared by the forked workers
+
+        pool = ProcessPoolExecutor(max_workers=min(n, len(todo)), mp_context=multiprocessing.get_context("fork"))
+        results = pool.map(_draw_one, todo, chunksize=max(1, min(8, len(todo) // (4 * n))))
+    try:
+        for done, item in enumerate(results, 1):
+            drawn.append(item)
+            if progress is not None:
+                progress(done, len(todo))
+    finally:
+        if pool is not None:
+            pool.shutdown(cancel_futures=True)
+    return [drawn[i] for i in order]
+
+
 def svg(key: str, data: Mapping[str, Any], units: str = "si", *, chart_id: str = "chart",
-        failing: Iterable[str] = ()) -> str:
+        failing: Iterable[str] = (), body: str | None = None) -> str:
     """Return the chart as an SVG element ready to inline in HTML, with ``<title>``/``<desc>`` from its text.
 
     Element ids are prefixed with ``chart_id`` so several charts can share one
     page; the XML prologue, comments, metadata and namespace declarations
-    (not needed inline in HTML) are removed.
+    (not needed inline in HTML) are removed. ``body``: the chart already drawn by
+    :func:`svg_body` or :func:`draw_all` for the same arguments.
     """
     from markupsafe import escape
 
     prefix = re.sub(r"[^A-Za-z0-9_-]", "-", chart_id)[:40] or "chart"
     text = describe(key, data, units, failing)
-    body = _figure(key, data, units, "svg", 72, failing).decode("utf-8")
+    body = body if body is not None else svg_body(key, data, units, failing)
     body = body[body.index("<svg"):]
     body = re.sub(r"<!--.*?-->", "", body, flags=re.S)
     body = re.sub(r"<metadata>.*?</metadata>", "", body, flags=re.S)

@@ -216,3 +216,29 @@ def test_crowded_labels_are_placed_apart():
     assert sum("FAILS" in text for text, _ in boxes) >= 1 and len(boxes) >= 3
     for (ta, a), (tb, b) in itertools.combinations(boxes, 2):
         assert not a.overlaps(b), (ta, tb)
+
+
+def test_charts_drawn_in_a_pool_are_the_ones_drawn_here():
+    # the pool (two forked processes) returns, in order, the same SVG as drawing in this process, identical
+    # charts drawn once, and a chart that cannot be drawn as its reason
+    ts, duty = sample.conveyor()["charts"]["torque_speed"], sample.conveyor()["charts"]["duty"]
+    jobs = [("torque_speed", ts, "si", frozenset()), ("duty", duty, "si", frozenset()),
+            ("torque_speed", {}, "si", frozenset())] * 3
+    seen = []
+    pooled = charts.draw_all(jobs, workers=2, progress=lambda done, total: seen.append((done, total)))
+    assert seen[-1] == (3, 3)  # nine charts, three different ones
+    here = charts.draw_all(jobs, workers=1)
+    assert pooled == here
+    assert pooled[0] == (True, charts.svg_body("torque_speed", ts))
+    assert pooled[2] == (False, "the torque–speed chart has no data")
+
+
+def test_html_report_is_the_same_with_charts_drawn_in_a_pool():
+    from rulecheck.report import html
+
+    result = sample.result(sample.conveyor(), sample.servo(), sample.hoist())
+    charts.POOL_MIN_CHARTS, before = 1, charts.POOL_MIN_CHARTS
+    try:
+        assert html.render(result, jobs=2) == html.render(result, jobs=1)
+    finally:
+        charts.POOL_MIN_CHARTS = before
