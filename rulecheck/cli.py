@@ -222,9 +222,24 @@ def _report_page_options(parser: argparse.ArgumentParser) -> None:
 
 
 def _page_meta(args: argparse.Namespace) -> dict[str, Any]:
-    return {"paper": getattr(args, "paper", None), "project": getattr(args, "project", None),
-            "revision": getattr(args, "revision", None), "reviewer": getattr(args, "reviewer", None),
+    """Return the printed report's page header and paper: the command line's, else the configuration's
+    ``report:`` section (the configuration named with --config, or found from the first path)."""
+    given = {k: getattr(args, k, None) for k in ("paper", "project", "revision", "reviewer")}
+    defaults = _report_config(args) if None in given.values() else {}
+    return {**{k: v if v is not None else defaults.get(k) for k, v in given.items()},
             "date": getattr(args, "report_date", None)}
+
+
+def _report_config(args: argparse.Namespace) -> dict[str, str]:
+    from rulecheck.config import ConfigError, discover, read_config
+
+    paths = [p for p in (getattr(args, "paths", None) or []) if p != "-"]
+    named = getattr(args, "config", None)
+    try:
+        found = Path(named) if named else discover(Path(paths[0]) if paths else Path.cwd())
+        return read_config(found, explicit=bool(named)).report if found else {}
+    except (ConfigError, OSError):
+        return {}  # the run has already reported a configuration it cannot read
 
 
 def _mail_size_options(parser: argparse.ArgumentParser) -> None:
