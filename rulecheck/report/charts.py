@@ -304,7 +304,7 @@ def _describe_torque_speed(d: _TorqueSpeed) -> ChartText:
     return ChartText(
         "torque_speed",
         "Torque–speed plane: motor capability against the load",
-        "Torque against shaft speed: " + "; ".join(words) + ".",
+        "Torque against speed at the motor shaft: " + "; ".join(words) + ".",
         ["series", f"speed ({su})", f"torque ({tu})"],
         rows[:MAX_TABLE_ROWS],
         note,
