@@ -700,14 +700,17 @@ def _draw_back_emf(fig: Any, d: _BackEmf) -> None:
         ax.plot(d.n, d.rect, color=_ACCENT, linestyle="--", linewidth=1.6, marker="s", markersize=3.5,
                 label="Rectified peak (into DC bus)" + (f", √2·E × {_fmt(d.factor)} (cold magnets)" if d.factor
                                                          else ""))
+    texts = []
     for level, style, width, text in ((d.available, ":", 1.4, "Available output voltage"),
                                       (d.trip, "-.", 2.2, "DC-bus trip level")):
         if level is None:
             continue
         ax.axhline(level, color=_GREY if style == ":" else _LOAD, linestyle=style, linewidth=width,
                    label=f"{text} {_fmt(level)} {d.volt.unit}")
-        ax.annotate(f"{text} {_fmt(level)} {d.volt.unit}", (0.01, level), xycoords=("axes fraction", "data"),
-                    textcoords="offset points", xytext=(0, 3), fontsize=7.5, color=_INK, parse_math=False)
+        texts.append(ax.annotate(f"{text} {_fmt(level)} {d.volt.unit}", (0.01, level),
+                                 xycoords=("axes fraction", "data"), textcoords="offset points", xytext=(0, 3),
+                                 fontsize=7.5, color=_INK, parse_math=False))
+        texts[-1].set_in_layout(False)
     ax.set_xlabel(f"Speed at motor shaft ({d.speed.unit})")
     ax.set_ylabel(f"Voltage ({d.volt.unit})")
     ax.set_title("Back-EMF and rectified peak against speed")
@@ -715,6 +718,7 @@ def _draw_back_emf(fig: Any, d: _BackEmf) -> None:
     ax.set_ylim(bottom=0.0, top=top * 1.12 if top > 0 else 1.0)
     ax.grid(True)
     ax.legend(loc="lower right")
+    _separate(fig, texts)
 
 
 _CHARTS = {

@@ -242,3 +242,10 @@ def test_html_report_is_the_same_with_charts_drawn_in_a_pool():
         assert html.render(result, jobs=2) == html.render(result, jobs=1)
     finally:
         charts.POOL_MIN_CHARTS = before
+
+
+def test_back_emf_level_labels_close_together_do_not_overlap():
+    # an available voltage and a trip level 1 % apart: their labels are placed apart by their drawn boxes
+    data = {"speed": [0, 1000, 2000], "emf_line_rms": [0, 300, 600], "available_voltage": 400, "dc_bus_trip": 404}
+    boxes = _text_boxes(charts.figure("back_emf", data))
+    assert len(boxes) == 2 and not boxes[0][1].overlaps(boxes[1][1]), boxes
