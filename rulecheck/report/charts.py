@@ -21,7 +21,7 @@ import math
 import re
 from collections.abc import Callable, Iterable, Mapping, Sequence
 from dataclasses import dataclass, field
-from typing import Any
+from typing import Any, Protocol
 
 from rulecheck.report.common import plain
 from rulecheck.units import QuantityError, format_value, parse_quantity
@@ -810,27 +810,53 @@ def _draw_one(job: DrawJob) -> tuple[bool, str]:
         return False, str(exc)
 
 
-def draw_all(jobs: Sequence[DrawJob], workers: int = 0,
-             progress: Callable[[int, int], None] | None = None) -> list[tuple[bool, str]]:
+class DrawingStore(Protocol):
+    """Where drawn charts are kept between runs, by their content (the command line gives the signed cache)."""
+
+    def get(self, content: str) -> str | None: ...
+
+    def put(self, content: str, svg: str) -> None: ...
+
+
+def draw_all(jobs: Sequence[DrawJob], workers: int = 0, progress: Callable[[int, int], None] | None = None,
+             store: DrawingStore | None = None) -> list[tuple[bool, str]]:
     """Draw many charts, in order: (True, SVG text) or (False, why it cannot be drawn) for each job.
 
-    Identical charts (same key, data, units and failing rules) are drawn once. With ``workers`` other than 1
-    and enough charts, they are drawn in a pool of forked processes (``workers`` 0: one per core), a few
-    charts per task; ``progress(done, total)`` is called as they come back."""
+    Identical charts (same key, data, units and failing rules) are drawn once, and not at all when ``store``
+    has them from an earlier run (it is given each new drawing). With ``workers`` other than 1 and enough
+    charts, they are drawn in a pool of forked processes (``workers`` 0: one per core), a few charts per
+    task; ``progress(done, total)`` is called as they come back."""
     import json
-    import multiprocessing
-    import os
-    from concurrent.futures import ProcessPoolExecutor
 
     unique: dict[str, int] = {}
     order: list[int] = []
     todo: list[DrawJob] = []
+    contents: list[str] = []
     for key, data, units, failing in jobs:
         content = json.dumps([key, data, units, sorted(failing)], sort_keys=True, default=str)
         if content not in unique:
             unique[content] = len(todo)
             todo.append((key, data, units, frozenset(failing)))
+            contents.append(content)
         order.append(unique[content])
+    kept = [store.get(c) if store is not None else None for c in contents]
+    missing = [k for k, svg in enumerate(kept) if svg is None]
+    fresh = _draw_many([todo[k] for k in missing], workers, progress)
+    for k, item in zip(missing, fresh, strict=True):
+        if item[0] and store is not None:
+            store.put(contents[k], item[1])
+    drawn = [(True, svg) if svg is not None else (False, "") for svg in kept]
+    for k, item in zip(missing, fresh, strict=True):
+        drawn[k] = item
+    return [drawn[i] for i in order]
+
+
+def _draw_many(todo: list[DrawJob], workers: int,
+               progress: Callable[[int, int], None] | None) -> list[tuple[bool, str]]:
+    import multiprocessing
+    import os
+    from concurrent.futures import ProcessPoolExecutor
+
     n = workers or os.cpu_count() or 1
     drawn: list[tuple[bool, str]] = []
     if n == 1 or len(todo) < POOL_MIN_CHARTS or "fork" not in multiprocessing.get_all_start_methods():
@@ -849,7 +875,7 @@ def draw_all(jobs: Sequence[DrawJob], workers: int = 0,
     finally:
         if pool is not None:
             pool.shutdown(cancel_futures=True)
-    return [drawn[i] for i in order]
+    return drawn
 
 
 def svg(key: str, data: Mapping[str, Any], units: str = "si", *, chart_id: str = "chart",

@@ -207,22 +207,24 @@ def _page_meta(meta: Mapping[str, Any] | None) -> dict[str, str]:
     return out
 
 
-def _draw(specs: list[Mapping[str, Any]], units: str, jobs: int,
-          progress: Callable[[int, int], None] | None) -> dict[tuple[int, str], tuple[bool, str]]:
+def _draw(specs: list[Mapping[str, Any]], units: str, jobs: int, progress: Callable[[int, int], None] | None,
+          store: charts.DrawingStore | None) -> dict[tuple[int, str], tuple[bool, str]]:
     """Draw every chart of the report beforehand, in a pool of processes (charts.draw_all)."""
     keys = [(i, key) for i, s in enumerate(specs, start=1) if isinstance(s, Mapping) for key in charts.available(s)]
     work = [(key, specs[i - 1]["charts"][key], units, charts.failing_rules(specs[i - 1])) for i, key in keys]
-    return dict(zip(keys, charts.draw_all(work, jobs, progress), strict=True))
+    return dict(zip(keys, charts.draw_all(work, jobs, progress, store), strict=True))
 
 
 def context(result: Mapping[str, Any], *, units: str = "si", charts: bool = True,
             image: ImageSource | None = None, meta: Mapping[str, Any] | None = None,
-            details: bool = True, jobs: int = 1, progress: Callable[[int, int], None] | None = None) -> dict[str, Any]:
+            details: bool = True, jobs: int = 1, progress: Callable[[int, int], None] | None = None,
+            store: charts.DrawingStore | None = None) -> dict[str, Any]:
     """Return the template context for ``result`` (plain strings, labels and chart markup).
 
     ``meta`` gives the page header (project, revision, reviewer, date) and the paper (``a4`` or ``letter``);
     ``details=False`` leaves out what only the full report carries (passes, derived values, chart data tables).
-    ``jobs``: processes drawing the charts (0: one per core); ``progress(done, total)`` as charts are drawn.
+    ``jobs``: processes drawing the charts (0: one per core); ``progress(done, total)`` as charts are drawn;
+    ``store``: charts drawn by earlier runs, by content (the signed cache).
     """
     if units not in UNITS_WORDS:
         raise ValueError(f"units must be 'si' or 'customary', not {units!r}")
@@ -230,7 +232,8 @@ def context(result: Mapping[str, Any], *, units: str = "si", charts: bool = True
     tool = result.get("tool") if isinstance(result.get("tool"), Mapping) else {}
     settings = result.get("settings") if isinstance(result.get("settings"), Mapping) else {}
     rules = _rules(result)
-    drawn = _draw(specs, units, jobs, progress) if charts and image is None and jobs != 1 else None
+    drawn = _draw(specs, units, jobs, progress, store) if charts and image is None and (
+        jobs != 1 or store is not None) else None
     views = [_spec_view(s, i, units, charts, image, rules, drawn) for i, s in enumerate(specs, start=1)]
     totals = {k: sum(v["counts"][k] for v in views) for k in common.counts({})}
     return {
@@ -257,17 +260,17 @@ def context(result: Mapping[str, Any], *, units: str = "si", charts: bool = True
 
 def render(result: dict, *, units: str = "si", charts: bool = True, image: ImageSource | None = None,
            meta: Mapping[str, Any] | None = None, details: bool = True, jobs: int = 1,
-           progress: Callable[[int, int], None] | None = None) -> str:
+           progress: Callable[[int, int], None] | None = None, store: charts.DrawingStore | None = None) -> str:
     """Return the whole HTML report for ``result`` as one self-contained document (text).
 
     ``units`` is ``"si"`` or ``"customary"``; ``charts=False`` leaves the charts
     out (their text equivalents too). ``image`` is for the e-mail builder: when
     given, charts become ``<img src=...>`` with the source it returns instead of
-    inline SVG. ``meta``, ``details``, ``jobs`` and ``progress``: see :func:`context`.
+    inline SVG. ``meta``, ``details``, ``jobs``, ``progress`` and ``store``: see :func:`context`.
     """
     return _environment().get_template("report.html").render(context(result, units=units, charts=charts,
                                                                      image=image, meta=meta, details=details,
-                                                                     jobs=jobs, progress=progress))
+                                                                     jobs=jobs, progress=progress, store=store))
 
 
 def render_summary(result: dict, *, units: str = "si", meta: Mapping[str, Any] | None = None) -> str:

@@ -249,3 +249,37 @@ def test_back_emf_level_labels_close_together_do_not_overlap():
     data = {"speed": [0, 1000, 2000], "emf_line_rms": [0, 300, 600], "available_voltage": 400, "dc_bus_trip": 404}
     boxes = _text_boxes(charts.figure("back_emf", data))
     assert len(boxes) == 2 and not boxes[0][1].overlaps(boxes[1][1]), boxes
+
+
+def test_drawings_kept_by_content_are_not_drawn_again():
+    class Store(dict):
+        def get(self, content):  # noqa: D401 - the DrawingStore protocol
+            return super().get(content)
+
+        def put(self, content, svg):
+            self[content] = svg
+
+    store = Store()
+    ts = sample.conveyor()["charts"]["torque_speed"]
+    jobs = [("torque_speed", ts, "si", frozenset()), ("torque_speed", {}, "si", frozenset())]
+    drawn = []
+    first = charts.draw_all(jobs, workers=1, progress=lambda d, t: drawn.append(t), store=store)
+    assert drawn == [2, 2] and len(store) == 1  # a chart that cannot be drawn is not kept
+    drawn.clear()
+    again = charts.draw_all(jobs, workers=1, progress=lambda d, t: drawn.append(t), store=store)
+    assert again == first and drawn == [1]  # only the undrawable one is tried again
+    # a different failing set is a different drawing
+    charts.draw_all([("torque_speed", ts, "si", frozenset({"torque-peak"}))], workers=1, store=store)
+    assert len(store) == 2
+
+
+def test_drawing_cache_entries_are_signed(tmp_path, monkeypatch):
+    from rulecheck.cache import ResultCache
+
+    monkeypatch.setenv("XDG_STATE_HOME", str(tmp_path / "state"))
+    cache = ResultCache(tmp_path / "cache")
+    cache.put_drawing("k" * 64, "<svg>drawn</svg>")
+    assert ResultCache(tmp_path / "cache").get_drawing("k" * 64) == "<svg>drawn</svg>"
+    for pack in (tmp_path / "cache").rglob("*.pack"):
+        pack.write_bytes(pack.read_bytes().replace(b"drawn", b"DRAWN"))
+    assert ResultCache(tmp_path / "cache").get_drawing("k" * 64) is None  # edited: counts as absent
