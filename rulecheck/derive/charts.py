@@ -306,4 +306,9 @@ def _back_emf(m: Model) -> dict[str, Any] | None:
     trip = m.get("drive.dc_bus_trip")
     if trip is not None:
         out["dc_bus_trip"] = _r(trip)
+        # where the rectified peak reaches the drawn trip level (the physics function pm-uncontrolled-generation
+        # uses for its safe speed); the report marks it when that rule fails
+        reach = mc.uncontrolled_generation_speed_limit(ke, trip, out["rectified_peak_factor"])
+        if 0.0 < reach <= top:
+            out["trip_crossing"] = {"speed": _r(reach * RPM), "voltage": _r(trip), "rule": "pm-uncontrolled-generation"}
     return out

@@ -637,6 +637,8 @@ class _BackEmf:
     available: float | None
     trip: float | None
     factor: float | None = None
+    crossing: _Point | None = None
+    failing: frozenset[str] = frozenset()
 
 
 def _back_emf(data: Mapping[str, Any], units: str, failing: frozenset[str] = frozenset()) -> _BackEmf:
@@ -654,12 +656,20 @@ def _back_emf(data: Mapping[str, Any], units: str, failing: frozenset[str] = fro
         raise ChartDataError("the back-EMF chart has no voltages")
     available = data.get("available_voltage")
     trip = data.get("dc_bus_trip")
+    crossing = None
+    c = data.get("trip_crossing")
+    if c is not None:
+        if not isinstance(c, Mapping):
+            raise ChartDataError("trip_crossing is not a point")
+        crossing = _Point(_num(c.get("speed"), "trip_crossing.speed") * sp.factor,
+                          _num(c.get("voltage"), "trip_crossing.voltage") * vu.factor, "", plain(c.get("rule"), 80))
     return _BackEmf(
         sp, vu, n[:MAX_PLOT_POINTS], emf[:MAX_PLOT_POINTS], rect[:MAX_PLOT_POINTS],
         None if available is None else _num(available, "available_voltage") * vu.factor,
         None if trip is None else _num(trip, "dc_bus_trip") * vu.factor,
         None if data.get("rectified_peak_factor") is None else _num(data["rectified_peak_factor"],
                                                                     "rectified_peak_factor"),
+        crossing, frozenset(failing),
     )
 
 
@@ -680,6 +690,9 @@ def _describe_back_emf(d: _BackEmf) -> ChartText:
     description = f"{top} {' and '.join(parts)}."
     if levels:
         description += " Reference levels: " + "; ".join(levels) + "."
+    if d.crossing is not None:
+        description += (f" The rectified peak reaches the DC-bus trip level at {_fmt(d.crossing.n)} {d.speed.unit}"
+                        + (f" (FAILS: {d.crossing.rule})." if d.crossing.rule in d.failing else "."))
     rows = []
     for i, n in enumerate(d.n[:MAX_TABLE_ROWS]):
         rows.append([_fmt(n), _fmt(d.emf[i]) if d.emf else "—", _fmt(d.rect[i]) if d.rect else "—"])
@@ -716,6 +729,15 @@ def _draw_back_emf(fig: Any, d: _BackEmf) -> None:
     ax.set_title("Back-EMF and rectified peak against speed")
     top = max([*d.emf, *d.rect, d.available or 0.0, d.trip or 0.0])
     ax.set_ylim(bottom=0.0, top=top * 1.12 if top > 0 else 1.0)
+    c = d.crossing
+    if c is not None:
+        fails = c.rule in d.failing
+        ax.plot([c.n], [c.t], linestyle="none", marker="X" if fails else "D", markersize=12 if fails else 6,
+                color=_FAIL if fails else "white", markeredgecolor=_LOAD, markeredgewidth=1.0,
+                label="Rectified peak reaches the trip level" + (": FAILS" if fails else ""))
+        texts += _annotate(ax, [(c.n, c.t, f"trip level reached at {_fmt(c.n)} {d.speed.unit}"
+                                 + (f"\nFAILS: {c.rule}" if fails else ""))], va="top")
+        texts[-1].xyann = (texts[-1].xyann[0], -10)
     ax.grid(True)
     ax.legend(loc="lower right")
     _separate(fig, texts)

@@ -212,3 +212,18 @@ def test_demo_hazards_come_only_from_failing_or_unchecked_safety_rules(demo):
     # every rule that passes, across the demo, raises nothing on its own
     passes = [{"tag": s["tag"], "outcomes": [o for o in s["outcomes"] if o["outcome"] == "pass"]} for s, _ in demo]
     assert cautions.select_hazards(passes) == []
+
+
+def test_back_emf_chart_marks_where_the_trip_level_is_reached(demo):
+    # SV-410: Ke = 607.5 V / 4500 r/min = 0.135 V per r/min (line RMS); the rectified peak √2 × 0.135 × n × 1.05
+    # reaches the 800 V trip at n = 800 / (√2 × 0.135 × 1.05) = 3990.8 r/min: the safe speed in
+    # pm-uncontrolled-generation's finding ("limit the reachable speed to below 3991 r/min"), which fails
+    spec, series = next(x for x in demo if x[0]["tag"] == "HR-SV-410")
+    rule = next(o for o in spec["outcomes"] if o["rule"] == "pm-uncontrolled-generation")
+    crossing = series["back_emf"]["trip_crossing"]
+    assert crossing["speed"] == pytest.approx(800 / (2 ** 0.5 * 0.135 * 1.05), abs=0.1)
+    assert crossing["speed"] == pytest.approx(rule["values"]["safe_speed"]["value"], rel=1e-4)
+    fig = charts.figure("back_emf", series["back_emf"], failing=charts.failing_rules(spec))
+    assert rule["outcome"] == "fail"
+    assert any(t.get_text().endswith("FAILS: pm-uncontrolled-generation") for t in fig.axes[0].texts)
+    assert [line.get_marker() for line in fig.axes[0].get_lines() if line.get_marker() in ("X", "D")] == ["X"]
