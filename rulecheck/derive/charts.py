@@ -274,6 +274,7 @@ def _duty(m: Model) -> dict[str, Any] | None:
     rms = rms if rms is not None else m.get("duty.rms_torque")
     if rms is not None:
         out["rms_torque"] = _r(rms)
+        out["rms_rule"] = "torque-rms-duty-cycle"  # the rule that judges it; the report marks it when it fails
     if m.get("motor.rated_torque") is not None:
         out["rated_torque"] = _r(m.get("motor.rated_torque"))
     return out

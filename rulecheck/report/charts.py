@@ -570,6 +570,7 @@ class _Duty:
     samples: list[tuple[float, float, float]]
     rms: float | None = None
     rated: float | None = None
+    rms_fails: str = ""  # the RMS rule's id when it failed in the result
 
 
 def _duty(data: Mapping[str, Any], units: str, failing: frozenset[str] = frozenset()) -> _Duty:
@@ -583,7 +584,8 @@ def _duty(data: Mapping[str, Any], units: str, failing: frozenset[str] = frozens
     samples = [(t * tm.factor, n * sp.factor, q * tq.factor) for t, n, q in raw]
     rms = _num(data["rms_torque"], "rms_torque") * tq.factor if data.get("rms_torque") is not None else None
     rated = _num(data["rated_torque"], "rated_torque") * tq.factor if data.get("rated_torque") is not None else None
-    return _Duty(tm, sp, tq, samples, rms, rated)
+    rule = plain(data.get("rms_rule"), 80)
+    return _Duty(tm, sp, tq, samples, rms, rated, rule if rule and rule in failing else "")
 
 
 def _describe_duty(d: _Duty) -> ChartText:
@@ -594,7 +596,8 @@ def _describe_duty(d: _Duty) -> ChartText:
         f"Duty cycle over {_fmt(s[-1][0] - s[0][0])} s in {len(s)} samples: speed {_fmt(min(speeds))} to "
         f"{_fmt(max(speeds))} {d.speed.unit}, torque {_fmt(min(torques))} to {_fmt(max(torques))} {d.torque.unit}"
         + (f"; RMS torque {_fmt(d.rms)} {d.torque.unit}" if d.rms is not None else "")
-        + (f"; motor rated torque {_fmt(d.rated)} {d.torque.unit}" if d.rated is not None else "") + "."
+        + (f"; motor rated torque {_fmt(d.rated)} {d.torque.unit}" if d.rated is not None else "")
+        + (f"; FAILS: {d.rms_fails}" if d.rms_fails else "") + "."
     )
     rows = [[_fmt(t), _fmt(n), _fmt(q)] for t, n, q in s[:MAX_TABLE_ROWS]]
     note = f"First {MAX_TABLE_ROWS} of {len(s)} samples shown." if len(s) > MAX_TABLE_ROWS else ""
@@ -619,6 +622,13 @@ def _draw_duty(fig: Any, d: _Duty) -> None:
         if level is not None:
             ax2.axhline(level, color=_INK, linewidth=1.2, linestyle=style,
                         label=f"{name} {_fmt(level)} {d.torque.unit}")
+    if d.rms is not None and d.rms_fails:
+        # the RMS line of a failing cycle: a cross at its end and the rule named, not colour alone
+        ax2.plot([t[-1]], [d.rms], linestyle="none", marker="X", markersize=12, color=_FAIL, markeredgecolor=_LOAD,
+                 markeredgewidth=0.8, label=f"RMS torque FAILS: {d.rms_fails}")
+        label = ax2.annotate(f"FAILS: {d.rms_fails}", (t[-1], d.rms), textcoords="offset points", xytext=(-10, 6),
+                             ha="right", va="bottom", fontsize=7.5, color=_LOAD, parse_math=False)
+        label.set_in_layout(False)
     if d.rms is not None or d.rated is not None:
         ax2.legend(loc="best", fontsize=7.5)
     ax2.set_ylabel(f"Torque at motor shaft ({d.torque.unit})")

@@ -283,3 +283,14 @@ def test_drawing_cache_entries_are_signed(tmp_path, monkeypatch):
     for pack in (tmp_path / "cache").rglob("*.pack"):
         pack.write_bytes(pack.read_bytes().replace(b"drawn", b"DRAWN"))
     assert ResultCache(tmp_path / "cache").get_drawing("k" * 64) is None  # edited: counts as absent
+
+
+def test_duty_chart_marks_a_failing_rms():
+    data = {**sample.conveyor()["charts"]["duty"], "rms_torque": 48.0, "rated_torque": 40.0,
+            "rms_rule": "torque-rms-duty-cycle"}
+    fig = charts.figure("duty", data, failing={"torque-rms-duty-cycle"})
+    assert [t.get_text() for t in fig.axes[1].texts] == ["FAILS: torque-rms-duty-cycle"]
+    assert [line.get_marker() for line in fig.axes[1].get_lines() if line.get_marker() == "X"] == ["X"]
+    text = charts.describe("duty", data, failing={"torque-rms-duty-cycle"})
+    assert "FAILS: torque-rms-duty-cycle" in text.description
+    assert not charts.figure("duty", data).axes[1].texts  # passing: no mark
