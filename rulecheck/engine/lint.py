@@ -212,8 +212,8 @@ def _fast_argument(kind_name: str, value: Any) -> None:
         raise Unsure("argument of another kind")
 
 
-@lru_cache(maxsize=4)
-def _lint_environment(take_first: bool | None = True, fast: bool = False, guards: bool = False) -> Any:
+@lru_cache(maxsize=8)  # every combination: an environment evicted would compile its texts again
+def _lint_environment(take_first: bool = True, fast: bool = False, guards: bool = False) -> Any:
     from rulecheck.physics import METHODS
 
     env = expr.environment({n: _dimensional_method(n, i, fast) for n, i in METHODS.items() if i.expose})
@@ -235,6 +235,8 @@ class _Lint:
         self.cache = cache if cache is not None else expr.CompileCache()
         self.links = links or {}
         self.users: dict[str, set[str]] = {}  # a path → the derived values computed from it directly
+        self._together: dict[str, list[set[str]]] = {}
+        self.compiled: dict[tuple[str, bool, bool, bool], Any] = {}
         for path, inputs in self.links.items():
             for source in inputs:
                 self.users.setdefault(source, set()).add(path)
@@ -272,6 +274,8 @@ class _Lint:
         a field with every value derived from it (a field the format requires in its section: the whole section);
         a derived value through each field it is computed from; a derived value of unknown inputs on its own.
         None for a field always given, or a value computed only from such fields."""
+        if path in self._together:
+            return self._together[path]
         fields = self.inputs(path)
         ways = []
         for field in sorted(fields) if fields else [path]:
@@ -280,6 +284,7 @@ class _Lint:
                 continue
             gone = {p for p in paths if p == absent or p.startswith(absent + ".")} | {field}
             ways.append(gone.union(*(self.dependents(p) for p in list(gone))))
+        self._together[path] = ways
         return ways
 
     def namespace(self, fast: bool) -> dict[str, Any]:
@@ -289,7 +294,12 @@ class _Lint:
         return sorted(_catalogue(self.derived))
 
     def compile(self, text: str, take_first: bool = True, fast: bool = False, guards: bool = False) -> Any:
-        return expr.compile_expression(_lint_environment(take_first, fast, guards), text, self.cache)
+        key = (text, take_first, fast, guards)
+        compiled = self.compiled.get(key)
+        if compiled is None:  # (the compile cache keeps sources; the message check evaluates a text many times)
+            compiled = self.compiled[key] = expr.compile_expression(_lint_environment(take_first, fast, guards), text,
+                                                                    self.cache)
+        return compiled
 
 
 def _error(rule: Rule, where: str, message: str) -> RuleError:
