@@ -292,3 +292,21 @@ def test_set_reaches_every_case_that_does_not_give_the_field(tmp_path: Path) -> 
     assert regen["loaded"]["values"]["p_req"]["value"] == pytest.approx(33480, rel=0.02)
     assert regen["empty"]["values"]["p_req"]["value"] == pytest.approx(5022, rel=0.02)
     assert spec["overrides"] == [{"path": "load.mass", "value": "20000 kg", "was": "12000 kg"}]
+
+
+@pytest.mark.parametrize(("cases", "path", "words"), [
+    ("{1: {load: {mass: 3000 kg}}}", "cases.1", "does not have the expected form"),
+    ("{a: null}", "cases.a", "expected a mapping"),
+    ("{a: [1]}", "cases.a", "expected a mapping"),
+    ("{a: {load: null}}", "cases.a.load", "expected a mapping"),
+    ("{a: {load: {duty: []}}}", "cases.a.load.duty", "at least 1"),
+    ("{a: {title: 5}}", "cases.a.title", "expected a quoted text"),
+    ("null", "cases", "expected a mapping"),
+])
+def test_malformed_cases_are_refused_at_their_path(ctx: CheckContext, tmp_path: Path, cases: str, path: str,
+                                                   words: str) -> None:
+    spec = _check(ctx, tmp_path, BASE + f"\ncases: {cases}\n")
+    assert spec["status"] == "invalid"
+    refused = [o for o in spec["outcomes"] if o["rule"] == "spec-schema" and o["outcome"] == "fail"]
+    assert [(o["location"]["path"], words in o["message"]) for o in refused] == [(path, True)], refused
+    assert not _of(spec, "internal-error")
