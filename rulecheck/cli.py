@@ -222,9 +222,24 @@ def _report_page_options(parser: argparse.ArgumentParser) -> None:
 
 
 def _page_meta(args: argparse.Namespace) -> dict[str, Any]:
-    return {"paper": getattr(args, "paper", None), "project": getattr(args, "project", None),
-            "revision": getattr(args, "revision", None), "reviewer": getattr(args, "reviewer", None),
+    """Return the printed report's page header and paper: the command line's, else the configuration's
+    ``report:`` section (the configuration named with --config, or found from the first path)."""
+    given = {k: getattr(args, k, None) for k in ("paper", "project", "revision", "reviewer")}
+    defaults = _report_config(args) if None in given.values() else {}
+    return {**{k: v if v is not None else defaults.get(k) for k, v in given.items()},
             "date": getattr(args, "report_date", None)}
+
+
+def _report_config(args: argparse.Namespace) -> dict[str, str]:
+    from rulecheck.config import ConfigError, discover, read_config
+
+    paths = [p for p in (getattr(args, "paths", None) or []) if p != "-"]
+    named = getattr(args, "config", None)
+    try:
+        found = Path(named) if named else discover(Path(paths[0]) if paths else Path.cwd())
+        return read_config(found, explicit=bool(named)).report if found else {}
+    except (ConfigError, OSError):
+        return {}  # the run has already reported a configuration it cannot read
 
 
 def _mail_size_options(parser: argparse.ArgumentParser) -> None:
@@ -246,8 +261,9 @@ def _speed_options(parser: argparse.ArgumentParser) -> None:
     parser.add_argument("--no-progress", action="store_true", help="never show a progress bar")
 
 
-def _progress(args: argparse.Namespace) -> Any:
-    """Return a progress callback for long runs on a terminal (never in CI logs or when piped)."""
+def _progress(args: argparse.Namespace, noun: str = "specs") -> Any:
+    """Return a progress callback for long runs on a terminal (never in CI logs or when piped); ``noun`` names
+    what is counted (specs checked, charts drawn)."""
     if (getattr(args, "no_progress", False) or getattr(args, "quiet", False) or not sys.stderr.isatty()
             or os.environ.get("CI")):
         return None
@@ -258,7 +274,7 @@ def _progress(args: argparse.Namespace) -> Any:
             return
         width = 30
         filled = width * done // total
-        sys.stderr.write(f"\r[{'#' * filled}{'.' * (width - filled)}] {done}/{total} specs")
+        sys.stderr.write(f"\r[{'#' * filled}{'.' * (width - filled)}] {done}/{total} {noun}")
         state["shown"] = True
         if done == total:
             sys.stderr.write("\r" + " " * (width + 30) + "\r")
@@ -409,12 +425,16 @@ def render(result: dict[str, Any], fmt: str, args: argparse.Namespace, charts: l
 
         draw = charts is not None and not getattr(args, "no_charts", False)
         view = with_charts(result, charts) if draw else result
+        # the charts are drawn in a pool of processes (as many as the run's workers), with a progress line
+        drawing = {"jobs": getattr(args, "jobs", 0) or 0, "progress": _progress(args, "charts drawn"),
+                   "store": _drawing_store(args) if draw else None}
         if fmt == "pdf":
             try:
-                return pdf.render(view, units=units, charts=draw, meta=_page_meta(args))  # type: ignore[return-value]
+                return pdf.render(view, units=units, charts=draw, meta=_page_meta(args),  # type: ignore[return-value]
+                                  **drawing)
             except pdf.PdfUnavailable as exc:
                 raise _Usage(str(exc)) from None
-        return html.render(view, units=units, charts=draw, meta=_page_meta(args))
+        return html.render(view, units=units, charts=draw, meta=_page_meta(args), **drawing)
     if fmt == "annotations":
         from rulecheck.report import annotations
 
@@ -523,6 +543,40 @@ def _run(args: argparse.Namespace, paths: list[str]) -> tuple[dict[str, Any], li
         return run_with_charts(_options(args, paths), progress=_progress(args))
     except UsageError as exc:
         raise _Usage(str(exc)) from None
+
+
+class _DrawingStore:
+    """Charts drawn by earlier runs, kept in the signed result cache under a digest of what they were drawn from,
+    the tool's code and matplotlib's version."""
+
+    def __init__(self, folder: str) -> None:
+        import matplotlib
+
+        from rulecheck.cache import ResultCache, code_digest
+
+        self.cache = ResultCache(Path(folder))
+        self.salt = f"drawing {code_digest()} matplotlib {matplotlib.__version__} "
+
+    def _key(self, content: str) -> str:
+        import hashlib
+
+        return hashlib.sha256((self.salt + content).encode()).hexdigest()
+
+    def get(self, content: str) -> str | None:
+        return self.cache.get_drawing(self._key(content))
+
+    def put(self, content: str, svg: str) -> None:
+        self.cache.put_drawing(self._key(content), svg)
+
+
+def _drawing_store(args: argparse.Namespace) -> _DrawingStore | None:
+    """Return the cache of drawn charts, or None with --no-cache (or a cache that cannot be used)."""
+    if getattr(args, "no_cache", False) or not hasattr(args, "cache_dir"):
+        return None
+    try:
+        return _DrawingStore(_cache_dir(args))
+    except OSError:
+        return None
 
 
 def _code_cache_dir(args: argparse.Namespace) -> str | None:

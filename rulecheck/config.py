@@ -26,7 +26,11 @@ from rulecheck.load import Limits, LoadError, load_file
 __all__ = ["CONFIG_NAME", "Config", "ConfigError", "discover", "read_config"]
 
 CONFIG_NAME = ".rulecheck.yaml"
-_KEYS = {"rule_paths", "disable", "severity", "parameters", "fail_on", "units", "limits"}
+_KEYS = {"rule_paths", "disable", "severity", "parameters", "fail_on", "units", "limits", "report"}
+# the printed report's page header and paper (``report:``); the command line's --paper, --project, --revision
+# and --reviewer override them
+REPORT_KEYS = ("paper", "project", "revision", "reviewer")
+_REPORT_TEXT_MAX = 200
 _SEVERITIES = {"error", "warning", "info"}
 # the highest a configuration may raise each loader limit: beyond these a hostile file could exhaust memory
 _LIMIT_CAPS = {"max_bytes": 16 * 1_048_576, "max_depth": 128, "max_nodes": 2_000_000, "max_seconds": 600}
@@ -59,6 +63,7 @@ class Config:
     units: str | None = None
     limits: Limits = field(default_factory=Limits)
     positions: dict[str, int] = field(default_factory=dict)
+    report: dict[str, str] = field(default_factory=dict)
 
     def line(self, key: str) -> int | None:
         """Return the line of a key path in the configuration file, when known."""
@@ -94,7 +99,30 @@ def _from_mapping(data: Any, file: str, root: Path, positions: dict[str, int], e
                               positions.get(key))
     cfg.fail_on, cfg.units = data.get("fail_on"), data.get("units")
     cfg.limits = _limits(data.get("limits") or {}, file, positions, explicit)
+    cfg.report = _report(data.get("report") or {}, file, positions)
     return cfg
+
+
+def _report(report: Any, file: str, positions: dict[str, int]) -> dict[str, str]:
+    """Return the ``report`` mapping (paper a4 or letter; project, revision, reviewer as one line of text)."""
+    if not isinstance(report, dict):
+        raise ConfigError(file, f"report must be a mapping of {', '.join(REPORT_KEYS)}", positions.get("report"))
+    out = {}
+    for key, value in report.items():
+        where = positions.get(f"report.{key}")
+        if key not in REPORT_KEYS:
+            raise ConfigError(file, f"report: unknown key {_shown(key)[:40]} (known: {', '.join(REPORT_KEYS)})",
+                              where)
+        if key == "paper":
+            if value not in ("a4", "letter"):
+                raise ConfigError(file, f"report.paper must be a4 or letter, not {_shown(value)}", where)
+        elif (not isinstance(value, (str, int, float)) or isinstance(value, bool)
+              or not 0 < len(str(value).strip()) <= _REPORT_TEXT_MAX
+              or any(ord(c) < 32 or 127 <= ord(c) < 160 for c in str(value))):
+            raise ConfigError(file, f"report.{key} must be one line of text of 1 to {_REPORT_TEXT_MAX} characters, "
+                              f"not {_shown(value)}", where)
+        out[key] = str(value).strip()
+    return out
 
 
 def _shown(value: Any) -> str:

@@ -78,9 +78,7 @@ def show_rule(rule_id: str, extra: list[str]) -> int:
         _say("computed:")
         for name, _c, text, _k in r.values:
             _say(f"  {name} = {text}")
-    _say("fails when (first that holds):")
-    for c in r.checks:
-        _say(f"  [{'not applicable' if c.not_applicable else c.severity}] {c.when_text}")
+    _print_checks(r)
     if r.params:
         _say("parameters (override in configuration or in the spec's 'margins'):")
         for p in r.params.values():
@@ -93,6 +91,17 @@ def show_rule(rule_id: str, extra: list[str]) -> int:
         _say(f"  {ex['outcome']}: {ex['name']}")
     _say(f"\nfile: {r.file}")
     return 0
+
+
+def _print_checks(r) -> None:  # type: ignore[no-untyped-def]
+    """Print the rule's checks in order, each with the spec key its finding points at when it has its own."""
+    if r.locations:
+        _say("points at: " + " or ".join(r.locations) + " (the first the spec gives)" * (len(r.locations) > 1))
+    _say("fails when (first that holds):")
+    for c in r.checks:
+        _say(f"  [{'not applicable' if c.not_applicable else c.severity}] {c.when_text}")
+        if c.location and not c.not_applicable:
+            _say("      points at: " + " or ".join(c.location))
 
 
 def _print_description(r) -> None:  # type: ignore[no-untyped-def]
@@ -126,8 +135,11 @@ def lint_folder(folder: str, strict: bool = False) -> int:
     shipped rules, so an id that repeats a shipped rule's is reported. A folder that is the shipped rules
     (the same folder, the same files, or a source tree's copy holding a file of every shipped rule's name,
     such as the repository's ``rules/`` while an installed copy exists) is linted on its own.
-    ``strict``: also reject a message that can show a value the rule does not need to reach it.
+    ``strict``: also reject a message, fix or pass message that can show a missing value where the rule still
+    ends in a fail or a pass (derived values followed to the inputs they are computed from).
     """
+    from rulecheck.authoring.requests import all_links as links
+
     path = Path(folder)
     if not path.is_dir():
         _say(f"rulecheck: {folder}: not a folder", file=sys.stderr)
@@ -143,7 +155,8 @@ def lint_folder(folder: str, strict: bool = False) -> int:
             continue
         if rule.id in BUILTIN_RULES:
             problems.append(RuleError(rule.file, f"rule id '{rule.id}' is the id of a built-in check"))
-        _kinds, found = lint_rule(rule, catalogue(), ruleset.compile_cache, messages=strict)
+        _kinds, found = lint_rule(rule, catalogue(), ruleset.compile_cache, messages=strict,
+                                  links=links() if strict else None)
         problems.extend(found)
         outcomes = {e["outcome"] for e in rule.examples}
         if "pass" not in outcomes or "fail" not in outcomes:

@@ -17,7 +17,7 @@ from typing import Any
 
 from rulecheck import units
 
-__all__ = ["component", "example", "inputs_of", "leaves", "unit_words", "words"]
+__all__ = ["all_links", "component", "example", "inputs_of", "leaves", "unit_words", "words"]
 
 
 @lru_cache(maxsize=32)
@@ -35,6 +35,29 @@ def _links(motor_kind: str, drive_kind: str, load_model: str) -> tuple[dict[str,
     plain, _values = _model_links(facts, candidates, examples, lists=False)
     with_lists, _values = _model_links(facts, candidates, examples, lists=True)
     return {**with_lists, **plain}, frozenset(candidates)
+
+
+# the kinds of drive train whose provenance ``all_links`` joins: every motor kind, starter and load model
+_MOTORS = ("induction", "pm-synchronous", "dc")
+_DRIVES = ("inverter", "dc-converter", "soft-starter", "direct-on-line")
+_LOADS = ("constant-torque", "quadratic", "constant-power", "conveyor", "hoist", "lead-screw")
+
+
+@lru_cache(maxsize=1)
+def all_links() -> dict[str, tuple[str, ...]]:
+    """Return every derived path → the paths it is computed from in any kind of drive train (the union of the
+    provenance links of each motor kind, starter and load model), for the strict rule lint."""
+    joined: dict[str, set[str]] = {}
+    for motor in _MOTORS:
+        for drive in _DRIVES:
+            for load in _LOADS:
+                try:
+                    links, _fields = _links(motor, drive, load)
+                except Exception:  # noqa: BLE001 - a combination whose example train does not build adds nothing
+                    continue
+                for path, inputs in links.items():
+                    joined.setdefault(path, set()).update(inputs)
+    return {path: tuple(sorted(inputs)) for path, inputs in sorted(joined.items())}
 
 
 def _follow(path: str, links: dict[str, tuple[str, ...]], fields: frozenset[str], known: Any,

@@ -18,7 +18,8 @@ from rulecheck.physics import machines as mc
 from rulecheck.physics import supply as sp
 
 __all__ = ["DOL_RUN_UP_END", "INTEGRATION_STEPS", "LOCKED_ROTOR_POWER_FACTOR", "RAMP_STEPS", "derive_starting",
-           "dol_motor_torque", "rotor_resistance_ratio", "soft_start_run_up"]
+           "dol_motor_torque", "dol_starting_curve", "rotor_resistance_ratio", "soft_start_limited_curve",
+           "soft_start_run_up"]
 
 # Power factor of an induction motor at locked rotor when the datasheet gives none (docs/references.md R13: 0.3–0.4, C).
 LOCKED_ROTOR_POWER_FACTOR = 0.35
@@ -224,13 +225,10 @@ def _acceleration(m: Model) -> None:
         inputs = ("train.inertia_total", "train.speed_max", "train.peak_torque_available", "train.load_torque")
         motor_fn = available
     elif drive in ("direct-on-line", None) and m.get("motor.kind") == "induction":
-        curve = _dol_curve(m)
-        if curve is None:
+        found = dol_starting_curve(m)
+        if found is None:
             return
-        # torque falls with the square of the terminal voltage, held at its locked-rotor dip throughout (the
-        # voltage recovers as the current falls near full speed: conservative); never raised above rated
-        u = min(m.get("train.starting_voltage", 1.0), 1.0)
-        motor_fn = (lambda w: u * u * curve(w)) if u < 1.0 else curve
+        motor_fn, u = found
         end = _run_up_end(m)
         method = "dol_acceleration_time"
         at = f"at U = {u:.3f}·U_N (the start's dip; torque ∝ U²)" if m.has("train.starting_voltage") else \
@@ -246,6 +244,29 @@ def _acceleration(m: Model) -> None:
        "net torque ≤ 0 during the run-up" if stalls else "net torque positive throughout the run-up")
     if not stalls:
         put(m, "train.acceleration_time", t, method, inputs, note)
+
+
+def dol_starting_curve(m: Model) -> tuple[Callable[[float], float], float] | None:
+    """Return the motor torque T(ω) [N*m] during a direct-on-line start and the voltage ratio U/U_N it is at, or
+    None without the data: the Kloss curve (:func:`dol_motor_torque`) × u², torque falling with the square of the
+    terminal voltage, held at the start's locked-rotor dip (``train.starting_voltage``) throughout (the voltage
+    recovers as the current falls near full speed: conservative) and never raised above rated. The run-up time
+    and the starting chart both use it."""
+    curve = _dol_curve(m)
+    if curve is None:
+        return None
+    u = min(m.get("train.starting_voltage", 1.0), 1.0)
+    return ((lambda w: u * u * curve(w)) if u < 1.0 else curve), u
+
+
+def soft_start_limited_curve(m: Model) -> Callable[[float], float] | None:
+    """Return the motor torque T(ω) [N*m] a soft starter allows at its current limit, min(T_lim(ω), T_m(ω)) (see
+    :class:`_SoftStart`), or None without the data: what the soft-start margin compares with the load, and what
+    the starting chart draws."""
+    found = _soft_start_voltages(m) if m.get("motor.kind") == "induction" else None
+    if found is None or _dol_curve(m) is None:
+        return None
+    return _SoftStart(m, found[0], 0.0, 0.0).at_limit
 
 
 def _dol_curve(m: Model) -> Callable[[float], float] | None:
@@ -383,6 +404,10 @@ class _SoftStart:
         rho = (1.0 + (self.r_ratio - 1.0) * (s - self.s_n) / (1.0 - self.s_n)) / self.r_ratio
         return self.t_start * rho / s
 
+    def at_limit(self, w: float) -> float:
+        """Torque [N*m] at the current limit, never above the full-voltage curve, at a speed [rad/s]."""
+        return min(self.limited(w), self.curve(w))
+
     def torque(self, t: float, w: float) -> float:
         u = min(self.u0 + (1.0 - self.u0) * t / self.ramp, 1.0) if self.ramp > 0 else 1.0
         full = self.curve(w)
@@ -441,7 +466,7 @@ def _soft_start_margin(m: Model, motor: _SoftStart, load: Callable[[float], floa
         w = top * k / INTEGRATION_STEPS
         need = breakaway if k == 0 else load(w)
         if need > 0.0:
-            ratios.append((min(motor.limited(w), motor.curve(w)) / need, w))
+            ratios.append((motor.at_limit(w) / need, w))
     if not ratios:
         return
     ratio, where = min(ratios)

@@ -100,6 +100,26 @@ def translate(tree: nodes.Node, env: Any, template: bool = False, branches: str 
     return Translation(source, names, bare)
 
 
+def _presence_test(node: nodes.Node) -> bool:
+    """Return whether a condition only tests whether values are present (``is defined``, ``is none``, joined by
+    ``and``, ``or``, ``not``): the lint of messages decides those as at run time."""
+    if isinstance(node, nodes.Test):
+        return node.name in ("defined", "undefined", "none")
+    if isinstance(node, (nodes.And, nodes.Or)):
+        return _presence_test(node.left) and _presence_test(node.right)
+    if isinstance(node, nodes.Not):
+        return _presence_test(node.node)
+    return False
+
+
+def _holds_presence_test(node: nodes.Node) -> bool:
+    """Return whether an ``and``/``or`` chain has a part that only tests presence."""
+    if isinstance(node, (nodes.And, nodes.Or)):
+        return any(_holds_presence_test(part) if type(part) is type(node) else _presence_test(part)
+                   for part in (node.left, node.right))
+    return _presence_test(node)
+
+
 class _Writer:
     def __init__(self, env: Any, branches: str | None, reserved: frozenset[str], sections: frozenset[str]) -> None:
         self.env = env
@@ -108,6 +128,9 @@ class _Writer:
         self.sections = sections
         self.reads: set[str] = set()  # the rule's own names read (anywhere but as a bare substitution)
         self.bare: set[str] = set()  # the rule's own names substituted as they are: {{ name }}
+        # lint of messages: a test of presence (is defined, is none) decides as at run time, since the lint's
+        # sample spec has exactly the values present that a spec would
+        self.guards = bool(getattr(env, "rule_guards", False))
 
     @staticmethod
     def constant(value: Any) -> str:
@@ -247,9 +270,23 @@ class _Writer:
         return f"_chain({left}{parts})"
 
     def _boolean(self, node: Any) -> str:
+        if self.branches is not None and self.guards and _holds_presence_test(node):
+            # lint of messages: every part evaluated (a missing one raises), but a presence test that settles the
+            # whole (false in an 'and', true in an 'or') stops it, as at run time
+            kind = type(node)
+            parts: list[nodes.Node] = []
+            todo = [node]
+            while todo:
+                item = todo.pop()
+                if type(item) is kind:
+                    todo += [item.right, item.left]
+                else:
+                    parts.append(item)
+            items = "".join(f"({_presence_test(part)!r}, lambda: {self.visit(part)}), " for part in parts)
+            return f"_settle({isinstance(node, nodes.Or)!r}, {items})"
         left, right = self.visit(node.left), self.visit(node.right)
-        if self.branches is not None:  # lint: both operands, for their dimensions
-            return f"(({left}), ({right}))[1]"
+        if self.branches is not None:  # lint: both operands, for their dimensions; a missing left one is used
+            return f"((_operand({left})), ({right}))[1]"  # (its truth is asked at run time)
         return f"({left} {'and' if isinstance(node, nodes.And) else 'or'} {right})"
 
     visit_And = visit_Or = _boolean
@@ -257,9 +294,14 @@ class _Writer:
     def visit_CondExpr(self, node: nodes.CondExpr) -> str:
         test, first = self.visit(node.test), self.visit(node.expr1)
         second = self.visit(node.expr2) if node.expr2 is not None else "_no_else()"
-        if self.branches is not None:  # lint: the test and one arm, chosen by the pass
+        if self.branches is not None and self.guards and not _presence_test(node.test) and \
+                isinstance(node.test, (nodes.And, nodes.Or)) and _holds_presence_test(node.test):
+            # lint of messages: a presence test that settles the condition chooses the arm, as at run time
+            return f"_choose(lambda: {test}, lambda: {first}, lambda: {second}, {self.branches == 'first'})"
+        if self.branches is not None and not (self.guards and _presence_test(node.test)):
+            # lint: the test (used, as at run time) and one arm, chosen by the pass
             chosen = first if self.branches == "first" or node.expr2 is None else second
-            return f"(({test}), ({chosen}))[1]"
+            return f"((_operand({test})), ({chosen}))[1]"
         return f"({first} if {test} else {second})"
 
     # --- calls, filters, tests ------------------------------------------------------------------------
@@ -490,7 +532,7 @@ _COMPARISONS = {"_eq": _eq, "_ne": _ne, "_lt": _lt, "_le": _le, "_gt": _gt, "_ge
 
 
 def _filters_and_tests(env: Any, missing_type: type) -> dict[str, Any]:
-    """Return ``_filter``, ``_test`` (the sandbox's own) and ``_no_else``."""
+    """Return ``_filter``, ``_test`` (the sandbox's own), ``_no_else`` and the lint's ``_operand``."""
     # filters and tests that take no jinja context are called directly; the others through jinja
     try:
         from jinja2.utils import _PassArg
@@ -515,4 +557,32 @@ def _filters_and_tests(env: Any, missing_type: type) -> dict[str, Any]:
     def _no_else() -> Any:
         return missing_type("the inline if-expression evaluated to false and no else section was defined.")
 
-    return {"_filter": _filter, "_test": _test, "_no_else": _no_else}
+    settled: list[bool] = []  # whether the last _settle stopped at a presence test (read by _choose)
+
+    def _settle(stop_on: bool, *items: Any) -> Any:
+        value: Any = not stop_on
+        settled[:] = [False]
+        for presence, part in items:
+            value = part()
+            if presence and bool(value) is stop_on:
+                settled[:] = [True]
+                return stop_on
+            _operand(value)
+        settled[:] = [False]
+        return value
+
+    def _choose(test: Any, first: Any, second: Any, take_first: bool) -> Any:
+        value = _operand(test())
+        if settled and settled[0]:
+            return first() if value else second()
+        return first() if take_first else second()
+
+    def _operand(value: Any) -> Any:
+        """Return a value whose truth the run would ask (lint: the test of ``and``, ``or``, ``if``); a missing
+        one raises, as its truth does at run time."""
+        if isinstance(value, missing_type):
+            value._fail_with_undefined_error()
+        return value
+
+    return {"_filter": _filter, "_test": _test, "_no_else": _no_else, "_operand": _operand, "_settle": _settle,
+            "_choose": _choose}

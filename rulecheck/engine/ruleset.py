@@ -89,6 +89,7 @@ class Check:
     position: Position | None
     fix: Any | None = None  # compiled template: this failure's own remedy (else the rule's)
     not_applicable: bool = False  # when ``when`` holds the rule does not apply; ``message`` says why
+    location: tuple[str, ...] = ()  # spec key paths this check's finding points at (first given wins; else the rule's)
 
 
 @dataclass
@@ -119,6 +120,7 @@ class Rule:
     raw: dict[str, Any] = field(repr=False, default_factory=dict)
     doc: Document | None = field(repr=False, default=None)
     scope: str = ""  # what the rule covers and what it leaves to other rules (for 'rules show')
+    locations: tuple[str, ...] = ()  # the rule's location candidates (``location`` is the first)
 
     @cached_property
     def expression_environment(self) -> Any:
@@ -336,8 +338,19 @@ def _checks(data: dict[str, Any], c: _Compiler) -> list[Check]:
             raise c.error(where, f"{where}: a check gives a severity (error, warning, info) "
                                  "or 'outcome: not-applicable'")
         checks.append(Check(c.expression(spec["when"], where + ".when"), spec["when"], spec.get("severity", "info"),
-                            message, c.doc.position(where + ".when"), fix, skip))
+                            message, c.doc.position(where + ".when"), fix, skip,
+                            location_paths(spec.get("location"), c, where + ".location")))
     return checks
+
+
+def location_paths(value: Any, c: _Compiler, where: str) -> tuple[str, ...]:
+    """Return a ``location`` as its candidate paths (a path, or a list of them; none when not given)."""
+    if value is None or value == "":
+        return ()
+    paths = (value,) if isinstance(value, str) else tuple(value) if isinstance(value, list) else None
+    if paths is None or not all(isinstance(p, str) and p for p in paths):  # (files not schema-checked)
+        raise c.error(where, f"{where}: a location is a spec key path or a list of them")
+    return paths
 
 
 def load_rule_file(path: Path, validate: bool = True, cache: expr.CompileCache | None = None) -> Rule:
@@ -355,6 +368,7 @@ def load_rule_file(path: Path, validate: bool = True, cache: expr.CompileCache |
     checks = _checks(data, c)
     applies_text = data.get("applies_when", "")
     applies = c.expression(applies_text, "applies_when") if applies_text else None
+    locations = location_paths(data.get("location"), c, "location")
     limit = data.get("limit")
     if limit and limit not in params and limit not in {v[0] for v in values}:
         raise c.error("limit", f"limit '{limit}' is neither a parameter nor a value")
@@ -377,12 +391,13 @@ def load_rule_file(path: Path, validate: bool = True, cache: expr.CompileCache |
         pass_message=c.optional_template(data, "pass_message", "pass_message"),
         fix=c.template(data["fix"], "fix"),
         formula=data.get("formula", ""),
-        location=data.get("location", ""),
+        location=locations[0] if locations else "",
         limit=data.get("limit", ""),
         examples=data["examples"],
         raw=data,
         doc=doc,
         scope=" ".join(str(data.get("scope", "")).split()),
+        locations=locations,
     )
 
 

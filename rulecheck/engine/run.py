@@ -14,7 +14,7 @@ from rulecheck.engine.expr import Missing, MissingInput
 from rulecheck.engine.ruleset import Rule
 from rulecheck.model import Model
 
-__all__ = ["Outcome", "Shown", "SpecNames", "evaluate_rule", "model_sections"]
+__all__ = ["Outcome", "Shown", "SpecNames", "evaluate_rule", "model_sections", "rule_location"]
 
 @dataclass(slots=True)
 class Outcome:
@@ -222,7 +222,7 @@ def evaluate_rule(rule: Rule, spec: SpecNames, params: dict[str, Any], system: s
             except MissingInput as exc:
                 _add_missing(missing, exc.paths)
                 return Outcome(rule.id, "not-checked", "warning" if rule.safety else "info",
-                               _not_checked_message(rule, spec, missing), rule.location,
+                               _not_checked_message(rule, spec, missing), rule_location(rule, spec.model),
                                values=shown_values, missing=missing, limit=limit)
             except expr.ExpressionError as exc:
                 raise _RuleError(_rule_error(rule, f"checks[{i}].when", check.when_text, exc)) from None
@@ -232,7 +232,8 @@ def evaluate_rule(rule: Rule, spec: SpecNames, params: dict[str, Any], system: s
         return exc.outcome
     # every check could be decided: values that no check needed may stay missing
     display = _display_names(rule, (rule.pass_message,), ns, params, shown_values, system)
-    return Outcome(rule.id, "pass", "info", _render(rule.pass_message, spec, system, display), rule.location,
+    return Outcome(rule.id, "pass", "info", _render(rule.pass_message, spec, system, display),
+                   rule_location(rule, spec.model),
                    values=shown_values, limit=limit)
 
 
@@ -293,8 +294,33 @@ def _failed(rule: Rule, check: Any, spec: SpecNames, ns: dict[str, Any], params:
                        values=shown_values)
     display = _display_names(rule, (message, fix), ns, params, shown_values, system)
     return Outcome(rule.id, "fail", _severity(rule, check.severity, severity_overrides or {}),
-                   _render(message, spec, system, display), rule.location,
+                   _render(message, spec, system, display), _check_location(rule, check, spec.model),
                    fix=_render(fix, spec, system, display), values=shown_values, limit=limit)
+
+
+def _given(model: Model, path: str) -> bool:
+    """Return whether the spec gives ``path`` (a value, a list, or a section holding a given value)."""
+    derivation = model.provenance.get(path)
+    if derivation is not None:
+        return derivation.source == "given"
+    if path in model.lists:
+        return True
+    prefix = path + "."
+    return any(p.startswith(prefix) and d.source == "given" for p, d in model.provenance.items())
+
+
+def rule_location(rule: Rule, model: Model) -> str:
+    """Return the spec key path the rule's findings point at: its first location candidate the spec gives,
+    else its first (whose nearest given parent the report then points at)."""
+    if len(rule.locations) > 1:
+        return next((p for p in rule.locations if _given(model, p)), rule.location)
+    return rule.location
+
+
+def _check_location(rule: Rule, check: Any, model: Model) -> str:
+    """Return the spec key path a failing check's finding points at: the first of the check's location
+    candidates the spec gives, else the rule's location."""
+    return next((p for p in check.location if _given(model, p)), None) or rule_location(rule, model)
 
 
 def _display_names(rule: Rule, templates: tuple[Any, ...], ns: dict[str, Any], params: dict[str, Any],

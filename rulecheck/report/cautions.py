@@ -39,6 +39,9 @@ class Hazard:
     rule_prefixes: tuple[str, ...] = ()
     rule_words: tuple[str, ...] = ()
     topic_words: tuple[str, ...] = ()
+    # rules whose applicability says the hazard's kind of load is there: where the spec's result has any of them
+    # and none applies (all not applicable), the hazard's wording does not fit this drive train and is not raised
+    only_where_applies: tuple[str, ...] = ()
 
 
 @dataclass
@@ -101,6 +104,16 @@ HAZARDS: tuple[Hazard, ...] = (
         rule_prefixes=("holding-brake",),
         rule_words=("hoist", "vertical", "holding", "overhaul", "suspended", "lift"),
         topic_words=("hoist", "holding", "vertical", "lifting"),
+        # hoists and declared vertical loads (their applies_when); a belt, fan or pump is never a suspended load
+        only_where_applies=("holding-brake-vertical", "hoist-overspeed-protection"),
+    ),
+    Hazard(
+        "runback",
+        "Runback and run-on of inclined conveyors",
+        "A loaded inclined belt runs back, and a declining one runs on, when its drive stops or trips unless a "
+        "backstop or a spring-applied brake holds it. Stop and secure the belt and its load mechanically before "
+        "maintenance; never rely on the drive to hold it.",
+        rule_words=("runback", "run-on"),
     ),
     Hazard(
         "pm-generation",
@@ -180,6 +193,13 @@ def _raises(outcome: Mapping[str, Any]) -> bool:
     return outcome.get("safety") is True and outcome.get("outcome") in RAISING_OUTCOMES
 
 
+def _fits(hazard: Hazard, every: list[Mapping[str, Any]]) -> bool:
+    """Return whether the hazard's kind of load is in the drive train: none of its ``only_where_applies`` rules
+    is in the result, or one of them applies (any outcome but not applicable)."""
+    gates = [o for o in every if o.get("rule") in hazard.only_where_applies]
+    return not gates or any(o.get("outcome") != "not-applicable" for o in gates)
+
+
 def select_hazards(specs: list[Mapping[str, Any]]) -> list[SelectedHazard]:
     """Return the hazards raised by the given specs' failing, waived or unchecked safety rules, in table order."""
     selected: dict[str, SelectedHazard] = {}
@@ -187,8 +207,11 @@ def select_hazards(specs: list[Mapping[str, Any]]) -> list[SelectedHazard]:
         if not isinstance(spec, Mapping):
             continue
         tag = plain(spec.get("tag"), 80) or plain(spec.get("file"), 120) or "(unnamed)"
-        outcomes = [o for o in (spec.get("outcomes") or []) if isinstance(o, Mapping) and _raises(o)]
+        every = [o for o in (spec.get("outcomes") or []) if isinstance(o, Mapping)]
+        outcomes = [o for o in every if _raises(o)]
         for hazard in HAZARDS:
+            if not _fits(hazard, every):
+                continue
             rules = [plain(o.get("rule"), 120) for o in outcomes if _matches(hazard, o)]
             if not rules:
                 continue

@@ -1,9 +1,12 @@
 """Charts for the reports: SVG text for HTML, PNG bytes for e-mail, and a text equivalent of each.
 
-Three charts are drawn from the ``charts`` part of a spec's result (see the
-result contract): the torque–speed plane (``torque_speed``), the duty cycle over
-time (``duty``) and the permanent-magnet back-EMF against the voltages it must
-stay under (``back_emf``). They plot the numbers given; nothing is computed.
+Four charts are drawn from the ``charts`` part of a spec's result (see the
+result contract): the torque–speed plane of a variable-speed drive train
+(``torque_speed``), the start of a direct-on-line or soft-starter drive train
+against its load (``starting``), the duty cycle over time (``duty``) and the
+permanent-magnet back-EMF against the voltages it must stay under (``back_emf``).
+They plot the numbers given; nothing is computed. A point whose rule failed in
+the result (``failing``) is crossed out and labelled "FAILS: <rule>".
 
 Each series differs by line style and marker as well as by shade, so the charts
 read in greyscale print. Drawing is deterministic: a fixed SVG hash salt, glyphs
@@ -16,16 +19,17 @@ from __future__ import annotations
 import io
 import math
 import re
-from collections.abc import Mapping, Sequence
+from collections.abc import Callable, Iterable, Mapping, Sequence
 from dataclasses import dataclass, field
-from typing import Any
+from typing import Any, Protocol
 
 from rulecheck.report.common import plain
 from rulecheck.units import QuantityError, format_value, parse_quantity
 
-__all__ = ["CHART_KEYS", "ChartDataError", "ChartText", "available", "describe", "figure", "png", "svg"]
+__all__ = ["CHART_KEYS", "ChartDataError", "ChartText", "DrawJob", "available", "describe", "draw_all", "failing_rules",
+           "figure", "png", "svg", "svg_body"]
 
-CHART_KEYS = ("torque_speed", "duty", "back_emf")
+CHART_KEYS = ("starting", "torque_speed", "duty", "back_emf")
 MAX_PLOT_POINTS = 4000  # more points than this add nothing visible at report size
 MAX_TABLE_ROWS = 24  # a text equivalent stays short enough to read aloud
 MAX_LABELS = 12  # annotations beyond this clutter the plane
@@ -34,6 +38,7 @@ _INK = "#1d2b36"
 _GREY = "#6b7680"
 _LOAD = "#000000"
 _ACCENT = "#7a4f12"
+_FAIL = "#b00020"  # failing points: also a large cross and a "FAILS" label, never colour alone
 _RC = {
     "svg.hashsalt": "rulecheck-charts",
     "svg.fonttype": "path",
@@ -170,12 +175,55 @@ class _TorqueSpeed:
     torque: _Axis
     cont: list[tuple[float, float]]
     peak: list[tuple[float, float]]
-    points: list[tuple[float, float, str]]
+    points: list[_Point]
     segments: list[tuple[float, float, float, str]]
     load: list[tuple[float, float]] = field(default_factory=list)
+    failing: frozenset[str] = frozenset()
+    braking: _Braking | None = None
+    crossings: list[_Point] = field(default_factory=list)
+
+    def fails(self, p: _Point) -> bool:
+        """Whether the rule that judges the point failed in this spec's result."""
+        return bool(p.rule) and p.rule in self.failing
 
 
-def _torque_speed(data: Mapping[str, Any], units: str) -> _TorqueSpeed:
+@dataclass
+class _Braking:
+    """The generating quadrant where the load overhauls: its load, the motor's capability there, the means."""
+
+    reverse_speed: bool  # a hoist lowering (speed < 0, torque > 0); else a downhill belt (speed > 0, torque < 0)
+    load: list[tuple[float, float]]
+    cont: list[tuple[float, float]]
+    peak: list[tuple[float, float]]
+    means: str
+    rule: str = ""
+
+
+def _braking(data: Any, conv: Any) -> _Braking | None:
+    if data is None:
+        return None
+    if not isinstance(data, Mapping):
+        raise ChartDataError("braking is not a mapping")
+    load = conv(_pairs(data.get("load") or [], "braking.load"))
+    if len(load) < 2:
+        raise ChartDataError("braking.load has fewer than two points")
+    return _Braking(data.get("quadrant") == "reverse-speed", load,
+                    conv(_pairs(data.get("motor_continuous") or [], "braking.motor_continuous")),
+                    conv(_pairs(data.get("motor_peak") or [], "braking.motor_peak")), plain(data.get("means"), 40),
+                    plain(data.get("rule"), 80))
+
+
+@dataclass(frozen=True)
+class _Point:
+    """An operating point: speed, torque, label and the rule that judges it ("" for none)."""
+
+    n: float
+    t: float
+    label: str
+    rule: str = ""
+
+
+def _torque_speed(data: Mapping[str, Any], units: str, failing: frozenset[str] = frozenset()) -> _TorqueSpeed:
     sp = _speed_axis(data.get("speed_unit"))
     tq = _quantity_axis(data.get("torque_unit"), "torque", "N*m", units)
 
@@ -188,8 +236,9 @@ def _torque_speed(data: Mapping[str, Any], units: str) -> _TorqueSpeed:
     for i, p in enumerate(data.get("load_points") or []):
         if not isinstance(p, Mapping):
             raise ChartDataError(f"load_points[{i}] is not a point")
-        points.append((_num(p.get("speed"), f"load_points[{i}].speed") * sp.factor,
-                       _num(p.get("torque"), f"load_points[{i}].torque") * tq.factor, plain(p.get("label"), 60)))
+        points.append(_Point(_num(p.get("speed"), f"load_points[{i}].speed") * sp.factor,
+                             _num(p.get("torque"), f"load_points[{i}].torque") * tq.factor, plain(p.get("label"), 60),
+                             plain(p.get("rule"), 80)))
     segments = []
     for i, s in enumerate(data.get("duty_segments") or []):
         if not isinstance(s, Mapping):
@@ -200,8 +249,15 @@ def _torque_speed(data: Mapping[str, Any], units: str) -> _TorqueSpeed:
     load = conv(_pairs(data.get("load_curve") or [], "load_curve"))
     if not (cont or peak or points or segments or load):
         raise ChartDataError("the torque–speed chart has no data")
+    crossings = []
+    for i, c in enumerate((data.get("continuous_crossings") or [])[:MAX_LABELS]):
+        if not isinstance(c, Mapping):
+            raise ChartDataError(f"continuous_crossings[{i}] is not a point")
+        n = _num(c.get("speed"), f"continuous_crossings[{i}].speed") * sp.factor
+        crossings.append(_Point(n, _num(c.get("torque"), f"continuous_crossings[{i}].torque") * tq.factor,
+                                f"load {plain(c.get('direction'), 20)} continuous capability at {_fmt(n)} {sp.unit}"))
     return _TorqueSpeed(sp, tq, cont, peak, points[:MAX_PLOT_POINTS], segments[:MAX_PLOT_POINTS],
-                        load[:MAX_PLOT_POINTS])
+                        load[:MAX_PLOT_POINTS], frozenset(failing), _braking(data.get("braking"), conv), crossings)
 
 
 def _describe_torque_speed(d: _TorqueSpeed) -> ChartText:
@@ -216,7 +272,17 @@ def _describe_torque_speed(d: _TorqueSpeed) -> ChartText:
         words.append(f"load {_fmt(d.load[0][1])} {tu} at {_fmt(d.load[0][0])} {su} to {_fmt(d.load[-1][1])} {tu} "
                      f"at {_fmt(d.load[-1][0])} {su} (load model across the speed range)")
     words.append(f"{len(d.points)} load operating point{'s' if len(d.points) != 1 else ''}")
+    for p in d.points:
+        if d.fails(p):
+            words.append(f"FAILS: {p.rule} at the {p.label} point, {_fmt(p.t)} {tu} at {_fmt(p.n)} {su}")
+    words += [c.label for c in d.crossings]
     words.append(f"{len(d.segments)} duty segment{'s' if len(d.segments) != 1 else ''}")
+    if d.braking:
+        b = d.braking
+        words.append(f"generating quadrant ({'lowering' if b.reverse_speed else 'overhauling'}): the load drives "
+                     f"the motor with {_fmt(abs(b.load[0][1]))} {tu} from {_fmt(b.load[0][0])} to "
+                     f"{_fmt(b.load[-1][0])} {su}, braking means: {b.means}"
+                     + (f" (FAILS: {b.rule})" if b.rule and b.rule in d.failing else ""))
     rows = []
     for n, t in d.cont:
         rows.append(["motor continuous", _fmt(n), _fmt(t)])
@@ -224,43 +290,125 @@ def _describe_torque_speed(d: _TorqueSpeed) -> ChartText:
         rows.append(["motor peak", _fmt(n), _fmt(t)])
     for n, t in d.load:
         rows.append(["load", _fmt(n), _fmt(t)])
-    for n, t, label in d.points:
-        rows.append([f"load point {label}".strip(), _fmt(n), _fmt(t)])
+    for p in d.points:
+        rows.append([f"load point {p.label}".strip() + (f" (FAILS: {p.rule})" if d.fails(p) else ""), _fmt(p.n),
+                     _fmt(p.t)])
     for n0, n1, t, label in d.segments:
         rows.append([f"duty segment {label}".strip(), f"{_fmt(n0)} to {_fmt(n1)}", _fmt(t)])
+    rows += [[c.label.split(" at ")[0], _fmt(c.n), _fmt(c.t)] for c in d.crossings]
+    if d.braking:
+        rows += [["load overhauling (braking)", _fmt(n), _fmt(t)] for n, t in d.braking.load]
+        rows += [["motor continuous, braking", _fmt(n), _fmt(t)] for n, t in d.braking.cont]
+        rows += [["motor peak, braking", _fmt(n), _fmt(t)] for n, t in d.braking.peak]
     note = f"First {MAX_TABLE_ROWS} of {len(rows)} rows shown." if len(rows) > MAX_TABLE_ROWS else ""
     return ChartText(
         "torque_speed",
         "Torque–speed plane: motor capability against the load",
-        "Torque against shaft speed: " + "; ".join(words) + ".",
+        "Torque against speed at the motor shaft: " + "; ".join(words) + ".",
         ["series", f"speed ({su})", f"torque ({tu})"],
         rows[:MAX_TABLE_ROWS],
         note,
         ["motor continuous: solid line, round markers",
          "motor peak (drive current limit included): dashed line, square markers",
          "load across the speed range: thick black line", "load operating points: black triangles",
+         "points whose rule fails: large crosses labelled FAILS with the rule",
+         "where the load meets the continuous capability: diamonds",
+         "generating quadrant where the load overhauls: hatched, labelled, with the load and capability there",
          "duty segments: dash-dot lines with cross ends"],
     )
 
 
-def _label_groups(points: list[tuple[float, float, str]], d: _TorqueSpeed) -> list[tuple[float, float, str]]:
-    """Return the point labels merged by speed: points within 15 % of the speed span share one label ("peak, RMS")
-    at the highest of them, so labels of points at (nearly) one speed cannot overlap."""
-    speeds = [n for n, _, _ in points] + [n for n, _ in d.cont] + [n for n, _ in d.peak] + [n for n, _ in d.load]
+def _label_groups(points: list[_Point], d: Any) -> list[tuple[float, float, str]]:
+    """Return the point labels merged: points within 15 % of the speed span and 8 % of the torque span of each other
+    share one label ("peak, RMS") at the highest of them, with a line "FAILS: <rule>" for each of their rules that
+    failed."""
+    curves = (d.cont, d.peak, d.load) if isinstance(d, _TorqueSpeed) else (d.during, d.full, d.load)
+    speeds = [p.n for p in points] + [n for curve in curves for n, _ in curve]
+    torques = [p.t for p in points] + [t for curve in curves for _, t in curve]
     span = (max(speeds) - min(speeds)) if speeds else 0.0
-    groups: list[list[tuple[float, float, str]]] = []
-    for p in sorted((p for p in points if p[2]), key=lambda p: p[0]):
-        if groups and p[0] - groups[-1][0][0] <= 0.15 * span:
-            groups[-1].append(p)
+    t_span = (max(torques) - min(torques)) if torques else 0.0
+    groups: list[list[_Point]] = []
+    for p in sorted((p for p in points if p.label or d.fails(p)), key=lambda p: (p.n, p.t)):
+        near = next((g for g in groups if p.n - g[0].n <= 0.15 * span and abs(p.t - g[0].t) <= 0.08 * t_span), None)
+        if near is not None:
+            near.append(p)
         else:
             groups.append([p])
     out = []
     for g in groups:
-        top = max(g, key=lambda p: p[1])
-        names = list(dict.fromkeys(_label(p[2]) for p in g))
+        top = max(g, key=lambda p: p.t)
+        names = list(dict.fromkeys(_label(p.label) for p in g if p.label))
         text = ", ".join(names[:3]) + (f" (+{len(names) - 3})" if len(names) > 3 else "")
-        out.append((top[0], top[1], text))
+        fails = list(dict.fromkeys(f"FAILS: {_label(p.rule, 60)}" for p in g if d.fails(p)))
+        out.append((top.n, top.t, "\n".join([x for x in (text, *fails) if x])))
     return out
+
+
+def _annotate(ax: Any, labels: list[tuple[float, float, str]], **style: Any) -> list[Any]:
+    """Write each label beside its point: to the right, or to the left in the right third of the plot."""
+    lo, hi = ax.get_xlim()
+    texts = []
+    for n, t, text in labels:
+        right = n > lo + 0.66 * (hi - lo)
+        texts.append(ax.annotate(text, (n, t), textcoords="offset points", xytext=(-6 if right else 6, 6),
+                                 ha="right" if right else "left", **{"va": "bottom", **style}, fontsize=7.5,
+                                 color=_LOAD, parse_math=False, annotation_clip=False))
+    for text in texts:
+        text.set_in_layout(False)  # labels never move the axes: they are placed after the layout
+    return texts
+
+
+def _separate(fig: Any, texts: list[Any]) -> None:
+    """Move labels apart so that no two overlap: each label in turn is shifted up or down by its own height, in
+    growing steps, until its box is clear of every label placed before it (a greedy placement: deterministic,
+    and the boxes are matplotlib's own, as drawn)."""
+    if len(texts) < 2:
+        return
+    from matplotlib.backends.backend_agg import FigureCanvasAgg
+
+    canvas = fig.canvas if isinstance(fig.canvas, FigureCanvasAgg) else FigureCanvasAgg(fig)
+    renderer = canvas.get_renderer()
+    fig.draw_without_rendering()  # the layout, so the boxes are where they will be drawn
+    placed: list[Any] = []
+    for text in texts:
+        x0, y0 = text.xyann
+        box = text.get_window_extent(renderer)
+        step = box.height * 72.0 / fig.dpi + 2.0  # in points, as the offset
+        for k in range(1, 41):
+            if not any(box.padded(2.0).overlaps(b) for b in placed):
+                break
+            text.xyann = (x0, y0 + (k + 1) // 2 * step * (-1 if k % 2 else 1))
+            box = text.get_window_extent(renderer)
+        placed.append(box)
+    # the layout is done and the labels are outside it: saving need not lay the figure out again (it costs as
+    # much as a drawing)
+    fig.set_layout_engine("none")
+
+
+def _draw_braking(ax: Any, b: _Braking, unit: str, fails: bool) -> list[Any]:
+    """Draw the generating quadrant: the load and the capability there (styles as motoring), the quadrant hatched
+    and labelled with the braking means; return the label to place apart from the others."""
+    for curve, style in ((b.cont, {"linestyle": "-", "linewidth": 1.8, "marker": "o", "markersize": 3.5}),
+                         (b.peak, {"linestyle": "--", "linewidth": 1.4, "marker": "s", "markersize": 3.5})):
+        if curve:
+            ax.plot(*zip(*_thin(curve), strict=True), color=_INK, **style)
+    ax.plot(*zip(*_thin(b.load), strict=True), color=_LOAD, linestyle="-", linewidth=2.6)
+    ax.autoscale_view()
+    (x0, x1), (y0, y1) = ax.get_xlim(), ax.get_ylim()
+    xs = (x0, 0.0) if b.reverse_speed else (0.0, x1)
+    ax.fill_between(xs, 0.0, y1 if b.reverse_speed else y0, facecolor="none", edgecolor=_GREY, hatch="//",
+                    linewidth=0.0, label="Generating quadrant: the load drives the motor")
+    ax.set_xlim(x0, x1)
+    ax.set_ylim(y0, y1)
+    n, t = b.load[len(b.load) // 2]
+    label = f"GENERATING: the load overhauls ({_fmt(abs(t))} {unit})\nbraking means: {b.means}"
+    text = ax.annotate(label + (f"\nFAILS: {b.rule}" if fails else ""),
+                       (n, t), textcoords="offset points", xytext=(0, -8 if b.reverse_speed else 8),
+                       ha="center", va="top" if b.reverse_speed else "bottom", fontsize=7.5, color=_LOAD,
+                       parse_math=False, annotation_clip=False,
+                       bbox={"boxstyle": "square,pad=0.2", "facecolor": "white", "edgecolor": "none", "alpha": 0.85})
+    text.set_in_layout(False)
+    return [text]
 
 
 def _draw_torque_speed(fig: Any, d: _TorqueSpeed) -> None:
@@ -277,20 +425,141 @@ def _draw_torque_speed(fig: Any, d: _TorqueSpeed) -> None:
         ax.plot([n0, n1], [t, t], color=_ACCENT, linestyle="-.", linewidth=1.3, marker="x", markersize=5,
                 label="Duty segments" if i == 0 else None)
     if d.points:
-        ax.plot([p[0] for p in d.points], [p[1] for p in d.points], linestyle="none", marker="^", markersize=7,
+        ax.plot([p.n for p in d.points], [p.t for p in d.points], linestyle="none", marker="^", markersize=7,
                 color=_LOAD, label="Load operating points")
-    labelled = [*d.points[:MAX_LABELS], *[((n0 + n1) / 2, t, label) for n0, n1, t, label in d.segments[:MAX_LABELS]]]
-    if labelled:
-        for k, (n, t, text) in enumerate(_label_groups(labelled, d)):
-            # one label per group of nearby points (never two labels over each other), alternately above and below
-            ax.annotate(text, (n, t), textcoords="offset points", xytext=(6, 7 if k % 2 == 0 else -13),
-                        fontsize=7.5, color=_LOAD, parse_math=False)
-    ax.set_xlabel(f"Shaft speed ({d.speed.unit})")
-    ax.set_ylabel(f"Torque ({d.torque.unit})")
-    ax.set_title("Torque–speed plane")
+    failed = [p for p in d.points if d.fails(p)]
+    if failed:
+        ax.plot([p.n for p in failed], [p.t for p in failed], linestyle="none", marker="X", markersize=12,
+                color=_FAIL, markeredgecolor=_LOAD, markeredgewidth=0.8, label="Point whose rule FAILS")
+    if d.crossings:
+        ax.plot([c.n for c in d.crossings], [c.t for c in d.crossings], linestyle="none", marker="D", markersize=6,
+                markerfacecolor="white", markeredgecolor=_LOAD, markeredgewidth=1.4,
+                label="Load meets continuous capability")
     ax.axhline(0.0, color=_GREY, linewidth=0.6)
+    texts = _draw_braking(ax, d.braking, d.torque.unit, d.braking.rule in d.failing) if d.braking else []
+    labelled = [*d.points[:MAX_LABELS],
+                *[_Point((n0 + n1) / 2, t, label) for n0, n1, t, label in d.segments[:MAX_LABELS]]]
+    texts += _annotate(ax, _label_groups(labelled, d)) if labelled else []
+    for c in d.crossings:  # below the load line, so the crossing's speed reads on its own
+        texts += _annotate(ax, [(c.n, c.t, f"load = continuous\n{_fmt(c.n)} {d.speed.unit}")], va="top")
+        texts[-1].xyann = (texts[-1].xyann[0], -8)
+    ax.set_xlabel(f"Speed at motor shaft ({d.speed.unit})")
+    ax.set_ylabel(f"Torque at motor shaft ({d.torque.unit})")
+    ax.set_title("Torque–speed plane")
     ax.grid(True)
-    ax.legend(loc="best")
+    fig.legend(loc="outside lower center", ncols=3)
+    _separate(fig, texts)
+
+
+@dataclass
+class _Starting:
+    speed: _Axis
+    torque: _Axis
+    method: str
+    full: list[tuple[float, float]]
+    during: list[tuple[float, float]]
+    load: list[tuple[float, float]]
+    points: list[_Point]
+    voltage: float | None
+    dip_counted: bool
+    run_up_end: float | None
+    rated: float | None
+    failing: frozenset[str] = frozenset()
+
+    def fails(self, p: _Point) -> bool:
+        return bool(p.rule) and p.rule in self.failing
+
+    def during_name(self) -> str:
+        if self.method == "soft-starter":
+            return "Motor at the soft starter's current limit"
+        if self.voltage is not None and self.dip_counted:
+            return f"Motor at {_fmt(self.voltage * 100)} % voltage (torque ∝ U²)"
+        return "Motor at full voltage (dip not counted)"
+
+
+def _starting(data: Mapping[str, Any], units: str, failing: frozenset[str] = frozenset()) -> _Starting:
+    sp = _speed_axis(data.get("speed_unit"))
+    tq = _quantity_axis(data.get("torque_unit"), "torque", "N*m", units)
+
+    def conv(key: str) -> list[tuple[float, float]]:
+        return [(n * sp.factor, t * tq.factor) for n, t in _pairs(data.get(key) or [], key)][:MAX_PLOT_POINTS]
+
+    full, during, load = conv("motor_full_voltage"), conv("motor_starting"), conv("load_curve")
+    if len(during) < 2 or len(load) < 2:
+        raise ChartDataError("the starting chart needs the motor's starting curve and the load curve")
+    points = []
+    for i, p in enumerate(data.get("load_points") or []):
+        if not isinstance(p, Mapping):
+            raise ChartDataError(f"load_points[{i}] is not a point")
+        points.append(_Point(_num(p.get("speed"), f"load_points[{i}].speed") * sp.factor,
+                             _num(p.get("torque"), f"load_points[{i}].torque") * tq.factor, plain(p.get("label"), 60),
+                             plain(p.get("rule"), 80)))
+    method = "soft-starter" if data.get("method") == "soft-starter" else "direct-on-line"
+
+    def opt(key: str, factor: float) -> float | None:
+        return None if data.get(key) is None else _num(data[key], key) * factor
+
+    return _Starting(sp, tq, method, full, during, load, points[:MAX_LABELS], opt("voltage_ratio", 1.0),
+                     data.get("voltage_dip_counted") is True, opt("run_up_end", sp.factor),
+                     opt("rated_torque", tq.factor), frozenset(failing))
+
+
+def _describe_starting(d: _Starting) -> ChartText:
+    su, tu = d.speed.unit, d.torque.unit
+    how = "direct on line" if d.method == "direct-on-line" else "on a soft starter"
+    words = [f"{d.during_name().lower()}: {_fmt(d.during[0][1])} {tu} at standstill",
+             f"load {_fmt(d.load[0][1])} {tu} at standstill (breakaway) to {_fmt(d.load[-1][1])} {tu} at "
+             f"{_fmt(d.load[-1][0])} {su}"]
+    if d.full:
+        words.append(f"full-voltage curve {_fmt(d.full[0][1])} {tu} at standstill, up to "
+                     f"{_fmt(max(t for _, t in d.full))} {tu}")
+    for p in d.points:
+        if d.fails(p):
+            words.append(f"FAILS: {p.rule} at the {p.label} point, {_fmt(p.t)} {tu}")
+    rows = [["motor during the start", _fmt(n), _fmt(t)] for n, t in d.during]
+    rows += [["motor at full voltage", _fmt(n), _fmt(t)] for n, t in d.full]
+    rows += [["load", _fmt(n), _fmt(t)] for n, t in d.load]
+    rows += [[f"point {p.label}" + (f" (FAILS: {p.rule})" if d.fails(p) else ""), _fmt(p.n), _fmt(p.t)]
+             for p in d.points]
+    note = f"First {MAX_TABLE_ROWS} of {len(rows)} rows shown." if len(rows) > MAX_TABLE_ROWS else ""
+    return ChartText("starting", f"Starting {how}: motor torque during the start against the load",
+                     f"Torque against speed at the motor shaft, starting {how}: " + "; ".join(words) + ".",
+                     ["series", f"speed ({su})", f"torque ({tu})"], rows[:MAX_TABLE_ROWS], note,
+                     ["motor during the start: solid line, round markers",
+                      "motor at full voltage: dotted grey line", "load from breakaway: thick black line",
+                      "end of the run-up: dashed vertical line",
+                      "points whose rule fails: large crosses labelled FAILS"])
+
+
+def _draw_starting(fig: Any, d: _Starting) -> None:
+    ax = fig.add_subplot(1, 1, 1)
+    if d.full:
+        ax.plot(*zip(*_thin(d.full), strict=True), color=_GREY, linestyle=":", linewidth=1.4,
+                label="Motor at full voltage")
+    ax.plot(*zip(*_thin(d.during), strict=True), color=_INK, linestyle="-", linewidth=1.8, marker="o",
+            markersize=3, label=d.during_name())
+    ax.plot(*zip(*_thin(d.load), strict=True), color=_LOAD, linestyle="-", linewidth=2.6, label="Load")
+    if d.rated is not None:
+        ax.axhline(d.rated, color=_ACCENT, linestyle="-.", linewidth=1.1, label=f"Rated torque {_fmt(d.rated)} "
+                                                                                 f"{d.torque.unit}")
+    if d.run_up_end is not None:
+        ax.axvline(d.run_up_end, color=_GREY, linestyle="--", linewidth=1.0,
+                   label=f"End of the run-up {_fmt(d.run_up_end)} {d.speed.unit}")
+    if d.points:
+        ax.plot([p.n for p in d.points], [p.t for p in d.points], linestyle="none", marker="^", markersize=7,
+                color=_LOAD, label="Starting points")
+    failed = [p for p in d.points if d.fails(p)]
+    if failed:
+        ax.plot([p.n for p in failed], [p.t for p in failed], linestyle="none", marker="X", markersize=12,
+                color=_FAIL, markeredgecolor=_LOAD, markeredgewidth=0.8, label="Point whose rule FAILS")
+    ax.set_ylim(bottom=0.0)
+    texts = _annotate(ax, _label_groups(d.points, d))  # type: ignore[arg-type]
+    ax.set_xlabel(f"Speed at motor shaft ({d.speed.unit})")
+    ax.set_ylabel(f"Torque at motor shaft ({d.torque.unit})")
+    ax.set_title("Starting " + ("direct on line" if d.method == "direct-on-line" else "on a soft starter"))
+    ax.grid(True)
+    fig.legend(loc="outside lower center", ncols=3)
+    _separate(fig, texts)
 
 
 @dataclass
@@ -301,9 +570,10 @@ class _Duty:
     samples: list[tuple[float, float, float]]
     rms: float | None = None
     rated: float | None = None
+    rms_fails: str = ""  # the RMS rule's id when it failed in the result
 
 
-def _duty(data: Mapping[str, Any], units: str) -> _Duty:
+def _duty(data: Mapping[str, Any], units: str, failing: frozenset[str] = frozenset()) -> _Duty:
     tm = _quantity_axis(data.get("time_unit"), "time", "s", units)
     tm = _Axis("s", tm.factor)
     sp = _speed_axis(data.get("speed_unit"))
@@ -314,7 +584,8 @@ def _duty(data: Mapping[str, Any], units: str) -> _Duty:
     samples = [(t * tm.factor, n * sp.factor, q * tq.factor) for t, n, q in raw]
     rms = _num(data["rms_torque"], "rms_torque") * tq.factor if data.get("rms_torque") is not None else None
     rated = _num(data["rated_torque"], "rated_torque") * tq.factor if data.get("rated_torque") is not None else None
-    return _Duty(tm, sp, tq, samples, rms, rated)
+    rule = plain(data.get("rms_rule"), 80)
+    return _Duty(tm, sp, tq, samples, rms, rated, rule if rule and rule in failing else "")
 
 
 def _describe_duty(d: _Duty) -> ChartText:
@@ -325,7 +596,8 @@ def _describe_duty(d: _Duty) -> ChartText:
         f"Duty cycle over {_fmt(s[-1][0] - s[0][0])} s in {len(s)} samples: speed {_fmt(min(speeds))} to "
         f"{_fmt(max(speeds))} {d.speed.unit}, torque {_fmt(min(torques))} to {_fmt(max(torques))} {d.torque.unit}"
         + (f"; RMS torque {_fmt(d.rms)} {d.torque.unit}" if d.rms is not None else "")
-        + (f"; motor rated torque {_fmt(d.rated)} {d.torque.unit}" if d.rated is not None else "") + "."
+        + (f"; motor rated torque {_fmt(d.rated)} {d.torque.unit}" if d.rated is not None else "")
+        + (f"; FAILS: {d.rms_fails}" if d.rms_fails else "") + "."
     )
     rows = [[_fmt(t), _fmt(n), _fmt(q)] for t, n, q in s[:MAX_TABLE_ROWS]]
     note = f"First {MAX_TABLE_ROWS} of {len(s)} samples shown." if len(s) > MAX_TABLE_ROWS else ""
@@ -341,7 +613,7 @@ def _draw_duty(fig: Any, d: _Duty) -> None:
     marker = "o" if len(pts) <= 60 else None
     ax1, ax2 = fig.subplots(2, 1, sharex=True)
     ax1.plot(t, [p[1] for p in pts], color=_INK, linewidth=1.6, marker=marker, markersize=3)
-    ax1.set_ylabel(f"Speed ({d.speed.unit})")
+    ax1.set_ylabel(f"Speed at motor shaft ({d.speed.unit})")
     ax1.set_title("Duty cycle")
     ax1.grid(True)
     ax2.plot(t, [p[2] for p in pts], color=_ACCENT, linewidth=1.6, marker=marker, markersize=3)
@@ -350,9 +622,16 @@ def _draw_duty(fig: Any, d: _Duty) -> None:
         if level is not None:
             ax2.axhline(level, color=_INK, linewidth=1.2, linestyle=style,
                         label=f"{name} {_fmt(level)} {d.torque.unit}")
+    if d.rms is not None and d.rms_fails:
+        # the RMS line of a failing cycle: a cross at its end and the rule named, not colour alone
+        ax2.plot([t[-1]], [d.rms], linestyle="none", marker="X", markersize=12, color=_FAIL, markeredgecolor=_LOAD,
+                 markeredgewidth=0.8, label=f"RMS torque FAILS: {d.rms_fails}")
+        label = ax2.annotate(f"FAILS: {d.rms_fails}", (t[-1], d.rms), textcoords="offset points", xytext=(-10, 6),
+                             ha="right", va="bottom", fontsize=7.5, color=_LOAD, parse_math=False)
+        label.set_in_layout(False)
     if d.rms is not None or d.rated is not None:
         ax2.legend(loc="best", fontsize=7.5)
-    ax2.set_ylabel(f"Torque ({d.torque.unit})")
+    ax2.set_ylabel(f"Torque at motor shaft ({d.torque.unit})")
     ax2.set_xlabel("Time (s)")
     ax2.grid(True)
     fig.align_ylabels([ax1, ax2])
@@ -368,9 +647,11 @@ class _BackEmf:
     available: float | None
     trip: float | None
     factor: float | None = None
+    crossing: _Point | None = None
+    failing: frozenset[str] = frozenset()
 
 
-def _back_emf(data: Mapping[str, Any], units: str) -> _BackEmf:
+def _back_emf(data: Mapping[str, Any], units: str, failing: frozenset[str] = frozenset()) -> _BackEmf:
     sp = _speed_axis(data.get("speed_unit"))
     vu = _quantity_axis(data.get("voltage_unit"), "voltage", "V", units)
     n = [x * sp.factor for x in _series(data.get("speed") or [], "speed")]
@@ -385,12 +666,20 @@ def _back_emf(data: Mapping[str, Any], units: str) -> _BackEmf:
         raise ChartDataError("the back-EMF chart has no voltages")
     available = data.get("available_voltage")
     trip = data.get("dc_bus_trip")
+    crossing = None
+    c = data.get("trip_crossing")
+    if c is not None:
+        if not isinstance(c, Mapping):
+            raise ChartDataError("trip_crossing is not a point")
+        crossing = _Point(_num(c.get("speed"), "trip_crossing.speed") * sp.factor,
+                          _num(c.get("voltage"), "trip_crossing.voltage") * vu.factor, "", plain(c.get("rule"), 80))
     return _BackEmf(
         sp, vu, n[:MAX_PLOT_POINTS], emf[:MAX_PLOT_POINTS], rect[:MAX_PLOT_POINTS],
         None if available is None else _num(available, "available_voltage") * vu.factor,
         None if trip is None else _num(trip, "dc_bus_trip") * vu.factor,
         None if data.get("rectified_peak_factor") is None else _num(data["rectified_peak_factor"],
                                                                     "rectified_peak_factor"),
+        crossing, frozenset(failing),
     )
 
 
@@ -411,6 +700,9 @@ def _describe_back_emf(d: _BackEmf) -> ChartText:
     description = f"{top} {' and '.join(parts)}."
     if levels:
         description += " Reference levels: " + "; ".join(levels) + "."
+    if d.crossing is not None:
+        description += (f" The rectified peak reaches the DC-bus trip level at {_fmt(d.crossing.n)} {d.speed.unit}"
+                        + (f" (FAILS: {d.crossing.rule})." if d.crossing.rule in d.failing else "."))
     rows = []
     for i, n in enumerate(d.n[:MAX_TABLE_ROWS]):
         rows.append([_fmt(n), _fmt(d.emf[i]) if d.emf else "—", _fmt(d.rect[i]) if d.rect else "—"])
@@ -431,36 +723,50 @@ def _draw_back_emf(fig: Any, d: _BackEmf) -> None:
         ax.plot(d.n, d.rect, color=_ACCENT, linestyle="--", linewidth=1.6, marker="s", markersize=3.5,
                 label="Rectified peak (into DC bus)" + (f", √2·E × {_fmt(d.factor)} (cold magnets)" if d.factor
                                                          else ""))
+    texts = []
     for level, style, width, text in ((d.available, ":", 1.4, "Available output voltage"),
                                       (d.trip, "-.", 2.2, "DC-bus trip level")):
         if level is None:
             continue
         ax.axhline(level, color=_GREY if style == ":" else _LOAD, linestyle=style, linewidth=width,
                    label=f"{text} {_fmt(level)} {d.volt.unit}")
-        ax.annotate(f"{text} {_fmt(level)} {d.volt.unit}", (0.01, level), xycoords=("axes fraction", "data"),
-                    textcoords="offset points", xytext=(0, 3), fontsize=7.5, color=_INK, parse_math=False)
-    ax.set_xlabel(f"Shaft speed ({d.speed.unit})")
+        texts.append(ax.annotate(f"{text} {_fmt(level)} {d.volt.unit}", (0.01, level),
+                                 xycoords=("axes fraction", "data"), textcoords="offset points", xytext=(0, 3),
+                                 fontsize=7.5, color=_INK, parse_math=False))
+        texts[-1].set_in_layout(False)
+    ax.set_xlabel(f"Speed at motor shaft ({d.speed.unit})")
     ax.set_ylabel(f"Voltage ({d.volt.unit})")
     ax.set_title("Back-EMF and rectified peak against speed")
     top = max([*d.emf, *d.rect, d.available or 0.0, d.trip or 0.0])
     ax.set_ylim(bottom=0.0, top=top * 1.12 if top > 0 else 1.0)
+    c = d.crossing
+    if c is not None:
+        fails = c.rule in d.failing
+        ax.plot([c.n], [c.t], linestyle="none", marker="X" if fails else "D", markersize=12 if fails else 6,
+                color=_FAIL if fails else "white", markeredgecolor=_LOAD, markeredgewidth=1.0,
+                label="Rectified peak reaches the trip level" + (": FAILS" if fails else ""))
+        texts += _annotate(ax, [(c.n, c.t, f"trip level reached at {_fmt(c.n)} {d.speed.unit}"
+                                 + (f"\nFAILS: {c.rule}" if fails else ""))], va="top")
+        texts[-1].xyann = (texts[-1].xyann[0], -10)
     ax.grid(True)
     ax.legend(loc="lower right")
+    _separate(fig, texts)
 
 
 _CHARTS = {
+    "starting": (_starting, _describe_starting, _draw_starting, (7.0, 4.4)),
     "torque_speed": (_torque_speed, _describe_torque_speed, _draw_torque_speed, (7.0, 4.2)),
     "duty": (_duty, _describe_duty, _draw_duty, (7.0, 4.4)),
     "back_emf": (_back_emf, _describe_back_emf, _draw_back_emf, (7.0, 4.2)),
 }
 
 
-def _read(key: str, data: Any, units: str) -> Any:
+def _read(key: str, data: Any, units: str, failing: Iterable[str] = ()) -> Any:
     if key not in _CHARTS:
         raise ChartDataError(f"unknown chart {plain(key, 40)!r}")
     if not isinstance(data, Mapping):
         raise ChartDataError(f"the {key} chart data is not a mapping")
-    return _CHARTS[key][0](data, units)
+    return _CHARTS[key][0](data, units, frozenset(failing))
 
 
 def available(spec: Mapping[str, Any]) -> list[str]:
@@ -471,15 +777,26 @@ def available(spec: Mapping[str, Any]) -> list[str]:
     return [k for k in CHART_KEYS if isinstance(charts.get(k), Mapping)]
 
 
-def describe(key: str, data: Mapping[str, Any], units: str = "si") -> ChartText:
-    """Return the text equivalent of a chart; raises :class:`ChartDataError` for data that cannot be read."""
-    return _CHARTS[key][1](_read(key, data, units))
+def failing_rules(spec: Mapping[str, Any]) -> frozenset[str]:
+    """Return the ids of the rules that failed in a spec's result at error or warning level: the points they
+    judge are marked on the charts (the verdicts come from the result; nothing is judged here)."""
+    out = set()
+    for o in spec.get("outcomes") or []:
+        if isinstance(o, Mapping) and o.get("outcome") == "fail" and o.get("severity") in ("error", "warning"):
+            out.add(plain(o.get("rule"), 80))
+    return frozenset(out)
 
 
-def figure(key: str, data: Mapping[str, Any], units: str = "si") -> Any:
+def describe(key: str, data: Mapping[str, Any], units: str = "si", failing: Iterable[str] = ()) -> ChartText:
+    """Return the text equivalent of a chart; raises :class:`ChartDataError` for data that cannot be read.
+    ``failing``: the rules that failed (:func:`failing_rules`), whose points the chart marks."""
+    return _CHARTS[key][1](_read(key, data, units, failing))
+
+
+def figure(key: str, data: Mapping[str, Any], units: str = "si", failing: Iterable[str] = ()) -> Any:
     """Return the chart drawn on a matplotlib Figure (not saved): what :func:`svg` and :func:`png` write, and what
     a test measures (label bounding boxes)."""
-    parsed = _read(key, data, units)
+    parsed = _read(key, data, units, failing)
     import matplotlib
 
     matplotlib.use("Agg")
@@ -491,10 +808,10 @@ def figure(key: str, data: Mapping[str, Any], units: str = "si") -> Any:
     return fig
 
 
-def _figure(key: str, data: Mapping[str, Any], units: str, fmt: str, dpi: float) -> bytes:
+def _figure(key: str, data: Mapping[str, Any], units: str, fmt: str, dpi: float, failing: Iterable[str]) -> bytes:
     import matplotlib
 
-    fig = figure(key, data, units)
+    fig = figure(key, data, units, failing)
     with matplotlib.rc_context(_RC):
         buf = io.BytesIO()
         metadata = {"Date": None, "Creator": None, "Format": None, "Type": None} if fmt == "svg" else {
@@ -507,18 +824,106 @@ _ID = re.compile(r'\bid="([^"]+)"')
 _REF = re.compile(r'(href="#|url\(#)([^")]+)')
 
 
-def svg(key: str, data: Mapping[str, Any], units: str = "si", *, chart_id: str = "chart") -> str:
+def svg_body(key: str, data: Mapping[str, Any], units: str = "si", failing: Iterable[str] = ()) -> str:
+    """Return the chart drawn as SVG text (the costly part of :func:`svg`: matplotlib's drawing), to be made
+    inline-ready by :func:`svg` (``body=``); raises :class:`ChartDataError` for data that cannot be read."""
+    return _figure(key, data, units, "svg", 72, failing).decode("utf-8")
+
+
+# one chart to draw: (chart key, its data, units, the failing rules of its spec)
+DrawJob = tuple[str, Mapping[str, Any], str, frozenset[str]]
+POOL_MIN_CHARTS = 8  # fewer charts than this are drawn in this process: starting a pool costs more
+
+
+def _draw_one(job: DrawJob) -> tuple[bool, str]:
+    try:
+        return True, svg_body(*job)
+    except ChartDataError as exc:
+        return False, str(exc)
+
+
+class DrawingStore(Protocol):
+    """Where drawn charts are kept between runs, by their content (the command line gives the signed cache)."""
+
+    def get(self, content: str) -> str | None: ...
+
+    def put(self, content: str, svg: str) -> None: ...
+
+
+def draw_all(jobs: Sequence[DrawJob], workers: int = 0, progress: Callable[[int, int], None] | None = None,
+             store: DrawingStore | None = None) -> list[tuple[bool, str]]:
+    """Draw many charts, in order: (True, SVG text) or (False, why it cannot be drawn) for each job.
+
+    Identical charts (same key, data, units and failing rules) are drawn once, and not at all when ``store``
+    has them from an earlier run (it is given each new drawing). With ``workers`` other than 1 and enough
+    charts, they are drawn in a pool of forked processes (``workers`` 0: one per core), a few charts per
+    task; ``progress(done, total)`` is called as they come back."""
+    import json
+
+    unique: dict[str, int] = {}
+    order: list[int] = []
+    todo: list[DrawJob] = []
+    contents: list[str] = []
+    for key, data, units, failing in jobs:
+        content = json.dumps([key, data, units, sorted(failing)], sort_keys=True, default=str)
+        if content not in unique:
+            unique[content] = len(todo)
+            todo.append((key, data, units, frozenset(failing)))
+            contents.append(content)
+        order.append(unique[content])
+    kept = [store.get(c) if store is not None else None for c in contents]
+    missing = [k for k, svg in enumerate(kept) if svg is None]
+    fresh = _draw_many([todo[k] for k in missing], workers, progress)
+    for k, item in zip(missing, fresh, strict=True):
+        if item[0] and store is not None:
+            store.put(contents[k], item[1])
+    drawn = [(True, svg) if svg is not None else (False, "") for svg in kept]
+    for k, item in zip(missing, fresh, strict=True):
+        drawn[k] = item
+    return [drawn[i] for i in order]
+
+
+def _draw_many(todo: list[DrawJob], workers: int,
+               progress: Callable[[int, int], None] | None) -> list[tuple[bool, str]]:
+    import multiprocessing
+    import os
+    from concurrent.futures import ProcessPoolExecutor
+
+    n = workers or os.cpu_count() or 1
+    drawn: list[tuple[bool, str]] = []
+    if n == 1 or len(todo) < POOL_MIN_CHARTS or "fork" not in multiprocessing.get_all_start_methods():
+        results: Iterable[tuple[bool, str]] = map(_draw_one, todo)
+        pool = None
+    else:
+        import matplotlib.figure  # noqa: F401 - imported once here, shared by the forked workers
+
+        pool = ProcessPoolExecutor(max_workers=min(n, len(todo)), mp_context=multiprocessing.get_context("fork"))
+        results = pool.map(_draw_one, todo, chunksize=max(1, min(8, len(todo) // (4 * n))))
+    try:
+        for done, item in enumerate(results, 1):
+            drawn.append(item)
+            if progress is not None:
+                progress(done, len(todo))
+    finally:
+        if pool is not None:
+            pool.shutdown(cancel_futures=True)
+    return drawn
+
+
+def svg(key: str, data: Mapping[str, Any], units: str = "si", *, chart_id: str = "chart",
+        failing: Iterable[str] = (), body: str | None = None) -> str:
     """Return the chart as an SVG element ready to inline in HTML, with ``<title>``/``<desc>`` from its text.
 
     Element ids are prefixed with ``chart_id`` so several charts can share one
     page; the XML prologue, comments, metadata and namespace declarations
-    (not needed inline in HTML) are removed.
+    (not needed inline in HTML) are removed. ``body``: the chart already drawn by
+    :func:`svg_body` or :func:`draw_all` for the same arguments.
     """
     from markupsafe import escape
 
     prefix = re.sub(r"[^A-Za-z0-9_-]", "-", chart_id)[:40] or "chart"
-    text = describe(key, data, units)
-    body = _figure(key, data, units, "svg", 72).decode("utf-8")
+    text = describe(key, data, units, failing)
+    body = body if body is not None else svg_body(key, data, units, failing)
     body = body[body.index("<svg"):]
     body = re.sub(r"<!--.*?-->", "", body, flags=re.S)
     body = re.sub(r"<metadata>.*?</metadata>", "", body, flags=re.S)
@@ -534,6 +939,7 @@ def svg(key: str, data: Mapping[str, Any], units: str = "si", *, chart_id: str =
     return re.sub(r">\s+<", "><", body).strip()
 
 
-def png(key: str, data: Mapping[str, Any], units: str = "si", *, dpi: float = 110) -> bytes:
+def png(key: str, data: Mapping[str, Any], units: str = "si", *, dpi: float = 110,
+        failing: Iterable[str] = ()) -> bytes:
     """Return the chart as PNG bytes (for inline images in e-mail)."""
-    return _figure(key, data, units, "png", dpi)
+    return _figure(key, data, units, "png", dpi, failing)

@@ -85,18 +85,28 @@ def _glance(c: Mapping[str, int], safety: int) -> list[tuple[str, str]]:
     ]
 
 
-def _chart_views(spec: Mapping[str, Any], number: int, units: str, image: ImageSource | None) -> list[dict]:
+# (spec number, chart key) -> (drawn, SVG text or why it cannot be drawn): charts drawn beforehand (charts.draw_all)
+Drawn = Mapping[tuple[int, str], tuple[bool, str]]
+
+
+def _chart_views(spec: Mapping[str, Any], number: int, units: str, image: ImageSource | None,
+                 drawn: Drawn | None = None) -> list[dict]:
     views = []
+    failing = charts.failing_rules(spec)
     for key in charts.available(spec):
         data = spec["charts"][key]
         view: dict[str, Any] = {"key": key, "svg": None, "src": None, "error": None, "text": None}
         try:
-            view["text"] = charts.describe(key, data, units)
+            view["text"] = charts.describe(key, data, units, failing)
             if image is not None:
                 view["src"] = image(number, key, data)
             else:
                 # our own drawing: charts.svg escapes the only spec text it writes (title and description)
-                view["svg"] = Markup(charts.svg(key, data, units, chart_id=f"dt{number}-{key}"))
+                ok, body = (drawn or {}).get((number, key), (True, None))  # type: ignore[assignment]
+                if not ok:
+                    raise charts.ChartDataError(body)
+                view["svg"] = Markup(charts.svg(key, data, units, chart_id=f"dt{number}-{key}", failing=failing,
+                                                body=body))
         except charts.ChartDataError as exc:
             view["error"] = str(exc)
         views.append(view)
@@ -146,7 +156,7 @@ def _severity_of(spec: Mapping[str, Any], row: Mapping[str, Any]) -> str:
 
 
 def _spec_view(spec: Mapping[str, Any], number: int, units: str, draw: bool, image: ImageSource | None,
-               rules: Mapping[str, Mapping[str, Any]]) -> dict:
+               rules: Mapping[str, Mapping[str, Any]], drawn: Drawn | None = None) -> dict:
     groups = common.group_outcomes(spec)
     c = common.counts(spec)
     safety = common.safety_errors(spec)
@@ -177,7 +187,7 @@ def _spec_view(spec: Mapping[str, Any], number: int, units: str, draw: bool, ima
         "passed": [_finding(o, units, rules) for o in groups.passed],
         "not_applicable": [_finding(o, units, rules) for o in groups.not_applicable],
         "derived": derived,
-        "charts": _chart_views(spec, number, units, image) if draw else [],
+        "charts": _chart_views(spec, number, units, image, drawn) if draw else [],
         "load_errors": [plain(e.get("message") if isinstance(e, Mapping) else e, 500) for e in errors],
         "cases": [(plain(k.get("name"), 40), plain(k.get("title"), 200), plain(k.get("verdict"), 20))
                   for k in spec.get("cases") or [] if isinstance(k, Mapping)],
@@ -200,13 +210,24 @@ def _page_meta(meta: Mapping[str, Any] | None) -> dict[str, str]:
     return out
 
 
+def _draw(specs: list[Mapping[str, Any]], units: str, jobs: int, progress: Callable[[int, int], None] | None,
+          store: charts.DrawingStore | None) -> dict[tuple[int, str], tuple[bool, str]]:
+    """Draw every chart of the report beforehand, in a pool of processes (charts.draw_all)."""
+    keys = [(i, key) for i, s in enumerate(specs, start=1) if isinstance(s, Mapping) for key in charts.available(s)]
+    work = [(key, specs[i - 1]["charts"][key], units, charts.failing_rules(specs[i - 1])) for i, key in keys]
+    return dict(zip(keys, charts.draw_all(work, jobs, progress, store), strict=True))
+
+
 def context(result: Mapping[str, Any], *, units: str = "si", charts: bool = True,
             image: ImageSource | None = None, meta: Mapping[str, Any] | None = None,
-            details: bool = True) -> dict[str, Any]:
+            details: bool = True, jobs: int = 1, progress: Callable[[int, int], None] | None = None,
+            store: charts.DrawingStore | None = None) -> dict[str, Any]:
     """Return the template context for ``result`` (plain strings, labels and chart markup).
 
     ``meta`` gives the page header (project, revision, reviewer, date) and the paper (``a4`` or ``letter``);
     ``details=False`` leaves out what only the full report carries (passes, derived values, chart data tables).
+    ``jobs``: processes drawing the charts (0: one per core); ``progress(done, total)`` as charts are drawn;
+    ``store``: charts drawn by earlier runs, by content (the signed cache).
     """
     if units not in UNITS_WORDS:
         raise ValueError(f"units must be 'si' or 'customary', not {units!r}")
@@ -214,7 +235,9 @@ def context(result: Mapping[str, Any], *, units: str = "si", charts: bool = True
     tool = result.get("tool") if isinstance(result.get("tool"), Mapping) else {}
     settings = result.get("settings") if isinstance(result.get("settings"), Mapping) else {}
     rules = _rules(result)
-    views = [_spec_view(s, i, units, charts, image, rules) for i, s in enumerate(specs, start=1)]
+    drawn = _draw(specs, units, jobs, progress, store) if charts and image is None and (
+        jobs != 1 or store is not None) else None
+    views = [_spec_view(s, i, units, charts, image, rules, drawn) for i, s in enumerate(specs, start=1)]
     totals = {k: sum(v["counts"][k] for v in views) for k in common.counts({})}
     return {
         "tool_name": plain(tool.get("name"), 40) or "rulecheck",
@@ -239,16 +262,18 @@ def context(result: Mapping[str, Any], *, units: str = "si", charts: bool = True
 
 
 def render(result: dict, *, units: str = "si", charts: bool = True, image: ImageSource | None = None,
-           meta: Mapping[str, Any] | None = None, details: bool = True) -> str:
+           meta: Mapping[str, Any] | None = None, details: bool = True, jobs: int = 1,
+           progress: Callable[[int, int], None] | None = None, store: charts.DrawingStore | None = None) -> str:
     """Return the whole HTML report for ``result`` as one self-contained document (text).
 
     ``units`` is ``"si"`` or ``"customary"``; ``charts=False`` leaves the charts
     out (their text equivalents too). ``image`` is for the e-mail builder: when
     given, charts become ``<img src=...>`` with the source it returns instead of
-    inline SVG. ``meta`` and ``details``: see :func:`context`.
+    inline SVG. ``meta``, ``details``, ``jobs``, ``progress`` and ``store``: see :func:`context`.
     """
     return _environment().get_template("report.html").render(context(result, units=units, charts=charts,
-                                                                     image=image, meta=meta, details=details))
+                                                                     image=image, meta=meta, details=details,
+                                                                     jobs=jobs, progress=progress, store=store))
 
 
 def render_summary(result: dict, *, units: str = "si", meta: Mapping[str, Any] | None = None) -> str:

@@ -46,10 +46,12 @@ def available() -> bool:
 
 
 def render(result: dict, *, units: str = "si", charts: bool = True, meta: Mapping[str, Any] | None = None,
-           details: bool = True) -> bytes:
-    """Return the report of ``result`` as PDF bytes (the HTML report's content on pages; see :mod:`html`)."""
+           details: bool = True, jobs: int = 1, progress: Any = None, store: Any = None) -> bytes:
+    """Return the report of ``result`` as PDF bytes (the HTML report's content on pages; see :mod:`html`;
+    ``jobs``, ``progress`` and ``store`` for drawing the charts, as there)."""
     weasyprint = _weasyprint()
-    text = html.render(result, units=units, charts=charts, meta=meta, details=details)
+    text = html.render(result, units=units, charts=charts, meta=meta, details=details, jobs=jobs, progress=progress,
+                       store=store)
     logging.getLogger("weasyprint").setLevel(logging.ERROR)
     logging.getLogger("fontTools").setLevel(logging.ERROR)
     document = weasyprint.HTML(string=text, base_url=None, url_fetcher=_no_fetch)

@@ -39,8 +39,8 @@ def _check(tmp_path: Path, text: str, *args: str) -> dict:
 def test_missing_inputs_are_named_not_the_values_derived_from_them(tmp_path: Path) -> None:
     # The motor cable's voltage drop, u = √3·I·L·(R'·cos φ + X'·sin φ) (IEC 60364-5-52 Annex G), needs the
     # motor's power factor; the peak torque the drive can give needs its overload current (rated current ×
-    # overload); the inertia ratio needs the motor's inertia. Those are the fields to ask for, not
-    # cable.voltage_drop, train.peak_torque_available, train.inertia_ratio.
+    # overload); the braking energy needs the motor's inertia. Those are the fields to ask for, not
+    # cable.voltage_drop, train.peak_torque_available, train.braking_energy.
     text = _without(SOUND.read_text(encoding="utf-8"), "motor.power_factor", "motor.inertia", "drive.overload")
     result = _check(tmp_path, text)
     schema = json.loads((ROOT / "rulecheck" / "schemas" / "result.schema.json").read_text(encoding="utf-8"))
@@ -48,7 +48,7 @@ def test_missing_inputs_are_named_not_the_values_derived_from_them(tmp_path: Pat
     spec = result["specs"][0]
     messages = {o["rule"]: o["message"] for o in spec["outcomes"] if o["outcome"] == "not-checked"}
     assert "give motor.power_factor (e.g. 0.86)" in messages["cable-voltage-drop"]
-    assert "give motor.inertia (e.g. 0.62 kg*m^2)" in messages["inertia-ratio"]
+    assert "give motor.inertia (e.g. 0.62 kg*m^2)" in messages["regen-braking-energy"]
     assert "drive.overload.current (e.g. 150 %)" in messages["torque-peak"]
     assert not any("could not derive" in m for m in messages.values()), messages
     asked = {e["path"]: e for e in spec["to_give"]["inputs"]}

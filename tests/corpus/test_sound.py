@@ -33,19 +33,7 @@ HAND_TOLERANCE = 0.005
 
 # spec file → (rule ids, reason): the false findings the current rules give it (numbers, issue point that fixes it).
 # Remove an entry when its fix lands: strict xfail then fails the test until the entry is gone.
-FALSE_ALARMS: dict[str, tuple[tuple[str, ...], str]] = {
-    "pr-x-202-extruder-dc.yaml": (
-        ("conductor-and-protection-sizing",),
-        "issue 17 NEC tables, disputed value: conductor-and-protection-sizing error, drive-to-motor conductors 150 A "
-        "< 1.25 × 123 A = 153.75 A with NEC Table 430.247 (75 hp, 500 V) as the tool holds it (123 A; the row scales "
-        "as the 240 V value 255 A × 240/500 = 122.4 A), where the spec's hand calculation reads 118 A (147.5 A ≤ "
-        "150 A). One of the two is wrong: settle it against the printed NFPA 70 2023 table"),
-    "tb-f-102-panel-cooling-fan.yaml": (
-        ("efficiency-class",),
-        "disputed hand value (issue 17, efficiency): the spec takes 73.0 % as the IE3 4-pole 0.37 kW minimum; the "
-        "IEC 60034-30-1 IE3 table (from memory) gives 77.3 % (IE2 72.7 %), so 75.5 % is IE2, not IE3: the tool's "
-        "error stands until the spec's class or efficiency is corrected"),
-}
+FALSE_ALARMS: dict[str, tuple[tuple[str, ...], str]] = {}
 
 # spec file → (derived paths, reason): values the current tool gets wrong against the hand calculation
 WRONG_DERIVATIONS: dict[str, tuple[tuple[str, ...], str]] = {

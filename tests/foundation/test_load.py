@@ -81,7 +81,7 @@ def test_alias_bomb_is_stopped_quickly() -> None:
     with pytest.raises(LoadError) as info:
         load_text("\n".join(lines) + "\n")
     assert "alias" in info.value.message
-    assert time.perf_counter() - start < 2.0  # a guard against expansion, not a benchmark
+    assert time.perf_counter() - start < 10.0  # a hang guard against expansion, not a benchmark
 
 
 def test_depth_and_size_limits() -> None:

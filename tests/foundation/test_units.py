@@ -156,7 +156,7 @@ def test_hostile_unit_strings_are_refused_quickly() -> None:
     for text in hostile:
         with pytest.raises(QuantityError):
             parse_quantity(text, "power")
-    assert time.perf_counter() - start < 1.0  # a guard against evaluation, not a benchmark: each is refused at once
+    assert time.perf_counter() - start < 10.0  # a hang guard, not a benchmark: each is refused at once
 
 
 def test_display() -> None:

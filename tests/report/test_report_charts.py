@@ -2,6 +2,7 @@
 
 from __future__ import annotations
 
+import itertools
 import re
 import time
 
@@ -74,13 +75,15 @@ def test_series_differ_by_line_style_or_marker_not_only_colour(key, spec):
 def test_duty_has_speed_and_torque_panels_with_units():
     fig = _figure("duty", sample.conveyor()["charts"]["duty"])
     labels = [ax.get_ylabel() for ax in fig.axes]
-    assert labels == ["Speed (r/min)", "Torque (N·m)"]
+    assert labels == ["Speed at motor shaft (r/min)", "Torque at motor shaft (N·m)"]
     assert fig.axes[1].get_xlabel() == "Time (s)"
 
 
 def test_axes_carry_units_and_customary_torque():
     fig = _figure("torque_speed", sample.conveyor()["charts"]["torque_speed"])
-    assert fig.axes[0].get_xlabel() == "Shaft speed (r/min)" and fig.axes[0].get_ylabel() == "Torque (N·m)"
+    # the axes name the shaft: every torque and speed on the charts is at the motor shaft
+    assert fig.axes[0].get_xlabel() == "Speed at motor shaft (r/min)"
+    assert fig.axes[0].get_ylabel() == "Torque at motor shaft (N·m)"
     text = charts.describe("torque_speed", sample.conveyor()["charts"]["torque_speed"], "customary")
     assert text.columns == ["series", "speed (r/min)", "torque (lbf·ft)"]
     # 110 N·m ÷ 1.3558179483314004 N·m per lbf·ft (lbf = 4.4482216152605 N, ft = 0.3048 m, NIST SP 811)
@@ -153,3 +156,141 @@ def test_available_lists_known_charts_in_order():
     assert charts.available(sample.servo()) == ["torque_speed", "back_emf"]
     assert charts.available({"charts": {"duty": {}, "mystery": {}}}) == ["duty"]
     assert charts.available({"charts": None}) == []
+
+
+def test_a_point_is_marked_failing_only_when_its_rule_failed_in_the_result():
+    # the verdict comes from the result (failing_rules), never from the chart data: the same data drawn with and
+    # without the failing rule differ by the cross and the "FAILS: <rule>" label, in the drawing and in the text
+    data = sample.conveyor()["charts"]["torque_speed"]
+    data["load_points"].append({"speed": 300, "torque": 60, "label": "continuous worst",
+                                "rule": "torque-margin-continuous"})
+
+    def marks(failing):
+        fig = charts.figure("torque_speed", data, failing=failing)
+        ax = fig.axes[0]
+        crosses = [line for line in ax.get_lines() if line.get_marker() == "X"]
+        labels = " | ".join(t.get_text() for t in ax.texts)
+        return crosses, labels, charts.describe("torque_speed", data, failing=failing)
+
+    crosses, labels, text = marks(())
+    assert not crosses and "FAILS" not in labels and "FAILS" not in text.description
+    crosses, labels, text = marks({"torque-margin-continuous"})
+    assert len(crosses) == 1 and list(crosses[0].get_xydata()[0]) == [300, 60]
+    assert "FAILS: torque-margin-continuous" in labels
+    assert "FAILS: torque-margin-continuous at the continuous worst point" in text.description
+    assert ["load point continuous worst (FAILS: torque-margin-continuous)", "300", "60"] in text.rows
+
+
+def test_failing_rules_reads_fails_at_error_or_warning_only():
+    spec = {"outcomes": [{"rule": "a", "outcome": "fail", "severity": "error"},
+                         {"rule": "b", "outcome": "fail", "severity": "warning"},
+                         {"rule": "c", "outcome": "fail", "severity": "info"},
+                         {"rule": "d", "outcome": "pass", "severity": "error"},
+                         {"rule": "e", "outcome": "waived", "severity": "error"}]}
+    assert charts.failing_rules(spec) == {"a", "b"}
+
+
+def test_starting_chart_without_its_curves_is_refused():
+    with pytest.raises(charts.ChartDataError, match="needs the motor's starting curve and the load curve"):
+        charts.describe("starting", {"motor_starting": [[0, 1]], "load_curve": [[0, 1], [10, 1]]})
+
+
+def _text_boxes(fig):
+    from matplotlib.backends.backend_agg import FigureCanvasAgg
+
+    canvas = FigureCanvasAgg(fig)
+    canvas.draw()
+    renderer = canvas.get_renderer()
+    return [(t.get_text(), t.get_window_extent(renderer)) for ax in fig.axes for t in ax.texts if t.get_text()]
+
+
+def test_crowded_labels_are_placed_apart():
+    # twelve labelled points in a small corner of the plane, three of them failing, and a crossing among them:
+    # matplotlib's own boxes of the drawn labels never overlap (the greedy placement in charts._separate)
+    data = sample.conveyor()["charts"]["torque_speed"]
+    data["load_points"] = [{"speed": 1000 + 40 * k, "torque": 50 + 3 * (k % 4), "label": f"point number {k}",
+                            "rule": f"rule-{k}"} for k in range(12)]
+    data["continuous_crossings"] = [{"speed": 1100, "torque": 52, "direction": "falls below"}]
+    fig = charts.figure("torque_speed", data, failing={"rule-1", "rule-5", "rule-9"})
+    boxes = _text_boxes(fig)
+    assert sum("FAILS" in text for text, _ in boxes) >= 1 and len(boxes) >= 3
+    for (ta, a), (tb, b) in itertools.combinations(boxes, 2):
+        assert not a.overlaps(b), (ta, tb)
+
+
+def test_charts_drawn_in_a_pool_are_the_ones_drawn_here():
+    # the pool (two forked processes) returns, in order, the same SVG as drawing in this process, identical
+    # charts drawn once, and a chart that cannot be drawn as its reason
+    ts, duty = sample.conveyor()["charts"]["torque_speed"], sample.conveyor()["charts"]["duty"]
+    jobs = [("torque_speed", ts, "si", frozenset()), ("duty", duty, "si", frozenset()),
+            ("torque_speed", {}, "si", frozenset())] * 3
+    seen = []
+    pooled = charts.draw_all(jobs, workers=2, progress=lambda done, total: seen.append((done, total)))
+    assert seen[-1] == (3, 3)  # nine charts, three different ones
+    here = charts.draw_all(jobs, workers=1)
+    assert pooled == here
+    assert pooled[0] == (True, charts.svg_body("torque_speed", ts))
+    assert pooled[2] == (False, "the torque–speed chart has no data")
+
+
+def test_html_report_is_the_same_with_charts_drawn_in_a_pool():
+    from rulecheck.report import html
+
+    result = sample.result(sample.conveyor(), sample.servo(), sample.hoist())
+    charts.POOL_MIN_CHARTS, before = 1, charts.POOL_MIN_CHARTS
+    try:
+        assert html.render(result, jobs=2) == html.render(result, jobs=1)
+    finally:
+        charts.POOL_MIN_CHARTS = before
+
+
+def test_back_emf_level_labels_close_together_do_not_overlap():
+    # an available voltage and a trip level 1 % apart: their labels are placed apart by their drawn boxes
+    data = {"speed": [0, 1000, 2000], "emf_line_rms": [0, 300, 600], "available_voltage": 400, "dc_bus_trip": 404}
+    boxes = _text_boxes(charts.figure("back_emf", data))
+    assert len(boxes) == 2 and not boxes[0][1].overlaps(boxes[1][1]), boxes
+
+
+def test_drawings_kept_by_content_are_not_drawn_again():
+    class Store(dict):
+        def get(self, content):  # noqa: D401 - the DrawingStore protocol
+            return super().get(content)
+
+        def put(self, content, svg):
+            self[content] = svg
+
+    store = Store()
+    ts = sample.conveyor()["charts"]["torque_speed"]
+    jobs = [("torque_speed", ts, "si", frozenset()), ("torque_speed", {}, "si", frozenset())]
+    drawn = []
+    first = charts.draw_all(jobs, workers=1, progress=lambda d, t: drawn.append(t), store=store)
+    assert drawn == [2, 2] and len(store) == 1  # a chart that cannot be drawn is not kept
+    drawn.clear()
+    again = charts.draw_all(jobs, workers=1, progress=lambda d, t: drawn.append(t), store=store)
+    assert again == first and drawn == [1]  # only the undrawable one is tried again
+    # a different failing set is a different drawing
+    charts.draw_all([("torque_speed", ts, "si", frozenset({"torque-peak"}))], workers=1, store=store)
+    assert len(store) == 2
+
+
+def test_drawing_cache_entries_are_signed(tmp_path, monkeypatch):
+    from rulecheck.cache import ResultCache
+
+    monkeypatch.setenv("XDG_STATE_HOME", str(tmp_path / "state"))
+    cache = ResultCache(tmp_path / "cache")
+    cache.put_drawing("k" * 64, "<svg>drawn</svg>")
+    assert ResultCache(tmp_path / "cache").get_drawing("k" * 64) == "<svg>drawn</svg>"
+    for pack in (tmp_path / "cache").rglob("*.pack"):
+        pack.write_bytes(pack.read_bytes().replace(b"drawn", b"DRAWN"))
+    assert ResultCache(tmp_path / "cache").get_drawing("k" * 64) is None  # edited: counts as absent
+
+
+def test_duty_chart_marks_a_failing_rms():
+    data = {**sample.conveyor()["charts"]["duty"], "rms_torque": 48.0, "rated_torque": 40.0,
+            "rms_rule": "torque-rms-duty-cycle"}
+    fig = charts.figure("duty", data, failing={"torque-rms-duty-cycle"})
+    assert [t.get_text() for t in fig.axes[1].texts] == ["FAILS: torque-rms-duty-cycle"]
+    assert [line.get_marker() for line in fig.axes[1].get_lines() if line.get_marker() == "X"] == ["X"]
+    text = charts.describe("duty", data, failing={"torque-rms-duty-cycle"})
+    assert "FAILS: torque-rms-duty-cycle" in text.description
+    assert not charts.figure("duty", data).axes[1].texts  # passing: no mark

@@ -143,3 +143,28 @@ def test_general_cautions_name_the_codes_as_examples():
     for words in ("NEC Article 430", "IEC 60364", "IEC 60204-1", "authority having jurisdiction", "licensed",
                   "arc-flash", "not an approval"):
         assert words in text, words
+
+
+def test_suspended_load_wording_only_where_a_load_hangs():
+    # a declining belt's regeneration failing (topic regeneration-holding) with the hoist rules not applicable:
+    # stored energy, never "nobody works under a suspended load"; the same failure on a hoist raises both
+    def spec(hoist: bool) -> dict:
+        gate = "fail" if hoist else "not-applicable"
+        return {"tag": "X", "outcomes": [
+            {"rule": "regen-braking-energy", "topic": "regeneration-holding", "outcome": "fail", "safety": True,
+             "severity": "error"},
+            {"rule": "holding-brake-vertical", "topic": "regeneration-holding", "outcome": gate, "safety": True,
+             "severity": "error" if hoist else "info"},
+            {"rule": "hoist-overspeed-protection", "topic": "regeneration-holding", "outcome": "not-applicable",
+             "safety": True, "severity": "info"}]}
+
+    assert _keys(spec(False)) == ["stored-energy"]
+    assert _keys(spec(True)) == ["suspended-load", "stored-energy"]
+
+
+def test_conveyor_runback_has_its_own_wording():
+    spec = {"outcomes": [{"rule": "conveyor-runback", "topic": "regeneration-holding", "outcome": "fail",
+                          "safety": True, "severity": "error"},
+                         {"rule": "holding-brake-vertical", "outcome": "not-applicable", "safety": True}]}
+    # its topic (regeneration-holding) also selects stored energy (a loaded incline stores it); never the hoist text
+    assert "runback" in _keys(spec) and "suspended-load" not in _keys(spec)

@@ -96,3 +96,17 @@ def test_demo_email_is_under_one_megabyte(tmp_path):
     data = eml.read_bytes()
     assert len(data) < 2**20, len(data)
     assert data.count(b"filename=") == 1 and b"application/pdf" in data
+
+
+def test_demo_pdf_pages_show_the_failing_crosses_where_the_captions_say_fails(demo_pdf):
+    # every page is rendered to an image; a page with the failing cross (report/charts.py _FAIL, #b00020, a
+    # solid fill) carries a chart caption naming the rule that FAILS, and the demo has at least three:
+    # CV-120 and F-610 (torque-margin-continuous) and M-710 (dol-starting)
+    doc = pdfium.PdfDocument(demo_pdf)
+    crossed = []
+    for i, page in enumerate(doc):
+        pixels = np.asarray(page.render(scale=1).to_pil().convert("RGB"), dtype=int).reshape(-1, 3)
+        if int((np.abs(pixels - (0xB0, 0x00, 0x20)) <= 25).all(axis=1).sum()) > 30:
+            crossed.append(i)
+            assert "FAILS:" in page.get_textpage().get_text_range(), i
+    assert len(crossed) >= 3, crossed

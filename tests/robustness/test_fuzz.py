@@ -20,7 +20,7 @@ from tests.robustness.specs import CONVEYOR, PUMP
 # A good spec checks in ~10 ms; 2 s per example leaves room for a loaded 2-core machine and still catches a hang.
 FUZZ = settings(max_examples=150, deadline=2000, suppress_health_check=[HealthCheck.too_slow,
                                                                          HealthCheck.function_scoped_fixture])
-BOUND_SECONDS = 2.0
+BOUND_SECONDS = 10.0  # a hang guard, not a benchmark (shared CI machines stall for seconds)
 
 BASES = [CONVEYOR, PUMP]
 UNITS = ["kW", "hp", "N*m", "r/min", "rpm", "Hz", "V", "A", "%", "kg*m^2", "degC", "K", "m/s", "s", "", "1/min",

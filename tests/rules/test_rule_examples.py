@@ -1,8 +1,9 @@
 """Every shipped rule's pass and fail examples, collected by one parametrised test.
 
 Adding a rule's cases needs no new Python: write them in the rule file's ``examples``.
-Each case asserts the rule id, the outcome, the severity and the computed values that
-decided it (within 1 % unless the example states its own tolerance).
+Each case asserts the rule id, the outcome, the severity, the computed values that
+decided it (within 1 % unless the example states its own tolerance) and, where it gives one,
+the spec key the finding points at.
 """
 
 from __future__ import annotations
@@ -45,3 +46,6 @@ def test_rule_example(rule, example) -> None:
         assert path in outcome["missing"], f"{path} not named among missing inputs {outcome['missing']}"
     if outcome["outcome"] == "fail":
         assert outcome["message"] and "(message" not in outcome["message"]
+        assert "(message" not in outcome["fix"], outcome["fix"]
+    if "location" in example:
+        assert outcome["location"]["path"] == example["location"], outcome["message"]
