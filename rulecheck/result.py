@@ -299,15 +299,27 @@ def requirements_of(outcomes: Iterable[Mapping[str, Any]]) -> list[dict[str, Any
     for o in outcomes:
         if o.get("outcome") in ("pass", "fail", "waived"):
             by_rule.setdefault(o["rule"], []).append(o)
+    # with load cases a rule has a finding per case: all its lines come from its worst case (a fail before a waived
+    # one before a pass, then the largest need of its first line), the first of equals in the stable order
+    worst = {rule: min(found, key=lambda o: (_OUTCOME_ORDER.get(o["outcome"], 9), -_first_need(rule, o)))
+             for rule, found in by_rule.items()}
     rows = []
     for req in REQUIREMENTS:
-        # with load cases a rule has a finding per case: the line is the worst case's (a fail before a waived one
-        # before a pass, then the largest need), the first of equals in the stable order
-        found = [row for o in by_rule.get(req.rule, ()) for row in [_requirement_row(req, o)] if row is not None]
-        if found:
-            rows.append(min(found, key=lambda r: (_OUTCOME_ORDER.get(r["outcome"], 9),
-                                                  -(_positive(r["needed"]) or 0.0))))
+        outcome = worst.get(req.rule)
+        row = _requirement_row(req, outcome) if outcome is not None else None
+        if row is not None:
+            rows.append(row)
     return rows
+
+
+def _first_need(rule: str, outcome: Mapping[str, Any]) -> float:
+    """Return the need of a rule's first requirements line that the outcome gives (0 when none)."""
+    values = outcome.get("values") or {}
+    for req in REQUIREMENTS:
+        need = _positive(values.get(req.needed)) if req.rule == rule else None
+        if need is not None:
+            return need
+    return 0.0
 
 
 # --- the tally -----------------------------------------------------------------------------------------

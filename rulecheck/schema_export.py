@@ -31,7 +31,9 @@ __all__ = ["SHIPPED", "editor_schema", "main", "quantity_pattern", "render", "un
 
 SHIPPED = Path(__file__).resolve().parent / "schemas" / "spec.schema.json"
 
-NUMBER = r"[+-]?(?:[0-9]+(?:\.[0-9]*)?|\.[0-9]+)(?:[eE][+-]?[0-9]{1,2})?"
+# the number ends where its digits end: a unit spelled with a leading digit ('1/min') never takes digits of the
+# number's exponent ('1E401/min' is the number 1E401, which the parser refuses, not 1E40 per minute)
+NUMBER = r"[+-]?(?:[0-9]+(?:\.[0-9]*)?|\.[0-9]+)(?:[eE][+-]?[0-9]{1,2})?(?![0-9])"
 # SI prefixes tried on SI unit symbols (each spelling kept only if the parser accepts it for the kind)
 _PREFIXES = ("G", "M", "k", "m", "µ", "u", "n")
 _SI_SYMBOLS = ("W", "VA", "J", "Wh", "Hz", "V", "A", "ohm", "Ω", "H", "F", "N", "m", "g")

@@ -110,6 +110,10 @@ def test_worst_case_decides_in_any_order_and_a_sound_pair_passes(ctx: CheckConte
     assert rows["torque-margin-continuous"]["case"] == "loaded"
     assert rows["torque-margin-continuous"]["needed"]["value"] == pytest.approx(118.4, rel=0.005)
     assert rows["regen-braking-energy"]["case"] == "loaded" and rows["regen-braking-energy"]["outcome"] == "fail"
+    # every line of a rule from the same case: the largest resistance is the loaded case's, the smaller one
+    # (the f45 loaded case's peak 21.57 kW: 760² ÷ 21 568 W = 26.78 Ω, as the tool reports it)
+    r_max = next(r for r in spec["requirements"] if r["item"] == "braking resistance (largest)")
+    assert r_max["case"] == "loaded" and r_max["needed"]["value"] == pytest.approx(26.78, rel=0.005)
     both_light = BASE + "\ncases:\n  empty: {load: {mass: 3000 kg}}\n  half: {load: {mass: 4000 kg}}\n"
     spec = _check(ctx, tmp_path, both_light)
     # 4 t: 4000 × 9.80665 × 0.07967 × 2.0 × 0.96 × 0.93 × 1.2 = 6.70 kW ≤ 7.5 kW
@@ -292,3 +296,21 @@ def test_set_reaches_every_case_that_does_not_give_the_field(tmp_path: Path) -> 
     assert regen["loaded"]["values"]["p_req"]["value"] == pytest.approx(33480, rel=0.02)
     assert regen["empty"]["values"]["p_req"]["value"] == pytest.approx(5022, rel=0.02)
     assert spec["overrides"] == [{"path": "load.mass", "value": "20000 kg", "was": "12000 kg"}]
+
+
+@pytest.mark.parametrize(("cases", "path", "words"), [
+    ("{1: {load: {mass: 3000 kg}}}", "cases.1", "does not have the expected form"),
+    ("{a: null}", "cases.a", "expected a mapping"),
+    ("{a: [1]}", "cases.a", "expected a mapping"),
+    ("{a: {load: null}}", "cases.a.load", "expected a mapping"),
+    ("{a: {load: {duty: []}}}", "cases.a.load.duty", "at least 1"),
+    ("{a: {title: 5}}", "cases.a.title", "expected a quoted text"),
+    ("null", "cases", "expected a mapping"),
+])
+def test_malformed_cases_are_refused_at_their_path(ctx: CheckContext, tmp_path: Path, cases: str, path: str,
+                                                   words: str) -> None:
+    spec = _check(ctx, tmp_path, BASE + f"\ncases: {cases}\n")
+    assert spec["status"] == "invalid"
+    refused = [o for o in spec["outcomes"] if o["rule"] == "spec-schema" and o["outcome"] == "fail"]
+    assert [(o["location"]["path"], words in o["message"]) for o in refused] == [(path, True)], refused
+    assert not _of(spec, "internal-error")
