@@ -63,7 +63,7 @@ def test_load_curve_crosses_capability_where_the_rule_says(demo):
     # (the drive reaches 400 V). Load: 6000 kg up 14°, μ 0.03, 0.5 m pulley:
     # F = 6000 × 9.80665 × (sin 14° + 0.03 × cos 14°) = 15947 N; 15947 × 0.25 = 3986.8 N·m at the pulley;
     # ÷ (i 24 × η 0.96) = 173.04 N·m at the motor, at every speed (friction and lift do not depend on speed).
-    # Speeds: 15 r/min × 24 = 360 r/min up to 1.6 m/s ÷ (π × 0.5 m) × 60 × 24 = 1466.9 r/min.
+    # Speeds: 15 r/min × 24 = 360 r/min up to 1.6 m/s ÷ (π × 0.5 m) × 60 × 24 = 1466.8 r/min.
     # k_cool (references R06, common practice): at 360/1475 = 0.2441, 0.60 + 0.15 × (0.2441 − 0.1)/0.23 = 0.6940,
     # T_cont = 194.22 × 0.6940 = 134.8 N·m < 173.04: the rule's finding. The load meets the capability where
     # k_cool = 173.04/194.22 = 0.89095: n/n_b = 0.5 + 0.3 × (0.89095 − 0.85)/0.15 = 0.58190, n = 858.3 r/min;
