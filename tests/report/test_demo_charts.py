@@ -103,10 +103,18 @@ def test_no_chart_label_overlaps_another(demo):
             canvas = FigureCanvasAgg(fig)
             canvas.draw()
             renderer = canvas.get_renderer()
+            legends = [leg.get_window_extent(renderer) for leg in fig.legends] + [
+                ax.get_legend().get_window_extent(renderer) for ax in fig.axes if ax.get_legend()]
+            page = fig.bbox
             for ax in fig.axes:
                 boxes = [(t.get_text(), t.get_window_extent(renderer)) for t in ax.texts if t.get_text()]
                 for (ta, a), (tb, b) in itertools.combinations(boxes, 2):
                     assert not a.overlaps(b), (spec["tag"], key, ta, tb)
+                for text, box in boxes:
+                    # inside the drawing (not cut off at its edge) and clear of the legend
+                    assert page.x0 <= box.x0 and box.x1 <= page.x1 and page.y0 <= box.y0 and box.y1 <= page.y1, (
+                        spec["tag"], key, text)
+                    assert not any(box.overlaps(leg) for leg in legends), (spec["tag"], key, text)
 
 
 def test_duty_chart_rms_line_is_the_rules_rms_torque(demo):
