@@ -359,23 +359,31 @@ def _annotate(ax: Any, labels: list[tuple[float, float, str]], **style: Any) -> 
 
 
 def _separate(fig: Any, texts: list[Any]) -> None:
-    """Move labels apart so that no two overlap: each label in turn is shifted up or down by its own height, in
-    growing steps, until its box is clear of every label placed before it (a greedy placement: deterministic,
-    and the boxes are matplotlib's own, as drawn)."""
-    if len(texts) < 2:
+    """Move labels apart so that no two overlap and none is cut off at the edge of the drawing: each label in turn
+    is shifted up or down by its own height, in growing steps, until its box is inside the figure and clear of
+    every label placed before it (a greedy placement: deterministic, and the boxes are matplotlib's own)."""
+    if not texts:
         return
     from matplotlib.backends.backend_agg import FigureCanvasAgg
 
     canvas = fig.canvas if isinstance(fig.canvas, FigureCanvasAgg) else FigureCanvasAgg(fig)
     renderer = canvas.get_renderer()
     fig.draw_without_rendering()  # the layout, so the boxes are where they will be drawn
+    page = fig.bbox
     placed: list[Any] = []
     for text in texts:
         x0, y0 = text.xyann
         box = text.get_window_extent(renderer)
-        step = box.height * 72.0 / fig.dpi + 2.0  # in points, as the offset
+        # a label wider than the room on its side of the point is moved back inside (in points, as the offset)
+        dx = (min(0.0, page.x1 - box.x1) + max(0.0, page.x0 - box.x0)) * 72.0 / fig.dpi
+        if dx:
+            x0 += dx
+            text.xyann = (x0, y0)
+            box = text.get_window_extent(renderer)
+        step = box.height * 72.0 / fig.dpi + 2.0
         for k in range(1, 41):
-            if not any(box.padded(2.0).overlaps(b) for b in placed):
+            inside = page.y0 <= box.y0 and box.y1 <= page.y1
+            if inside and not any(box.padded(2.0).overlaps(b) for b in placed):
                 break
             text.xyann = (x0, y0 + (k + 1) // 2 * step * (-1 if k % 2 else 1))
             box = text.get_window_extent(renderer)

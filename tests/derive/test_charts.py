@@ -77,3 +77,26 @@ def test_inverter_keeps_the_torque_speed_plane():
     spec = {**DOL, "drive": {"kind": "inverter", "output_voltage_max": "400 V"}}
     charts = chart_data(model_of(spec))
     assert "torque_speed" in charts and "starting" not in charts
+
+
+def test_downhill_belt_brakes_in_the_reverse_torque_quadrant():
+    # a belt running down a 14° decline: F = m·g·(μ·cos θ + sin θ) = 6000 × 9.80665 × (0.03 × 0.97030 − 0.24192)
+    # = −12 522 N: the load drives. At the 0.5 m pulley 12 522 × 0.25 = 3130.4 N·m (η_load not given: 1); back
+    # through the gearbox × η_rev (the forward 96 %) ÷ i 24 = 125.22 N·m braking torque at the motor, negative,
+    # while the speed stays positive (15 × 24 = 360 up to 1.6/(π·0.5) × 60 × 24 = 61.116 × 24 = 1466.8 r/min)
+    spec = {
+        "supply": {"voltage": "400 V", "frequency": "50 Hz"},
+        "drive": {"kind": "inverter", "output_voltage_max": "400 V", "braking": {"kind": "resistor"}},
+        "motor": {"kind": "induction", "rated_power": "30 kW", "rated_speed": "1475 r/min", "rated_voltage": "400 V",
+                  "rated_frequency": "50 Hz", "poles": 4, "rated_current": "55 A", "breakdown_torque": "520 N*m"},
+        "transmission": {"kind": "helical-bevel", "ratio": 24, "efficiency": "96 %"},
+        "load": {"model": "conveyor", "mass": "6000 kg", "incline": "-14 deg", "friction_coefficient": 0.03,
+                 "pulley_diameter": "0.5 m", "line_speed": "1.6 m/s", "speed_min": "15 r/min"},
+    }
+    b = chart_data(model_of(spec))["torque_speed"]["braking"]
+    assert b["quadrant"] == "reverse-torque" and b["means"] == "resistor" and b["rule"] == "regen-braking-energy"
+    assert b["load"][0] == [pytest.approx(360.0, abs=0.05), pytest.approx(-125.22, abs=0.01)]
+    assert b["load"][-1][0] == pytest.approx(1466.77, abs=0.06)
+    # the motor's capability there, with the braking sign: T_N = 30 000 / (1475 × 2π/60) = 194.22 N·m, self-
+    # ventilated table at 360/1475 = 0.2441: k_cool 0.6940 → 134.8 N·m (the same as motoring)
+    assert b["motor_continuous"][0][1] == pytest.approx(-134.8, abs=0.05)

@@ -63,7 +63,7 @@ def test_load_curve_crosses_capability_where_the_rule_says(demo):
     # (the drive reaches 400 V). Load: 6000 kg up 14°, μ 0.03, 0.5 m pulley:
     # F = 6000 × 9.80665 × (sin 14° + 0.03 × cos 14°) = 15947 N; 15947 × 0.25 = 3986.8 N·m at the pulley;
     # ÷ (i 24 × η 0.96) = 173.04 N·m at the motor, at every speed (friction and lift do not depend on speed).
-    # Speeds: 15 r/min × 24 = 360 r/min up to 1.6 m/s ÷ (π × 0.5 m) × 60 × 24 = 1466.9 r/min.
+    # Speeds: 15 r/min × 24 = 360 r/min up to 1.6 m/s ÷ (π × 0.5 m) × 60 × 24 = 1466.8 r/min.
     # k_cool (references R06, common practice): at 360/1475 = 0.2441, 0.60 + 0.15 × (0.2441 − 0.1)/0.23 = 0.6940,
     # T_cont = 194.22 × 0.6940 = 134.8 N·m < 173.04: the rule's finding. The load meets the capability where
     # k_cool = 173.04/194.22 = 0.89095: n/n_b = 0.5 + 0.3 × (0.89095 − 0.85)/0.15 = 0.58190, n = 858.3 r/min;
@@ -103,10 +103,18 @@ def test_no_chart_label_overlaps_another(demo):
             canvas = FigureCanvasAgg(fig)
             canvas.draw()
             renderer = canvas.get_renderer()
+            legends = [leg.get_window_extent(renderer) for leg in fig.legends] + [
+                ax.get_legend().get_window_extent(renderer) for ax in fig.axes if ax.get_legend()]
+            page = fig.bbox
             for ax in fig.axes:
                 boxes = [(t.get_text(), t.get_window_extent(renderer)) for t in ax.texts if t.get_text()]
                 for (ta, a), (tb, b) in itertools.combinations(boxes, 2):
                     assert not a.overlaps(b), (spec["tag"], key, ta, tb)
+                for text, box in boxes:
+                    # inside the drawing (not cut off at its edge) and clear of the legend
+                    assert page.x0 <= box.x0 and box.x1 <= page.x1 and page.y0 <= box.y0 and box.y1 <= page.y1, (
+                        spec["tag"], key, text)
+                    assert not any(box.overlaps(leg) for leg in legends), (spec["tag"], key, text)
 
 
 def test_duty_chart_rms_line_is_the_rules_rms_torque(demo):

@@ -294,3 +294,15 @@ def test_duty_chart_marks_a_failing_rms():
     text = charts.describe("duty", data, failing={"torque-rms-duty-cycle"})
     assert "FAILS: torque-rms-duty-cycle" in text.description
     assert not charts.figure("duty", data).axes[1].texts  # passing: no mark
+
+
+def test_a_long_label_at_the_edge_stays_inside_the_drawing():
+    # three points close together at 64 % of the plotted speed range share one long label written to their right:
+    # wider than the room there, it is moved back inside the figure, not cut off
+    data = sample.conveyor()["charts"]["torque_speed"]
+    data["load_points"] = [{"speed": 1900 + k, "torque": 60.0, "label": f"{k} a rather long label for a point"}
+                           for k in range(3)]
+    fig = charts.figure("torque_speed", data)
+    page = fig.bbox
+    for text, box in _text_boxes(fig):
+        assert page.x0 <= box.x0 and box.x1 <= page.x1 and page.y0 <= box.y0 and box.y1 <= page.y1, text
