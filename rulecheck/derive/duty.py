@@ -83,9 +83,14 @@ def _segment_torque(m: Model, spec: Spec, k: int, speed: float, to: float, i: fl
     if direction >= 0:
         return _refer(m, tl, direction, i)
     if m.get("load.gravity"):
-        # gravity keeps its direction when the travel reverses (lowering). The load model gives the torque of the
-        # forward run only: it is taken, referred as motoring, as an upper bound of the reverse torque's magnitude
-        # (a segment that gives its torque is referred by its own power flow)
+        # gravity keeps its direction when the travel reverses (lowering). A hoist's drum torque is known: lowering,
+        # the load drives and supplies the rope, sheave and gear losses (T_drum·η_load·η_rev ÷ i, braking), the
+        # torque the braking rules take. Other gravity loads give the torque of the forward run only: it is taken,
+        # referred as motoring, as an upper bound of the reverse torque's magnitude (a segment that gives its
+        # torque is referred by its own power flow)
+        hold = m.get("load.holding_torque")
+        if m.get("load.model") == "hoist" and hold is not None and hold > 0:
+            return _refer(m, hold * (m.get("load.efficiency") or 1.0), direction, i)
         return tr.motor_torque_motoring(tl, i, m.get("transmission.efficiency"))
     return _refer(m, -tl, direction, i)  # friction and process forces turn with the direction of travel
 

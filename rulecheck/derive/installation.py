@@ -277,11 +277,14 @@ def _braking(m: Model) -> None:
         m.get("motor.efficiency") or 1.0)
     eta_inputs = ("transmission.reverse_efficiency", "motor.efficiency")
     if m.has("duty.regenerative_energy", "duty.cycle_time"):
-        e_cycle = m.get("duty.regenerative_energy") * eta
-        put(m, "train.braking_energy", e_cycle, "duty", ("duty.regenerative_energy", *eta_inputs),
-           "regenerated energy per cycle × η_rev × η_mot (whole cycle, conservative per stop)")
-        put(m, "train.braking_power_peak", m.get("duty.peak_braking_power", 0.0) * eta, "duty",
-           ("duty.peak_braking_power", *eta_inputs), "largest −T·ω of the cycle × η")
+        # the cycle's torques are at the motor shaft, an overhauling load's already T·η_rev ÷ i: only the motor's
+        # losses remain (the gear's losses on the inertia torques are not credited: conservative)
+        eta_mot = m.get("motor.efficiency") or 1.0
+        e_cycle = m.get("duty.regenerative_energy") * eta_mot
+        put(m, "train.braking_energy", e_cycle, "duty", ("duty.regenerative_energy", "motor.efficiency"),
+           "regenerated energy per cycle at the motor shaft × η_mot (whole cycle, conservative per stop)")
+        put(m, "train.braking_power_peak", m.get("duty.peak_braking_power", 0.0) * eta_mot, "duty",
+           ("duty.peak_braking_power", "motor.efficiency"), "largest −T·ω of the cycle at the motor shaft × η_mot")
         put(m, "train.braking_power_mean", e_cycle / m.get("duty.cycle_time"), "duty",
            ("duty.regenerative_energy", "duty.cycle_time"), "E_cycle ÷ t_cycle")
         _regenerates(m, sustained)
