@@ -150,3 +150,22 @@ def test_a_declining_belt_at_standstill_is_held_with_its_derived_holding_torque(
     pull = 25000 * 9.80665 * (math.sin(math.radians(6)) - 0.012 * math.cos(math.radians(6))) * 0.4
     assert m.lists["duty.segments"][3]["torque"] == pytest.approx(pull * 0.96 / 24.5, rel=1e-9)
     assert m.lists["duty.segments"][3]["torque"] == pytest.approx(355.80, abs=5e-3)
+
+
+def test_a_hoist_lowering_segment_takes_the_torque_the_load_asks() -> None:
+    # lowering, the load drives and supplies the rope, sheave and gear losses: drum 4000·9.80665/2·0.2 = 3922.66 N·m
+    # × η_load 0.95 × η_gear 0.94 ÷ 60 = 58.38 N·m at the motor (hoisting: 3922.66 ÷ 0.95 ÷ (60·0.94) = 73.21 N·m),
+    # positive (it still holds the load up) at a negative speed: a braking segment
+    lowering = [{"duration": "20 s", "speed_to": "-23.87 r/min"}, {"duration": "20 s", "speed_to": "-23.87 r/min"},
+                {"duration": "20 s", "speed_to": "0 r/min"}]
+    m = model_of({"motor": {**HOIST_MOTOR, "efficiency": "92.3 %"}, "transmission": GEAR,
+                  "load": {**HOIST, "duty": lowering}, "drive": {"kind": "inverter"}})
+    steady = m.lists["duty.segments"][1]
+    assert steady["torque"] == pytest.approx(4000 * 9.80665 / 2 * 0.2 * 0.95 * 0.94 / 60, rel=1e-9)
+    assert steady["torque"] * steady["speed_to"] < 0
+    # energy returned while lowering steadily: 58.38 N·m × 23.87·60·2π/60 rad/s × 20 s at the motor shaft, only the
+    # motor's own losses still to take (× 0.923): the gear's are already in the torque
+    w = 23.87 * 60 * 2 * math.pi / 60
+    steady_energy = 4000 * 9.80665 / 2 * 0.2 * 0.95 * 0.94 / 60 * w * 20
+    assert m.get("train.braking_energy") >= steady_energy * 0.923 * (1 - 1e-9)
+    assert m.get("train.braking_energy") == pytest.approx(m.get("duty.regenerative_energy") * 0.923, rel=1e-9)
