@@ -180,6 +180,19 @@ def test_charts_are_inline_svg_with_text_equivalents(samples):
     assert len(ids) == len(set(ids)), "element ids are unique across the page"
 
 
+def test_chart_data_tables_sit_in_the_appendix_linked_from_their_chart(samples):
+    text, _page = _render(samples["servo"])
+    # each chart links to its data table; the tables come after every chart, in the drive train's appendix
+    last_link = text.index('href="#dt-1-back_emf-data"')
+    for key in ("torque_speed", "back_emf"):
+        link = f'href="#dt-1-{key}-data"'
+        assert text.count(link) == 1
+        table = text.index(f'id="dt-1-{key}-data"')
+        assert text.index(f'class="chart-block" id="dt-1-{key}"') < text.index(link) <= last_link < table
+        assert text.index(f'id="dt-1-{key}-data"') < text.index("<summary>Passed (")
+    assert text.count("<summary>Data shown in the chart: ") == 2
+
+
 def test_charts_can_be_left_out(samples):
     text = html.render(samples["servo"], charts=False)
     assert "<svg" not in text and "Charts" not in scan(text).all_text
