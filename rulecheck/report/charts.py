@@ -223,6 +223,18 @@ class _Point:
     rule: str = ""
 
 
+def _load_points(data: Mapping[str, Any], sp: _Axis, tq: _Axis) -> list[_Point]:
+    """The operating points of a torque–speed or starting chart, in the report's units."""
+    points = []
+    for i, p in enumerate(data.get("load_points") or []):
+        if not isinstance(p, Mapping):
+            raise ChartDataError(f"load_points[{i}] is not a point")
+        points.append(_Point(_num(p.get("speed"), f"load_points[{i}].speed") * sp.factor,
+                             _num(p.get("torque"), f"load_points[{i}].torque") * tq.factor, plain(p.get("label"), 60),
+                             plain(p.get("rule"), 80)))
+    return points
+
+
 def _torque_speed(data: Mapping[str, Any], units: str, failing: frozenset[str] = frozenset()) -> _TorqueSpeed:
     sp = _speed_axis(data.get("speed_unit"))
     tq = _quantity_axis(data.get("torque_unit"), "torque", "N*m", units)
@@ -232,13 +244,7 @@ def _torque_speed(data: Mapping[str, Any], units: str, failing: frozenset[str] =
 
     cont = conv(_pairs(data.get("motor_continuous") or [], "motor_continuous"))
     peak = conv(_pairs(data.get("motor_peak") or [], "motor_peak"))
-    points = []
-    for i, p in enumerate(data.get("load_points") or []):
-        if not isinstance(p, Mapping):
-            raise ChartDataError(f"load_points[{i}] is not a point")
-        points.append(_Point(_num(p.get("speed"), f"load_points[{i}].speed") * sp.factor,
-                             _num(p.get("torque"), f"load_points[{i}].torque") * tq.factor, plain(p.get("label"), 60),
-                             plain(p.get("rule"), 80)))
+    points = _load_points(data, sp, tq)
     segments = []
     for i, s in enumerate(data.get("duty_segments") or []):
         if not isinstance(s, Mapping):
@@ -495,13 +501,7 @@ def _starting(data: Mapping[str, Any], units: str, failing: frozenset[str] = fro
     full, during, load = conv("motor_full_voltage"), conv("motor_starting"), conv("load_curve")
     if len(during) < 2 or len(load) < 2:
         raise ChartDataError("the starting chart needs the motor's starting curve and the load curve")
-    points = []
-    for i, p in enumerate(data.get("load_points") or []):
-        if not isinstance(p, Mapping):
-            raise ChartDataError(f"load_points[{i}] is not a point")
-        points.append(_Point(_num(p.get("speed"), f"load_points[{i}].speed") * sp.factor,
-                             _num(p.get("torque"), f"load_points[{i}].torque") * tq.factor, plain(p.get("label"), 60),
-                             plain(p.get("rule"), 80)))
+    points = _load_points(data, sp, tq)
     method = "soft-starter" if data.get("method") == "soft-starter" else "direct-on-line"
 
     def opt(key: str, factor: float) -> float | None:
