@@ -18,7 +18,7 @@ from rulecheck import units
 from rulecheck.engine.ruleset import RuleSet
 from rulecheck.engine.run import Outcome, SpecNames, effective_params, evaluate_rule
 from rulecheck.load import Document, Limits, LoadError, load_file
-from rulecheck.result import Finding, SpecResult
+from rulecheck.result import VERDICT_RANK, Finding, SpecResult
 from rulecheck.schema import check_structure, read_quantities
 
 __all__ = ["BUILTIN_RULES", "CheckContext", "Checked", "check_document", "check_file", "check_spec", "failed",
@@ -444,8 +444,7 @@ def _check_cases(doc: Document, load_cases: list[Any], findings: list[Finding], 
         extra["to_give"] = to_give
     extra["cases"] = [{"name": c.name, "title": c.title, "verdict": verdicts[c.name], "derived": own[c.name]}
                       for c in load_cases]
-    rank = {"pass": 0, "warning": 1, "fail": 2, "invalid": 3}
-    worst = max(runs, key=lambda n: rank.get(verdicts[n], 0))  # the first of the worst: its charts are drawn
+    worst = max(runs, key=lambda n: VERDICT_RANK.get(verdicts[n], 0))  # the first of the worst: its charts are drawn
     return result, _charts(runs[worst].model) if ctx.charts else None, extra
 
 

@@ -32,7 +32,8 @@ import orjson as _orjson
 from rulecheck import __version__
 
 __all__ = [
-    "FAIL_LEVELS", "FORMAT_VERSION", "OUTCOMES", "SEVERITY_RANK", "Finding", "SpecResult", "SpecTally", "Tally",
+    "FAIL_LEVELS", "FORMAT_VERSION", "OUTCOMES", "SEVERITY_RANK", "VERDICT_RANK", "Finding", "SpecResult", "SpecTally",
+    "Tally",
     "counts_of", "counts_toward_failure", "decode", "encode", "failure_level", "finish_spec", "header",
     "is_finding", "requirements_of", "summarise", "verdict_of", "with_charts",
 ]
@@ -187,6 +188,9 @@ def counts_of(outcomes: Iterable[Mapping[str, Any]]) -> dict[str, int]:
     for o in outcomes:
         counts[o["severity"] if o["outcome"] == "fail" else o["outcome"]] += 1
     return counts
+
+
+VERDICT_RANK = {"pass": 0, "warning": 1, "fail": 2, "invalid": 3}  # worse is higher (the worst load case decides)
 
 
 def verdict_of(status: str, counts: Mapping[str, int], outcomes: Iterable[Mapping[str, Any]]) -> str:
