@@ -1,4 +1,4 @@
-"""Charts for the reports: SVG text for HTML, PNG bytes for e-mail, and a text equivalent of each.
+"""Charts for the reports: SVG text for HTML and PDF, and a text equivalent of each.
 
 Four charts are drawn from the ``charts`` part of a spec's result (see the
 result contract): the torque–speed plane of a variable-speed drive train
@@ -9,25 +9,25 @@ They plot the numbers given; nothing is computed. A point whose rule failed in
 the result (``failing``) is crossed out and labelled "FAILS: <rule>".
 
 Each series differs by line style and marker as well as by shade, so the charts
-read in greyscale print. Drawing is deterministic: a fixed SVG hash salt, glyphs
-as paths (no font files needed), and no date or creator metadata. matplotlib is
-imported only when a chart is drawn.
+read in greyscale print. They are drawn by :mod:`rulecheck.report.plot` (SVG
+written directly, a few milliseconds a chart): deterministic, no date or creator
+metadata, text as text in DejaVu Sans (or a similar sans-serif where it is missing).
 """
 
 from __future__ import annotations
 
-import io
 import math
 import re
 from collections.abc import Callable, Iterable, Mapping, Sequence
 from dataclasses import dataclass, field
 from typing import Any, Protocol
 
+from rulecheck.report import plot
 from rulecheck.report.common import plain
 from rulecheck.units import QuantityError, format_value, parse_quantity
 
 __all__ = ["CHART_KEYS", "ChartDataError", "ChartText", "DrawJob", "available", "describe", "draw_all", "failing_rules",
-           "figure", "png", "svg", "svg_body"]
+           "figure", "svg", "svg_body"]
 
 CHART_KEYS = ("starting", "torque_speed", "duty", "back_emf")
 MAX_PLOT_POINTS = 4000  # more points than this add nothing visible at report size
@@ -39,23 +39,6 @@ _GREY = "#6b7680"
 _LOAD = "#000000"
 _ACCENT = "#7a4f12"
 _FAIL = "#b00020"  # failing points: also a large cross and a "FAILS" label, never colour alone
-_RC = {
-    "svg.hashsalt": "rulecheck-charts",
-    "svg.fonttype": "path",
-    "font.family": "DejaVu Sans",
-    "font.size": 9.0,
-    "axes.edgecolor": _GREY,
-    "axes.labelcolor": _INK,
-    "axes.titlesize": 10.0,
-    "xtick.color": _INK,
-    "ytick.color": _INK,
-    "grid.color": "#d5d9dd",
-    "grid.linewidth": 0.6,
-    "legend.fontsize": 8.0,
-    "legend.frameon": True,
-    "legend.framealpha": 0.92,
-    "path.simplify": True,
-}
 
 
 class ChartDataError(ValueError):
@@ -127,9 +110,8 @@ def _thin(points: list, limit: int = MAX_PLOT_POINTS) -> list:
 
 
 def _label(text: Any, limit: int = 40) -> str:
-    """Return a spec label safe for matplotlib text: one line, short, no mathtext, no legend-hiding underscore."""
-    s = plain(text, limit).replace("$", r"\$")
-    return ("\u200b" + s) if s.startswith("_") else s
+    """Return a spec label for a chart: one line, short."""
+    return plain(text, limit)
 
 
 @dataclass(frozen=True)
@@ -350,119 +332,71 @@ def _label_groups(points: list[_Point], d: Any) -> list[tuple[float, float, str]
     return out
 
 
-def _annotate(ax: Any, labels: list[tuple[float, float, str]], **style: Any) -> list[Any]:
+def _annotate(ax: plot.Axes, labels: list[tuple[float, float, str]], va: str = "bottom",
+              dy: float = 6.0) -> list[plot.Label]:
     """Write each label beside its point: to the right, or to the left in the right third of the plot."""
-    lo, hi = ax.get_xlim()
-    texts = []
+    lo, hi = ax.limits()[:2]
+    out = []
     for n, t, text in labels:
         right = n > lo + 0.66 * (hi - lo)
-        texts.append(ax.annotate(text, (n, t), textcoords="offset points", xytext=(-6 if right else 6, 6),
-                                 ha="right" if right else "left", **{"va": "bottom", **style}, fontsize=7.5,
-                                 color=_LOAD, parse_math=False, annotation_clip=False))
-    for text in texts:
-        text.set_in_layout(False)  # labels never move the axes: they are placed after the layout
-    return texts
+        out.append(ax.annotate(text, n, t, dx=-6.0 if right else 6.0, dy=dy, ha="right" if right else "left",
+                               va=va, color=_LOAD))
+    return out
 
 
-def _separate(fig: Any, texts: list[Any]) -> None:
-    """Move labels apart so that no two overlap and none is cut off at the edge of the drawing: each label in turn
-    is shifted up or down by its own height, in growing steps, until its box is inside the figure and clear of
-    every label placed before it (a greedy placement: deterministic, and the boxes are matplotlib's own)."""
-    if not texts:
-        return
-    from matplotlib.backends.backend_agg import FigureCanvasAgg
-
-    canvas = fig.canvas if isinstance(fig.canvas, FigureCanvasAgg) else FigureCanvasAgg(fig)
-    renderer = canvas.get_renderer()
-    fig.draw_without_rendering()  # the layout, so the boxes are where they will be drawn
-    page = fig.bbox
-    placed: list[Any] = []
-    for text in texts:
-        x0, y0 = text.xyann
-        box = text.get_window_extent(renderer)
-        # a label wider than the room on its side of the point is moved back inside (in points, as the offset)
-        dx = (min(0.0, page.x1 - box.x1) + max(0.0, page.x0 - box.x0)) * 72.0 / fig.dpi
-        if dx:
-            x0 += dx
-            text.xyann = (x0, y0)
-            box = text.get_window_extent(renderer)
-        step = box.height * 72.0 / fig.dpi + 2.0
-        for k in range(1, 41):
-            inside = page.y0 <= box.y0 and box.y1 <= page.y1
-            if inside and not any(box.padded(2.0).overlaps(b) for b in placed):
-                break
-            text.xyann = (x0, y0 + (k + 1) // 2 * step * (-1 if k % 2 else 1))
-            box = text.get_window_extent(renderer)
-        placed.append(box)
-    # the layout is done and the labels are outside it: saving need not lay the figure out again (it costs as
-    # much as a drawing)
-    fig.set_layout_engine("none")
-
-
-def _draw_braking(ax: Any, b: _Braking, unit: str, fails: bool) -> list[Any]:
+def _draw_braking(ax: plot.Axes, b: _Braking, unit: str, fails: bool) -> None:
     """Draw the generating quadrant: the load and the capability there (styles as motoring), the quadrant hatched
-    and labelled with the braking means; return the label to place apart from the others."""
-    for curve, style in ((b.cont, {"linestyle": "-", "linewidth": 1.8, "marker": "o", "markersize": 3.5}),
-                         (b.peak, {"linestyle": "--", "linewidth": 1.4, "marker": "s", "markersize": 3.5})):
+    and labelled with the braking means."""
+    for curve, style in ((b.cont, {"style": "-", "width": 1.8, "marker": "o", "size": 3.5}),
+                         (b.peak, {"style": "--", "width": 1.4, "marker": "s", "size": 3.5})):
         if curve:
             ax.plot(*zip(*_thin(curve), strict=True), color=_INK, **style)
-    ax.plot(*zip(*_thin(b.load), strict=True), color=_LOAD, linestyle="-", linewidth=2.6)
-    ax.autoscale_view()
-    (x0, x1), (y0, y1) = ax.get_xlim(), ax.get_ylim()
+    ax.plot(*zip(*_thin(b.load), strict=True), color=_LOAD, style="-", width=2.6)
+    x0, x1, y0, y1 = ax.limits()
+    ax.xlim, ax.ylim = (x0, x1), (y0, y1)
     xs = (x0, 0.0) if b.reverse_speed else (0.0, x1)
-    ax.fill_between(xs, 0.0, y1 if b.reverse_speed else y0, facecolor="none", edgecolor=_GREY, hatch="//",
-                    linewidth=0.0, label="Generating quadrant: the load drives the motor")
-    ax.set_xlim(x0, x1)
-    ax.set_ylim(y0, y1)
+    ax.hatch(xs[0], xs[1], 0.0, y1 if b.reverse_speed else y0, color=_GREY,
+             label="Generating quadrant: the load drives the motor")
     n, t = b.load[len(b.load) // 2]
     label = f"GENERATING: the load overhauls ({_fmt(abs(t))} {unit})\nbraking means: {b.means}"
-    text = ax.annotate(label + (f"\nFAILS: {b.rule}" if fails else ""),
-                       (n, t), textcoords="offset points", xytext=(0, -8 if b.reverse_speed else 8),
-                       ha="center", va="top" if b.reverse_speed else "bottom", fontsize=7.5, color=_LOAD,
-                       parse_math=False, annotation_clip=False,
-                       bbox={"boxstyle": "square,pad=0.2", "facecolor": "white", "edgecolor": "none", "alpha": 0.85})
-    text.set_in_layout(False)
-    return [text]
+    ax.annotate(label + (f"\nFAILS: {b.rule}" if fails else ""), n, t, dy=-8.0 if b.reverse_speed else 8.0,
+                ha="center", va="top" if b.reverse_speed else "bottom", color=_LOAD, boxed=True)
 
 
-def _draw_torque_speed(fig: Any, d: _TorqueSpeed) -> None:
-    ax = fig.add_subplot(1, 1, 1)
+def _draw_torque_speed(fig: plot.Figure, d: _TorqueSpeed) -> None:
+    ax = fig.add_axes(title="Torque–speed plane", xlabel=f"Speed at motor shaft ({d.speed.unit})",
+                      ylabel=f"Torque at motor shaft ({d.torque.unit})")
+    fig.legend_below = True
     if d.cont:
-        ax.plot(*zip(*_thin(d.cont), strict=True), color=_INK, linestyle="-", linewidth=1.8, marker="o",
-                markersize=3.5, label="Motor continuous")
+        ax.plot(*zip(*_thin(d.cont), strict=True), color=_INK, style="-", width=1.8, marker="o", size=3.5,
+                label="Motor continuous")
     if d.peak:
-        ax.plot(*zip(*_thin(d.peak), strict=True), color=_INK, linestyle="--", linewidth=1.4, marker="s",
-                markersize=3.5, label="Motor peak")
+        ax.plot(*zip(*_thin(d.peak), strict=True), color=_INK, style="--", width=1.4, marker="s", size=3.5,
+                label="Motor peak")
     if d.load:
-        ax.plot(*zip(*_thin(d.load), strict=True), color=_LOAD, linestyle="-", linewidth=2.6, label="Load")
+        ax.plot(*zip(*_thin(d.load), strict=True), color=_LOAD, style="-", width=2.6, label="Load")
     for i, (n0, n1, t, _name) in enumerate(d.segments):
-        ax.plot([n0, n1], [t, t], color=_ACCENT, linestyle="-.", linewidth=1.3, marker="x", markersize=5,
+        ax.plot([n0, n1], [t, t], color=_ACCENT, style="-.", width=1.3, marker="x", size=5,
                 label="Duty segments" if i == 0 else None)
     if d.points:
-        ax.plot([p.n for p in d.points], [p.t for p in d.points], linestyle="none", marker="^", markersize=7,
-                color=_LOAD, label="Load operating points")
+        ax.plot([p.n for p in d.points], [p.t for p in d.points], style="none", marker="^", size=7, color=_LOAD,
+                label="Load operating points")
     failed = [p for p in d.points if d.fails(p)]
     if failed:
-        ax.plot([p.n for p in failed], [p.t for p in failed], linestyle="none", marker="X", markersize=12,
-                color=_FAIL, markeredgecolor=_LOAD, markeredgewidth=0.8, label="Point whose rule FAILS")
+        ax.plot([p.n for p in failed], [p.t for p in failed], style="none", marker="X", size=12, color=_FAIL,
+                edge=_LOAD, edge_width=0.8, label="Point whose rule FAILS")
     if d.crossings:
-        ax.plot([c.n for c in d.crossings], [c.t for c in d.crossings], linestyle="none", marker="D", markersize=6,
-                markerfacecolor="white", markeredgecolor=_LOAD, markeredgewidth=1.4,
-                label="Load meets continuous capability")
-    ax.axhline(0.0, color=_GREY, linewidth=0.6)
-    texts = _draw_braking(ax, d.braking, d.torque.unit, d.braking.rule in d.failing) if d.braking else []
+        ax.plot([c.n for c in d.crossings], [c.t for c in d.crossings], style="none", marker="D", size=6,
+                face="white", edge=_LOAD, edge_width=1.4, color=_LOAD, label="Load meets continuous capability")
+    ax.level(0.0, color=_GREY, width=0.6)
+    if d.braking:
+        _draw_braking(ax, d.braking, d.torque.unit, d.braking.rule in d.failing)
     labelled = [*d.points[:MAX_LABELS],
                 *[_Point((n0 + n1) / 2, t, label) for n0, n1, t, label in d.segments[:MAX_LABELS]]]
-    texts += _annotate(ax, _label_groups(labelled, d)) if labelled else []
+    if labelled:
+        _annotate(ax, _label_groups(labelled, d))
     for c in d.crossings:  # below the load line, so the crossing's speed reads on its own
-        texts += _annotate(ax, [(c.n, c.t, f"load = continuous\n{_fmt(c.n)} {d.speed.unit}")], va="top")
-        texts[-1].xyann = (texts[-1].xyann[0], -8)
-    ax.set_xlabel(f"Speed at motor shaft ({d.speed.unit})")
-    ax.set_ylabel(f"Torque at motor shaft ({d.torque.unit})")
-    ax.set_title("Torque–speed plane")
-    ax.grid(True)
-    fig.legend(loc="outside lower center", ncols=3)
-    _separate(fig, texts)
+        _annotate(ax, [(c.n, c.t, f"load = continuous\n{_fmt(c.n)} {d.speed.unit}")], va="top", dy=-8.0)
 
 
 @dataclass
@@ -539,35 +473,30 @@ def _describe_starting(d: _Starting) -> ChartText:
                       "points whose rule fails: large crosses labelled FAILS"])
 
 
-def _draw_starting(fig: Any, d: _Starting) -> None:
-    ax = fig.add_subplot(1, 1, 1)
+def _draw_starting(fig: plot.Figure, d: _Starting) -> None:
+    how = "direct on line" if d.method == "direct-on-line" else "on a soft starter"
+    ax = fig.add_axes(title=f"Starting {how}", xlabel=f"Speed at motor shaft ({d.speed.unit})",
+                      ylabel=f"Torque at motor shaft ({d.torque.unit})")
+    fig.legend_below = True
     if d.full:
-        ax.plot(*zip(*_thin(d.full), strict=True), color=_GREY, linestyle=":", linewidth=1.4,
-                label="Motor at full voltage")
-    ax.plot(*zip(*_thin(d.during), strict=True), color=_INK, linestyle="-", linewidth=1.8, marker="o",
-            markersize=3, label=d.during_name())
-    ax.plot(*zip(*_thin(d.load), strict=True), color=_LOAD, linestyle="-", linewidth=2.6, label="Load")
+        ax.plot(*zip(*_thin(d.full), strict=True), color=_GREY, style=":", width=1.4, label="Motor at full voltage")
+    ax.plot(*zip(*_thin(d.during), strict=True), color=_INK, style="-", width=1.8, marker="o", size=3,
+            label=d.during_name())
+    ax.plot(*zip(*_thin(d.load), strict=True), color=_LOAD, style="-", width=2.6, label="Load")
     if d.rated is not None:
-        ax.axhline(d.rated, color=_ACCENT, linestyle="-.", linewidth=1.1, label=f"Rated torque {_fmt(d.rated)} "
-                                                                                 f"{d.torque.unit}")
+        ax.level(d.rated, color=_ACCENT, style="-.", width=1.1, label=f"Rated torque {_fmt(d.rated)} {d.torque.unit}")
     if d.run_up_end is not None:
-        ax.axvline(d.run_up_end, color=_GREY, linestyle="--", linewidth=1.0,
-                   label=f"End of the run-up {_fmt(d.run_up_end)} {d.speed.unit}")
+        ax.level(d.run_up_end, axis="x", color=_GREY, style="--", width=1.0,
+                 label=f"End of the run-up {_fmt(d.run_up_end)} {d.speed.unit}")
     if d.points:
-        ax.plot([p.n for p in d.points], [p.t for p in d.points], linestyle="none", marker="^", markersize=7,
-                color=_LOAD, label="Starting points")
+        ax.plot([p.n for p in d.points], [p.t for p in d.points], style="none", marker="^", size=7, color=_LOAD,
+                label="Starting points")
     failed = [p for p in d.points if d.fails(p)]
     if failed:
-        ax.plot([p.n for p in failed], [p.t for p in failed], linestyle="none", marker="X", markersize=12,
-                color=_FAIL, markeredgecolor=_LOAD, markeredgewidth=0.8, label="Point whose rule FAILS")
-    ax.set_ylim(bottom=0.0)
-    texts = _annotate(ax, _label_groups(d.points, d))  # type: ignore[arg-type]
-    ax.set_xlabel(f"Speed at motor shaft ({d.speed.unit})")
-    ax.set_ylabel(f"Torque at motor shaft ({d.torque.unit})")
-    ax.set_title("Starting " + ("direct on line" if d.method == "direct-on-line" else "on a soft starter"))
-    ax.grid(True)
-    fig.legend(loc="outside lower center", ncols=3)
-    _separate(fig, texts)
+        ax.plot([p.n for p in failed], [p.t for p in failed], style="none", marker="X", size=12, color=_FAIL,
+                edge=_LOAD, edge_width=0.8, label="Point whose rule FAILS")
+    ax.ylim = (0.0, None)
+    _annotate(ax, _label_groups(d.points, d))  # type: ignore[arg-type]
 
 
 @dataclass
@@ -615,34 +544,25 @@ def _describe_duty(d: _Duty) -> ChartText:
                       "RMS torque: dashed line", "motor rated torque: dash-dot line"])
 
 
-def _draw_duty(fig: Any, d: _Duty) -> None:
+def _draw_duty(fig: plot.Figure, d: _Duty) -> None:
     pts = _thin(d.samples)
     t = [p[0] for p in pts]
-    marker = "o" if len(pts) <= 60 else None
-    ax1, ax2 = fig.subplots(2, 1, sharex=True)
-    ax1.plot(t, [p[1] for p in pts], color=_INK, linewidth=1.6, marker=marker, markersize=3)
-    ax1.set_ylabel(f"Speed at motor shaft ({d.speed.unit})")
-    ax1.set_title("Duty cycle")
-    ax1.grid(True)
-    ax2.plot(t, [p[2] for p in pts], color=_ACCENT, linewidth=1.6, marker=marker, markersize=3)
-    ax2.axhline(0.0, color=_GREY, linewidth=0.8, linestyle=":")
+    marker = "o" if len(pts) <= 60 else ""
+    ax1 = fig.add_axes(title="Duty cycle", ylabel=f"Speed at motor shaft ({d.speed.unit})")
+    ax2 = fig.add_axes(ylabel=f"Torque at motor shaft ({d.torque.unit})", xlabel="Time (s)", share_x=ax1)
+    ax1.plot(t, [p[1] for p in pts], color=_INK, width=1.6, marker=marker, size=3)
+    ax2.plot(t, [p[2] for p in pts], color=_ACCENT, width=1.6, marker=marker, size=3)
+    ax2.level(0.0, color=_GREY, width=0.8, style=":")
     for level, style, name in ((d.rms, "--", "RMS torque"), (d.rated, "-.", "Motor rated torque")):
         if level is not None:
-            ax2.axhline(level, color=_INK, linewidth=1.2, linestyle=style,
-                        label=f"{name} {_fmt(level)} {d.torque.unit}")
+            ax2.level(level, color=_INK, width=1.2, style=style, label=f"{name} {_fmt(level)} {d.torque.unit}")
     if d.rms is not None and d.rms_fails:
         # the RMS line of a failing cycle: a cross at its end and the rule named, not colour alone
-        ax2.plot([t[-1]], [d.rms], linestyle="none", marker="X", markersize=12, color=_FAIL, markeredgecolor=_LOAD,
-                 markeredgewidth=0.8, label=f"RMS torque FAILS: {d.rms_fails}")
-        label = ax2.annotate(f"FAILS: {d.rms_fails}", (t[-1], d.rms), textcoords="offset points", xytext=(-10, 6),
-                             ha="right", va="bottom", fontsize=7.5, color=_LOAD, parse_math=False)
-        label.set_in_layout(False)
+        ax2.plot([t[-1]], [d.rms], style="none", marker="X", size=12, color=_FAIL, edge=_LOAD, edge_width=0.8,
+                 label=f"RMS torque FAILS: {d.rms_fails}")
+        ax2.annotate(f"FAILS: {d.rms_fails}", t[-1], d.rms, dx=-10.0, dy=6.0, ha="right", va="bottom", color=_LOAD)
     if d.rms is not None or d.rated is not None:
-        ax2.legend(loc="best", fontsize=7.5)
-    ax2.set_ylabel(f"Torque at motor shaft ({d.torque.unit})")
-    ax2.set_xlabel("Time (s)")
-    ax2.grid(True)
-    fig.align_ylabels([ax1, ax2])
+        ax2.legend = "best"
 
 
 @dataclass
@@ -722,50 +642,39 @@ def _describe_back_emf(d: _BackEmf) -> ChartText:
                       "available voltage: dotted level", "DC-bus trip: thick dash-dot level"])
 
 
-def _draw_back_emf(fig: Any, d: _BackEmf) -> None:
-    ax = fig.add_subplot(1, 1, 1)
+def _draw_back_emf(fig: plot.Figure, d: _BackEmf) -> None:
+    ax = fig.add_axes(title="Back-EMF and rectified peak against speed",
+                      xlabel=f"Speed at motor shaft ({d.speed.unit})", ylabel=f"Voltage ({d.volt.unit})")
     if d.emf:
-        ax.plot(d.n, d.emf, color=_INK, linestyle="-", linewidth=1.6, marker="o", markersize=3.5,
-                label="Back-EMF, line-to-line RMS")
+        ax.plot(d.n, d.emf, color=_INK, style="-", width=1.6, marker="o", size=3.5, label="Back-EMF, line-to-line RMS")
     if d.rect:
-        ax.plot(d.n, d.rect, color=_ACCENT, linestyle="--", linewidth=1.6, marker="s", markersize=3.5,
+        ax.plot(d.n, d.rect, color=_ACCENT, style="--", width=1.6, marker="s", size=3.5,
                 label="Rectified peak (into DC bus)" + (f", √2·E × {_fmt(d.factor)} (cold magnets)" if d.factor
                                                          else ""))
-    texts = []
     for level, style, width, text in ((d.available, ":", 1.4, "Available output voltage"),
                                       (d.trip, "-.", 2.2, "DC-bus trip level")):
         if level is None:
             continue
-        ax.axhline(level, color=_GREY if style == ":" else _LOAD, linestyle=style, linewidth=width,
-                   label=f"{text} {_fmt(level)} {d.volt.unit}")
-        texts.append(ax.annotate(f"{text} {_fmt(level)} {d.volt.unit}", (0.01, level),
-                                 xycoords=("axes fraction", "data"), textcoords="offset points", xytext=(0, 3),
-                                 fontsize=7.5, color=_INK, parse_math=False))
-        texts[-1].set_in_layout(False)
-    ax.set_xlabel(f"Speed at motor shaft ({d.speed.unit})")
-    ax.set_ylabel(f"Voltage ({d.volt.unit})")
-    ax.set_title("Back-EMF and rectified peak against speed")
+        ax.level(level, color=_GREY if style == ":" else _LOAD, style=style, width=width,
+                 label=f"{text} {_fmt(level)} {d.volt.unit}")
+        ax.annotate(f"{text} {_fmt(level)} {d.volt.unit}", 0.01, level, x_fraction=True, dy=3.0, color=_INK)
     top = max([*d.emf, *d.rect, d.available or 0.0, d.trip or 0.0])
-    ax.set_ylim(bottom=0.0, top=top * 1.12 if top > 0 else 1.0)
+    ax.ylim = (0.0, top * 1.12 if top > 0 else 1.0)
     c = d.crossing
     if c is not None:
         fails = c.rule in d.failing
-        ax.plot([c.n], [c.t], linestyle="none", marker="X" if fails else "D", markersize=12 if fails else 6,
-                color=_FAIL if fails else "white", markeredgecolor=_LOAD, markeredgewidth=1.0,
+        ax.plot([c.n], [c.t], style="none", marker="X" if fails else "D", size=12 if fails else 6,
+                color=_FAIL if fails else "white", face=_FAIL if fails else "white", edge=_LOAD, edge_width=1.0,
                 label="Rectified peak reaches the trip level" + (": FAILS" if fails else ""))
-        texts += _annotate(ax, [(c.n, c.t, f"trip level reached at {_fmt(c.n)} {d.speed.unit}"
-                                 + (f"\nFAILS: {c.rule}" if fails else ""))], va="top")
-        texts[-1].xyann = (texts[-1].xyann[0], -10)
-    ax.grid(True)
-    ax.legend(loc="lower right")
-    _separate(fig, texts)
-
+        _annotate(ax, [(c.n, c.t, f"trip level reached at {_fmt(c.n)} {d.speed.unit}"
+                        + (f"\nFAILS: {c.rule}" if fails else ""))], va="top", dy=-10.0)
+    ax.legend = "lower right"
 
 _CHARTS = {
-    "starting": (_starting, _describe_starting, _draw_starting, (7.0, 4.4)),
-    "torque_speed": (_torque_speed, _describe_torque_speed, _draw_torque_speed, (7.0, 4.2)),
-    "duty": (_duty, _describe_duty, _draw_duty, (7.0, 4.4)),
-    "back_emf": (_back_emf, _describe_back_emf, _draw_back_emf, (7.0, 4.2)),
+    "starting": (_starting, _describe_starting, _draw_starting, (504.0, 317.0)),
+    "torque_speed": (_torque_speed, _describe_torque_speed, _draw_torque_speed, (504.0, 302.0)),
+    "duty": (_duty, _describe_duty, _draw_duty, (504.0, 317.0)),
+    "back_emf": (_back_emf, _describe_back_emf, _draw_back_emf, (504.0, 302.0)),
 }
 
 
@@ -801,31 +710,13 @@ def describe(key: str, data: Mapping[str, Any], units: str = "si", failing: Iter
     return _CHARTS[key][1](_read(key, data, units, failing))
 
 
-def figure(key: str, data: Mapping[str, Any], units: str = "si", failing: Iterable[str] = ()) -> Any:
-    """Return the chart drawn on a matplotlib Figure (not saved): what :func:`svg` and :func:`png` write, and what
-    a test measures (label bounding boxes)."""
+def figure(key: str, data: Mapping[str, Any], units: str = "si", failing: Iterable[str] = ()) -> plot.Figure:
+    """Return the chart as a laid-out :class:`plot.Figure` (not written): what :func:`svg_body` writes, and what a
+    test measures (series, markers, label boxes)."""
     parsed = _read(key, data, units, failing)
-    import matplotlib
-
-    matplotlib.use("Agg")
-    from matplotlib.figure import Figure
-
-    with matplotlib.rc_context(_RC):
-        fig = Figure(figsize=_CHARTS[key][3], layout="constrained")
-        _CHARTS[key][2](fig, parsed)
-    return fig
-
-
-def _figure(key: str, data: Mapping[str, Any], units: str, fmt: str, dpi: float, failing: Iterable[str]) -> bytes:
-    import matplotlib
-
-    fig = figure(key, data, units, failing)
-    with matplotlib.rc_context(_RC):
-        buf = io.BytesIO()
-        metadata = {"Date": None, "Creator": None, "Format": None, "Type": None} if fmt == "svg" else {
-            "Software": None}
-        fig.savefig(buf, format=fmt, dpi=dpi, metadata=metadata, facecolor="white")
-    return buf.getvalue()
+    fig = plot.Figure(*_CHARTS[key][3])
+    _CHARTS[key][2](fig, parsed)
+    return fig.layout()
 
 
 _ID = re.compile(r'\bid="([^"]+)"')
@@ -833,9 +724,9 @@ _REF = re.compile(r'(href="#|url\(#)([^")]+)')
 
 
 def svg_body(key: str, data: Mapping[str, Any], units: str = "si", failing: Iterable[str] = ()) -> str:
-    """Return the chart drawn as SVG text (the costly part of :func:`svg`: matplotlib's drawing), to be made
+    """Return the chart drawn as SVG text (the costly part of :func:`svg`), to be made
     inline-ready by :func:`svg` (``body=``); raises :class:`ChartDataError` for data that cannot be read."""
-    return _figure(key, data, units, "svg", 72, failing).decode("utf-8")
+    return figure(key, data, units, failing).svg()
 
 
 # one chart to draw: (chart key, its data, units, the failing rules of its spec)
@@ -903,8 +794,6 @@ def _draw_many(todo: list[DrawJob], workers: int,
         results: Iterable[tuple[bool, str]] = map(_draw_one, todo)
         pool = None
     else:
-        import matplotlib.figure  # noqa: F401 - imported once here, shared by the forked workers
-
         pool = ProcessPoolExecutor(max_workers=min(n, len(todo)), mp_context=multiprocessing.get_context("fork"))
         results = pool.map(_draw_one, todo, chunksize=max(1, min(8, len(todo) // (4 * n))))
     try:
@@ -945,9 +834,3 @@ def svg(key: str, data: Mapping[str, Any], units: str = "si", *, chart_id: str =
     inner = f'<title id="{prefix}-title">{escape(text.title)}</title><desc id="{prefix}-desc">{escape(desc)}</desc>'
     body = head + inner + body[head_end:]
     return re.sub(r">\s+<", "><", body).strip()
-
-
-def png(key: str, data: Mapping[str, Any], units: str = "si", *, dpi: float = 110,
-        failing: Iterable[str] = ()) -> bytes:
-    """Return the chart as PNG bytes (for inline images in e-mail)."""
-    return _figure(key, data, units, "png", dpi, failing)
