@@ -9,6 +9,7 @@ import os
 import re
 import signal
 import threading
+from collections.abc import Callable
 from dataclasses import dataclass, field
 from functools import cached_property
 from pathlib import Path
@@ -87,6 +88,9 @@ class CheckContext:
     system: str = "si"
     base_dir: Path | None = None  # paths in results are relative to this
     charts: bool = True  # compute chart series beside the result (for the HTML report and the e-mail)
+    # draws a spec's charts from its result, series and units (report.charts.draw_series, given by the command
+    # line): drawn here, beside the check (in a worker process), the SVG travels with the series under "drawn"
+    draw: Callable[[dict[str, Any], dict[str, Any], str], dict[str, str]] | None = None
 
     @cached_property
     def params_without_margins(self) -> dict[str, dict[str, Any]]:
@@ -265,7 +269,10 @@ def check_spec(path: Path, ctx: CheckContext, display: str | None = None) -> Che
                         "stopped", "report the spec to the rulecheck maintainers; limits.max_seconds in the "
                         "configuration sets the limit")
         charts = None
-    return Checked(_json(result, extra), (charts or {}) if ctx.charts else None)  # a spec that did not load: none
+    result = _json(result, extra)
+    if ctx.charts and charts and ctx.draw is not None:
+        charts = {**charts, "drawn": ctx.draw(result, charts, ctx.system)}
+    return Checked(result, (charts or {}) if ctx.charts else None)  # a spec that did not load: none
 
 
 def _json(result: SpecResult, extra: dict[str, Any]) -> dict[str, Any]:

@@ -26,8 +26,8 @@ from rulecheck.report import plot
 from rulecheck.report.common import plain
 from rulecheck.units import QuantityError, format_value, parse_quantity
 
-__all__ = ["CHART_KEYS", "ChartDataError", "ChartText", "DrawJob", "available", "describe", "draw_all", "failing_rules",
-           "figure", "svg", "svg_body"]
+__all__ = ["CHART_KEYS", "ChartDataError", "ChartText", "DrawJob", "available", "describe", "draw_all", "draw_series",
+           "failing_rules", "figure", "svg", "svg_body"]
 
 CHART_KEYS = ("starting", "torque_speed", "duty", "back_emf")
 MAX_PLOT_POINTS = 4000  # more points than this add nothing visible at report size
@@ -727,6 +727,20 @@ def svg_body(key: str, data: Mapping[str, Any], units: str = "si", failing: Iter
     """Return the chart drawn as SVG text (the costly part of :func:`svg`), to be made
     inline-ready by :func:`svg` (``body=``); raises :class:`ChartDataError` for data that cannot be read."""
     return figure(key, data, units, failing).svg()
+
+
+def draw_series(result: Mapping[str, Any], series: Mapping[str, Any], units: str = "si") -> dict[str, str]:
+    """Return every chart of a spec drawn (chart key → :func:`svg_body` text) from its result (which rules
+    failed) and its chart series; a chart whose data cannot be drawn is left out (the report says why when it
+    describes it). The check gives this to its workers, so charts are drawn where the spec is checked."""
+    failing = failing_rules(result)
+    drawn = {}
+    for key in available({"charts": series}):
+        try:
+            drawn[key] = svg_body(key, series[key], units, failing)
+        except ChartDataError:
+            continue
+    return drawn
 
 
 # one chart to draw: (chart key, its data, units, the failing rules of its spec)

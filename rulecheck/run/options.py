@@ -3,7 +3,9 @@
 from __future__ import annotations
 
 import datetime as _dt
+from collections.abc import Callable
 from dataclasses import dataclass, field
+from typing import Any
 
 __all__ = ["FAST_VALIDATOR_FROM", "RunOptions", "UsageError"]
 
@@ -28,5 +30,7 @@ class RunOptions:
     cache_dir: str | None = None  # None = no cache
     changed_since: str | None = None
     charts: bool = True  # compute chart series beside the results (for the HTML report and the e-mail)
+    # draw each spec's charts where it is checked (report.charts.draw_series): Stream.drawings has them
+    draw: Callable[[dict[str, Any], dict[str, Any], str], dict[str, str]] | None = None
     code_cache_dir: str | None = None  # compiled rules and lint results, kept even when results are not cached
     lazy_cached: bool = False  # yield cached results unparsed (CachedEntry): enough for a JSON report

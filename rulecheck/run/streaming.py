@@ -36,13 +36,16 @@ __all__ = ["Stream", "run", "run_stream", "run_with_charts"]
 class Stream:
     """A run whose spec results arrive one at a time, in order (memory does not grow with the repository).
 
-    When the run draws charts, ``charts`` receives each spec's chart series as its result is yielded.
+    When the run draws charts, ``charts`` receives each spec's chart series as its result is yielded, and
+    ``drawings`` the charts drawn where the spec was checked (chart key → SVG text; None when the run's
+    ``options.draw`` is not set or the series came from a cache entry written without drawings).
     """
 
     header: dict[str, Any]
     specs: Iterator[Any]
     cache: ResultCache | None = None
     charts: list[dict[str, Any] | None] = field(default_factory=list)
+    drawings: list[dict[str, str] | None] = field(default_factory=list)
     warnings: list[str] = field(default_factory=list)  # for the user, before the results (a refused cache key)
 
     def add_cache_counts(self, summary: dict[str, Any]) -> None:
@@ -177,6 +180,7 @@ class _Rules:
                 s.configs.for_spec(item.spec), s.extra, s.today, s.units, s.base_dir, s.code_cache,
                 self.plan.digests[item.cfg_file])
             prepared.context.charts = s.options.charts
+            prepared.context.draw = s.options.draw if s.options.charts else None
         return prepared.context
 
 
@@ -207,7 +211,8 @@ def _start_workers(s: _Setup, rules: _Rules, todo: list[_Planned]) -> Workers | 
     INHERITED.update(rules.prepared)
     kinds = {cfg or "": p.context.value_kinds for cfg, p in rules.prepared.items()}
     init = (s.explicit.file if s.explicit else None, [str(p) for p in s.extra], s.today.isoformat(), s.units,
-            str(s.base_dir), kinds, s.options.charts, str(s.cache.folder) if s.cache is not None else None)
+            str(s.base_dir), kinds, s.options.charts, str(s.cache.folder) if s.cache is not None else None,
+            s.options.draw)
     from rulecheck.schema import _fast_validators
 
     _fast_validators()  # compiled once here: the forked workers inherit them
@@ -218,8 +223,10 @@ class _Results:
     """The spec results of a run, in order: from the cache, from the workers, or checked here."""
 
     def __init__(self, s: _Setup, plan: _Plan, rules: _Rules, todo: list[_Planned], pool: Workers | None,
-                 charts: list[dict[str, Any] | None], tick: Callable[[], None]) -> None:
-        self.s, self.plan, self.rules, self.pool, self.charts, self.tick = s, plan, rules, pool, charts, tick
+                 charts: list[dict[str, Any] | None], drawings: list[dict[str, str] | None],
+                 tick: Callable[[], None]) -> None:
+        self.s, self.plan, self.rules, self.pool, self.tick = s, plan, rules, pool, tick
+        self.charts, self.drawings = charts, drawings
         self.missing = {item.k for item in todo}
         self.queue = [(item.k, item.cfg_file, item.spec, item.shown, item.key,
                        plan.contexts[item.cfg_file] if plan.keyed_later else None) for item in todo]
@@ -233,7 +240,10 @@ class _Results:
                 found = self._cached(item) or self._from_workers(item.k) or self._here(item)
                 result, series = found
                 if self.s.options.charts:
-                    self.charts.append(series)
+                    drawn = series.get("drawn") if isinstance(series, dict) else None
+                    self.charts.append({k: v for k, v in series.items() if k != "drawn"} if drawn is not None
+                                       else series)
+                    self.drawings.append(drawn if isinstance(drawn, dict) else None)
                 self.tick()
                 yield result
             finished = True
@@ -319,10 +329,11 @@ def run_stream(options: RunOptions, progress: Callable[[int, int], None] | None 
     head = header(s.fail_on, s.units, digest, rule_count(rules.prepared, s.first_cfg, s.extra),
                   rules_block(rules.prepared, s.first_cfg, s.extra, s.code_cache, digest))
     charts: list[dict[str, Any] | None] = []
+    drawings: list[dict[str, str] | None] = []
     from rulecheck.cache import KEY_PROBLEMS
 
-    return Stream(head, iter(_Results(s, plan, rules, todo, pool, charts, tick)), s.cache, charts,
-                  [*s.notes, *dict.fromkeys(KEY_PROBLEMS)])
+    return Stream(head, iter(_Results(s, plan, rules, todo, pool, charts, drawings, tick)), s.cache, charts,
+                  drawings, [*s.notes, *dict.fromkeys(KEY_PROBLEMS)])
 
 
 def run_with_charts(options: RunOptions,
