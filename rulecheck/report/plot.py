@@ -162,7 +162,6 @@ class Label:
     color: str = "#000000"
     boxed: bool = False  # a white ground behind the text
     x_fraction: bool = False
-    movable: bool = True
     box: Box | None = None
 
 
@@ -385,29 +384,34 @@ class Figure:
         return Box(left - pad, top - pad, left + w + pad, top + h + pad)
 
     def _place_labels(self) -> None:
-        """Move labels apart so that no two overlap, none is cut off at the edge of the drawing and none sits on
-        a legend: each label in turn is shifted up or down by its own height, in growing steps, until its box is
-        clear of every label placed before it (greedy: deterministic)."""
-        page = self.box
+        """Move labels apart so that no two overlap, none sits on a legend and each stays inside its plot (or, where
+        it cannot, inside the drawing): each label in turn is shifted up or down by its own height, in growing
+        steps, until its box is clear of every label placed before it (greedy: deterministic)."""
         placed = [b for b in [self.legend_box, *(ax.legend_box for ax in self.axes)] if b is not None]
         for ax in self.axes:
             for lb in ax.labels:
-                dx, dy = lb.dx, lb.dy
-                box = self._label_box(ax, lb, dx, dy)
-                shift = min(0.0, page.x1 - 2 - box.x1) + max(0.0, page.x0 + 2 - box.x0)
-                if shift:
-                    dx += shift
-                    box = self._label_box(ax, lb, dx, dy)
-                step = box.y1 - box.y0 + 2.0
-                moved = 0.0
-                for k in range(1, 61):
-                    if not lb.movable or (box.inside(page) and not any(box.overlaps(b, 2.0) for b in placed)):
-                        break
-                    moved = (k + 1) // 2 * step * (-1 if k % 2 else 1)
-                    box = self._label_box(ax, lb, dx, dy + moved)
-                lb.dx, lb.dy = dx, dy + moved
-                lb.box = box
-                placed.append(box)
+                assert ax.box is not None
+                found = self._fit(ax, lb, ax.box, placed) or self._fit(ax, lb, self.box, placed)
+                if found is None:  # nowhere clear: where it was asked for, inside the drawing
+                    found = self._fit(ax, lb, self.box, [])
+                lb.dx, lb.dy, lb.box = found  # type: ignore[misc]
+                placed.append(lb.box)  # type: ignore[arg-type]
+
+    def _fit(self, ax: Axes, lb: Label, bound: Box, placed: list[Box]) -> tuple[float, float, Box] | None:
+        """Return the offset and box of a label moved inside ``bound`` and clear of ``placed``, or None."""
+        dx, dy = lb.dx, lb.dy
+        box = self._label_box(ax, lb, dx, dy)
+        shift = min(0.0, bound.x1 - 2 - box.x1) + max(0.0, bound.x0 + 2 - box.x0)
+        if shift:  # wider than the room on its side of the point: moved back inside
+            dx += shift
+            box = self._label_box(ax, lb, dx, dy)
+        step = box.y1 - box.y0 + 2.0
+        for k in range(0, 61):
+            moved = (k + 1) // 2 * step * (-1 if k % 2 else 1)
+            box = self._label_box(ax, lb, dx, dy + moved)
+            if box.inside(bound) and not any(box.overlaps(b, 2.0) for b in placed):
+                return dx, dy + moved, box
+        return None
 
     # --- writing ---
 
