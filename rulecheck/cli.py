@@ -592,7 +592,9 @@ def _cache_dir(args: argparse.Namespace) -> str:
     return args.cache_dir or str(default_cache_dir() / "results")
 
 
-STREAMED = ("text", "json", "annotations")  # formats written spec by spec: memory stays flat on large repositories
+# formats written spec by spec: memory stays flat on large repositories (the HTML report keeps each spec's section
+# in a scratch file and a summary row in memory, and writes the page once every verdict is in)
+STREAMED = ("text", "json", "annotations", "html")
 
 
 class _Sink:
@@ -604,6 +606,8 @@ class _Sink:
         self.quiet = bool(getattr(args, "quiet", False))
         self.to_stdout = file in (None, "-")
         target = Path(file) if file and not self.to_stdout else None
+        if fmt == "html":
+            self.html = self._html(args, header, target)
         if target is not None and target.exists() and not target.is_file():
             self.handle: Any = open(target, "w", encoding="utf-8")  # a device or pipe: write straight to it
         elif target is not None:
@@ -627,6 +631,22 @@ class _Sink:
                                    show_derived=args.show_derived, units=header["settings"]["units"],
                                    requirements=getattr(args, "requirements", False))
 
+    def _html(self, args: argparse.Namespace, header: dict[str, Any], target: Path | None) -> Any:
+        """Return the streamed HTML report; its scratch file goes beside the report (a device's or standard
+        output's: in the system's temporary folder)."""
+        from rulecheck.report import html
+
+        charts = bool(getattr(args, "_charts", False))
+        device = target is not None and target.exists() and not target.is_file()
+        folder = str(target.absolute().parent) if target is not None and not device else None
+        self.progress = _progress(args, "drive trains written")
+        try:
+            return html.StreamedReport(header, units=header["settings"]["units"], charts=charts,
+                                       meta=_page_meta(args), store=_drawing_store(args) if charts else None,
+                                       folder=folder)
+        except ValueError as exc:
+            raise _Usage(str(exc)) from None
+
     def _bytes_writer(self) -> Any:
         """Return a function writing UTF-8 bytes to the handle (its binary buffer when it has one)."""
         buffer = getattr(self.handle, "buffer", None)
@@ -635,9 +655,12 @@ class _Sink:
             return buffer.write
         return lambda data: self.handle.write(data.decode("utf-8"))
 
-    def spec(self, spec: dict[str, Any]) -> None:
+    def spec(self, spec: dict[str, Any], series: Any = None, drawings: Any = None) -> None:
+        """Write one spec's result (``series``, ``drawings``: its chart series and charts drawn, for HTML)."""
         spec = self.paths.spec(spec, self.fmt)
-        if self.fmt == "json":
+        if self.fmt == "html":
+            self.html.add(spec, series, drawings)
+        elif self.fmt == "json":
             self.json.spec(spec)
         elif self.fmt == "text":
             self.handle.write(self.text.spec(spec))
@@ -651,6 +674,9 @@ class _Sink:
             self.json.end(summary)
         elif self.fmt == "text" and not self.quiet:
             self.handle.write(self.text.footer(summary))
+        elif self.fmt == "html":
+            self.html.write(self._bytes_writer(), self.progress)
+            self.html.close()
         self.handle.flush()
         if not self.to_stdout:
             self.handle.close()
@@ -662,6 +688,8 @@ class _Sink:
             self.tmp = None
 
     def abort(self) -> None:
+        if self.fmt == "html":
+            self.html.close()
         if not self.to_stdout:
             self.handle.close()
         if self.tmp:
@@ -671,17 +699,32 @@ class _Sink:
                 pass
 
 
+def _charts_of(stream: Any, k: int) -> tuple[Any, Any]:
+    """Return the chart series of the stream's spec ``k`` and the charts the checking drew of them (None where
+    there are none), and let go of both: they are written with the spec, and memory stays flat."""
+    found = []
+    for name in ("charts", "drawings"):
+        items = getattr(stream, name, None)
+        if isinstance(items, list) and k < len(items):
+            found.append(items[k])
+            items[k] = None
+        else:
+            found.append(None)
+    return found[0], found[1]
+
+
 def _write_streamed(stream: Any, sinks: list[_Sink], matcher: Any, shown: _Paths) -> dict[str, Any]:
     """Give each spec result to every report as it arrives; finish them all, then put them in place."""
     from rulecheck.result import Tally
 
     tally = Tally(stream.header["settings"]["fail_on"])
-    for spec in stream.specs:
+    for k, spec in enumerate(stream.specs):
+        series, drawings = _charts_of(stream, k)
         if matcher is not None:
             spec = matcher.mark(spec, shown.machine(spec["file"]))
         tally.add(spec)
         for sink in sinks:
-            sink.spec(spec)
+            sink.spec(spec, series, drawings)
     summary = tally.result()
     if matcher is not None:
         matcher.adjust(summary)

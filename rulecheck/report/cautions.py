@@ -11,13 +11,14 @@ follow docs/references.md, safety cautions.
 
 from __future__ import annotations
 
-from collections.abc import Mapping
+from collections.abc import Iterable, Mapping
 from dataclasses import dataclass, field
 from typing import Any
 
 from rulecheck.report.common import plain
 
-__all__ = ["GENERAL", "HAZARDS", "Caution", "Hazard", "SelectedHazard", "select_hazards"]
+__all__ = ["GENERAL", "HAZARDS", "Caution", "Hazard", "Raised", "SelectedHazard", "merge_hazards", "raised_by",
+           "select_hazards"]
 
 
 @dataclass(frozen=True)
@@ -200,25 +201,44 @@ def _fits(hazard: Hazard, every: list[Mapping[str, Any]]) -> bool:
     return not gates or any(o.get("outcome") != "not-applicable" for o in gates)
 
 
+# what one drive train contributes to the hazard list: (hazard key, drive train's tag, the rules that raise it)
+Raised = tuple[str, str, tuple[str, ...]]
+
+
+def raised_by(spec: Mapping[str, Any]) -> list[Raised]:
+    """Return the hazards one spec's failing, waived or unchecked safety rules raise, in table order (a streamed
+    report keeps these few lines per spec and merges them with :func:`merge_hazards`)."""
+    if not isinstance(spec, Mapping):
+        return []
+    tag = plain(spec.get("tag"), 80) or plain(spec.get("file"), 120) or "(unnamed)"
+    every = [o for o in (spec.get("outcomes") or []) if isinstance(o, Mapping)]
+    outcomes = [o for o in every if _raises(o)]
+    if not outcomes:
+        return []
+    raised = []
+    for hazard in HAZARDS:
+        if not _fits(hazard, every):
+            continue
+        rules = tuple(plain(o.get("rule"), 120) for o in outcomes if _matches(hazard, o))
+        if rules:
+            raised.append((hazard.key, tag, rules))
+    return raised
+
+
+def merge_hazards(raised: Iterable[Raised]) -> list[SelectedHazard]:
+    """Return the hazards of many specs' :func:`raised_by` lines (given in report order), in table order."""
+    by_key = {h.key: h for h in HAZARDS}
+    selected: dict[str, SelectedHazard] = {}
+    for key, tag, rules in raised:
+        entry = selected.setdefault(key, SelectedHazard(by_key[key]))
+        if tag not in entry.tags:
+            entry.tags.append(tag)
+        for r in rules:
+            if r not in entry.rules:
+                entry.rules.append(r)
+    return [selected[h.key] for h in HAZARDS if h.key in selected]
+
+
 def select_hazards(specs: list[Mapping[str, Any]]) -> list[SelectedHazard]:
     """Return the hazards raised by the given specs' failing, waived or unchecked safety rules, in table order."""
-    selected: dict[str, SelectedHazard] = {}
-    for spec in specs:
-        if not isinstance(spec, Mapping):
-            continue
-        tag = plain(spec.get("tag"), 80) or plain(spec.get("file"), 120) or "(unnamed)"
-        every = [o for o in (spec.get("outcomes") or []) if isinstance(o, Mapping)]
-        outcomes = [o for o in every if _raises(o)]
-        for hazard in HAZARDS:
-            if not _fits(hazard, every):
-                continue
-            rules = [plain(o.get("rule"), 120) for o in outcomes if _matches(hazard, o)]
-            if not rules:
-                continue
-            entry = selected.setdefault(hazard.key, SelectedHazard(hazard))
-            if tag not in entry.tags:
-                entry.tags.append(tag)
-            for r in rules:
-                if r not in entry.rules:
-                    entry.rules.append(r)
-    return [selected[h.key] for h in HAZARDS if h.key in selected]
+    return merge_hazards(line for spec in specs for line in raised_by(spec))

@@ -35,12 +35,14 @@ __all__ = [
     "outcome_label",
     "plain",
     "safety_errors",
+    "sort_key",
     "sorted_specs",
     "spec_name",
     "summary_line",
     "value_items",
     "value_label",
     "verdict_label",
+    "verdicts_line",
     "waiver_items",
 ]
 
@@ -114,9 +116,11 @@ def plain(text: Any, limit: int = 2000) -> str:
     """Return ``text`` as a single-line string without control characters, cut to ``limit`` characters."""
     if text is None:
         return ""
-    s = str(text)
-    s = "".join(ch if ch.isprintable() else " " for ch in s)
-    s = " ".join(s.split())
+    s = text if type(text) is str else str(text)
+    # the common case, checked in C: printable (so its only white space is U+0020) and already single-spaced
+    if not (s.isprintable() and "  " not in s and s[:1] != " " and s[-1:] != " "):
+        s = "".join(ch if ch.isprintable() else " " for ch in s)
+        s = " ".join(s.split())
     if len(s) > limit:
         s = s[: limit - 1] + "…"
     return s
@@ -280,22 +284,24 @@ def _tier(spec: Mapping[str, Any]) -> int:
     return 2
 
 
+def sort_key(spec: Mapping[str, Any]) -> tuple:
+    """Return a spec's place in the report's order (worst first, :data:`ORDER_STATEMENT`); equal keys keep the
+    order the specs came in."""
+    c = counts(spec)
+    return (
+        _tier(spec),
+        -safety_errors(spec),
+        -c["error"],
+        -c["warning"],
+        -c["not-checked"],
+        plain(spec.get("tag")),
+        plain(spec.get("file")),
+    )
+
+
 def sorted_specs(specs: Iterable[Mapping[str, Any]]) -> list[Mapping[str, Any]]:
     """Return the specs worst first, in the order :data:`ORDER_STATEMENT` describes."""
-
-    def key(spec: Mapping[str, Any]) -> tuple:
-        c = counts(spec)
-        return (
-            _tier(spec),
-            -safety_errors(spec),
-            -c["error"],
-            -c["warning"],
-            -c["not-checked"],
-            plain(spec.get("tag")),
-            plain(spec.get("file")),
-        )
-
-    return sorted((s for s in specs if isinstance(s, Mapping)), key=key)
+    return sorted((s for s in specs if isinstance(s, Mapping)), key=sort_key)
 
 
 @dataclass
@@ -426,15 +432,21 @@ def derived_used(spec: Mapping[str, Any], outcomes: Iterable[Mapping[str, Any]])
 def summary_line(result: Mapping[str, Any]) -> str:
     """Return a one-line summary of the whole result, e.g. ``3 drive trains: 1 fail, 1 warning, 1 pass``."""
     specs = [s for s in (result.get("specs") or []) if isinstance(s, Mapping)]
+    return verdicts_line(verdict_label(s).word.lower() for s in specs)
+
+
+def verdicts_line(words: Iterable[str]) -> str:
+    """Return the one-line summary of the verdicts (each a :func:`verdict_label` word in lower case) of a run."""
     tally: dict[str, int] = {}
-    for s in specs:
-        word = verdict_label(s).word.lower()
+    n = 0
+    for word in words:
         tally[word] = tally.get(word, 0) + 1
+        n += 1
     order = ["fail", "invalid", "unreadable", "warning", "pass"]
     parts = [f"{tally[w]} {w}" for w in order if tally.get(w)]
-    parts += [f"{n} {w}" for w, n in sorted(tally.items()) if w not in order]
-    noun = "drive train" if len(specs) == 1 else "drive trains"
-    return f"{len(specs)} {noun}: " + (", ".join(parts) if parts else "nothing checked")
+    parts += [f"{k} {w}" for w, k in sorted(tally.items()) if w not in order]
+    noun = "drive train" if n == 1 else "drive trains"
+    return f"{n} {noun}: " + (", ".join(parts) if parts else "nothing checked")
 
 
 def spec_name(spec: Mapping[str, Any]) -> str:
