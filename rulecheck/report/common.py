@@ -11,6 +11,7 @@ from __future__ import annotations
 import math
 from collections.abc import Iterable, Mapping
 from dataclasses import dataclass
+from functools import lru_cache
 from typing import Any
 
 from rulecheck.result import SEVERITY_RANK
@@ -133,7 +134,26 @@ def _number(value: Any) -> float | None:
     return value if math.isfinite(value) else None
 
 
+_MEMO_TYPES = (str, int, float, bool, type(None))
+
+
 def display(value: Mapping[str, Any] | Any, system: str = "si", *, ratio: bool = False) -> str:
+    """Return a value dict ``{"value", "unit", "kind"}`` as text for people, e.g. ``1455 r/min`` (see
+    :func:`_display`; the same value, unit and kind repeat across the specs of a run: their text is kept in a
+    bounded memo)."""
+    if type(value) is dict or isinstance(value, Mapping):
+        raw, unit, kind = value.get("value"), value.get("unit"), value.get("kind")
+        if type(raw) in _MEMO_TYPES and type(unit) in _MEMO_TYPES and type(kind) in _MEMO_TYPES:
+            return _display_memo(raw, unit, kind, system, ratio)
+    return _display(value, system, ratio=ratio)
+
+
+@lru_cache(maxsize=8192, typed=True)  # typed: 1, 1.0 and True are different values
+def _display_memo(raw: Any, unit: Any, kind: Any, system: str, ratio: bool) -> str:
+    return _display({"value": raw, "unit": unit, "kind": kind}, system, ratio=ratio)
+
+
+def _display(value: Mapping[str, Any] | Any, system: str = "si", *, ratio: bool = False) -> str:
     """Return a value dict ``{"value", "unit", "kind"}`` as text for people, e.g. ``1455 r/min``.
 
     The dict carries machine units (shaft speed in r/min, the rest SI); it is
@@ -187,6 +207,17 @@ def _is_words(tokens: list[str]) -> bool:
 def value_label(name: Any, kind: Any = None) -> str:
     """Return a value's name for people: words as words ("worst speed"), a symbol in the trade's notation after
     the name of its declared kind ("torque T₂,nom", "energy E_bus", "service factor SF_app", "time t_ol")."""
+    if type(name) is str and type(kind) in _MEMO_TYPES:
+        return _value_label_memo(name, kind)  # a rule's few value names repeat in every spec
+    return _value_label(name, kind)
+
+
+@lru_cache(maxsize=2048, typed=True)
+def _value_label_memo(name: str, kind: Any) -> str:
+    return _value_label(name, kind)
+
+
+def _value_label(name: Any, kind: Any = None) -> str:
     text = plain(name, 80)
     tokens = [t for t in text.lower().split("_") if t]
     if not tokens or _is_words(tokens):
@@ -414,17 +445,19 @@ def derived_used(spec: Mapping[str, Any], outcomes: Iterable[Mapping[str, Any]])
     derived = spec.get("derived") or {}
     if not isinstance(derived, Mapping):
         return set()
-    shown: list[tuple[float, str]] = []
+    shown: dict[str, list[float]] = {}  # by unit
     for o in outcomes:
         values = o.get("values") if isinstance(o.get("values"), Mapping) else {}
         for v in values.values():
             number = _number(v.get("value")) if isinstance(v, Mapping) else None
             if number:
-                shown.append((number, str(v.get("unit"))))
+                shown.setdefault(str(v.get("unit")), []).append(number)
     used = set()
+    if not shown:
+        return used
     for path, d in derived.items():
         number = _number(d.get("value")) if isinstance(d, Mapping) else None
-        if number and any(unit == str(d.get("unit")) and math.isclose(number, n, rel_tol=1e-6) for n, unit in shown):
+        if number and any(math.isclose(number, n, rel_tol=1e-6) for n in shown.get(str(d.get("unit")), ())):
             used.add(str(path))
     return used
 

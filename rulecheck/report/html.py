@@ -33,7 +33,19 @@ UNITS_WORDS = {"si": "SI", "customary": "US customary"}
 def _environment() -> Any:
     from jinja2 import Environment, PackageLoader, StrictUndefined
 
-    env = Environment(
+    class _Views(Environment):
+        """The views are dicts: ``s.name`` reads the key first (jinja tries the attribute first, and a failed
+        attribute look-up per value cost about a fifth of the rendering). No template calls a dict's methods."""
+
+        def getattr(self, obj: Any, attribute: str) -> Any:
+            if type(obj) is dict:
+                try:
+                    return obj[attribute]
+                except KeyError:
+                    pass
+            return super().getattr(obj, attribute)
+
+    env = _Views(
         loader=PackageLoader("rulecheck", "templates"),
         autoescape=True,
         undefined=StrictUndefined,
@@ -197,12 +209,13 @@ def _spec_view(spec: Mapping[str, Any], number: Any, units: str, draw: bool, ima
     puts there until every place is known)."""
     groups = common.group_outcomes(spec)
     errors = spec.get("errors") if isinstance(spec.get("errors"), list) else []
-    derived = common.derived_items(spec, units)
+    # (path, value, from, method, source): the table's rows unpacked in the template, no look-up per cell
+    derived = [(d["path"], d["value"], d["from"], d["method"], d["source"]) for d in common.derived_items(spec, units)]
     used = common.derived_used(spec, [*groups.failures, *groups.not_checked, *groups.waived])
     return {
         **_summary_row(spec, number, groups, errors),
         "requirements": _requirement_views(spec, units),
-        "derived_used": [d for d in derived if d["path"] in used],
+        "derived_used": [d for d in derived if d[0] in used],
         "quiet": not groups.failures and not groups.not_checked and not groups.waived and not errors,
         "tag": plain(spec.get("tag"), 80),
         "title": plain(spec.get("title"), 300),
