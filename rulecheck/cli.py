@@ -643,7 +643,7 @@ class _Sink:
         try:
             return html.StreamedReport(header, units=header["settings"]["units"], charts=charts,
                                        meta=_page_meta(args), store=_drawing_store(args) if charts else None,
-                                       folder=folder, jobs=getattr(args, "jobs", 0) or 0)
+                                       folder=folder)
         except ValueError as exc:
             raise _Usage(str(exc)) from None
 

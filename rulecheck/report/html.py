@@ -10,7 +10,6 @@ SVG (or, for e-mail, ``cid:`` images supplied by the caller).
 
 from __future__ import annotations
 
-from collections import deque
 from collections.abc import Callable, Iterable, Mapping
 from dataclasses import dataclass
 from functools import lru_cache
@@ -367,34 +366,25 @@ class _Row:
 
 
 class StreamedReport:
-    """The HTML report written as spec results arrive, holding a bounded number of specs at a time.
+    """The HTML report written as spec results arrive, holding one spec at a time.
 
     :meth:`add` renders each spec's section (its appendix too) into a scratch file and keeps only its summary
     row; :meth:`write` then writes the page head and summary, every section in the report's order
     (:func:`common.sort_key`) copied from the scratch file with its number put in, and the page's end. The page
     reads as :func:`render`'s. ``folder``: where the scratch file goes (the report's folder; None: the system's
-    temporary folder). ``store``: charts drawn by earlier runs (see :func:`context`). ``jobs``: processes that
-    draw the charts the checking did not (0: one per core, 1: drawn here); while they draw, at most
-    :attr:`WINDOW` specs wait for their charts.
+    temporary folder). ``store``: charts drawn by earlier runs (see :func:`context`).
     """
-
-    WINDOW = 32  # specs waiting for their charts to be drawn in the pool, at most
 
     def __init__(self, header: Mapping[str, Any], *, units: str = "si", charts: bool = True,
                  meta: Mapping[str, Any] | None = None, store: charts.DrawingStore | None = None,
-                 folder: str | None = None, jobs: int = 1) -> None:
+                 folder: str | None = None) -> None:
         if units not in UNITS_WORDS:
             raise ValueError(f"units must be 'si' or 'customary', not {units!r}")
         _page_meta(meta)  # a bad paper is refused before any spec is checked
         self.header, self.units, self.charts, self.meta, self.store = header, units, charts, meta, store
-        self.jobs = jobs
         self.rules = _rules(header)
         self.rows: list[_Row] = []
         self._size = 0
-        self._arrived = 0
-        self._undrawn = 0  # charts neither the checking nor an earlier run drew, so far
-        self._waiting: deque[tuple[int, Mapping[str, Any], dict[str, tuple[bool, str]], dict[str, Any]]] = deque()
-        self._pool: Any = None
         self._section = _environment().get_template("report-section.html")
         import tempfile
 
@@ -405,103 +395,42 @@ class StreamedReport:
 
     def add(self, spec: Mapping[str, Any], series: Mapping[str, Any] | None = None,
             drawings: Mapping[str, str | None] | None = None) -> None:
-        """Take one spec's result; ``series``: its chart series, ``drawings``: those charts already drawn
-        (chart key -> SVG body, as :func:`charts.svg_body` gives; the others are drawn here or in the pool)."""
-        self._arrived += 1
-        if not self.charts:
-            self._render(self._arrived, spec, None)
-            return
-        spec = {**spec, "charts": dict(series or {})}
-        drawn, todo = self._given(spec, drawings or {})
-        self._undrawn += len(todo)
-        # the first few are drawn here: a pool costs more than a few charts
-        if todo and (self.jobs == 1 or self._pool is None and self._undrawn < charts.POOL_MIN_CHARTS):
-            drawn.update(self._draw_here(spec, todo))
-            todo = []
-        if not todo and not self._waiting:
-            self._render(self._arrived, spec, drawn)
-            return
-        failing = charts.failing_rules(spec)
-        pool = self._start_pool()
-        futures = {key: pool.submit(charts.svg_body, key, spec["charts"][key], self.units, failing) for key in todo}
-        self._waiting.append((self._arrived, spec, drawn, futures))
-        self._settle(wait=len(self._waiting) > self.WINDOW)
-
-    def _given(self, spec: Mapping[str, Any], drawings: Mapping[str, str | None]) -> tuple[dict[str, tuple[bool,
-                                                                                                        str]], list]:
-        """Return the spec's charts drawn already (by the checking, or by an earlier run: the store) and the keys
-        of those still to draw."""
-        drawn: dict[str, tuple[bool, str]] = {}
-        todo = []
-        failing = charts.failing_rules(spec) if self.store is not None else frozenset()
-        for key in charts.available(spec):
-            body = drawings.get(key)
-            if not isinstance(body, str) and self.store is not None:
-                body = self.store.get(_content(key, spec["charts"][key], self.units, failing))
-            if isinstance(body, str):
-                drawn[key] = (True, body)
-            else:
-                todo.append(key)
-        return drawn, todo
-
-    def _draw_here(self, spec: Mapping[str, Any], todo: list[str]) -> dict[str, tuple[bool, str]]:
-        failing = charts.failing_rules(spec)
-        jobs = [(key, spec["charts"][key], self.units, failing) for key in todo]
-        return dict(zip(todo, charts.draw_all(jobs, 1, None, self.store), strict=True))
-
-    def _start_pool(self) -> Any:
-        """Return the pool drawing charts: processes started afresh (not forked: the run's checking workers and
-        their pipes must not be copied into them)."""
-        if self._pool is None:
-            import multiprocessing
-            import os
-            from concurrent.futures import ProcessPoolExecutor
-
-            self._pool = ProcessPoolExecutor(max_workers=self.jobs or os.cpu_count() or 1,
-                                             mp_context=multiprocessing.get_context("spawn"))
-        return self._pool
-
-    def _settle(self, wait: bool, every: bool = False) -> None:
-        """Render the waiting specs, in the order they came, whose charts are drawn (``wait``: wait for the first
-        one's; ``every``: wait for all)."""
-        while self._waiting:
-            arrival, spec, drawn, futures = self._waiting[0]
-            if not wait and not all(f.done() for f in futures.values()):
-                return
-            failing = charts.failing_rules(spec)
-            for key, future in futures.items():
-                try:
-                    body = future.result()
-                except charts.ChartDataError as exc:
-                    drawn[key] = (False, str(exc))
-                    continue
-                except Exception:  # noqa: BLE001 - a pool that broke: the chart is drawn here instead
-                    drawn.update(self._draw_here(spec, [key]))
-                    continue
-                drawn[key] = (True, body)
-                if self.store is not None:
-                    self.store.put(_content(key, spec["charts"][key], self.units, failing), body)
-            self._waiting.popleft()
-            self._render(arrival, spec, drawn)
-            wait = every
-
-    def _render(self, arrival: int, spec: Mapping[str, Any], drawn: Drawn | None) -> None:
-        """Render one spec's section into the scratch file and keep its summary row."""
+        """Render one spec's section; ``series``: its chart series, ``drawings``: those charts already drawn
+        (chart key -> SVG body, as :func:`charts.svg_body` gives; the others are drawn here)."""
+        arrival = len(self.rows) + 1
+        drawn = None
+        if self.charts:
+            spec = {**spec, "charts": dict(series or {})}
+            drawn = self._draw(spec, drawings or {})
         view = _spec_view(spec, MARK, self.units, self.charts, None, self.rules, drawn, chart_id=f"dt{arrival}")
         data = self._section.render(s=view, details=True).encode("utf-8")
         self._scratch.write(data)
         row = {k: view[k] for k in ("verdict", "name", "counts", "deciding", "deciding_more")}
         row["load_errors"] = view["load_errors"][:1]
-        self.rows.append(_Row((common.sort_key(spec), arrival), self._size, len(data), row,
-                              view["verdict"].word.lower(), cautions.raised_by(spec)))
+        self.rows.append(_Row(common.sort_key(spec), self._size, len(data), row, view["verdict"].word.lower(),
+                              cautions.raised_by(spec)))
         self._size += len(data)
+
+    def _draw(self, spec: Mapping[str, Any], drawings: Mapping[str, str | None]) -> dict[str, tuple[bool, str]]:
+        """Return the spec's charts drawn: those the checking gave as they are, the others drawn here."""
+        drawn: dict[str, tuple[bool, str]] = {}
+        todo = []
+        for key in charts.available(spec):
+            body = drawings.get(key)
+            if isinstance(body, str):
+                drawn[key] = (True, body)
+            else:
+                todo.append(key)
+        if todo:
+            failing = charts.failing_rules(spec)
+            jobs = [(key, spec["charts"][key], self.units, failing) for key in todo]
+            drawn.update(zip(todo, charts.draw_all(jobs, 1, None, self.store), strict=True))
+        return drawn
 
     def write(self, out: Callable[[bytes], Any], progress: Callable[[int, int], None] | None = None) -> None:
         """Write the whole page through ``out``: head and summary, the sections in order, the end;
         ``progress(done, total)`` as sections are written."""
-        self._settle(wait=True, every=True)
-        self.close_pool()
-        self.rows.sort(key=lambda r: r.key)  # equal places keep the order the specs came in
+        self.rows.sort(key=lambda r: r.key)  # stable: equal keys keep the order the specs came in
         for n, r in enumerate(self.rows, start=1):
             r.view["number"] = n
             r.view["anchor"] = f"dt-{n}"
@@ -523,20 +452,6 @@ class StreamedReport:
         for chunk in env.get_template("report-tail.html").generate(ctx):
             out(chunk.encode("utf-8"))
 
-    def close_pool(self) -> None:
-        """Stop the processes drawing charts, if any."""
-        if self._pool is not None:
-            self._pool.shutdown(cancel_futures=True)
-            self._pool = None
-
     def close(self) -> None:
-        """Stop drawing and remove the scratch file."""
-        self.close_pool()
+        """Remove the scratch file."""
         self._scratch.close()
-
-
-def _content(key: str, data: Any, units: str, failing: frozenset[str]) -> str:
-    """Return what a drawn chart is kept under in the store: the content charts.draw_all keeps it under."""
-    import json
-
-    return json.dumps([key, data, units, sorted(failing)], sort_keys=True, default=str)

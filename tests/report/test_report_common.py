@@ -168,32 +168,3 @@ def test_conveyor_runback_has_its_own_wording():
                          {"rule": "holding-brake-vertical", "outcome": "not-applicable", "safety": True}]}
     # its topic (regeneration-holding) also selects stored energy (a loaded incline stores it); never the hoist text
     assert "runback" in _keys(spec) and "suspended-load" not in _keys(spec)
-
-
-def _plain_reference(text, limit=2000):
-    """plain() as it was before its quick path: every character looked at."""
-    if text is None:
-        return ""
-    s = "".join(ch if ch.isprintable() else " " for ch in str(text))
-    s = " ".join(s.split())
-    return s[: limit - 1] + "…" if len(s) > limit else s
-
-
-@pytest.mark.parametrize("text", [
-    "plain words", " leading", "trailing ", "two  spaces", "tab\there", "line\nbreak", "nbsp\u00a0here",
-    "em\u2003space", "ideographic\u3000space", "bidi\u202eoverride", "esc\x1b[2J", "", " ", "\u2028", "é and ü",
-    "x" * 2100, 42, 1.5, None, ["a", "b"],
-])
-def test_plain_quick_path_gives_what_looking_at_every_character_gives(text):
-    assert common.plain(text) == _plain_reference(text)
-    assert common.plain(text, 5) == _plain_reference(text, 5)
-
-
-def test_display_memo_keeps_values_of_different_types_apart():
-    # 1, 1.0 and True hash alike: the memo must not hand one's text to another
-    assert common.display({"value": True, "unit": "", "kind": None}) == "True"
-    assert common.display({"value": 1, "unit": "", "kind": None}) == "1"
-    assert common.display({"value": 2.5, "unit": "m", "kind": "length"}) == common._display(
-        {"value": 2.5, "unit": "m", "kind": "length"})
-    assert common.display({"value": [1, 2], "unit": "m", "kind": "length"}) == common._display(
-        {"value": [1, 2], "unit": "m", "kind": "length"})  # not hashable: shown without the memo

@@ -175,15 +175,3 @@ def test_notes_and_errors_are_counted_in_words():
     assert "none (2 rules passed, 2 notes)" in body and "No finding: 2 rules passed (2 notes)." in body
     assert "Totals: 0 errors, 0 warnings, 3 notes," in body
     assert html.counted(1, "error") == "1 error" and html.counted(0, "error") == "0 errors"
-
-
-def test_charts_drawn_in_the_pool_give_the_page_drawn_here(samples, monkeypatch):
-    result = copy.deepcopy(samples["plant"])
-    with_charts = [s for s in result["specs"] if charts.available(s)]
-    specs = [{**copy.deepcopy(s), "tag": f"P-{i}"} for i in range(3) for s in with_charts]
-    assert sum(len(charts.available(s)) for s in specs) > charts.POOL_MIN_CHARTS  # enough for the pool to start
-    result["specs"] = specs
-    here = _streamed(result, chart_series=True, charts=True, jobs=1)
-    monkeypatch.setattr(html.StreamedReport, "WINDOW", 2)  # specs wait for their charts, and the window fills
-    assert _streamed(result, chart_series=True, charts=True, jobs=2) == here
-    assert here.count('class="chart" role="img"') == sum(len(charts.available(s)) for s in specs)
