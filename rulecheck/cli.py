@@ -743,6 +743,10 @@ def _stream_check(args: argparse.Namespace, outputs: list[tuple[str, str | None]
     from rulecheck.run import UsageError, run_stream
 
     options = _options(args, paths)
+    if options.charts and any(fmt == "html" for fmt, _file in outputs):
+        from rulecheck.report.charts import draw_series
+
+        options.draw = draw_series  # each spec's charts drawn where it is checked: Stream.drawings has them
     # a JSON report copies cached results as they are: they need not be parsed
     options.lazy_cached = known is None and shown.plain and all(fmt == "json" for fmt, _file in outputs)
     try:
