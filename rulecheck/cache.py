@@ -340,22 +340,6 @@ class ResultCache:
         self.hits -= 1
         return value
 
-    def put_drawing(self, key: str, svg: str) -> None:
-        """Store a chart drawn as SVG under ``key`` (a digest of what it was drawn from and the tool's code)."""
-        if self.usable:
-            self._append(key, encode({"svg": svg}), {"drawing": True})
-
-    def get_drawing(self, key: str) -> str | None:
-        """Return the chart drawing stored under ``key``, or None (signed like a result; not counted as a hit or
-        a miss: results are what a run counts)."""
-        try:
-            value = self._open_entry(key, self._read_record(key), lazy=False)
-        except (OSError, ValueError, UnicodeDecodeError):
-            return None
-        self.hits -= 1
-        svg = value.get("svg")
-        return svg if isinstance(svg, str) and svg.startswith("<") else None
-
     def _append(self, key: str, body: bytes, meta: dict[str, Any]) -> tuple[str, int, int] | None:
         """Append a signed record to this process's pack; return where its body is (None: not stored)."""
         signed, body = self._entry_parts(key, body, meta)

@@ -425,16 +425,12 @@ def render(result: dict[str, Any], fmt: str, args: argparse.Namespace, charts: l
 
         draw = charts is not None and not getattr(args, "no_charts", False)
         view = with_charts(result, charts) if draw else result
-        # the charts are drawn in a pool of processes (as many as the run's workers), with a progress line
-        drawing = {"jobs": getattr(args, "jobs", 0) or 0, "progress": _progress(args, "charts drawn"),
-                   "store": _drawing_store(args) if draw else None}
         if fmt == "pdf":
             try:
-                return pdf.render(view, units=units, charts=draw, meta=_page_meta(args),  # type: ignore[return-value]
-                                  **drawing)
+                return pdf.render(view, units=units, charts=draw, meta=_page_meta(args))  # type: ignore[return-value]
             except pdf.PdfUnavailable as exc:
                 raise _Usage(str(exc)) from None
-        return html.render(view, units=units, charts=draw, meta=_page_meta(args), **drawing)
+        return html.render(view, units=units, charts=draw, meta=_page_meta(args))
     if fmt == "annotations":
         from rulecheck.report import annotations
 
@@ -545,38 +541,6 @@ def _run(args: argparse.Namespace, paths: list[str]) -> tuple[dict[str, Any], li
         raise _Usage(str(exc)) from None
 
 
-class _DrawingStore:
-    """Charts drawn by earlier runs, kept in the signed result cache under a digest of what they were drawn from
-    and the tool's code (the drawing module, report/plot.py, is part of it)."""
-
-    def __init__(self, folder: str) -> None:
-        from rulecheck.cache import ResultCache, code_digest
-
-        self.cache = ResultCache(Path(folder))
-        self.salt = f"drawing {code_digest()} "
-
-    def _key(self, content: str) -> str:
-        import hashlib
-
-        return hashlib.sha256((self.salt + content).encode()).hexdigest()
-
-    def get(self, content: str) -> str | None:
-        return self.cache.get_drawing(self._key(content))
-
-    def put(self, content: str, svg: str) -> None:
-        self.cache.put_drawing(self._key(content), svg)
-
-
-def _drawing_store(args: argparse.Namespace) -> _DrawingStore | None:
-    """Return the cache of drawn charts, or None with --no-cache (or a cache that cannot be used)."""
-    if getattr(args, "no_cache", False) or not hasattr(args, "cache_dir"):
-        return None
-    try:
-        return _DrawingStore(_cache_dir(args))
-    except OSError:
-        return None
-
-
 def _code_cache_dir(args: argparse.Namespace) -> str | None:
     """Return where compiled rules are kept: the cache folder, unless RULECHECK_NO_CODE_CACHE is set."""
     from rulecheck.cache import default_cache_dir
@@ -642,8 +606,7 @@ class _Sink:
         self.progress = _progress(args, "drive trains written")
         try:
             return html.StreamedReport(header, units=header["settings"]["units"], charts=charts,
-                                       meta=_page_meta(args), store=_drawing_store(args) if charts else None,
-                                       folder=folder)
+                                       meta=_page_meta(args), folder=folder)
         except ValueError as exc:
             raise _Usage(str(exc)) from None
 

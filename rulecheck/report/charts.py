@@ -18,15 +18,15 @@ from __future__ import annotations
 
 import math
 import re
-from collections.abc import Callable, Iterable, Mapping, Sequence
+from collections.abc import Iterable, Mapping, Sequence
 from dataclasses import dataclass, field
-from typing import Any, Protocol
+from typing import Any
 
 from rulecheck.report import plot
 from rulecheck.report.common import plain
 from rulecheck.units import QuantityError, format_value, parse_quantity
 
-__all__ = ["CHART_KEYS", "ChartDataError", "ChartText", "DrawJob", "available", "describe", "draw_all", "draw_series",
+__all__ = ["CHART_KEYS", "ChartDataError", "ChartText", "available", "describe", "draw_series",
            "failing_rules", "figure", "svg", "svg_body"]
 
 CHART_KEYS = ("starting", "torque_speed", "duty", "back_emf")
@@ -743,97 +743,20 @@ def draw_series(result: Mapping[str, Any], series: Mapping[str, Any], units: str
     return drawn
 
 
-# one chart to draw: (chart key, its data, units, the failing rules of its spec)
-DrawJob = tuple[str, Mapping[str, Any], str, frozenset[str]]
-POOL_MIN_CHARTS = 8  # fewer charts than this are drawn in this process: starting a pool costs more
-
-
-def _draw_one(job: DrawJob) -> tuple[bool, str]:
-    try:
-        return True, svg_body(*job)
-    except ChartDataError as exc:
-        return False, str(exc)
-
-
-class DrawingStore(Protocol):
-    """Where drawn charts are kept between runs, by their content (the command line gives the signed cache)."""
-
-    def get(self, content: str) -> str | None: ...
-
-    def put(self, content: str, svg: str) -> None: ...
-
-
-def draw_all(jobs: Sequence[DrawJob], workers: int = 0, progress: Callable[[int, int], None] | None = None,
-             store: DrawingStore | None = None) -> list[tuple[bool, str]]:
-    """Draw many charts, in order: (True, SVG text) or (False, why it cannot be drawn) for each job.
-
-    Identical charts (same key, data, units and failing rules) are drawn once, and not at all when ``store``
-    has them from an earlier run (it is given each new drawing). With ``workers`` other than 1 and enough
-    charts, they are drawn in a pool of forked processes (``workers`` 0: one per core), a few charts per
-    task; ``progress(done, total)`` is called as they come back."""
-    import json
-
-    unique: dict[str, int] = {}
-    order: list[int] = []
-    todo: list[DrawJob] = []
-    contents: list[str] = []
-    for key, data, units, failing in jobs:
-        content = json.dumps([key, data, units, sorted(failing)], sort_keys=True, default=str)
-        if content not in unique:
-            unique[content] = len(todo)
-            todo.append((key, data, units, frozenset(failing)))
-            contents.append(content)
-        order.append(unique[content])
-    kept = [store.get(c) if store is not None else None for c in contents]
-    missing = [k for k, svg in enumerate(kept) if svg is None]
-    fresh = _draw_many([todo[k] for k in missing], workers, progress)
-    for k, item in zip(missing, fresh, strict=True):
-        if item[0] and store is not None:
-            store.put(contents[k], item[1])
-    drawn = [(True, svg) if svg is not None else (False, "") for svg in kept]
-    for k, item in zip(missing, fresh, strict=True):
-        drawn[k] = item
-    return [drawn[i] for i in order]
-
-
-def _draw_many(todo: list[DrawJob], workers: int,
-               progress: Callable[[int, int], None] | None) -> list[tuple[bool, str]]:
-    import multiprocessing
-    import os
-    from concurrent.futures import ProcessPoolExecutor
-
-    n = workers or os.cpu_count() or 1
-    drawn: list[tuple[bool, str]] = []
-    if n == 1 or len(todo) < POOL_MIN_CHARTS or "fork" not in multiprocessing.get_all_start_methods():
-        results: Iterable[tuple[bool, str]] = map(_draw_one, todo)
-        pool = None
-    else:
-        pool = ProcessPoolExecutor(max_workers=min(n, len(todo)), mp_context=multiprocessing.get_context("fork"))
-        results = pool.map(_draw_one, todo, chunksize=max(1, min(8, len(todo) // (4 * n))))
-    try:
-        for done, item in enumerate(results, 1):
-            drawn.append(item)
-            if progress is not None:
-                progress(done, len(todo))
-    finally:
-        if pool is not None:
-            pool.shutdown(cancel_futures=True)
-    return drawn
-
-
 def svg(key: str, data: Mapping[str, Any], units: str = "si", *, chart_id: str = "chart",
-        failing: Iterable[str] = (), body: str | None = None) -> str:
+        failing: Iterable[str] = (), body: str | None = None, text: ChartText | None = None) -> str:
     """Return the chart as an SVG element ready to inline in HTML, with ``<title>``/``<desc>`` from its text.
 
     Element ids are prefixed with ``chart_id`` so several charts can share one
     page; the XML prologue, comments, metadata and namespace declarations
     (not needed inline in HTML) are removed. ``body``: the chart already drawn by
-    :func:`svg_body` or :func:`draw_all` for the same arguments.
+    :func:`svg_body` (or :func:`draw_series`) for the same arguments; ``text``: its :func:`describe`, when the
+    caller has it already.
     """
     from markupsafe import escape
 
     prefix = re.sub(r"[^A-Za-z0-9_-]", "-", chart_id)[:40] or "chart"
-    text = describe(key, data, units, failing)
+    text = text if text is not None else describe(key, data, units, failing)
     body = body if body is not None else svg_body(key, data, units, failing)
     body = body[body.index("<svg"):]
     body = re.sub(r"<!--.*?-->", "", body, flags=re.S)

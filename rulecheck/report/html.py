@@ -93,8 +93,8 @@ def _finding(o: Mapping[str, Any], units: str, rules: Mapping[str, Mapping[str, 
     }
 
 
-# chart key -> (drawn, SVG text or why it cannot be drawn): one spec's charts drawn beforehand
-Drawn = Mapping[str, tuple[bool, str]]
+# chart key -> SVG body: one spec's charts drawn where it was checked (charts.draw_series); others are drawn here
+Drawn = Mapping[str, str | None]
 
 
 def _chart_views(spec: Mapping[str, Any], number: int, units: str, image: ImageSource | None,
@@ -107,16 +107,15 @@ def _chart_views(spec: Mapping[str, Any], number: int, units: str, image: ImageS
         data = spec["charts"][key]
         view: dict[str, Any] = {"key": key, "svg": None, "src": None, "error": None, "text": None}
         try:
-            view["text"] = charts.describe(key, data, units, failing)
+            view["text"] = text = charts.describe(key, data, units, failing)
             if image is not None:
                 view["src"] = image(number, key, data)
             else:
-                # our own drawing: charts.svg escapes the only spec text it writes (title and description)
-                ok, body = (drawn or {}).get(key, (True, None))  # type: ignore[assignment]
-                if not ok:
-                    raise charts.ChartDataError(body)
+                # our own drawing: plot.py escapes every text it writes, charts.svg the title and description
+                body = (drawn or {}).get(key)
                 view["svg"] = Markup(charts.svg(key, data, units, chart_id=f"{chart_id or f'dt{number}'}-{key}",
-                                                failing=failing, body=body))
+                                                failing=failing, body=body if isinstance(body, str) else None,
+                                                text=text))
         except charts.ChartDataError as exc:
             view["error"] = str(exc)
         views.append(view)
@@ -253,17 +252,6 @@ def _page_meta(meta: Mapping[str, Any] | None) -> dict[str, str]:
     return out
 
 
-def _draw(specs: list[Mapping[str, Any]], units: str, jobs: int, progress: Callable[[int, int], None] | None,
-          store: charts.DrawingStore | None) -> dict[int, dict[str, tuple[bool, str]]]:
-    """Draw every chart of the report beforehand, in a pool of processes (charts.draw_all): by spec number."""
-    keys = [(i, key) for i, s in enumerate(specs, start=1) if isinstance(s, Mapping) for key in charts.available(s)]
-    work = [(key, specs[i - 1]["charts"][key], units, charts.failing_rules(specs[i - 1])) for i, key in keys]
-    drawn: dict[int, dict[str, tuple[bool, str]]] = {}
-    for (i, key), item in zip(keys, charts.draw_all(work, jobs, progress, store), strict=True):
-        drawn.setdefault(i, {})[key] = item
-    return drawn
-
-
 def _page(header: Mapping[str, Any], *, units: str, meta: Mapping[str, Any] | None, details: bool,
           for_mail: bool, summary_line: str, totals: Mapping[str, int], hazards: list[Any],
           specs: Any) -> dict[str, Any]:
@@ -302,41 +290,35 @@ def _totals(counts: Iterable[Mapping[str, int]]) -> dict[str, int]:
 
 def context(result: Mapping[str, Any], *, units: str = "si", charts: bool = True,
             image: ImageSource | None = None, meta: Mapping[str, Any] | None = None,
-            details: bool = True, jobs: int = 1, progress: Callable[[int, int], None] | None = None,
-            store: charts.DrawingStore | None = None) -> dict[str, Any]:
+            details: bool = True) -> dict[str, Any]:
     """Return the template context for ``result`` (plain strings, labels and chart markup).
 
     ``meta`` gives the page header (project, revision, reviewer, date) and the paper (``a4`` or ``letter``);
     ``details=False`` leaves out what only the full report carries (passes, derived values, chart data tables).
-    ``jobs``: processes drawing the charts (0: one per core); ``progress(done, total)`` as charts are drawn;
-    ``store``: charts drawn by earlier runs, by content (the signed cache).
+    Charts are drawn here, about a millisecond each (report/plot.py).
     """
     if units not in UNITS_WORDS:
         raise ValueError(f"units must be 'si' or 'customary', not {units!r}")
     specs = common.sorted_specs(result.get("specs") or [])
     rules = _rules(result)
-    drawn = _draw(specs, units, jobs, progress, store) if charts and image is None and (
-        jobs != 1 or store is not None) else {}
-    views = [_spec_view(s, i, units, charts, image, rules, drawn.get(i)) for i, s in enumerate(specs, start=1)]
+    views = [_spec_view(s, i, units, charts, image, rules) for i, s in enumerate(specs, start=1)]
     return _page(result, units=units, meta=meta, details=details, for_mail=image is not None,
                  summary_line=common.summary_line(result), totals=_totals(v["counts"] for v in views),
                  hazards=cautions.select_hazards(specs), specs=views)
 
 
 def render(result: dict, *, units: str = "si", charts: bool = True, image: ImageSource | None = None,
-           meta: Mapping[str, Any] | None = None, details: bool = True, jobs: int = 1,
-           progress: Callable[[int, int], None] | None = None, store: charts.DrawingStore | None = None) -> str:
+           meta: Mapping[str, Any] | None = None, details: bool = True) -> str:
     """Return the whole HTML report for ``result`` as one self-contained document (text).
 
     ``units`` is ``"si"`` or ``"customary"``; ``charts=False`` leaves the charts
     out (their text equivalents too). ``image`` is for the e-mail builder: when
     given, charts become ``<img src=...>`` with the source it returns instead of
-    inline SVG. ``meta``, ``details``, ``jobs``, ``progress`` and ``store``: see :func:`context`.
+    inline SVG. ``meta`` and ``details``: see :func:`context`.
     A report of many specs is better written by :class:`StreamedReport`, which holds one spec at a time.
     """
     return _environment().get_template("report.html").render(context(result, units=units, charts=charts,
-                                                                     image=image, meta=meta, details=details,
-                                                                     jobs=jobs, progress=progress, store=store))
+                                                                     image=image, meta=meta, details=details))
 
 
 def render_summary(result: dict, *, units: str = "si", meta: Mapping[str, Any] | None = None) -> str:
@@ -372,16 +354,15 @@ class StreamedReport:
     row; :meth:`write` then writes the page head and summary, every section in the report's order
     (:func:`common.sort_key`) copied from the scratch file with its number put in, and the page's end. The page
     reads as :func:`render`'s. ``folder``: where the scratch file goes (the report's folder; None: the system's
-    temporary folder). ``store``: charts drawn by earlier runs (see :func:`context`).
+    temporary folder).
     """
 
     def __init__(self, header: Mapping[str, Any], *, units: str = "si", charts: bool = True,
-                 meta: Mapping[str, Any] | None = None, store: charts.DrawingStore | None = None,
-                 folder: str | None = None) -> None:
+                 meta: Mapping[str, Any] | None = None, folder: str | None = None) -> None:
         if units not in UNITS_WORDS:
             raise ValueError(f"units must be 'si' or 'customary', not {units!r}")
         _page_meta(meta)  # a bad paper is refused before any spec is checked
-        self.header, self.units, self.charts, self.meta, self.store = header, units, charts, meta, store
+        self.header, self.units, self.charts, self.meta = header, units, charts, meta
         self.rules = _rules(header)
         self.rows: list[_Row] = []
         self._size = 0
@@ -401,7 +382,7 @@ class StreamedReport:
         drawn = None
         if self.charts:
             spec = {**spec, "charts": dict(series or {})}
-            drawn = self._draw(spec, drawings or {})
+            drawn = drawings or {}
         view = _spec_view(spec, MARK, self.units, self.charts, None, self.rules, drawn, chart_id=f"dt{arrival}")
         data = self._section.render(s=view, details=True).encode("utf-8")
         self._scratch.write(data)
@@ -410,22 +391,6 @@ class StreamedReport:
         self.rows.append(_Row(common.sort_key(spec), self._size, len(data), row, view["verdict"].word.lower(),
                               cautions.raised_by(spec)))
         self._size += len(data)
-
-    def _draw(self, spec: Mapping[str, Any], drawings: Mapping[str, str | None]) -> dict[str, tuple[bool, str]]:
-        """Return the spec's charts drawn: those the checking gave as they are, the others drawn here."""
-        drawn: dict[str, tuple[bool, str]] = {}
-        todo = []
-        for key in charts.available(spec):
-            body = drawings.get(key)
-            if isinstance(body, str):
-                drawn[key] = (True, body)
-            else:
-                todo.append(key)
-        if todo:
-            failing = charts.failing_rules(spec)
-            jobs = [(key, spec["charts"][key], self.units, failing) for key in todo]
-            drawn.update(zip(todo, charts.draw_all(jobs, 1, None, self.store), strict=True))
-        return drawn
 
     def write(self, out: Callable[[bytes], Any], progress: Callable[[int, int], None] | None = None) -> None:
         """Write the whole page through ``out``: head and summary, the sections in order, the end;

@@ -46,12 +46,10 @@ def available() -> bool:
 
 
 def render(result: dict, *, units: str = "si", charts: bool = True, meta: Mapping[str, Any] | None = None,
-           details: bool = True, jobs: int = 1, progress: Any = None, store: Any = None) -> bytes:
-    """Return the report of ``result`` as PDF bytes (the HTML report's content on pages; see :mod:`html`;
-    ``jobs``, ``progress`` and ``store`` for drawing the charts, as there)."""
+           details: bool = True) -> bytes:
+    """Return the report of ``result`` as PDF bytes (the HTML report's content on pages; see :mod:`html`)."""
     weasyprint = _weasyprint()
-    text = html.render(result, units=units, charts=charts, meta=meta, details=details, jobs=jobs, progress=progress,
-                       store=store)
+    text = html.render(result, units=units, charts=charts, meta=meta, details=details)
     logging.getLogger("weasyprint").setLevel(logging.ERROR)
     logging.getLogger("fontTools").setLevel(logging.ERROR)
     document = weasyprint.HTML(string=text, base_url=None, url_fetcher=_no_fetch)

@@ -208,71 +208,11 @@ def test_crowded_labels_are_placed_apart():
         assert not a.overlaps(b), (ta, tb)
 
 
-def test_charts_drawn_in_a_pool_are_the_ones_drawn_here():
-    # the pool (two forked processes) returns, in order, the same SVG as drawing in this process, identical
-    # charts drawn once, and a chart that cannot be drawn as its reason
-    ts, duty = sample.conveyor()["charts"]["torque_speed"], sample.conveyor()["charts"]["duty"]
-    jobs = [("torque_speed", ts, "si", frozenset()), ("duty", duty, "si", frozenset()),
-            ("torque_speed", {}, "si", frozenset())] * 3
-    seen = []
-    pooled = charts.draw_all(jobs, workers=2, progress=lambda done, total: seen.append((done, total)))
-    assert seen[-1] == (3, 3)  # nine charts, three different ones
-    here = charts.draw_all(jobs, workers=1)
-    assert pooled == here
-    assert pooled[0] == (True, charts.svg_body("torque_speed", ts))
-    assert pooled[2] == (False, "the torque–speed chart has no data")
-
-
-def test_html_report_is_the_same_with_charts_drawn_in_a_pool():
-    from rulecheck.report import html
-
-    result = sample.result(sample.conveyor(), sample.servo(), sample.hoist())
-    charts.POOL_MIN_CHARTS, before = 1, charts.POOL_MIN_CHARTS
-    try:
-        assert html.render(result, jobs=2) == html.render(result, jobs=1)
-    finally:
-        charts.POOL_MIN_CHARTS = before
-
-
 def test_back_emf_level_labels_close_together_do_not_overlap():
     # an available voltage and a trip level 1 % apart: their labels are placed apart by their drawn boxes
     data = {"speed": [0, 1000, 2000], "emf_line_rms": [0, 300, 600], "available_voltage": 400, "dc_bus_trip": 404}
     boxes = _text_boxes(charts.figure("back_emf", data))
     assert len(boxes) == 2 and not boxes[0][1].overlaps(boxes[1][1]), boxes
-
-
-def test_drawings_kept_by_content_are_not_drawn_again():
-    class Store(dict):
-        def get(self, content):  # noqa: D401 - the DrawingStore protocol
-            return super().get(content)
-
-        def put(self, content, svg):
-            self[content] = svg
-
-    store = Store()
-    ts = sample.conveyor()["charts"]["torque_speed"]
-    jobs = [("torque_speed", ts, "si", frozenset()), ("torque_speed", {}, "si", frozenset())]
-    drawn = []
-    first = charts.draw_all(jobs, workers=1, progress=lambda d, t: drawn.append(t), store=store)
-    assert drawn == [2, 2] and len(store) == 1  # a chart that cannot be drawn is not kept
-    drawn.clear()
-    again = charts.draw_all(jobs, workers=1, progress=lambda d, t: drawn.append(t), store=store)
-    assert again == first and drawn == [1]  # only the undrawable one is tried again
-    # a different failing set is a different drawing
-    charts.draw_all([("torque_speed", ts, "si", frozenset({"torque-peak"}))], workers=1, store=store)
-    assert len(store) == 2
-
-
-def test_drawing_cache_entries_are_signed(tmp_path, monkeypatch):
-    from rulecheck.cache import ResultCache
-
-    monkeypatch.setenv("XDG_STATE_HOME", str(tmp_path / "state"))
-    cache = ResultCache(tmp_path / "cache")
-    cache.put_drawing("k" * 64, "<svg>drawn</svg>")
-    assert ResultCache(tmp_path / "cache").get_drawing("k" * 64) == "<svg>drawn</svg>"
-    for pack in (tmp_path / "cache").rglob("*.pack"):
-        pack.write_bytes(pack.read_bytes().replace(b"drawn", b"DRAWN"))
-    assert ResultCache(tmp_path / "cache").get_drawing("k" * 64) is None  # edited: counts as absent
 
 
 def test_duty_chart_marks_a_failing_rms():

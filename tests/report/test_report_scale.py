@@ -1,4 +1,4 @@
-"""The HTML report of a run: charts drawn in a pool and kept in the signed cache give the same report."""
+"""The HTML report of a run: charts drawn in the check's workers and kept in the signed cache give the same report."""
 
 from __future__ import annotations
 
@@ -10,7 +10,7 @@ from pathlib import Path
 ROOT = Path(__file__).resolve().parents[2]
 
 
-def test_html_report_is_the_same_drawn_fresh_in_a_pool_or_read_from_the_cache(tmp_path):
+def test_html_report_is_the_same_drawn_here_in_the_workers_or_read_from_the_cache(tmp_path):
     env = {**os.environ, "PYTHONPATH": str(ROOT), "SOURCE_DATE_EPOCH": "1796083200",
            "XDG_STATE_HOME": str(tmp_path / "state")}
 
@@ -23,7 +23,7 @@ def test_html_report_is_the_same_drawn_fresh_in_a_pool_or_read_from_the_cache(tm
 
     serial = report("serial.html", "--no-cache", "--jobs", "1")
     cache = ["--cache-dir", str(tmp_path / "cache"), "--jobs", "2"]
-    first = report("first.html", *cache)  # drawn in the pool, kept
+    first = report("first.html", *cache)  # drawn where each spec is checked, kept beside its chart series
     packs = sorted((tmp_path / "cache").rglob("*.pack"))
     size = sum(p.stat().st_size for p in packs)
     second = report("second.html", *cache)  # results and drawings read back
