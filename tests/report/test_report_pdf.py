@@ -110,3 +110,19 @@ def test_demo_pdf_pages_show_the_failing_crosses_where_the_captions_say_fails(de
             crossed.append(i)
             assert "FAILS:" in page.get_textpage().get_text_range(), i
     assert len(crossed) >= 3, crossed
+
+
+def test_each_failing_drive_train_prints_in_about_three_pages(demo_pdf):
+    # the page budget: a failing drive train in at most about three pages (its findings, what it needs, the
+    # derived values its findings use and its charts); a long finding may continue on the next page rather than
+    # leave half a page empty. SV-410 has three charts (torque–speed, duty, back-EMF) and takes four.
+    pages = [" ".join(text.split()) for _size, text in _pages(demo_pdf)]
+    starts = [(i, m.group(1)) for i, text in enumerate(pages)
+              if (m := re.match(r"(?:Drive-train design-rule report · \S+ )?\d+\. (HR-[A-Z0-9-]+) ", text))]
+    assert len(starts) == 8, starts
+    ends = [i for i, _tag in starts[1:]] + [next(i for i, t in enumerate(pages) if t.startswith("Cautions")
+                                                 or " Cautions A screening aid" in t[:120])]
+    lengths = {tag: end - start for (start, tag), end in zip(starts, ends, strict=True)}
+    budget = {"HR-SV-410": 4, "HR-P-210": 3, "HR-CV-110": 3}
+    for tag, n in lengths.items():
+        assert n <= budget.get(tag, 3), (tag, n, lengths)
