@@ -719,8 +719,7 @@ def figure(key: str, data: Mapping[str, Any], units: str = "si", failing: Iterab
     return fig.layout()
 
 
-_ID = re.compile(r'\bid="([^"]+)"')
-_REF = re.compile(r'(href="#|url\(#)([^")]+)')
+_VIEW_BOX = re.compile(r'viewBox="[^"]*"')
 
 
 def svg_body(key: str, data: Mapping[str, Any], units: str = "si", failing: Iterable[str] = ()) -> str:
@@ -747,9 +746,9 @@ def svg(key: str, data: Mapping[str, Any], units: str = "si", *, chart_id: str =
         failing: Iterable[str] = (), body: str | None = None, text: ChartText | None = None) -> str:
     """Return the chart as an SVG element ready to inline in HTML, with ``<title>``/``<desc>`` from its text.
 
-    Element ids are prefixed with ``chart_id`` so several charts can share one
-    page; the XML prologue, comments, metadata and namespace declarations
-    (not needed inline in HTML) are removed. ``body``: the chart already drawn by
+    Element ids (and the references to them) are prefixed with ``chart_id`` so several charts can share one
+    page; the root element keeps only its view box (namespace, width and height are not needed inline in
+    HTML: the page's CSS sizes the chart). ``body``: the chart already drawn by
     :func:`svg_body` (or :func:`draw_series`) for the same arguments; ``text``: its :func:`describe`, when the
     caller has it already.
     """
@@ -758,16 +757,14 @@ def svg(key: str, data: Mapping[str, Any], units: str = "si", *, chart_id: str =
     prefix = re.sub(r"[^A-Za-z0-9_-]", "-", chart_id)[:40] or "chart"
     text = text if text is not None else describe(key, data, units, failing)
     body = body if body is not None else svg_body(key, data, units, failing)
-    body = body[body.index("<svg"):]
-    body = re.sub(r"<!--.*?-->", "", body, flags=re.S)
-    body = re.sub(r"<metadata>.*?</metadata>", "", body, flags=re.S)
-    body = _ID.sub(lambda m: f'id="{prefix}-{m.group(1)}"', body)
-    body = _REF.sub(lambda m: f"{m.group(1)}{prefix}-{m.group(2)}", body)
-    head_end = body.index(">") + 1
-    head = body[:head_end]
-    head = re.sub(r'\s(xmlns(:\w+)?|width|height|version)="[^"]*"', "", head)
-    head = head[:-1] + f' class="chart" role="img" aria-labelledby="{prefix}-title {prefix}-desc">'
+    start = body.index("<svg")
+    head_end = body.index(">", start) + 1
+    box = _VIEW_BOX.search(body, start, head_end)
+    labels = f"{prefix}-title {prefix}-desc"
+    head = f'<svg {box.group(0) if box else ""} class="chart" role="img" aria-labelledby="{labels}">'
+    # plot.py writes no comments or whitespace between elements, and escapes quotes in text: every ' id="' and
+    # 'url(#' is markup (str.replace: 1970 charts 0.72 s with regular expressions, 0.055 s so)
+    rest = body[head_end:].replace(' id="', f' id="{prefix}-').replace("url(#", f"url(#{prefix}-")
     desc = f"{text.description} {' '.join(text.series)}".strip()
     inner = f'<title id="{prefix}-title">{escape(text.title)}</title><desc id="{prefix}-desc">{escape(desc)}</desc>'
-    body = head + inner + body[head_end:]
-    return re.sub(r">\s+<", "><", body).strip()
+    return head + inner + rest.strip()

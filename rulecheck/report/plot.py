@@ -17,7 +17,7 @@ import math
 from collections.abc import Iterable, Sequence
 from dataclasses import dataclass, field
 from typing import Any
-from xml.sax.saxutils import escape
+from xml.sax.saxutils import escape as _xml_escape
 
 FONT_FAMILY = "'DejaVu Sans', 'Bitstream Vera Sans', Verdana, sans-serif"
 # advance widths of DejaVu Sans in thousandths of the font size (the font's horizontal advances, unhinted)
@@ -37,6 +37,12 @@ LINE_SPACING = 1.2  # baseline to baseline, in font sizes
 ASCENT = 0.93  # top of the line box to the baseline, in font sizes (DejaVu Sans: ascender 1901 of 2048 units)
 
 MINUS = "−"
+
+
+def escape(text: str) -> str:
+    """Return text for an SVG text node or attribute: &, <, >, both quotes and # escaped (so no text can read as
+    an id or a reference to one: :func:`charts.svg` prefixes those by plain replacement)."""
+    return _xml_escape(text, {'"': "&quot;", "'": "&apos;", "#": "&#35;"})
 
 
 def text_width(text: str, size: float) -> float:
@@ -429,7 +435,7 @@ class Figure:
                        f'height="{_c(b.y1 - b.y0)}"/></clipPath>')
         out.append("</defs>")
         out.append(f'<rect width="{_c(self.width)}" height="{_c(self.height)}" fill="#ffffff"/>')
-        out.append(f'<g font-family="{escape(FONT_FAMILY, {chr(39): "&apos;"})}" font-size="{_c(self.FONT)}">')
+        out.append(f'<g font-family="{escape(FONT_FAMILY)}" font-size="{_c(self.FONT)}">')
         for k, ax in enumerate(self.axes):
             self._write_axes(out, ax, k, last=k == len(self.axes) - 1)
         if self.legend_box is not None:

@@ -127,3 +127,16 @@ def test_labels_drawn_by_a_browser_do_not_overlap(chromium, demo, tmp_path):
             assert not a.overlaps(b), (chart, a, b)
         for a in boxes:
             assert not any(a.overlaps(leg) for leg in legends), (chart, a)
+
+
+def test_a_label_that_looks_like_markup_is_not_rewritten_with_the_ids():
+    # charts.svg prefixes ids and references by plain replacement: text that reads like them stays as written
+    from . import sample
+
+    data = sample.conveyor()["charts"]["torque_speed"]
+    data["load_points"] = [{"speed": 500, "torque": 12.5, "label": 'a id="b" url(#c) href="#d"'}]
+    svg = charts.svg("torque_speed", data, chart_id="dt7-ts")
+    texts = ["".join(t.itertext()) for t in ET.fromstring(svg).iter("text")]  # inline: no namespace
+    assert 'a id="b" url(#c) href="#d"' in texts
+    ids = {e.get("id") for e in ET.fromstring(svg).iter() if e.get("id")}
+    assert ids and all(i.startswith("dt7-ts-") for i in ids)
