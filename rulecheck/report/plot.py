@@ -192,6 +192,7 @@ class Axes:
     xticks: list[float] = field(default_factory=list)
     yticks: list[float] = field(default_factory=list)
     legend_box: Box | None = None
+    legend_widths: list[float] = field(default_factory=list)  # its column widths (one column)
 
     def plot(self, xs: Iterable[float], ys: Iterable[float], **style: Any) -> Line:
         line = Line(list(xs), list(ys), **style)
@@ -278,6 +279,7 @@ class Figure:
         self.legend_below = False
         self.legend_columns = 3
         self.legend_box: Box | None = None
+        self.legend_widths: list[float] = []  # the legend's column widths, as the layout fitted them
         self._laid_out = False
 
     @property
@@ -318,6 +320,7 @@ class Figure:
             widths, rows = self._legend_grid(below, self.legend_columns)
             while sum(widths) + 12 > self.width and len(widths) > 1:
                 widths, rows = self._legend_grid(below, len(widths) - 1)
+            self.legend_widths = widths
             legend_h = rows * row_h + 8.0
             lw = sum(widths) + 8.0
             x0 = (self.width - lw) / 2
@@ -358,7 +361,8 @@ class Figure:
         entries = self.entries([ax])
         if not entries:
             return
-        w = max(text_width(e.text, self.LEGEND) for e in entries) + 36.0
+        ax.legend_widths, _rows = self._legend_grid(entries, 1)
+        w = ax.legend_widths[0] + 8.0
         h = len(entries) * (LINE_SPACING * self.LEGEND + 2.0) + 6.0
         b = ax.box
         assert b is not None
@@ -439,10 +443,10 @@ class Figure:
         for k, ax in enumerate(self.axes):
             self._write_axes(out, ax, k, last=k == len(self.axes) - 1)
         if self.legend_box is not None:
-            self._write_legend(out, self.entries(self.axes), self.legend_box, self.legend_columns)
+            self._write_legend(out, self.entries(self.axes), self.legend_box, self.legend_widths)
         for ax in self.axes:
             if ax.legend_box is not None:
-                self._write_legend(out, self.entries([ax]), ax.legend_box, 1)
+                self._write_legend(out, self.entries([ax]), ax.legend_box, ax.legend_widths)
         for ax in self.axes:
             for lb in ax.labels:
                 _write_label(out, lb)
@@ -508,10 +512,7 @@ class Figure:
                        f"{escape(ax.ylabel)}</text>")
         out.append("</g>")
 
-    def _write_legend(self, out: list[str], entries: list[LegendEntry], box: Box, columns: int) -> None:
-        widths, _rows = self._legend_grid(entries, columns)
-        while len(widths) > 1 and sum(widths) + 8.0 > box.x1 - box.x0 + 0.01:
-            widths, _rows = self._legend_grid(entries, len(widths) - 1)
+    def _write_legend(self, out: list[str], entries: list[LegendEntry], box: Box, widths: list[float]) -> None:
         cols = len(widths)
         row_h = LINE_SPACING * self.LEGEND + 2.0
         out.append(f'<rect class="legend" x="{_c(box.x0)}" y="{_c(box.y0)}" width="{_c(box.x1 - box.x0)}" '
