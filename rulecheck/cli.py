@@ -665,15 +665,15 @@ class _Sink:
 def _charts_of(stream: Any, k: int) -> tuple[Any, Any]:
     """Return the chart series of the stream's spec ``k`` and the charts the checking drew of them (None where
     there are none), and let go of both: they are written with the spec, and memory stays flat."""
-    found = []
-    for name in ("charts", "drawings"):
-        items = getattr(stream, name, None)
-        if isinstance(items, list) and k < len(items):
-            found.append(items[k])
-            items[k] = None
-        else:
-            found.append(None)
-    return found[0], found[1]
+    return _take(stream.charts, k), _take(stream.drawings, k)
+
+
+def _take(items: list[Any], k: int) -> Any:
+    """Return ``items[k]`` (None past the end) and leave None in its place."""
+    if k >= len(items):
+        return None
+    item, items[k] = items[k], None
+    return item
 
 
 def _write_streamed(stream: Any, sinks: list[_Sink], matcher: Any, shown: _Paths) -> dict[str, Any]:

@@ -180,7 +180,7 @@ class _Rules:
                 s.configs.for_spec(item.spec), s.extra, s.today, s.units, s.base_dir, s.code_cache,
                 self.plan.digests[item.cfg_file])
             prepared.context.charts = s.options.charts
-            prepared.context.draw = s.options.draw if s.options.charts else None
+            prepared.context.draw = s.options.draw
         return prepared.context
 
 

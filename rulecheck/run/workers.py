@@ -62,7 +62,9 @@ def _worker_init(explicit: str | None, extra: list[str], today: str, units_syste
     _WORKER.update(explicit=explicit, extra=[Path(p) for p in extra], today=_dt.date.fromisoformat(today),
                    units=units_system, base=Path(base_dir), kinds=value_kinds, charts=charts,
                    prepared=dict(INHERITED),  # rules compiled in the parent, inherited by a fork
-                   cache=ResultCache(Path(cache_dir)) if cache_dir else None, draw=draw if charts else None)
+                   cache=ResultCache(Path(cache_dir)) if cache_dir else None, draw=draw)
+    for inherited in _WORKER["prepared"].values():  # the run's charts and drawing, once per configuration
+        inherited.context.charts, inherited.context.draw = charts, draw
 
 
 def _worker_check(config_file: str | None, spec: str, key: str | None = None, shown: str | None = None,
@@ -79,7 +81,7 @@ def _worker_check(config_file: str | None, spec: str, key: str | None = None, sh
         prepared[config_file] = prepare(cfg, _WORKER["extra"], _WORKER["today"], _WORKER["units"], _WORKER["base"],
                                         value_kinds=_WORKER["kinds"].get(config_file or ""))
         prepared[config_file].context.charts = _WORKER["charts"]
-    prepared[config_file].context.draw = _WORKER["draw"]
+        prepared[config_file].context.draw = _WORKER["draw"]
     entry, where = check_and_store(Path(spec), prepared[config_file].context, shown, key, context,
                                    _WORKER.get("cache"))
     # stored: the parent reads the JSON from this worker's pack, so it does not travel through the pipe too
