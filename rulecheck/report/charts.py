@@ -333,15 +333,14 @@ def _label_groups(points: list[_Point], d: Any) -> list[tuple[float, float, str]
 
 
 def _annotate(ax: plot.Axes, labels: list[tuple[float, float, str]], va: str = "bottom",
-              dy: float = 6.0) -> list[plot.Label]:
-    """Write each label beside its point: to the right, or to the left in the right third of the plot."""
+              dy: float = 6.0) -> None:
+    """Write each label beside its point: to the right, or to the left in the right third of the plot (the figure's
+    layout then moves labels apart)."""
     lo, hi = ax.limits()[:2]
-    out = []
     for n, t, text in labels:
         right = n > lo + 0.66 * (hi - lo)
-        out.append(ax.annotate(text, n, t, dx=-6.0 if right else 6.0, dy=dy, ha="right" if right else "left",
-                               va=va, color=_LOAD))
-    return out
+        ax.annotate(text, n, t, dx=-6.0 if right else 6.0, dy=dy, ha="right" if right else "left", va=va,
+                    color=_LOAD)
 
 
 def _draw_braking(ax: plot.Axes, b: _Braking, unit: str, fails: bool) -> None:

@@ -112,10 +112,8 @@ def _chart_views(spec: Mapping[str, Any], number: int, units: str, image: ImageS
                 view["src"] = image(number, key, data)
             else:
                 # our own drawing: plot.py escapes every text it writes, charts.svg the title and description
-                body = (drawn or {}).get(key)
                 view["svg"] = Markup(charts.svg(key, data, units, chart_id=f"{chart_id or f'dt{number}'}-{key}",
-                                                failing=failing, body=body if isinstance(body, str) else None,
-                                                text=text))
+                                                failing=failing, body=(drawn or {}).get(key), text=text))
         except charts.ChartDataError as exc:
             view["error"] = str(exc)
         views.append(view)
